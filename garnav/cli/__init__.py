@@ -1,0 +1,55 @@
+"""The ``garnav`` command line: a thin layer over the public Python API.
+
+Each sub-command lives in its own module with ``register(subparsers)`` (adds its parser and sets
+``func``) and a ``run(args) -> int``. Errors of the :class:`~garnav.errors.GarnavError` family are
+printed as one clear message on stderr with exit status 2; they never show a traceback.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import sys
+
+from garnav import __version__
+from garnav.errors import GarnavError
+
+__all__ = ["main", "build_parser"]
+
+# Sub-command modules, in the order `garnav --help` lists them.
+COMMANDS = ("demo", "check", "route", "show", "import_mesh")
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="garnav",
+        description="Plan routes for small robots that drive on clothing.",
+    )
+    parser.add_argument("--version", action="version", version=f"garnav {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+    for name in COMMANDS:
+        try:
+            module = importlib.import_module(f"garnav.cli.{name}")
+        except ModuleNotFoundError as exc:
+            if exc.name == f"garnav.cli.{name}":
+                continue  # command not part of this build
+            raise
+        module.register(sub)
+    return parser
+
+
+def main(argv: list[str] | None = None) -> int:
+    """Entry point of the ``garnav`` console script. Returns the exit status."""
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if not getattr(args, "func", None):
+        parser.print_help()
+        return 2
+    try:
+        return int(args.func(args) or 0)
+    except GarnavError as exc:
+        print(f"garnav {args.command}: error: {exc}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        print("garnav: interrupted", file=sys.stderr)
+        return 130

@@ -1,0 +1,74 @@
+"""Pure helpers on 2D/3D polylines: arc length, points at arc length, rigid motions.
+
+All lengths in mm. A polyline is an array of shape (n, d), n >= 2.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+__all__ = [
+    "cumulative_length",
+    "polyline_length",
+    "point_at_length",
+    "sub_polyline",
+    "rotation_matrix",
+]
+
+
+def cumulative_length(points: np.ndarray) -> np.ndarray:
+    """Arc length at each vertex, shape (n,), starting at 0.
+
+    >>> cumulative_length(np.array([[0.0, 0.0], [3.0, 4.0], [3.0, 5.0]])).tolist()
+    [0.0, 5.0, 6.0]
+    """
+    points = np.asarray(points, dtype=float)
+    steps = np.linalg.norm(np.diff(points, axis=0), axis=1)
+    return np.concatenate([[0.0], np.cumsum(steps)])
+
+
+def polyline_length(points: np.ndarray) -> float:
+    """Total length of a polyline (n, d) in its units."""
+    return float(cumulative_length(points)[-1])
+
+
+def point_at_length(points: np.ndarray, s: np.ndarray | float) -> np.ndarray:
+    """Points at arc lengths ``s`` along the polyline, linearly interpolated.
+
+    Parameters
+    ----------
+    points : (n, d) array
+    s : float or (m,) array
+        Arc lengths, clipped to [0, length].
+
+    Returns
+    -------
+    (d,) or (m, d) array
+    """
+    points = np.asarray(points, dtype=float)
+    cum = cumulative_length(points)
+    s_arr = np.clip(np.atleast_1d(np.asarray(s, dtype=float)), 0.0, cum[-1])
+    seg = np.clip(np.searchsorted(cum, s_arr, side="right") - 1, 0, len(points) - 2)
+    span = cum[seg + 1] - cum[seg]
+    t = np.where(span > 0, (s_arr - cum[seg]) / np.where(span > 0, span, 1.0), 0.0)
+    out = points[seg] + t[:, None] * (points[seg + 1] - points[seg])
+    return out[0] if np.ndim(s) == 0 else out
+
+
+def sub_polyline(points: np.ndarray, s0: float, s1: float) -> np.ndarray:
+    """The part of a polyline between arc lengths ``s0 < s1``, with interior vertices kept.
+
+    Returns an (m, d) array whose first point is at ``s0`` and last at ``s1``.
+    """
+    points = np.asarray(points, dtype=float)
+    cum = cumulative_length(points)
+    inner = (cum > s0) & (cum < s1)
+    start = point_at_length(points, s0)
+    end = point_at_length(points, s1)
+    return np.vstack([start[None], points[inner], end[None]])
+
+
+def rotation_matrix(angle_rad: float) -> np.ndarray:
+    """2x2 counter-clockwise rotation matrix."""
+    c, s = np.cos(angle_rad), np.sin(angle_rad)
+    return np.array([[c, -s], [s, c]])
