@@ -1,0 +1,301 @@
+"""Targets (PASS / MISS / N/A), the text table and the Markdown report."""
+
+from __future__ import annotations
+
+from typing import Any
+
+__all__ = ["TARGETS", "evaluate_targets", "format_report", "markdown_report"]
+
+# (key, description); thresholds live in evaluate_targets
+TARGETS = (
+    ("length_exact", "path length equals the optimum within 1e-9 relative on every single-piece query"),
+    ("build_N200_vs_pyvisgraph", "graph build at N = 200 at least 10x faster than pyvisgraph"),
+    ("build_N500_time", "graph build at N = 500 under 10 s"),
+    ("query_N200_vs_pyvisgraph", "query (median) at N = 200 at least 10x faster than pyvisgraph"),
+    ("query_N200_vs_grid", "query (median) at N = 200 at least 10x faster than 2 mm grid A*"),
+    ("build_growth", "build time grows no faster than ~N^2 (fitted exponent <= 2.2)"),
+    ("locate_vs_find_simplex", "point location at least 5x faster than random-order find_simplex"),
+    ("lift_time", "lift of ~5,000 points on ~100k triangles under 15 ms (median)"),
+    ("demo_end_to_end", "`garnav demo` end to end under 20 s"),
+)
+
+
+def _get(d: dict, *keys, default=None):
+    for k in keys:
+        if not isinstance(d, dict) or k not in d:
+            return default
+        d = d[k]
+    return d
+
+
+def _t(key, status, value, detail):
+    desc = dict(TARGETS)[key]
+    return {"key": key, "target": desc, "status": status, "value": value, "detail": detail}
+
+
+def evaluate_targets(res: dict[str, Any]) -> list[dict[str, Any]]:
+    """One entry per target: status PASS, MISS or N/A (not measured), the value and a detail."""
+    cases = res.get("cases", {})
+    single = {k: v for k, v in cases.items() if v.get("kind") == "single_piece"}
+    quick = bool(_get(res, "settings", "quick"))
+    out = []
+
+    errs = [(k, _get(v, "garnav", "length_rel_err_max")) for k, v in single.items()]
+    valid = [(k, _get(v, "garnav", "paths_valid")) for k, v in single.items()]
+    missing = [k for k, e in errs if e is None]
+    if not single or len(missing) == len(errs):
+        out.append(_t("length_exact", "N/A", None, "no single-piece case with garnav routes and an exact reference"))
+    else:
+        worst = max(e for _, e in errs if e is not None)
+        bad = [k for k, e in errs if e is not None and abs(e) > 1e-9] + [k for k, ok in valid if ok is False]
+        detail = f"worst relative error {worst:.3g}"
+        if missing:
+            detail += f"; not checked: {', '.join(missing)}"
+        if bad:
+            detail += f"; off in {', '.join(sorted(set(bad)))}"
+        out.append(_t("length_exact", "MISS" if bad else "PASS", worst, detail))
+
+    c200 = cases.get("single_N200")
+    gb = _get(c200 or {}, "garnav", "build_s")
+    pb = _get(c200 or {}, "pyvisgraph", "build_s")
+    if gb and pb:
+        r = pb / gb
+        est = " (pyvisgraph time estimated)" if _get(c200, "pyvisgraph", "estimated") else ""
+        out.append(_t("build_N200_vs_pyvisgraph", "PASS" if r >= 10 else "MISS", r,
+                      f"garnav {gb:.3f} s vs pyvisgraph {pb:.2f} s: {r:.1f}x{est}"))
+    else:
+        out.append(_t("build_N200_vs_pyvisgraph", "N/A", None, "N = 200 not run" if c200 is None else "garnav build not available"))
+
+    c500 = cases.get("single_N500")
+    g5 = _get(c500 or {}, "garnav", "build_s")
+    if g5 is not None:
+        out.append(_t("build_N500_time", "PASS" if g5 < 10 else "MISS", g5, f"{g5:.2f} s"))
+    else:
+        out.append(_t("build_N500_time", "N/A", None, "N = 500 not run" if c500 is None else "garnav build not available"))
+
+    gq = _get(c200 or {}, "garnav", "query", "median")
+    for key, who in (("query_N200_vs_pyvisgraph", "pyvisgraph"), ("query_N200_vs_grid", "grid_astar")):
+        rq = _get(c200 or {}, who, "query", "median")
+        if gq and rq:
+            r = rq / gq
+            out.append(_t(key, "PASS" if r >= 10 else "MISS", r,
+                          f"garnav {gq * 1e3:.2f} ms vs {who} {rq * 1e3:.1f} ms: {r:.1f}x"))
+        else:
+            out.append(_t(key, "N/A", None, "not measured at N = 200"))
+
+    k = _get(res, "growth_exponent_in_N", "garnav")
+    if k is not None:
+        out.append(_t("build_growth", "PASS" if k <= 2.2 else "MISS", k,
+                      f"t ~ N^{k:.2f} over N = {', '.join(str(v['n_keepouts']) for v in single.values())}"))
+    else:
+        out.append(_t("build_growth", "N/A", None, "fewer than two garnav builds"))
+
+    lift = cases.get("lift", {})
+    tl = _get(lift, "garnav", "locate", "query_s")
+    td = _get(lift, "delaunay_find_simplex", "query_s")
+    if tl and td:
+        r = td / tl
+        out.append(_t("locate_vs_find_simplex", "PASS" if r >= 5 else "MISS", r,
+                      f"{lift['query_points']} points: garnav {tl * 1e3:.1f} ms vs find_simplex {td * 1e3:.1f} ms: {r:.1f}x"))
+    else:
+        out.append(_t("locate_vs_find_simplex", "N/A", None, "garnav locator not available or case not run"))
+
+    lm = _get(lift, "garnav", "lift", "median")
+    if lm is not None:
+        pts = _get(lift, "garnav", "lift", "points")
+        status = "PASS" if lm < 0.015 else "MISS"
+        note = " (quick mode: small mesh)" if quick else ""
+        out.append(_t("lift_time", status, lm, f"{pts} lifted points on {lift['faces']} triangles: {lm * 1e3:.1f} ms{note}"))
+    else:
+        out.append(_t("lift_time", "N/A", None, "garnav lift not available or case not run"))
+
+    cli = cases.get("demo_cli", {})
+    if cli.get("available") and cli.get("returncode") == 0:
+        s = cli["seconds"]
+        out.append(_t("demo_end_to_end", "PASS" if s < 20 else "MISS", s, f"`{cli['command']}`: {s:.1f} s"))
+    elif cli.get("available"):
+        out.append(_t("demo_end_to_end", "MISS", None, f"`{cli['command']}` failed (exit {cli['returncode']})"))
+    else:
+        out.append(_t("demo_end_to_end", "N/A", None, cli.get("error", "not run")))
+    return out
+
+
+# --------------------------------------------------------------------------------------------
+
+
+def _ms(x):
+    return "—" if x is None else f"{x * 1e3:.2f}"
+
+
+def _s(x, est=False):
+    if x is None:
+        return "—"
+    return ("~" if est else "") + (f"{x:.3f}" if x < 10 else f"{x:.1f}")
+
+
+def _mb(x):
+    return "—" if x is None else f"{x / 2**20:.1f}"
+
+
+def table_rows(res: dict[str, Any]) -> tuple[list[str], list[list[str]]]:
+    """Header and rows of the single-piece / demo table (strings)."""
+    head = ["case", "free verts", "garnav build s", "pyvisgraph build s", "naive build s", "grid build s",
+            "garnav query ms (med/p95)", "pyvisgraph query ms", "grid query ms", "garnav len err",
+            "grid len ratio", "garnav peak MB"]
+    rows = []
+    for name, c in res.get("cases", {}).items():
+        if c.get("kind") not in ("single_piece", "demo_garment"):
+            continue
+        g = c.get("garnav", {})
+        pv = c.get("pyvisgraph", {})
+        nv = c.get("naive_allpairs", {})
+        gr = c.get("grid_astar", {})
+        gq = g.get("query", {})
+        err = g.get("length_rel_err_max")
+        rows.append([
+            name,
+            str(_get(c, "free_space", "vertices", default="—")),
+            _s(g.get("build_s")),
+            _s(pv.get("build_s"), pv.get("estimated", False)),
+            _s(nv.get("build_s"), nv.get("estimated", False)),
+            _s(gr.get("build_s")),
+            f"{_ms(gq.get('median'))} / {_ms(gq.get('p95'))}" if gq.get("n") else "—",
+            _ms(_get(pv, "query", "median")),
+            _ms(_get(gr, "query", "median")),
+            "—" if err is None else f"{err:.1e}",
+            "—" if not _get(gr, "length_ratio") else f"{gr['length_ratio']['median']:.4f}",
+            _mb(g.get("build_peak_bytes")),
+        ])
+    return head, rows
+
+
+def _lift_lines(res) -> list[str]:
+    c = res.get("cases", {}).get("lift")
+    if not c:
+        return []
+    lines = [f"lift case: {c['faces']} triangles, {c['query_points']} random UV points (random order)"]
+    g = c.get("garnav", {})
+    loc = g.get("locate")
+    dl = c.get("delaunay_find_simplex", {})
+    st = c.get("strtree_intersects", {})
+    if loc:
+        lines.append(f"  garnav locate        {loc['query_s'] * 1e3:9.1f} ms  ({loc['points_per_s']:.3g} points/s; build {loc['build_s'] * 1e3:.1f} ms; "
+                     f"agrees with STRtree on {100 * loc['agrees_with_strtree']:.2f} %)")
+    lines.append(f"  Delaunay.find_simplex{dl.get('query_s', 0) * 1e3:9.1f} ms  (build {dl.get('build_s', 0) * 1e3:.1f} ms; Delaunay of the UV vertices)")
+    lines.append(f"  STRtree intersects   {st.get('query_s', 0) * 1e3:9.1f} ms  (build {st.get('build_s', 0) * 1e3:.1f} ms)")
+    lf = g.get("lift")
+    if lf:
+        lines.append(f"  garnav lift          {lf['median'] * 1e3:9.2f} ms median, p95 {lf['p95'] * 1e3:.2f} ms, first call {lf['first_call_s'] * 1e3:.1f} ms; "
+                     f"{lf['points']} points ({lf['points_per_s']:.3g} points/s); 3D length {lf['length_3d_mm']:.6f} mm, "
+                     f"flat {lf['length_flat_mm']:.6f} mm")
+    fo = c.get("flipout_geodesic", {})
+    if "length_mm" in fo:
+        rel = _get(lf or {}, "rel_diff_3d_vs_flipout")
+        lines.append(f"  FlipOut geodesic     {fo['query_s'] * 1e3:9.1f} ms  (solver build {fo['build_s'] * 1e3:.1f} ms); "
+                     f"length {fo['length_mm']:.6f} mm (3D chords {fo['chord_length_3d_mm']:.3f} mm)"
+                     + ("" if rel is None else f"; lifted vs FlipOut {rel:+.2e}"))
+    if g.get("error"):
+        lines.append(f"  garnav error: {g['error']}")
+    return lines
+
+
+def _machine_line(m) -> str:
+    return (f"garnav {m['garnav_version']} | Python {m['python']} | {m['cpu_model']} | {m['cpu_count']} CPUs "
+            f"({m['cpu_usable']} usable) | {m['memory_gb']} GB | {m['os']} | {m['date_utc']}")
+
+
+def format_report(res: dict[str, Any]) -> str:
+    """Plain-text report: machine, table, lift lines, growth, targets."""
+    lines = [_machine_line(res["machine"]), ""]
+    head, rows = table_rows(res)
+    if rows:
+        widths = [max(len(head[i]), *(len(r[i]) for r in rows)) for i in range(len(head))]
+        lines.append("  ".join(h.ljust(w) for h, w in zip(head, widths)))
+        for r in rows:
+            lines.append("  ".join(v.ljust(w) for v, w in zip(r, widths)))
+        lines.append("(~ = estimated, not measured: see notes)")
+    for name, c in res.get("cases", {}).items():
+        if c.get("error"):
+            lines.append(f"{name}: {c['error']}")
+        elif _get(c, "garnav", "error"):
+            lines.append(f"{name}: garnav: {c['garnav']['error']}")
+    lines += [""] + _lift_lines(res)
+    gr = res.get("growth_exponent_in_N")
+    if gr:
+        lines.append("")
+        lines.append("build growth exponent in N: " + ", ".join(
+            f"{k} {'—' if v is None else f'{v:.2f}'}" for k, v in gr.items()))
+    cli = res.get("cases", {}).get("demo_cli")
+    if cli and cli.get("available"):
+        lines.append(f"`{cli['command']}`: {cli['seconds']:.1f} s (exit {cli['returncode']})")
+    lines += ["", "targets:"]
+    for t in res.get("targets", []):
+        lines.append(f"  [{t['status']:4}] {t['target']}: {t['detail']}")
+    return "\n".join(lines)
+
+
+def markdown_report(res: dict[str, Any]) -> str:
+    """BENCHMARKS.md: machine, how it was run, the table, lifting, targets."""
+    m = res["machine"]
+    s = res["settings"]
+    pk = ", ".join(f"{k} {v}" for k, v in m["packages"].items())
+    out = [
+        "# garnav benchmarks",
+        "",
+        "Generated by `python -m benchmarks --write-md BENCHMARKS.md`; do not edit by hand. "
+        "See `benchmarks/README.md` for what each figure means and how the references are run.",
+        "",
+        "## Machine",
+        "",
+        f"- CPU: {m['cpu_model']}, {m['cpu_count']} logical CPUs ({m['cpu_usable']} usable), {m['memory_gb']} GB RAM",
+        f"- OS: {m['os']}; Python {m['python']} ({m['implementation']})",
+        f"- garnav {m['garnav_version']}; {pk}",
+        f"- OPENBLAS_CORETYPE: {m['openblas_coretype']}",
+        f"- date (UTC): {m['date_utc']}; whole run {res.get('total_s', 0):.0f} s",
+        f"- settings: {'quick' if s['quick'] else 'full'}; seed {s['seed']}; N = {', '.join(map(str, s['sizes']))}; "
+        f"{s['n_pairs']} start/goal pairs per case; grid cell {s['grid_cell_mm']} mm; pyvisgraph budget {s['ref_budget_s']:.0f} s",
+        "",
+        "## Targets",
+        "",
+        "| status | target | measured |",
+        "|---|---|---|",
+    ]
+    for t in res.get("targets", []):
+        out.append(f"| {t['status']} | {t['target']} | {t['detail']} |")
+    head, rows = table_rows(res)
+    if rows:
+        out += ["", "## Planning", "", "| " + " | ".join(head) + " |", "|" + "---|" * len(head)]
+        out += ["| " + " | ".join(r) + " |" for r in rows]
+        out += ["", "`~` marks an estimate (a reference too slow to run within the budget, "
+                "extrapolated from the sizes it did run, or from a sample of pairs for the naive build)."]
+        gr = res.get("growth_exponent_in_N")
+        if gr:
+            out.append("")
+            out.append("Build time growth exponent in N (log-log least squares): " + ", ".join(
+                f"{k} {'—' if v is None else f'{v:.2f}'}" for k, v in gr.items()) + ".")
+        notes = []
+        for name, c in res.get("cases", {}).items():
+            fs = c.get("free_space")
+            if fs:
+                notes.append(f"- {name}: free space from {fs['source']}, {fs['components']} component(s), "
+                             f"{100 * fs['area_fraction']:.1f} % of the piece; pyvisgraph on the query component "
+                             f"({_get(c, 'pyvisgraph', 'vertices')} vertices incl. its outside frame)"
+                             + (f"; {c['pyvisgraph']['note']}" if _get(c, 'pyvisgraph', 'note') else ""))
+            if c.get("kind") == "demo_garment" and "garnav" in c:
+                notes.append(f"- {name}: {c['buttons']} buttons added; routes by seam crossings "
+                             f"{c['garnav'].get('crossings')}; failed queries {c['garnav'].get('failed_queries')}")
+        if notes:
+            out += ["", "Notes:", ""] + notes
+    ll = _lift_lines(res)
+    if ll:
+        out += ["", "## Point location and lifting", "", "```"] + ll + ["```"]
+    cli = res.get("cases", {}).get("demo_cli")
+    if cli:
+        out += ["", "## Demo end to end", ""]
+        out.append(f"`{cli['command']}`: {cli['seconds']:.1f} s, exit {cli['returncode']}" if cli.get("available")
+                   else f"not run: {cli.get('error')}")
+    for name, c in res.get("cases", {}).items():
+        err = c.get("error") or _get(c, "garnav", "error")
+        if err:
+            out.append(f"\n{name}: {err}")
+    return "\n".join(out) + "\n"

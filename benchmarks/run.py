@@ -1,0 +1,529 @@
+"""Benchmark runner: build the seeded cases, run garnav and the references in one process, report.
+
+Usage::
+
+    python -m benchmarks [--quick] [--cases single,demo,lift,cli] [--json out.json]
+                         [--write-md BENCHMARKS.md] [--ref-budget SECONDS] [--seed 0]
+
+Prints a table, the targets with PASS / MISS, and (with ``--json``) writes every figure with the
+machine description. Never used as a pass/fail gate in the test suite.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import math
+import os
+import subprocess
+import sys
+import tempfile
+import time
+import traceback
+from pathlib import Path
+from typing import Any
+
+if __package__ in (None, ""):  # run as a script: python benchmarks/run.py
+    sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
+    __package__ = "benchmarks"
+
+import numpy as np
+import shapely
+
+from benchmarks import cases as C
+from benchmarks import garnav_side as G
+from benchmarks import refs as R
+from benchmarks.measure import growth_exponent, machine_info, peak_memory, summary, timed
+from benchmarks.report import evaluate_targets, format_report, markdown_report
+
+ALL_CASES = ("single", "demo", "lift", "cli")
+FULL_N = (10, 50, 200, 500)
+QUICK_N = (4, 8)
+
+# pyvisgraph build time model for budgeting before any measurement: t ≈ c · V^2 (V vertices);
+# c measured here at 1.1e-5 – 1.5e-5 s on V = 341 … 1753 (a rough prior, replaced by a fit as soon
+# as two sizes have been measured in the run).
+_PV_PRIOR_C = 1.5e-5
+
+
+class Options:
+    def __init__(self, args: argparse.Namespace):
+        self.quick = bool(args.quick)
+        self.seed = int(args.seed)
+        self.ref_budget_s = float(args.ref_budget if args.ref_budget is not None else (20.0 if args.quick else 900.0))
+        self.sizes = tuple(args.sizes) if args.sizes else (QUICK_N if self.quick else FULL_N)
+        self.n_pairs = args.pairs if args.pairs is not None else (3 if self.quick else 20)
+        self.grid_cell_mm = args.grid_cell if args.grid_cell is not None else (10.0 if self.quick else 2.0)
+        self.demo_buttons = 10 if self.quick else 200
+        self.demo_queries = 3 if self.quick else 20
+        self.lift_faces = 2_000 if self.quick else 100_000
+        self.lift_queries = 2_000 if self.quick else 100_000
+        self.lift_repeats = 3 if self.quick else 15
+        self.naive_max_pairs = 50_000 if self.quick else 300_000
+
+    def as_dict(self) -> dict[str, Any]:
+        return dict(vars(self))
+
+
+# --------------------------------------------------------------------------------------------
+# single piece
+
+
+def _pv_predict(measured: list[tuple[int, float]], v: int) -> float:
+    if len(measured) >= 2:
+        k = growth_exponent([m[0] for m in measured], [m[1] for m in measured]) or 2.0
+        v0, t0 = measured[-1]
+        return t0 * (v / v0) ** max(k, 1.0)
+    if measured:
+        v0, t0 = measured[-1]
+        return t0 * (v / v0) ** 2
+    return _PV_PRIOR_C * v * v
+
+
+def run_single(n: int, opts: Options, pv_history: list[tuple[int, float]], log) -> dict[str, Any]:
+    case = C.single_piece_case(n, opts.seed)
+    g, robot = case.garment, case.robot
+    out: dict[str, Any] = {"kind": "single_piece", "n_keepouts": n, "seed": opts.seed}
+    planner = None
+    if G.planner_available():
+        try:
+            planner, t_build = timed(lambda: G.build_planner(g, robot))
+            out["garnav"] = {"available": True, "build_s": t_build, **G.planner_graph_size(planner)}
+        except Exception as exc:  # a failure is a figure too: report it, keep going
+            out["garnav"] = {"available": False, "error": _err(exc)}
+            planner = None
+    else:
+        out["garnav"] = {"available": False, "error": "garnav.plan.Planner not importable"}
+    region, source = G.free_region(g, robot, "panel", planner)
+    parts = list(shapely.get_parts(region))
+    out["free_space"] = {
+        "source": source,
+        "components": len(parts),
+        "vertices": int(len(R.region_vertices(region))),
+        "area_fraction": float(region.area / g.pieces[0].area),
+    }
+    rng = np.random.default_rng([opts.seed, n, 7])
+    main = max(parts, key=lambda p: p.area)
+    pairs = C.sample_pairs(main, opts.n_pairs, rng)
+    out["pairs"] = pairs.tolist()
+
+    # garnav queries and memory
+    g_len, g_paths, g_times = [], [], []
+    if planner is not None:
+        try:
+            for s, t in pairs:
+                (route, pts), dt = timed(lambda: G.route_points(planner, ("panel", *s), ("panel", *t)))
+                g_times.append(dt)
+                g_len.append(float(route.length_mm))
+                g_paths.append(pts)
+            out["garnav"]["query"] = summary(g_times)
+            _, peak = peak_memory(lambda: G.build_planner(g, robot))
+            out["garnav"]["build_peak_bytes"] = peak
+        except Exception as exc:
+            out["garnav"]["error"] = _err(exc)
+            g_len, g_paths = [], []
+
+    # pyvisgraph on the component that holds the queries
+    pv = R.PyvisgraphRef(main)
+    predicted = _pv_predict(pv_history, pv.n_vertices)
+    pv_out: dict[str, Any] = {"vertices": pv.n_vertices, "obstacles": len(pv.obstacles), "scope": "query component"}
+    pv_len, pv_paths = [], []
+    if predicted > opts.ref_budget_s:
+        pv_out.update(estimated=True, build_s=predicted, note=f"skipped: predicted {predicted:.0f} s > budget")
+    else:
+        log(f"  pyvisgraph build ({pv.n_vertices} vertices, ~{predicted:.0f} s predicted)")
+        _, t_pv = timed(pv.build)
+        pv_history.append((pv.n_vertices, t_pv))
+        times = []
+        for s, t in pairs:
+            path, dt = timed(lambda: pv.query(s, t))
+            times.append(dt)
+            pv_paths.append(path)
+            pv_len.append(R.path_length(path))
+        pv_out.update(estimated=False, build_s=t_pv, edges=pv.n_edges, query=summary(times))
+    out["pyvisgraph"] = pv_out
+
+    # naive all-pairs
+    nv = R.NaiveVisibilityRef(main, max_pairs=opts.naive_max_pairs, seed=opts.seed)
+    t_nv = nv.build()
+    nv_out: dict[str, Any] = {"vertices": len(nv.verts), "pairs": nv.n_pairs, "build_s": t_nv, "estimated": nv.estimated}
+    nv_len = []
+    if not nv.estimated:
+        times = []
+        for s, t in pairs:
+            path, dt = timed(lambda: nv.query(s, t))
+            times.append(dt)
+            nv_len.append(R.path_length(path))
+        nv_out.update(edges=nv.n_edges, query=summary(times))
+    out["naive_allpairs"] = nv_out
+
+    # grid A*
+    grid = R.GridAstarRef(region, opts.grid_cell_mm)
+    _, t_grid = timed(grid.build)
+    times, grid_len = [], []
+    for s, t in pairs:
+        path, dt = timed(lambda: grid.query(s, t))
+        times.append(dt)
+        grid_len.append(R.path_length(path))
+    _, grid_peak = peak_memory(lambda: R.GridAstarRef(region, opts.grid_cell_mm).build())
+    out["grid_astar"] = {
+        "cell_mm": opts.grid_cell_mm,
+        "nodes": grid.n_nodes,
+        "edges": grid.n_edges,
+        "build_s": t_grid,
+        "build_peak_bytes": grid_peak,
+        "query": summary(times),
+    }
+
+    # optimum per pair: shortest valid exact answer among pyvisgraph, naive, garnav
+    opt, opt_src, g_err, pv_vs_nv = [], [], [], []
+    for k in range(len(pairs)):
+        cands = []
+        if pv_len:
+            cands.append((pv_len[k], "pyvisgraph", R.path_in_region(main, pv_paths[k])))
+        if nv_len:
+            cands.append((nv_len[k], "naive_allpairs", True))
+        if g_len:
+            cands.append((g_len[k], "garnav", R.path_in_region(region, g_paths[k])))
+        valid = [c for c in cands if c[2]]
+        exact_refs = [c for c in valid if c[1] != "garnav"]
+        if not exact_refs:
+            opt.append(None)
+            opt_src.append(None)
+            continue
+        best = min(valid, key=lambda c: c[0])
+        opt.append(best[0])
+        opt_src.append(best[1])
+        if pv_len and nv_len:
+            pv_vs_nv.append(abs(pv_len[k] - nv_len[k]) / nv_len[k])
+        if g_len:
+            g_err.append((g_len[k] - best[0]) / best[0])
+    out["optimum_mm"] = opt
+    out["optimum_source"] = opt_src
+    if g_len:
+        out["garnav"]["length_mm"] = g_len
+        out["garnav"]["paths_valid"] = bool(all(R.path_in_region(region, p) for p in g_paths))
+        out["garnav"]["length_rel_err_max"] = max(g_err) if g_err else None
+    if pv_vs_nv:
+        out["pyvisgraph"]["rel_diff_to_naive_max"] = max(pv_vs_nv)
+    ok = [k for k in range(len(pairs)) if opt[k]]
+    if ok:
+        ratios = [grid_len[k] / opt[k] for k in ok]
+        out["grid_astar"]["length_ratio"] = summary(ratios)
+        if pv_len:
+            out["pyvisgraph"]["length_ratio_max"] = max(pv_len[k] / opt[k] for k in ok)
+    return out
+
+
+# --------------------------------------------------------------------------------------------
+# demo garment with buttons
+
+
+def _demo_with_buttons(count: int, seed: int):
+    from garnav.demo import demo_garment
+
+    base = demo_garment()
+    robot = base.robot or C.ROBOT
+    region_of = {}
+    for p in base.pieces:
+        region_of[p.name], _ = G.free_region(base, robot, p.name)
+    targets = [n for n in ("front", "back", "sleeve_left", "sleeve_right") if n in region_of]
+    rng = np.random.default_rng([seed, count, 11])
+    weights = np.array([region_of[n].area for n in targets])
+    alloc = rng.multinomial(count, weights / weights.sum())
+    keepouts = list(base.keepouts)
+    for name, k in zip(targets, alloc):
+        allowed = region_of[name].buffer(-1.0)
+        x0, y0, x1, y1 = allowed.bounds
+        keepouts += C.random_keepouts(
+            int(k), rng, (x0, y0, x1, y1), name, size_range=(8.0, 16.0), kinds=("circle",),
+            allowed=allowed, gap_mm=2.0, name_prefix=f"button_{name}_", keepout_kind="button",
+        )
+    from dataclasses import replace
+
+    return replace(base, keepouts=tuple(keepouts)), robot
+
+
+def run_demo(opts: Options, log) -> dict[str, Any]:
+    out: dict[str, Any] = {"kind": "demo_garment", "buttons": opts.demo_buttons}
+    if not (G.demo_available() and G.planner_available()):
+        out["error"] = "garnav.demo.demo_garment or garnav.plan.Planner not importable"
+        return out
+    garment, robot = _demo_with_buttons(opts.demo_buttons, opts.seed)
+    planner, t_build = timed(lambda: G.build_planner(garment, robot))
+    out["garnav"] = {"available": True, "build_s": t_build, **G.planner_graph_size(planner)}
+    rng = np.random.default_rng([opts.seed, 13])
+    regions = {p.name: G.free_region(garment, robot, p.name, planner)[0] for p in garment.pieces}
+    names = sorted(regions)
+    times, crossings, lengths, failures = [], [], [], 0
+    tries = 0
+    while len(times) < opts.demo_queries and tries < 20 * opts.demo_queries:
+        tries += 1
+        a, b = rng.choice(len(names), 2, replace=False)
+        ends = []
+        for name in (names[a], names[b]):
+            main = max(shapely.get_parts(regions[name]), key=lambda p: p.area)
+            ends.append((name, *C.sample_pairs(main, 1, rng, min_dist_mm=0.0)[0, 0]))
+        try:
+            (route, _), dt = timed(lambda: G.route_points(planner, ends[0], ends[1]))
+        except Exception as exc:  # NoRouteError etc.: count and move on
+            failures += 1
+            last_error = _err(exc)
+            continue
+        nc = len(route.crossings)
+        if not 1 <= nc <= 4:
+            continue
+        times.append(dt)
+        crossings.append(nc)
+        lengths.append(float(route.length_mm))
+    out["garnav"]["query"] = summary(times)
+    out["garnav"]["crossings"] = {str(k): crossings.count(k) for k in range(1, 5)}
+    out["garnav"]["failed_queries"] = failures
+    if failures:
+        out["garnav"]["last_failure"] = last_error  # noqa: F821 (set when failures > 0)
+    out["garnav"]["length_mm"] = lengths
+    _, peak = peak_memory(lambda: G.build_planner(garment, robot))
+    out["garnav"]["build_peak_bytes"] = peak
+    return out
+
+
+# --------------------------------------------------------------------------------------------
+# lifting and point location
+
+
+def run_lift(opts: Options, log) -> dict[str, Any]:
+    from scipy.spatial import Delaunay
+
+    case = C.lift_case(opts.lift_faces, n_query=opts.lift_queries, seed=opts.seed)
+    out: dict[str, Any] = {"kind": "lift", "faces": int(len(case.faces)), "vertices": int(len(case.vertices)),
+                           "query_points": int(len(case.query_uv))}
+    tri_uv = case.uv[case.faces]
+    rng = np.random.default_rng([opts.seed, 17])
+    q = case.query_uv[rng.permutation(len(case.query_uv))]  # random order
+
+    # references: Delaunay of the UV vertices (speed reference only), STRtree of triangle polygons
+    dl, t_dl_build = timed(lambda: Delaunay(case.uv))
+    simp, t_dl = timed(lambda: dl.find_simplex(q))
+    polys = shapely.polygons(tri_uv)
+    tree, t_tree_build = timed(lambda: shapely.STRtree(polys))
+    (qi, ti), t_tree = timed(lambda: tree.query(shapely.points(q), predicate="intersects"))
+    out["delaunay_find_simplex"] = {"build_s": t_dl_build, "query_s": t_dl, "found": int((simp >= 0).sum())}
+    out["strtree_intersects"] = {"build_s": t_tree_build, "query_s": t_tree, "hits": int(len(qi))}
+
+    # 3D length reference: FlipOut geodesics between the route corners (mesh vertices)
+    try:
+        import potpourri3d as pp3d
+
+        solver, t_fb = timed(lambda: pp3d.EdgeFlipGeodesicSolver(case.vertices, case.faces))
+
+        def geodesics():
+            return [solver.find_geodesic_path(int(a), int(b))
+                    for a, b in zip(case.route_vertex_ids[:-1], case.route_vertex_ids[1:])]
+
+        paths, t_geo = timed(geodesics)
+        out["flipout_geodesic"] = {"build_s": t_fb, "query_s": t_geo,
+                                   "length_mm": sum(_intrinsic_length(case, p) for p in paths),
+                                   "chord_length_3d_mm": sum(R.path_length(p) for p in paths),
+                                   "length_flat_mm": R.path_length(case.route),
+                                   "mesh_isometry_max_edge_diff_mm": _isometry_defect(case)}
+    except Exception as exc:
+        out["flipout_geodesic"] = {"error": _err(exc)}
+    if not G.drape_available():
+        out["garnav"] = {"available": False, "error": "garnav.drape not importable"}
+        return out
+    gar = out["garnav"] = {"available": True}
+    try:
+        loc, t_loc_build = timed(lambda: G.build_locator(tri_uv))
+        face, t_loc = timed(lambda: G.locate(loc, q))
+        gar["locate"] = {"build_s": t_loc_build, "query_s": t_loc, "found": int((face >= 0).sum()),
+                         "points_per_s": len(q) / t_loc}
+        # the located triangle must contain the point (STRtree answers as the outside check)
+        hits = np.zeros(len(q), dtype=bool)
+        hits[qi[ti == face[qi]]] = True
+        gar["locate"]["agrees_with_strtree"] = float(hits[face >= 0].mean()) if (face >= 0).any() else 0.0
+
+        garment = _lift_garment(case)
+        drape, t_link = timed(lambda: G.build_drape(garment, case.vertices, case.faces, case.uv))
+        offset = np.array([garment.pieces[0].placement.x, garment.pieces[0].placement.y])
+        route = case.route - offset  # piece frame
+        pts3, t_first = timed(lambda: G.lift(drape, "sheet", route))
+        times = [timed(lambda: G.lift(drape, "sheet", route))[1] for _ in range(opts.lift_repeats)]
+        length3 = R.path_length(pts3)
+        flat = R.path_length(route)
+        gar["link_s"] = t_link
+        gar["lift"] = {"first_call_s": t_first, **summary(times), "points": int(len(pts3)),
+                       "points_per_s": len(pts3) / float(np.median(times)),
+                       "length_3d_mm": length3, "length_flat_mm": flat,
+                       "rel_diff_3d_vs_flat": (length3 - flat) / flat}
+        fo = out["flipout_geodesic"]
+        if "length_mm" in fo:
+            gar["lift"]["rel_diff_3d_vs_flipout"] = (length3 - fo["length_mm"]) / fo["length_mm"]
+    except Exception as exc:
+        gar["error"] = _err(exc)
+    return out
+
+
+def _intrinsic_length(case: C.LiftCase, path: np.ndarray) -> float:
+    """Surface length of a FlipOut path, measured in the drape's UV layout.
+
+    potpourri3d returns the path's bend and crossing points on the input surface; two consecutive
+    points can lie in one *intrinsic* triangle that spans several input faces, so the 3D chord
+    between them undercuts the surface. The prism drape is an exact isometry of its UV layout
+    (see ``mesh_isometry_max_edge_diff_mm``), so the straight UV distance between the points'
+    UV images is their intrinsic distance.
+    """
+    import igl
+
+    _, face, closest = igl.point_mesh_squared_distance(path, case.vertices, case.faces.astype(np.int64))
+    tri = case.vertices[case.faces[face]]
+    bary = igl.barycentric_coordinates(closest, tri[:, 0].copy(), tri[:, 1].copy(), tri[:, 2].copy())
+    uv = np.einsum("ij,ijk->ik", bary, case.uv[case.faces[face]])
+    return R.path_length(uv)
+
+
+def _isometry_defect(case: C.LiftCase) -> float:
+    """Largest |3D length − UV length| over the mesh edges, mm (0 for an exact development)."""
+    e = np.vstack([case.faces[:, [0, 1]], case.faces[:, [1, 2]], case.faces[:, [2, 0]]])
+    l3 = np.linalg.norm(case.vertices[e[:, 0]] - case.vertices[e[:, 1]], axis=1)
+    l2 = np.linalg.norm(case.uv[e[:, 0]] - case.uv[e[:, 1]], axis=1)
+    return float(np.abs(l3 - l2).max())
+
+
+def _lift_garment(case: C.LiftCase):
+    from garnav.model import Edge, Garment, Piece, Placement
+
+    uv = case.uv
+    x0, y0 = uv.min(axis=0)
+    x1, y1 = uv.max(axis=0)
+    w, h = float(x1 - x0), float(y1 - y0)
+    piece = Piece(
+        "sheet",
+        (
+            Edge("bottom", ((0.0, 0.0), (w, 0.0))),
+            Edge("right", ((w, 0.0), (w, h))),
+            Edge("top", ((w, h), (0.0, h))),
+            Edge("left", ((0.0, h), (0.0, 0.0))),
+        ),
+        placement=Placement(float(x0), float(y0)),
+    )
+    return Garment("prism_drape", (piece,), sheet_size_mm=tuple(float(s) for s in case.sheet_size_mm))
+
+
+# --------------------------------------------------------------------------------------------
+# garnav demo end to end
+
+
+def run_cli(opts: Options, log) -> dict[str, Any]:
+    root = Path(__file__).resolve().parent.parent
+    env = dict(os.environ, PYTHONPATH=str(root) + os.pathsep + os.environ.get("PYTHONPATH", ""),
+               PYVISTA_OFF_SCREEN="true", VTK_DEFAULT_OPENGL_WINDOW="vtkEGLRenderWindow")
+    probe = subprocess.run([sys.executable, "-m", "garnav", "demo", "--help"], capture_output=True, text=True, env=env)
+    if probe.returncode != 0:
+        return {"kind": "cli", "available": False, "error": "no 'garnav demo' command"}
+    with tempfile.TemporaryDirectory() as tmp:
+        cmd = [sys.executable, "-m", "garnav", "demo"] + _demo_args(probe.stdout, tmp)
+        t0 = time.perf_counter()
+        res = subprocess.run(cmd, capture_output=True, text=True, env=env, cwd=tmp)
+        dt = time.perf_counter() - t0
+    return {"kind": "cli", "available": True, "command": " ".join(["garnav"] + cmd[3:]), "seconds": dt,
+            "returncode": res.returncode, "stderr_tail": res.stderr[-400:]}
+
+
+def _demo_args(help_text: str, tmp: str) -> list[str]:
+    """Options for a non-interactive, headless run, picked from the command's own --help."""
+    args = []
+    for flag in ("--out", "--output", "--out-dir"):
+        if flag in help_text:
+            args += [flag, tmp]
+            break
+    for flag in ("--no-show", "--no-window", "--headless"):
+        if flag in help_text:
+            args.append(flag)
+            break
+    return args
+
+
+# --------------------------------------------------------------------------------------------
+
+
+def _err(exc: BaseException) -> str:
+    tb = traceback.extract_tb(exc.__traceback__)
+    where = f" at {Path(tb[-1].filename).name}:{tb[-1].lineno}" if tb else ""
+    return f"{type(exc).__name__}: {exc}{where}"[:600]
+
+
+def run(opts: Options, which: tuple[str, ...], log=print) -> dict[str, Any]:
+    """Run the selected case families; returns the full results dictionary."""
+    results: dict[str, Any] = {"machine": machine_info(), "settings": opts.as_dict(), "cases": {}}
+    t_all = time.perf_counter()
+    if "single" in which:
+        history: list[tuple[int, float]] = []
+        for n in opts.sizes:
+            log(f"case single_N{n} ...")
+            results["cases"][f"single_N{n}"] = run_single(n, opts, history, log)
+        sizes = [results["cases"][f"single_N{n}"] for n in opts.sizes]
+        growth = {}
+        for who in ("garnav", "pyvisgraph", "naive_allpairs"):
+            pts = [(c["n_keepouts"], c.get(who, {}).get("build_s")) for c in sizes
+                   if c.get(who, {}).get("build_s") is not None and not c.get(who, {}).get("estimated")]
+            growth[who] = growth_exponent([p[0] for p in pts], [p[1] for p in pts]) if pts else None
+        results["growth_exponent_in_N"] = growth
+    if "demo" in which:
+        log("case demo_buttons ...")
+        try:
+            results["cases"]["demo_buttons"] = run_demo(opts, log)
+        except Exception as exc:
+            results["cases"]["demo_buttons"] = {"kind": "demo_garment", "error": _err(exc)}
+    if "lift" in which:
+        log("case lift ...")
+        results["cases"]["lift"] = run_lift(opts, log)
+    if "cli" in which:
+        log("case garnav demo (subprocess) ...")
+        results["cases"]["demo_cli"] = run_cli(opts, log)
+    results["targets"] = evaluate_targets(results)
+    results["total_s"] = time.perf_counter() - t_all
+    return results
+
+
+def main(argv: list[str] | None = None) -> int:
+    ap = argparse.ArgumentParser(prog="python -m benchmarks", description=__doc__.split("\n\n")[0])
+    ap.add_argument("--quick", action="store_true", help="tiny cases, few queries (seconds; for the smoke test)")
+    ap.add_argument("--cases", default=",".join(ALL_CASES),
+                    help=f"comma-separated subset of {','.join(ALL_CASES)} (default: all)")
+    ap.add_argument("--sizes", type=int, nargs="+", help="keep-out counts N of the single-piece cases")
+    ap.add_argument("--pairs", type=int, help="start/goal pairs per single-piece case (default 20)")
+    ap.add_argument("--grid-cell", type=float, help="grid A* cell size, mm (default 2)")
+    ap.add_argument("--ref-budget", type=float,
+                    help="skip a pyvisgraph build predicted to take longer (s) and report the estimate")
+    ap.add_argument("--seed", type=int, default=0)
+    ap.add_argument("--json", metavar="PATH", help="write all results as JSON")
+    ap.add_argument("--write-md", metavar="PATH", help="write the Markdown report (BENCHMARKS.md)")
+    args = ap.parse_args(argv)
+    which = tuple(c.strip() for c in args.cases.split(",") if c.strip())
+    bad = [c for c in which if c not in ALL_CASES]
+    if bad:
+        ap.error(f"unknown case(s) {bad}; choose from {list(ALL_CASES)}")
+    opts = Options(args)
+    results = run(opts, which, log=lambda m: print(m, file=sys.stderr, flush=True))
+    print(format_report(results))
+    from garnav.atomic import write_text_atomic
+
+    if args.json:
+        write_text_atomic(args.json, json.dumps(results, indent=1, default=_jsonable) + "\n")
+    if args.write_md:
+        write_text_atomic(args.write_md, markdown_report(results))
+    return 0
+
+
+def _jsonable(x):
+    if isinstance(x, (np.integer,)):
+        return int(x)
+    if isinstance(x, (np.floating,)):
+        return float(x)
+    if isinstance(x, np.ndarray):
+        return x.tolist()
+    raise TypeError(type(x))
+
+
+if __name__ == "__main__":
+    sys.exit(main())

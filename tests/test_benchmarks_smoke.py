@@ -1,0 +1,86 @@
+"""Smoke test of the benchmark runner: a --quick run must finish and produce every section.
+
+Checks structure only (JSON keys, table rows, target entries); never timings.
+"""
+
+from __future__ import annotations
+
+import json
+import sys
+from pathlib import Path
+
+import pytest
+
+ROOT = Path(__file__).resolve().parent.parent
+sys.path.insert(0, str(ROOT))
+
+pytest.importorskip("pyvisgraph")
+pytest.importorskip("potpourri3d")
+
+from benchmarks import run as bench_run  # noqa: E402
+from benchmarks.measure import growth_exponent  # noqa: E402
+from benchmarks.report import TARGETS  # noqa: E402
+
+
+@pytest.fixture(scope="module")
+def quick_results(tmp_path_factory):
+    out = tmp_path_factory.mktemp("bench")
+    js, md = out / "bench.json", out / "BENCH.md"
+    # the demo subprocess is left out: it is timed only in full runs
+    code = bench_run.main(["--quick", "--cases", "single,demo,lift", "--json", str(js), "--write-md", str(md)])
+    assert code == 0
+    return json.loads(js.read_text()), md.read_text()
+
+
+def test_machine_description(quick_results):
+    res, _ = quick_results
+    m = res["machine"]
+    for key in ("garnav_version", "packages", "python", "cpu_model", "cpu_count", "date_utc"):
+        assert key in m
+    assert {"numpy", "shapely", "pyvisgraph"} <= set(m["packages"])
+
+
+def test_single_piece_rows(quick_results):
+    res, md = quick_results
+    singles = {k: v for k, v in res["cases"].items() if v["kind"] == "single_piece"}
+    assert len(singles) == len(bench_run.QUICK_N)
+    for case in singles.values():
+        assert case["free_space"]["vertices"] > 0
+        assert len(case["pairs"]) == res["settings"]["n_pairs"]
+        assert case["grid_astar"]["query"]["n"] == res["settings"]["n_pairs"]
+        assert "build_s" in case["pyvisgraph"] and "build_s" in case["naive_allpairs"]
+        # every pair got an exact optimum from the references
+        assert all(v is not None for v in case["optimum_mm"])
+        # a grid path is never shorter than the exact optimum (8-connected moves only)
+        assert case["grid_astar"]["length_ratio"]["min"] >= 1.0 - 1e-9
+        assert f"| {next(iter(singles))} |" in md
+
+
+def test_references_agree(quick_results):
+    # pyvisgraph (general-purpose library) and the naive all-pairs visibility graph must find the
+    # same shortest lengths: both are exact methods on the same polygons
+    res, _ = quick_results
+    for case in res["cases"].values():
+        if case["kind"] == "single_piece":
+            assert case["pyvisgraph"]["rel_diff_to_naive_max"] < 1e-9
+
+
+def test_lift_case_and_targets(quick_results):
+    res, md = quick_results
+    lift = res["cases"]["lift"]
+    assert {"delaunay_find_simplex", "strtree_intersects", "flipout_geodesic"} <= set(lift)
+    # the prism drape is developable: FlipOut's geodesics between route corners have the flat
+    # length (potpourri3d as outside reference)
+    fo = lift["flipout_geodesic"]
+    assert abs(fo["length_mm"] - fo["length_flat_mm"]) <= 1e-6 * fo["length_flat_mm"]
+    keys = [t["key"] for t in res["targets"]]
+    assert keys == [k for k, _ in TARGETS]
+    assert all(t["status"] in ("PASS", "MISS", "N/A") for t in res["targets"])
+    assert "## Targets" in md and "## Machine" in md
+
+
+def test_growth_exponent_recovers_power_law():
+    # hand-worked: t = 3 N^2 exactly gives slope 2 in log-log
+    n = [10, 50, 200, 500]
+    assert growth_exponent(n, [3 * v**2 for v in n]) == pytest.approx(2.0)
+    assert growth_exponent([10], [1.0]) is None
