@@ -71,7 +71,7 @@ def random_keepouts(
     gap_mm: float = 1.0,
     name_prefix: str = "k",
     keepout_kind: str = "custom",
-    max_tries: int = 200000,
+    max_tries: int = 2_000_000,
 ) -> list[KeepOut]:
     """``n`` non-overlapping keep-outs (squares, regular octagons, circles) placed at random.
 
@@ -80,47 +80,51 @@ def random_keepouts(
     inside that polygon; ``avoid`` lists (x, y, radius) discs to stay clear of.
     """
     x0, y0, x1, y1 = region
-    centres: list[np.ndarray] = []
-    radii: list[float] = []
+    centres = np.zeros((0, 2))
+    radii = np.zeros(0)
     if avoid:
-        for ax, ay, ar in avoid:
-            centres.append(np.array([ax, ay]))
-            radii.append(ar)
-    n_avoid = len(centres)
-    out: list[KeepOut] = []
+        centres = np.array([[ax, ay] for ax, ay, _ in avoid], dtype=float)
+        radii = np.array([ar for _, _, ar in avoid], dtype=float)
+    inner = None
     if allowed is not None:
-        shapely.prepare(allowed)
-    tries = 0
+        # every shape's bounding circle must fit: erode by the largest bounding radius once
+        inner = allowed.buffer(-size_range[1] / math.sqrt(2.0), quad_segs=4)
+        shapely.prepare(inner)
+    out: list[KeepOut] = []
+    drawn = 0
     while len(out) < n:
-        tries += 1
-        if tries > max_tries:
+        if drawn > max_tries:
             raise RuntimeError(f"could place only {len(out)} of {n} keep-outs")
-        size = float(rng.uniform(*size_range))
-        kind = kinds[int(rng.integers(len(kinds)))]
-        angle = float(rng.uniform(0.0, 90.0))
-        # bounding radius: square half-diagonal, octagon/circle half-diameter
-        rad = size / math.sqrt(2.0) if kind == "square" else size / 2.0
-        c = rng.uniform([x0 + rad, y0 + rad], [x1 - rad, y1 - rad])
-        if centres:
-            d = np.hypot(*(np.asarray(centres) - c).T)
-            if np.any(d < np.asarray(radii) + rad + gap_mm):
-                continue
-        if allowed is not None and not allowed.contains(shapely.Point(c).buffer(rad, quad_segs=4)):
-            continue
-        centres.append(c)
-        radii.append(rad)
-        name = f"{name_prefix}{len(out):03d}"
-        cx, cy = float(c[0]), float(c[1])
-        if kind == "square":
-            shape = Rectangle(cx, cy, size, size, angle)
-        elif kind == "circle":
-            shape = Circle(cx, cy, size / 2.0)
+        batch = 512
+        drawn += batch
+        size = rng.uniform(*size_range, size=batch)
+        kind_i = rng.integers(len(kinds), size=batch)
+        angle = rng.uniform(0.0, 90.0, size=batch)
+        is_sq = np.array([kinds[k] == "square" for k in kind_i])
+        rad = np.where(is_sq, size / math.sqrt(2.0), size / 2.0)
+        c = rng.uniform(0.0, 1.0, size=(batch, 2)) * ([x1 - x0, y1 - y0] - 2 * rad[:, None]) + [x0, y0] + rad[:, None]
+        if inner is not None:
+            keep = shapely.contains_xy(inner, c[:, 0], c[:, 1])
         else:
-            t = np.radians(angle) + np.arange(8) * (np.pi / 4.0)
-            pts = np.column_stack([cx + rad * np.cos(t), cy + rad * np.sin(t)])
-            shape = PolygonShape(tuple((float(x), float(y)) for x, y in pts))
-        out.append(KeepOut(name, piece, keepout_kind, shape, clearance_mm=0.0, hard=True))
-    del n_avoid
+            keep = np.ones(batch, dtype=bool)
+        for k in np.flatnonzero(keep):
+            if len(out) >= n:
+                break
+            if len(radii) and np.any(np.hypot(*(centres - c[k]).T) < radii + rad[k] + gap_mm):
+                continue
+            centres = np.vstack([centres, c[k]])
+            radii = np.append(radii, rad[k])
+            name = f"{name_prefix}{len(out):03d}"
+            cx, cy, sz, ang, kind = float(c[k, 0]), float(c[k, 1]), float(size[k]), float(angle[k]), kinds[kind_i[k]]
+            if kind == "square":
+                shape = Rectangle(cx, cy, sz, sz, ang)
+            elif kind == "circle":
+                shape = Circle(cx, cy, sz / 2.0)
+            else:
+                t = np.radians(ang) + np.arange(8) * (np.pi / 4.0)
+                pts = np.column_stack([cx + rad[k] * np.cos(t), cy + rad[k] * np.sin(t)])
+                shape = PolygonShape(tuple((float(x), float(y)) for x, y in pts))
+            out.append(KeepOut(name, piece, keepout_kind, shape, clearance_mm=0.0, hard=True))
     return out
 
 

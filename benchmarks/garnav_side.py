@@ -36,8 +36,15 @@ def _has(module: str, *names: str) -> bool:
     return all(hasattr(mod, n) for n in names)
 
 
+def _planner_class():
+    for module in ("garnav.plan", "garnav.plan.planner"):
+        if _has(module, "Planner"):
+            return importlib.import_module(module).Planner
+    return None
+
+
 def planner_available() -> bool:
-    return _has("garnav.plan", "Planner")
+    return _planner_class() is not None
 
 
 def drape_available() -> bool:
@@ -55,7 +62,7 @@ def demo_available() -> bool:
 def free_region(garment: Garment, robot: Robot, piece: str, planner: Any = None) -> tuple[shapely.Geometry, str]:
     """The free region of one piece and where it came from (``"garnav"`` or ``"benchmark"``)."""
     if planner is not None:
-        fs = getattr(planner, "free_space", None)
+        fs = getattr(planner, "free", None)
         if fs is not None:
             return fs[piece].region, "garnav"
     if _has("garnav.plan.freespace", "build_free_space"):
@@ -67,11 +74,21 @@ def free_region(garment: Garment, robot: Robot, piece: str, planner: Any = None)
     return piece_free_space(garment, piece, robot), "benchmark"
 
 
+def free_regions(garment: Garment, robot: Robot) -> dict[str, shapely.Geometry]:
+    """Free region of every piece (garnav's free space when importable)."""
+    if _has("garnav.plan.freespace", "build_free_space"):
+        from garnav.plan.freespace import build_free_space
+
+        fs = build_free_space(garment, robot)
+        return {p.name: fs[p.name].region for p in garment.pieces}
+    from benchmarks.freespace_ref import piece_free_space
+
+    return {p.name: piece_free_space(garment, p.name, robot) for p in garment.pieces}
+
+
 def build_planner(garment: Garment, robot: Robot):
     """``garnav.plan.Planner(garment, robot)``: free space and navigation graph, built once."""
-    from garnav.plan import Planner
-
-    return Planner(garment, robot)
+    return _planner_class()(garment, robot)
 
 
 def route_points(planner, start: tuple[str, float, float], goal: tuple[str, float, float]):
@@ -83,7 +100,7 @@ def route_points(planner, start: tuple[str, float, float], goal: tuple[str, floa
 
 def planner_graph_size(planner) -> dict[str, int | None]:
     """Node and edge counts of the planner's graph, when it exposes a networkx graph."""
-    g = getattr(planner, "graph", None)
+    g = getattr(getattr(planner, "nav", None), "graph", None)
     try:
         return {"nodes": int(g.number_of_nodes()), "edges": int(g.number_of_edges())}
     except AttributeError:

@@ -41,9 +41,9 @@ def component_of(region: shapely.Geometry, point: np.ndarray) -> shapely.Polygon
 
 
 def path_length(path: np.ndarray) -> float:
-    """Length (mm) of a polyline (n, 2)."""
+    """Length (mm) of a polyline (n, d), d = 2 or 3."""
     path = np.asarray(path, dtype=float)
-    return float(np.hypot(*np.diff(path, axis=0).T).sum()) if len(path) > 1 else 0.0
+    return float(np.linalg.norm(np.diff(path, axis=0), axis=1).sum()) if len(path) > 1 else 0.0
 
 
 def path_in_region(region: shapely.Geometry, path: np.ndarray, tol_mm: float = 1e-6) -> bool:
@@ -159,6 +159,20 @@ class PyvisgraphRef:
     @property
     def n_edges(self) -> int:
         return len(self.graph.visgraph.edges)
+
+    def query_lower_bound(self, start: np.ndarray, goal: np.ndarray) -> None:
+        """The part of a query that needs no visibility graph: the rotational sweeps that link
+        start and goal to the obstacle vertices (what ``shortest_path`` does before Dijkstra).
+
+        Timing this gives a lower bound of the query time when the full build is too slow to run.
+        """
+        vg = self._vg
+        if not hasattr(self, "_obstacle_graph"):
+            polys = [[vg.Point(float(x), float(y)) for x, y in poly] for poly in self.obstacles]
+            self._obstacle_graph = vg.graph.Graph(polys)
+        o, d = vg.Point(*map(float, start)), vg.Point(*map(float, goal))
+        vg.visible_vertices.visible_vertices(o, self._obstacle_graph, destination=d)
+        vg.visible_vertices.visible_vertices(d, self._obstacle_graph, origin=o)
 
 
 # --------------------------------------------------------------------------------------------

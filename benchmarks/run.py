@@ -129,7 +129,10 @@ def run_single(n: int, opts: Options, pv_history: list[tuple[int, float]], log) 
     pv_out: dict[str, Any] = {"vertices": pv.n_vertices, "obstacles": len(pv.obstacles), "scope": "query component"}
     pv_len, pv_paths = [], []
     if predicted > opts.ref_budget_s:
-        pv_out.update(estimated=True, build_s=predicted, note=f"skipped: predicted {predicted:.0f} s > budget")
+        times = [timed(lambda: pv.query_lower_bound(s, t))[1] for s, t in pairs]
+        pv_out.update(estimated=True, build_s=predicted, query=summary(times), query_is_lower_bound=True,
+                      note=f"build skipped: predicted {predicted:.0f} s > budget {opts.ref_budget_s:.0f} s; "
+                           "query time is a lower bound (the two visibility sweeps without Dijkstra)")
     else:
         log(f"  pyvisgraph build ({pv.n_vertices} vertices, ~{predicted:.0f} s predicted)")
         _, t_pv = timed(pv.build)
@@ -224,9 +227,7 @@ def _demo_with_buttons(count: int, seed: int):
 
     base = demo_garment()
     robot = base.robot or C.ROBOT
-    region_of = {}
-    for p in base.pieces:
-        region_of[p.name], _ = G.free_region(base, robot, p.name)
+    region_of = G.free_regions(base, robot)
     targets = [n for n in ("front", "back", "sleeve_left", "sleeve_right") if n in region_of]
     rng = np.random.default_rng([seed, count, 11])
     weights = np.array([region_of[n].area for n in targets])
@@ -254,6 +255,7 @@ def run_demo(opts: Options, log) -> dict[str, Any]:
     out["garnav"] = {"available": True, "build_s": t_build, **G.planner_graph_size(planner)}
     rng = np.random.default_rng([opts.seed, 13])
     regions = {p.name: G.free_region(garment, robot, p.name, planner)[0] for p in garment.pieces}
+    regions = {k: v for k, v in regions.items() if not v.is_empty}
     names = sorted(regions)
     times, crossings, lengths, failures = [], [], [], 0
     tries = 0
@@ -322,8 +324,7 @@ def run_lift(opts: Options, log) -> dict[str, Any]:
 
         paths, t_geo = timed(geodesics)
         out["flipout_geodesic"] = {"build_s": t_fb, "query_s": t_geo,
-                                   "length_mm": sum(_intrinsic_length(case, p) for p in paths),
-                                   "chord_length_3d_mm": sum(R.path_length(p) for p in paths),
+                                   "length_mm": sum(R.path_length(p) for p in paths),
                                    "length_flat_mm": R.path_length(case.route),
                                    "mesh_isometry_max_edge_diff_mm": _isometry_defect(case)}
     except Exception as exc:
@@ -361,24 +362,6 @@ def run_lift(opts: Options, log) -> dict[str, Any]:
     except Exception as exc:
         gar["error"] = _err(exc)
     return out
-
-
-def _intrinsic_length(case: C.LiftCase, path: np.ndarray) -> float:
-    """Surface length of a FlipOut path, measured in the drape's UV layout.
-
-    potpourri3d returns the path's bend and crossing points on the input surface; two consecutive
-    points can lie in one *intrinsic* triangle that spans several input faces, so the 3D chord
-    between them undercuts the surface. The prism drape is an exact isometry of its UV layout
-    (see ``mesh_isometry_max_edge_diff_mm``), so the straight UV distance between the points'
-    UV images is their intrinsic distance.
-    """
-    import igl
-
-    _, face, closest = igl.point_mesh_squared_distance(path, case.vertices, case.faces.astype(np.int64))
-    tri = case.vertices[case.faces[face]]
-    bary = igl.barycentric_coordinates(closest, tri[:, 0].copy(), tri[:, 1].copy(), tri[:, 2].copy())
-    uv = np.einsum("ij,ijk->ik", bary, case.uv[case.faces[face]])
-    return R.path_length(uv)
 
 
 def _isometry_defect(case: C.LiftCase) -> float:
