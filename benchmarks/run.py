@@ -27,6 +27,7 @@ if __package__ in (None, ""):  # run as a script: python benchmarks/run.py
     sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
     __package__ = "benchmarks"
 
+import networkx as nx
 import numpy as np
 import shapely
 
@@ -138,11 +139,15 @@ def run_single(n: int, opts: Options, pv_history: list[tuple[int, float]], log) 
         _, t_pv = timed(pv.build)
         pv_history.append((pv.n_vertices, t_pv))
         times = []
-        for s, t in pairs:
-            path, dt = timed(lambda: pv.query(s, t))
-            times.append(dt)
-            pv_paths.append(path)
-            pv_len.append(R.path_length(path))
+        try:
+            for s, t in pairs:
+                path, dt = timed(lambda: pv.query(s, t))
+                times.append(dt)
+                pv_paths.append(path)
+                pv_len.append(R.path_length(path))
+        except Exception as exc:  # report, and leave pyvisgraph out of the optimum
+            pv_out["error"] = _err(exc)
+            pv_len, pv_paths = [], []
         pv_out.update(estimated=False, build_s=t_pv, edges=pv.n_edges, query=summary(times))
     out["pyvisgraph"] = pv_out
 
@@ -163,9 +168,15 @@ def run_single(n: int, opts: Options, pv_history: list[tuple[int, float]], log) 
     # grid A*
     grid = R.GridAstarRef(region, opts.grid_cell_mm)
     _, t_grid = timed(grid.build)
-    times, grid_len = [], []
+    times, grid_len, grid_fail = [], [], 0
     for s, t in pairs:
-        path, dt = timed(lambda: grid.query(s, t))
+        try:
+            path, dt = timed(lambda: grid.query(s, t))
+        except nx.NetworkXNoPath:
+            # a passage narrower than the grid resolution: the grid finds no route at all
+            grid_fail += 1
+            grid_len.append(None)
+            continue
         times.append(dt)
         grid_len.append(R.path_length(path))
     _, grid_peak = peak_memory(lambda: R.GridAstarRef(region, opts.grid_cell_mm).build())
@@ -176,6 +187,7 @@ def run_single(n: int, opts: Options, pv_history: list[tuple[int, float]], log) 
         "build_s": t_grid,
         "build_peak_bytes": grid_peak,
         "query": summary(times),
+        "no_path": grid_fail,
     }
 
     # optimum per pair: shortest valid exact answer among pyvisgraph, naive, garnav
@@ -211,7 +223,7 @@ def run_single(n: int, opts: Options, pv_history: list[tuple[int, float]], log) 
         out["pyvisgraph"]["rel_diff_to_naive_max"] = max(pv_vs_nv)
     ok = [k for k in range(len(pairs)) if opt[k]]
     if ok:
-        ratios = [grid_len[k] / opt[k] for k in ok]
+        ratios = [grid_len[k] / opt[k] for k in ok if grid_len[k] is not None]
         out["grid_astar"]["length_ratio"] = summary(ratios)
         if pv_len:
             out["pyvisgraph"]["length_ratio_max"] = max(pv_len[k] / opt[k] for k in ok)
