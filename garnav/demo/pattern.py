@@ -202,7 +202,19 @@ def _line(p0, p1, n: int) -> np.ndarray:
 
 
 def _pts(arr: np.ndarray) -> tuple[tuple[float, float], ...]:
-    return tuple((float(x), float(y)) for x, y in np.asarray(arr))
+    """Points as float tuples rounded to 0.1 µm (keeps the spec file short and stable)."""
+    return tuple((round(float(x), 4) + 0.0, round(float(y), 4) + 0.0) for x, y in np.asarray(arr))
+
+
+def _chain(edges: tuple[Edge, ...]) -> tuple[Edge, ...]:
+    """Round every edge's points and make each edge start exactly where the previous one ends."""
+    out = []
+    for k, e in enumerate(edges):
+        pts = list(_pts(e.points))
+        prev = edges[k - 1]
+        pts[0] = _pts([prev.points[-1]])[0]
+        out.append(Edge(e.name, tuple(pts)))
+    return tuple(out)
 
 
 def _sleeve_cone(dims: DemoDimensions, side: str) -> Cone:
@@ -391,7 +403,7 @@ def build_design(dims: DemoDimensions = DemoDimensions()) -> DemoDesign:
         lo, hi = pts.min(axis=0), pts.max(axis=0)
         placement = Placement(float(round(cursor - lo[0], 3)), float(round(margin - lo[1], 3)), 0.0)
         openings = (Opening("neckline", _pts(neck)),) if name == "yoke" else ()
-        pieces.append(Piece(name, edge_sets[name], openings, placement))
+        pieces.append(Piece(name, _chain(edge_sets[name]), openings, placement))
         cursor += hi[0] - lo[0] + dims.sheet_gap
         top = max(top, hi[1] - lo[1])
     sheet = (float(math.ceil(cursor - dims.sheet_gap + margin)), float(math.ceil(top + 2 * margin)))
@@ -423,7 +435,7 @@ def build_design(dims: DemoDimensions = DemoDimensions()) -> DemoDesign:
                           f"sleeve_{side}", "underarm_back", 8.0, 20.0))
 
     # --- keep-outs ------------------------------------------------------------------------------
-    mid = width / 2.0
+    mid = round(width / 2.0, 3)
     keepouts = (
         KeepOut("chest_pocket", "front", "pocket", Rectangle(mid - 100.0, 400.0, 100.0, 120.0), 5.0),
         KeepOut("placket", "front", "zip", Rectangle(mid, height - 150.0, 30.0, 300.0), 3.0),
