@@ -254,3 +254,22 @@ def test_demo_garment_matches_design():
         "armhole_left_front", "armhole_left_back", "armhole_right_front", "armhole_right_back",
         "yoke_front", "yoke_back", "underarm_left", "underarm_right",
     }
+
+
+def test_mirrored_build_keeps_every_property():
+    # left_x_sign = −1 puts the wearer's left at −x (for a right-handed reading of the frame)
+    from garnav.demo.pattern import DemoDimensions
+
+    mirrored = build_design(DemoDimensions(left_x_sign=-1.0))
+    garment = mirrored.garment
+    assert _free_space_problems(garment) == []
+    mesh = build_drape(mirrored)
+    left = mesh.face_piece == mesh.piece_names.index("sleeve_left")
+    assert np.all(mesh.vertices[np.unique(mesh.faces[left])][:, 0] < 0)
+    tri = mesh.vertices[mesh.faces]
+    normals = np.cross(tri[:, 1] - tri[:, 0], tri[:, 2] - tri[:, 0])
+    centres = mesh.pattern[mesh.face_uv].mean(axis=1)
+    for index, name in enumerate(mesh.piece_names):
+        sel = mesh.face_piece == index
+        assert np.all(np.sum(normals[sel] * mirrored.maps[name].normal(centres[sel]), axis=1) > 0)
+    assert trimesh.Trimesh(mesh.vertices, mesh.faces, process=False).euler_number == -2

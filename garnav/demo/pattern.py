@@ -14,8 +14,10 @@ same world points (the mesh builder shares vertices there).
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from collections.abc import Mapping
+from dataclasses import dataclass
 from functools import lru_cache
+from types import MappingProxyType
 
 import numpy as np
 
@@ -67,6 +69,11 @@ class DemoDimensions:
     torso_step: float = 12.0  # boundary sampling of straight torso edges (mesh size)
     sleeve_step: float = 7.0  # boundary sampling of straight sleeve edges (mesh size)
     sheet_gap: float = 20.0  # gap between pieces on the sheet
+    left_x_sign: float = 1.0  # +1: the wearer's left is at +x (the project's world frame); −1 mirrors
+
+    def x_sign(self, side: str) -> float:
+        """+1 or −1: the sign of x on the wearer's ``side`` ("left" or "right")."""
+        return self.left_x_sign if side == "left" else -self.left_x_sign
 
 
 class TorsoPieceMap:
@@ -185,10 +192,10 @@ class DemoDesign:
     garment: Garment
     dims: DemoDimensions
     torso: EllipticCylinder
-    cones: dict = field(default_factory=dict)
-    maps: dict = field(default_factory=dict)
-    samples: dict = field(default_factory=dict)
-    opening_samples: dict = field(default_factory=dict)
+    cones: Mapping[str, Cone]
+    maps: Mapping[str, PieceMap]
+    samples: Mapping[tuple[str, str], np.ndarray]
+    opening_samples: Mapping[tuple[str, str], np.ndarray]
 
 
 def _count(length: float, step: float) -> int:
@@ -219,7 +226,7 @@ def _chain(edges: tuple[Edge, ...]) -> tuple[Edge, ...]:
 
 def _sleeve_cone(dims: DemoDimensions, side: str) -> Cone:
     """The cone of one sleeve; its axis crosses the torso's side line at (±a, 0, z_joint)."""
-    sgn = 1.0 if side == "left" else -1.0
+    sgn = dims.x_sign(side)
     alpha = math.radians(dims.arm_drop_deg)
     d = np.array([sgn * math.cos(alpha), 0.0, -math.sin(alpha)])
     e1 = np.array([sgn * math.sin(alpha), 0.0, math.cos(alpha)])  # the top generator's side
@@ -335,8 +342,10 @@ def build_design(dims: DemoDimensions = DemoDimensions()) -> DemoDesign:
         # torso sides of the same armhole: the same world points, developed on the cylinder
         front_pts = p_neg if neg_is_front else p_pos  # top → bottom
         back_pts = p_pos if neg_is_front else p_neg
-        world[("front", f"armhole_{side}")] = front_pts if side == "left" else front_pts[::-1]
-        world[("back", f"armhole_{side}")] = back_pts[::-1] if side == "left" else back_pts
+        # on the front, u = 0 is the +x side (edges there run downwards); on the back, u = width
+        plus_x = dims.x_sign(side) > 0
+        world[("front", f"armhole_{side}")] = front_pts if plus_x else front_pts[::-1]
+        world[("back", f"armhole_{side}")] = back_pts[::-1] if plus_x else back_pts
         for piece in ("front", "back"):
             key = (piece, f"armhole_{side}")
             samples[key] = maps[piece].to_pattern(world[key])
@@ -346,7 +355,11 @@ def build_design(dims: DemoDimensions = DemoDimensions()) -> DemoDesign:
     # --- torso halves ---------------------------------------------------------------------------
     def torso_edges(piece: str) -> tuple[Edge, ...]:
         # (edge, start, end) counter-clockwise; front: u = 0 is the left side, back: the right side
-        first, second = ("right", "left") if piece == "front" else ("left", "right")
+        # ``first`` is the side at u = width (its edges rise), ``second`` the one at u = 0;
+        # the front's u = width lies at x = −a, the back's at x = +a
+        minus_x = "right" if dims.left_x_sign > 0 else "left"
+        plus_x = "left" if dims.left_x_sign > 0 else "right"
+        first, second = (minus_x, plus_x) if piece == "front" else (plus_x, minus_x)
         lo2, hi2 = armhole_z[first]  # the side at u = width, rising
         lo1, hi1 = armhole_z[second]  # the side at u = 0, falling
         zb = dims.hem_z
@@ -436,8 +449,9 @@ def build_design(dims: DemoDimensions = DemoDimensions()) -> DemoDesign:
 
     # --- keep-outs ------------------------------------------------------------------------------
     mid = round(width / 2.0, 3)
+    towards_left = -dims.left_x_sign  # on the front, u grows towards −x
     keepouts = (
-        KeepOut("chest_pocket", "front", "pocket", Rectangle(mid - 100.0, 400.0, 100.0, 120.0), 5.0),
+        KeepOut("chest_pocket", "front", "pocket", Rectangle(mid + towards_left * 100.0, 400.0, 100.0, 120.0), 5.0),
         KeepOut("placket", "front", "zip", Rectangle(mid, height - 150.0, 30.0, 300.0), 3.0),
         KeepOut("neck_label", "back", "label", Rectangle(mid, height - 25.0, 50.0, 25.0), 3.0),
         KeepOut("back_print", "back", "print", Circle(mid, 380.0, 70.0), 0.0, hard=False,
@@ -449,13 +463,13 @@ def build_design(dims: DemoDimensions = DemoDimensions()) -> DemoDesign:
     landmarks = [
         Landmark("suprasternale", "yoke", a, b + dims.neck_centre_y + dims.neck_half_depth + 35.0,
                  description="jugular notch, front of the neck base"),
-        Landmark("sternum_left", "front", mid - 60.0, height - 60.0,
+        Landmark("sternum_left", "front", mid + towards_left * 60.0, height - 60.0,
                  description="left chest beside the placket, above the pocket"),
         Landmark("omphalion", "front", mid, 230.0, description="navel, front centre"),
         Landmark("dock", "back", mid + 90.0, 120.0, description="parking spot beside the charging dock"),
     ]
-    for side, sgn in (("left", 1.0), ("right", -1.0)):
-        landmarks.append(Landmark(f"acromion_{side}", "yoke", a + sgn * (a - 30.0), b,
+    for side in ("left", "right"):
+        landmarks.append(Landmark(f"acromion_{side}", "yoke", a + dims.x_sign(side) * (a - 30.0), b,
                                   description="shoulder tip, top of the shoulder"))
     for side in ("left", "right"):
         cone, smap = cones[side], maps[f"sleeve_{side}"]
@@ -489,10 +503,18 @@ def build_design(dims: DemoDimensions = DemoDimensions()) -> DemoDesign:
             "flat yoke, truncated-cone sleeves in an A-pose)."
         ),
     )
-    opening_samples = {("yoke", "neckline"): neck}
+    neck.flags.writeable = False
     for arr in samples.values():
         arr.flags.writeable = False
-    return DemoDesign(garment, dims, cyl, cones, maps, samples, opening_samples)
+    return DemoDesign(
+        garment,
+        dims,
+        cyl,
+        MappingProxyType(cones),
+        MappingProxyType(maps),
+        MappingProxyType(samples),
+        MappingProxyType({("yoke", "neckline"): neck}),
+    )
 
 
 def _edge_world(maps, samples, piece: str, edge: str) -> np.ndarray:
