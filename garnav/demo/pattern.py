@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from functools import lru_cache
 from types import MappingProxyType
 
@@ -247,186 +247,177 @@ def _armhole_phis(cone: Cone, cyl: EllipticCylinder, phi_end: float, step: float
     return np.interp(np.linspace(0.0, cum[-1], n + 1), cum, fine)
 
 
-@lru_cache(maxsize=4)
-def build_design(dims: DemoDimensions = DemoDimensions()) -> DemoDesign:
-    """Build the demo garment and its exact geometry from the dimensions (pure, deterministic)."""
-    a, b = dims.half_width, dims.half_depth
-    cyl = EllipticCylinder(a, b, dims.hem_z, dims.shoulder_z)
-    height = dims.shoulder_z - dims.hem_z
-    width = cyl.perimeter / 2.0
-    maps: dict[str, PieceMap] = {
-        "front": TorsoPieceMap(cyl, 0.0),
-        "back": TorsoPieceMap(cyl, math.pi),
-    }
-    samples: dict[tuple[str, str], np.ndarray] = {}
-    world: dict[tuple[str, str], np.ndarray] = {}  # world points of armhole samples
+@dataclass
+class _Parts:
+    """Work in progress while building: maps, edge samples and edges of every piece."""
 
-    # --- yoke: the shoulder plane between the torso ellipse and the neck hole -------------------
-    plane = HorizontalPlane(dims.shoulder_z)
-    yoke_map = YokePieceMap(plane, a, b)
-    maps["yoke"] = yoke_map
+    maps: dict = field(default_factory=dict)
+    samples: dict = field(default_factory=dict)
+    edges: dict = field(default_factory=dict)
+    cones: dict = field(default_factory=dict)
+    armhole_z: dict = field(default_factory=dict)  # side -> (bottom, top) height of the armhole
+
+
+def _yoke(dims: DemoDimensions, cyl: EllipticCylinder, parts: _Parts) -> np.ndarray:
+    """The flat yoke and the torso top edges it is sewn to; returns the neck ring (n, 2)."""
+    a, b = dims.half_width, dims.half_depth
+    width, height = cyl.perimeter / 2.0, dims.shoulder_z - dims.hem_z
+    yoke_map = YokePieceMap(HorizontalPlane(dims.shoulder_z), a, b)
+    parts.maps["yoke"] = yoke_map
     n_half = _count(width, dims.curve_step)
     s_front = np.linspace(0.0, width, n_half + 1)
     theta_front = cyl.theta_at(s_front)  # 0 .. π, equal arc steps
     theta_back = cyl.theta_at(s_front + width)  # π .. 2π
     yoke_front = yoke_map.to_pattern(cyl.point(theta_front, dims.shoulder_z))
     yoke_back = yoke_map.to_pattern(cyl.point(theta_back, dims.shoulder_z))
-    samples[("yoke", "front")] = yoke_front
-    samples[("yoke", "back")] = yoke_back
-    # torso top edges run from u = width to 0 (counter-clockwise on the piece)
-    samples[("front", "yoke")] = np.stack([s_front[::-1], np.full(n_half + 1, height)], -1)
-    samples[("back", "yoke")] = samples[("front", "yoke")].copy()
-    n_neck = _count(
-        math.pi * (dims.neck_half_width + dims.neck_half_depth), dims.curve_step
-    )
+    parts.samples[("yoke", "front")] = yoke_front
+    parts.samples[("yoke", "back")] = yoke_back
+    parts.edges["yoke"] = (Edge("front", _pts(yoke_front)), Edge("back", _pts(yoke_back)))
+    # torso top edges run from u = width to 0 (counter-clockwise on the piece): the same points
+    top = np.stack([s_front[::-1], np.full(n_half + 1, height)], -1)
+    parts.samples[("front", "yoke")] = top
+    parts.samples[("back", "yoke")] = top.copy()
+    # sample count only: the rough perimeter π(p + q) is enough to pick a step
+    n_neck = _count(math.pi * (dims.neck_half_width + dims.neck_half_depth), dims.curve_step)
     t = np.linspace(0.0, 2 * math.pi, n_neck, endpoint=False)
-    neck = np.stack(
+    return np.stack(
         [a + dims.neck_half_width * np.cos(t), b + dims.neck_centre_y + dims.neck_half_depth * np.sin(t)],
         -1,
     )
 
-    # --- sleeves and armholes ---------------------------------------------------------------------
-    cones = {}
-    sleeve_edges: dict[str, tuple[Edge, ...]] = {}
-    armhole_z: dict[str, tuple[float, float]] = {}  # (bottom, top) heights of each armhole
-    for side in ("left", "right"):
-        cone = _sleeve_cone(dims, side)
-        cones[side] = cone
-        # which half (φ < 0 or φ > 0) lies in front (y > 0)?
-        neg_is_front = float(cone.outward_normal(np.array([-math.pi / 2]))[0, 1]) > 0
-        phi_neg = _armhole_phis(cone, cyl, -math.pi, dims.curve_step)  # 0 .. −π
-        phi_pos = _armhole_phis(cone, cyl, math.pi, dims.curve_step)  # 0 .. +π
-        rho_neg = cone_cylinder_intersection(cone, cyl, phi_neg)
-        rho_pos = cone_cylinder_intersection(cone, cyl, phi_pos)
-        p_neg, p_pos = cone.point(rho_neg, phi_neg), cone.point(rho_pos, phi_pos)
-        top, bottom = p_neg[0], p_neg[-1]
-        armhole_z[side] = (float(bottom[2]), float(top[2]))
 
-        rho_w = dims.sleeve_radius_wrist / math.sin(cone.beta)
-        k = math.sin(cone.beta)
-        psi_max = math.pi * k
-        # place the development: apex at (x0, y0) so that the cuff corners sit at y = 0 and the
-        # widest point at x = 0
-        probe = SleevePieceMap(cone, 0.0, 0.0)
-        outline = np.vstack([probe.from_cone(rho_neg, phi_neg), probe.from_cone(rho_pos, phi_pos)])
-        x0 = float(-outline[:, 0].min())
-        y0 = float(-rho_w * math.cos(psi_max))
-        smap = SleevePieceMap(cone, x0, y0)
-        name = f"sleeve_{side}"
-        maps[name] = smap
+def _sleeve(dims: DemoDimensions, cyl: EllipticCylinder, side: str, parts: _Parts) -> None:
+    """One sleeve: the cone's development between the armhole curve and the wrist circle, cut
+    along the bottom generator; also the torso sides of its armhole (the same world points)."""
+    width = cyl.perimeter / 2.0
+    cone = _sleeve_cone(dims, side)
+    parts.cones[side] = cone
+    # which half (φ < 0 or φ > 0) lies in front (y > 0)?
+    neg_is_front = float(cone.outward_normal(np.array([-math.pi / 2]))[0, 1]) > 0
+    phi_neg = _armhole_phis(cone, cyl, -math.pi, dims.curve_step)  # 0 .. −π
+    phi_pos = _armhole_phis(cone, cyl, math.pi, dims.curve_step)  # 0 .. +π
+    rho_neg = cone_cylinder_intersection(cone, cyl, phi_neg)
+    rho_pos = cone_cylinder_intersection(cone, cyl, phi_pos)
+    p_neg, p_pos = cone.point(rho_neg, phi_neg), cone.point(rho_pos, phi_pos)
+    top, bottom = p_neg[0], p_neg[-1]
+    parts.armhole_z[side] = (float(bottom[2]), float(top[2]))
 
-        # counter-clockwise: cuff (φ from +π to −π), rising straight edge at φ = −π, armhole
-        # half φ −π → 0, armhole half 0 → +π, falling straight edge at φ = +π
-        n_cuff = _count(2 * math.pi * dims.sleeve_radius_wrist, dims.curve_step)
-        phi_cuff = np.linspace(math.pi, -math.pi, n_cuff + 1)
-        cuff = smap.from_cone(np.full(n_cuff + 1, rho_w), phi_cuff)
-        rho_bottom = float(rho_neg[-1])  # φ = ±π: the same generator
-        n_under = _count(rho_bottom - rho_w, dims.sleeve_step)
-        rho_line = np.linspace(rho_w, rho_bottom, n_under + 1)
-        rise = smap.from_cone(rho_line, np.full(n_under + 1, -math.pi))
-        fall = smap.from_cone(rho_line[::-1], np.full(n_under + 1, math.pi))
-        half_a = smap.from_cone(rho_neg[::-1], phi_neg[::-1])  # −π → 0
-        half_b = smap.from_cone(rho_pos, phi_pos)  # 0 → +π
-        a_name, b_name = ("front", "back") if neg_is_front else ("back", "front")
-        names = ("cuff", f"underarm_{a_name}", f"armhole_{a_name}", f"armhole_{b_name}",
-                 f"underarm_{b_name}")
-        arrays = (cuff, rise, half_a, half_b, fall)
-        for edge_name, arr in zip(names, arrays):
-            samples[(name, edge_name)] = arr
-        world[(name, f"armhole_{a_name}")] = p_neg[::-1]
-        world[(name, f"armhole_{b_name}")] = p_pos
-        curved = {"cuff", f"armhole_{a_name}", f"armhole_{b_name}"}
-        sleeve_edges[side] = tuple(
-            Edge(n, _pts(arr) if n in curved else _pts(arr[[0, -1]])) for n, arr in zip(names, arrays)
-        )
-        # torso sides of the same armhole: the same world points, developed on the cylinder
-        front_pts = p_neg if neg_is_front else p_pos  # top → bottom
-        back_pts = p_pos if neg_is_front else p_neg
-        # on the front, u = 0 is the +x side (edges there run downwards); on the back, u = width
-        plus_x = dims.x_sign(side) > 0
-        world[("front", f"armhole_{side}")] = front_pts if plus_x else front_pts[::-1]
-        world[("back", f"armhole_{side}")] = back_pts[::-1] if plus_x else back_pts
-        for piece in ("front", "back"):
-            key = (piece, f"armhole_{side}")
-            samples[key] = maps[piece].to_pattern(world[key])
-            # exact side-line values: u = 0 or width at the ends
-            samples[key][[0, -1], 0] = np.round(samples[key][[0, -1], 0] / width) * width
+    k = math.sin(cone.beta)
+    rho_w = dims.sleeve_radius_wrist / k
+    # place the development: apex at (x0, y0) so that the cuff corners sit at y = 0 and the
+    # widest point at x = 0
+    probe = SleevePieceMap(cone, 0.0, 0.0)
+    outline = np.vstack([probe.from_cone(rho_neg, phi_neg), probe.from_cone(rho_pos, phi_pos)])
+    smap = SleevePieceMap(cone, float(-outline[:, 0].min()), float(-rho_w * math.cos(math.pi * k)))
+    name = f"sleeve_{side}"
+    parts.maps[name] = smap
 
-    # --- torso halves ---------------------------------------------------------------------------
-    def torso_edges(piece: str) -> tuple[Edge, ...]:
-        # (edge, start, end) counter-clockwise; front: u = 0 is the left side, back: the right side
-        # ``first`` is the side at u = width (its edges rise), ``second`` the one at u = 0;
-        # the front's u = width lies at x = −a, the back's at x = +a
-        minus_x = "right" if dims.left_x_sign > 0 else "left"
-        plus_x = "left" if dims.left_x_sign > 0 else "right"
-        first, second = (minus_x, plus_x) if piece == "front" else (plus_x, minus_x)
-        lo2, hi2 = armhole_z[first]  # the side at u = width, rising
-        lo1, hi1 = armhole_z[second]  # the side at u = 0, falling
-        zb = dims.hem_z
-        spec = [
-            ("hem", (0.0, 0.0), (width, 0.0), dims.torso_step),
-            (f"side_{first}_lower", (width, 0.0), (width, lo2 - zb), dims.torso_step),
-            (f"armhole_{first}", None, None, None),
-            (f"side_{first}_upper", (width, hi2 - zb), (width, height), dims.curve_step),
-            ("yoke", None, None, None),
-            (f"side_{second}_upper", (0.0, height), (0.0, hi1 - zb), dims.curve_step),
-            (f"armhole_{second}", None, None, None),
-            (f"side_{second}_lower", (0.0, lo1 - zb), (0.0, 0.0), dims.torso_step),
-        ]
-        edges = []
-        for edge_name, p0, p1, step in spec:
-            key = (piece, edge_name)
-            if p0 is not None:
-                samples[key] = _line(p0, p1, _count(math.dist(p0, p1), step))
-                edges.append(Edge(edge_name, (p0, p1)))
-            elif edge_name == "yoke":
-                edges.append(Edge(edge_name, ((width, height), (0.0, height))))
-            else:
-                edges.append(Edge(edge_name, _pts(samples[key])))
-        return tuple(edges)
+    # counter-clockwise: cuff (φ from +π to −π), rising straight edge at φ = −π, armhole
+    # half φ −π → 0, armhole half 0 → +π, falling straight edge at φ = +π
+    n_cuff = _count(2 * math.pi * dims.sleeve_radius_wrist, dims.curve_step)
+    cuff = smap.from_cone(np.full(n_cuff + 1, rho_w), np.linspace(math.pi, -math.pi, n_cuff + 1))
+    rho_bottom = float(rho_neg[-1])  # φ = ±π: the same generator
+    n_under = _count(rho_bottom - rho_w, dims.sleeve_step)
+    rho_line = np.linspace(rho_w, rho_bottom, n_under + 1)
+    rise = smap.from_cone(rho_line, np.full(n_under + 1, -math.pi))
+    fall = smap.from_cone(rho_line[::-1], np.full(n_under + 1, math.pi))
+    half_a = smap.from_cone(rho_neg[::-1], phi_neg[::-1])  # −π → 0
+    half_b = smap.from_cone(rho_pos, phi_pos)  # 0 → +π
+    a_name, b_name = ("front", "back") if neg_is_front else ("back", "front")
+    names = ("cuff", f"underarm_{a_name}", f"armhole_{a_name}", f"armhole_{b_name}", f"underarm_{b_name}")
+    arrays = (cuff, rise, half_a, half_b, fall)
+    curved = {"cuff", f"armhole_{a_name}", f"armhole_{b_name}"}
+    for edge_name, arr in zip(names, arrays):
+        parts.samples[(name, edge_name)] = arr
+    parts.edges[name] = tuple(
+        Edge(n, _pts(arr) if n in curved else _pts(arr[[0, -1]])) for n, arr in zip(names, arrays)
+    )
+    # torso sides of the same armhole: the same world points, developed on the cylinder
+    front_pts = p_neg if neg_is_front else p_pos  # top → bottom
+    back_pts = p_pos if neg_is_front else p_neg
+    # on the front, u = 0 is the +x side (edges there run downwards); on the back, u = width
+    plus_x = dims.x_sign(side) > 0
+    world = {
+        "front": front_pts if plus_x else front_pts[::-1],
+        "back": back_pts[::-1] if plus_x else back_pts,
+    }
+    for piece, pts in world.items():
+        uv = parts.maps[piece].to_pattern(pts)
+        uv[[0, -1], 0] = np.round(uv[[0, -1], 0] / width) * width  # exactly on the side line
+        parts.samples[(piece, f"armhole_{side}")] = uv
 
-    front_edges = torso_edges("front")
-    back_edges = torso_edges("back")
-    # the straight side seams: both runs sampled at the same heights
+
+def _torso(dims: DemoDimensions, cyl: EllipticCylinder, piece: str, parts: _Parts) -> None:
+    """Edges of a torso half, counter-clockwise from the hem (armholes and top already sampled)."""
+    width, height = cyl.perimeter / 2.0, dims.shoulder_z - dims.hem_z
+    # ``first`` is the side at u = width (its edges rise), ``second`` the one at u = 0;
+    # the front's u = width lies at x = −a, the back's at x = +a
+    minus_x = "right" if dims.left_x_sign > 0 else "left"
+    plus_x = "left" if dims.left_x_sign > 0 else "right"
+    first, second = (minus_x, plus_x) if piece == "front" else (plus_x, minus_x)
+    lo2, hi2 = (z - dims.hem_z for z in parts.armhole_z[first])
+    lo1, hi1 = (z - dims.hem_z for z in parts.armhole_z[second])
+    layout = [
+        ("hem", (0.0, 0.0), (width, 0.0), dims.torso_step),
+        (f"side_{first}_lower", (width, 0.0), (width, lo2), dims.torso_step),
+        (f"armhole_{first}", None, None, None),
+        (f"side_{first}_upper", (width, hi2), (width, height), dims.curve_step),
+        ("yoke", (width, height), (0.0, height), None),
+        (f"side_{second}_upper", (0.0, height), (0.0, hi1), dims.curve_step),
+        (f"armhole_{second}", None, None, None),
+        (f"side_{second}_lower", (0.0, lo1), (0.0, 0.0), dims.torso_step),
+    ]
+    edges = []
+    for edge_name, p0, p1, step in layout:
+        key = (piece, edge_name)
+        if p0 is None:
+            edges.append(Edge(edge_name, _pts(parts.samples[key])))
+            continue
+        if step is not None:
+            parts.samples[key] = _line(p0, p1, _count(math.dist(p0, p1), step))
+        edges.append(Edge(edge_name, (p0, p1)))
+    parts.edges[piece] = tuple(edges)
+
+
+def _match_side_seams(parts: _Parts) -> None:
+    """Sample both runs of every straight side seam at the same heights."""
     for side in ("left", "right"):
         for part in ("lower", "upper"):
-            key_f, key_b = ("front", f"side_{side}_{part}"), ("back", f"side_{side}_{part}")
-            n = max(len(samples[key_f]), len(samples[key_b])) - 1
-            for key, edge in ((key_f, front_edges), (key_b, back_edges)):
-                e = next(x for x in edge if x.name == key[1])
-                samples[key] = _line(e.points[0], e.points[-1], n)
+            keys = (("front", f"side_{side}_{part}"), ("back", f"side_{side}_{part}"))
+            n = max(len(parts.samples[k]) for k in keys) - 1
+            for piece, edge_name in keys:
+                e = next(x for x in parts.edges[piece] if x.name == edge_name)
+                parts.samples[(piece, edge_name)] = _line(e.points[0], e.points[-1], n)
 
-    yoke_piece_edges = (Edge("front", _pts(yoke_front)), Edge("back", _pts(yoke_back)))
 
-    # --- placement on the sheet ----------------------------------------------------------------
-    order = ("front", "back", "sleeve_left", "sleeve_right", "yoke")
-    edge_sets = {
-        "front": front_edges,
-        "back": back_edges,
-        "sleeve_left": sleeve_edges["left"],
-        "sleeve_right": sleeve_edges["right"],
-        "yoke": yoke_piece_edges,
-    }
+def _layout(dims: DemoDimensions, parts: _Parts, neck: np.ndarray):
+    """Pieces placed in one row on the sheet, without overlap; returns (pieces, sheet size)."""
     margin = 10.0
     cursor = margin
     pieces = []
-    top = 0.0
-    for name in order:
-        pts = np.vstack([samples[(name, e.name)] for e in edge_sets[name]])
+    tallest = 0.0
+    for name in ("front", "back", "sleeve_left", "sleeve_right", "yoke"):
+        pts = np.vstack([parts.samples[(name, e.name)] for e in parts.edges[name]])
         lo, hi = pts.min(axis=0), pts.max(axis=0)
         placement = Placement(float(round(cursor - lo[0], 3)), float(round(margin - lo[1], 3)), 0.0)
         openings = (Opening("neckline", _pts(neck)),) if name == "yoke" else ()
-        pieces.append(Piece(name, _chain(edge_sets[name]), openings, placement))
+        pieces.append(Piece(name, _chain(parts.edges[name]), openings, placement))
         cursor += hi[0] - lo[0] + dims.sheet_gap
-        top = max(top, hi[1] - lo[1])
-    sheet = (float(math.ceil(cursor - dims.sheet_gap + margin)), float(math.ceil(top + 2 * margin)))
+        tallest = max(tallest, hi[1] - lo[1])
+    sheet = (float(math.ceil(cursor - dims.sheet_gap + margin)), float(math.ceil(tallest + 2 * margin)))
+    return tuple(pieces), sheet
 
-    # --- seams ----------------------------------------------------------------------------------
-    # Crossing costs and angles: common practice, no source (a flat-felled or overlocked seam is a
-    # ridge of a few mm that small wheels take best square on).
+
+def _seams(parts: _Parts) -> tuple[Seam, ...]:
+    """The twelve seams; run b's direction is chosen so that both runs start at the same point.
+
+    Crossing costs and angles: common practice, no source (a flat-felled or overlocked seam is a
+    ridge of a few mm that small wheels take best square on).
+    """
+
     def seam(name, pa, ea, pb, eb, cost, angle):
-        wa = _edge_world(maps, samples, pa, ea)
-        wb = _edge_world(maps, samples, pb, eb)
+        wa = _edge_world(parts.maps, parts.samples, pa, ea)
+        wb = _edge_world(parts.maps, parts.samples, pb, eb)
         reverse = bool(np.linalg.norm(wa[0] - wb[0]) > np.linalg.norm(wa[0] - wb[-1]))
         return Seam(name, SeamRun(pa, ea), SeamRun(pb, eb, reverse=reverse), True, cost, angle)
 
@@ -437,29 +428,36 @@ def build_design(dims: DemoDimensions = DemoDimensions()) -> DemoDesign:
             seams.append(seam(e, "front", e, "back", e, 8.0, 20.0))
     for side in ("left", "right"):
         for half in ("front", "back"):
-            seams.append(
-                seam(f"armhole_{side}_{half}", half, f"armhole_{side}", f"sleeve_{side}",
-                     f"armhole_{half}", 12.0, 30.0)
-            )
+            seams.append(seam(f"armhole_{side}_{half}", half, f"armhole_{side}", f"sleeve_{side}",
+                              f"armhole_{half}", 12.0, 30.0))
     seams.append(seam("yoke_front", "front", "yoke", "yoke", "front", 10.0, 30.0))
     seams.append(seam("yoke_back", "back", "yoke", "yoke", "back", 10.0, 30.0))
     for side in ("left", "right"):
         seams.append(seam(f"underarm_{side}", f"sleeve_{side}", "underarm_front",
                           f"sleeve_{side}", "underarm_back", 8.0, 20.0))
+    return tuple(seams)
 
-    # --- keep-outs ------------------------------------------------------------------------------
+
+def _keepouts(dims: DemoDimensions, width: float) -> tuple[KeepOut, ...]:
+    height = dims.shoulder_z - dims.hem_z
     mid = round(width / 2.0, 3)
     towards_left = -dims.left_x_sign  # on the front, u grows towards −x
-    keepouts = (
-        KeepOut("chest_pocket", "front", "pocket", Rectangle(mid + towards_left * 100.0, 400.0, 100.0, 120.0), 5.0),
-        KeepOut("placket", "front", "zip", Rectangle(mid, height - 150.0, 30.0, 300.0), 3.0),
+    return (
+        KeepOut("chest_pocket", "front", "pocket",
+                Rectangle(mid + towards_left * 100.0, 400.0, 100.0, 120.0), 5.0),
+        KeepOut("placket", "front", "buttonhole", Rectangle(mid, height - 150.0, 30.0, 300.0), 3.0),
         KeepOut("neck_label", "back", "label", Rectangle(mid, height - 25.0, 50.0, 25.0), 3.0),
         KeepOut("back_print", "back", "print", Circle(mid, 380.0, 70.0), 0.0, hard=False,
                 cost_factor=3.0),
         KeepOut("charging_dock", "back", "dock", Rectangle(mid, 120.0, 80.0, 50.0), 5.0),
     )
 
-    # --- landmarks ------------------------------------------------------------------------------
+
+def _landmarks(dims: DemoDimensions, width: float, parts: _Parts) -> tuple[Landmark, ...]:
+    a, b = dims.half_width, dims.half_depth
+    height = dims.shoulder_z - dims.hem_z
+    mid = round(width / 2.0, 3)
+    towards_left = -dims.left_x_sign
     landmarks = [
         Landmark("suprasternale", "yoke", a, b + dims.neck_centre_y + dims.neck_half_depth + 35.0,
                  description="jugular notch, front of the neck base"),
@@ -472,26 +470,56 @@ def build_design(dims: DemoDimensions = DemoDimensions()) -> DemoDesign:
         landmarks.append(Landmark(f"acromion_{side}", "yoke", a + dims.x_sign(side) * (a - 30.0), b,
                                   description="shoulder tip, top of the shoulder"))
     for side in ("left", "right"):
-        cone, smap = cones[side], maps[f"sleeve_{side}"]
+        cone, smap = parts.cones[side], parts.maps[f"sleeve_{side}"]
         rho_w = dims.sleeve_radius_wrist / math.sin(cone.beta)
         wrist = smap.from_cone(np.array([rho_w + 40.0]), np.array([0.0]))[0]
         landmarks.append(Landmark(f"wrist_{side}", f"sleeve_{side}", round(float(wrist[0]), 3),
                                   round(float(wrist[1]), 3), description="back of the wrist"))
-        back_phi = math.pi / 2 if float(cone.outward_normal(np.array([math.pi / 2]))[0, 1]) < 0 else -math.pi / 2
+        back_is_pos = float(cone.outward_normal(np.array([math.pi / 2]))[0, 1]) < 0
+        back_phi = math.pi / 2 if back_is_pos else -math.pi / 2
         elbow = smap.from_cone(np.array([rho_w + dims.sleeve_length / 2.0]), np.array([back_phi]))[0]
         landmarks.append(Landmark(f"olecranon_{side}", f"sleeve_{side}", round(float(elbow[0]), 3),
-                                  round(float(elbow[1]), 3), description="point of the elbow, back of the arm"))
+                                  round(float(elbow[1]), 3),
+                                  description="point of the elbow, back of the arm"))
     landmarks.append(
-        Landmark("cervicale", xyz=(0.0, -88.0, dims.shoulder_z - 3.0),
+        Landmark("cervicale", xyz=(0.0, dims.neck_centre_y - dims.neck_half_depth - 38.0, dims.shoulder_z - 3.0),
                  description="seventh cervical vertebra, back of the neck base (on the body)")
     )
+    return tuple(landmarks)
 
+
+@lru_cache(maxsize=4)
+def build_design(dims: DemoDimensions = DemoDimensions()) -> DemoDesign:
+    """Build the demo garment and its exact geometry from the dimensions (pure, deterministic).
+
+    Parameters
+    ----------
+    dims : DemoDimensions
+        Sizes in mm and degrees.
+
+    Returns
+    -------
+    DemoDesign
+        The garment, the surfaces, every piece's exact map and the edge samples.
+    """
+    cyl = EllipticCylinder(dims.half_width, dims.half_depth, dims.hem_z, dims.shoulder_z)
+    width = cyl.perimeter / 2.0
+    parts = _Parts()
+    parts.maps["front"] = TorsoPieceMap(cyl, 0.0)
+    parts.maps["back"] = TorsoPieceMap(cyl, math.pi)
+    neck = _yoke(dims, cyl, parts)
+    for side in ("left", "right"):
+        _sleeve(dims, cyl, side, parts)
+    for piece in ("front", "back"):
+        _torso(dims, cyl, piece, parts)
+    _match_side_seams(parts)
+    pieces, sheet = _layout(dims, parts, neck)
     garment = Garment(
         name="sensing_top",
-        pieces=tuple(pieces),
-        seams=tuple(seams),
-        keepouts=keepouts,
-        landmarks=tuple(landmarks),
+        pieces=pieces,
+        seams=_seams(parts),
+        keepouts=_keepouts(dims, width),
+        landmarks=_landmarks(dims, width, parts),
         robot=Robot("demo_crawler", radius_mm=20.0, wheel_base_mm=30.0, speed_mm_s=25.0,
                     side="outside", edge_margin_mm=5.0),
         sheet_size_mm=sheet,
@@ -504,15 +532,15 @@ def build_design(dims: DemoDimensions = DemoDimensions()) -> DemoDesign:
         ),
     )
     neck.flags.writeable = False
-    for arr in samples.values():
+    for arr in parts.samples.values():
         arr.flags.writeable = False
     return DemoDesign(
         garment,
         dims,
         cyl,
-        MappingProxyType(cones),
-        MappingProxyType(maps),
-        MappingProxyType(samples),
+        MappingProxyType(parts.cones),
+        MappingProxyType(parts.maps),
+        MappingProxyType(parts.samples),
         MappingProxyType({("yoke", "neckline"): neck}),
     )
 
