@@ -273,3 +273,35 @@ def test_mirrored_build_keeps_every_property():
         sel = mesh.face_piece == index
         assert np.all(np.sum(normals[sel] * mirrored.maps[name].normal(centres[sel]), axis=1) > 0)
     assert trimesh.Trimesh(mesh.vertices, mesh.faces, process=False).euler_number == -2
+
+
+@pytest.mark.parametrize(
+    "piece, start, end",
+    [
+        ("front", (40.0, 100.0), (400.0, 250.0)),
+        ("back", (30.0, 60.0), (420.0, 330.0)),
+        ("sleeve_left", (150.0, 60.0), (210.0, 450.0)),
+        ("sleeve_right", (150.0, 60.0), (210.0, 450.0)),
+        ("yoke", (100.0, 200.0), (240.0, 200.0)),
+    ],
+)
+def test_geodesics_on_the_drape_are_pattern_straight_lines(drape, piece, start, end):
+    # Reference: potpourri3d's edge-flip geodesic solver (exact polyhedral geodesics). On an
+    # isometric drape the surface distance between two points of a piece whose pattern segment
+    # stays inside the piece is the pattern distance.
+    import potpourri3d as pp3d
+
+    index = drape.piece_names.index(piece)
+    corners = drape.face_uv[drape.face_piece == index]
+    faces = drape.faces[drape.face_piece == index]
+
+    def vertex_near(xy):
+        flat = np.linalg.norm(drape.pattern[corners] - np.asarray(xy), axis=-1)
+        f, c = np.unravel_index(np.argmin(flat), flat.shape)
+        return faces[f, c], drape.pattern[corners[f, c]]
+
+    (i, a), (j, b) = vertex_near(start), vertex_near(end)
+    solver = pp3d.EdgeFlipGeodesicSolver(drape.vertices, drape.faces)
+    path = solver.find_geodesic_path(i, j)
+    length = np.linalg.norm(np.diff(path, axis=0), axis=1).sum()
+    assert length == pytest.approx(np.linalg.norm(a - b), rel=0.005)
