@@ -53,7 +53,11 @@ class EllipticCylinder:
 
     @property
     def perimeter(self) -> float:
-        """Ellipse perimeter 4·a·E(m), mm."""
+        """Ellipse perimeter 4·a·E(m), mm.
+
+        >>> abs(EllipticCylinder(100.0, 100.0, 0.0, 1.0).perimeter - 2 * math.pi * 100.0) < 1e-9
+        True
+        """
         return 4.0 * self.a * float(ellipe(self.m))
 
     def arc_length(self, theta: np.ndarray | float) -> np.ndarray:

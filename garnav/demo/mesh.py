@@ -348,19 +348,21 @@ def build_body(design: DemoDesign, inset: float = 3.0, around: int = 96) -> Body
         rho_joint = dims.sleeve_radius_shoulder / k
         rhos = np.linspace(rho_wrist - 160.0, rho_joint + 40.0, 30)
         phis = np.linspace(-math.pi, math.pi, around, endpoint=False)
-        rows = []
-        for rho in rhos:
-            p = cone.point(np.full(around, rho), phis) - inset * cone.outward_normal(phis)
-            rows.append(p)
-        tube = np.concatenate(rows)
+        tube = np.concatenate(
+            [cone.point(np.full(around, rho), phis) - inset * cone.outward_normal(phis) for rho in rhos]
+        )
+        # rows run towards the body, columns counter-clockwise about d: flip to face outwards
         add(tube, _grid_faces(len(rhos), around, count)[:, [0, 2, 1]])
         outer = np.arange(around) + count - len(tube)
         inner = outer + (len(rhos) - 1) * around
-        axis_point = lambda rho: np.asarray(cone.apex) - math.cos(cone.beta) * rho * np.asarray(cone.d)
+        apex, axis = np.asarray(cone.apex), np.asarray(cone.d)
+        # the point on the axis level with slant distance ρ
+        hand_tip = apex - math.cos(cone.beta) * (rhos[0] - 20.0) * axis
+        body_end = apex - math.cos(cone.beta) * rhos[-1] * axis
         # φ increases counter-clockwise about d, so a fan around the hand end faces +d (outwards)
-        c, f = _fan(outer, axis_point(rhos[0] - 20.0), count, outward_ccw=True)
+        c, f = _fan(outer, hand_tip, count, outward_ccw=True)
         add(c, f)
-        c, f = _fan(inner, axis_point(rhos[-1]), count, outward_ccw=False)
+        c, f = _fan(inner, body_end, count, outward_ccw=False)
         add(c, f)
     return BodyMesh(np.vstack(verts), np.vstack(faces).astype(np.int64))
 

@@ -9,6 +9,13 @@ the pattern up to mesh chords, which gives exact check values.
 :func:`build_design` returns the :class:`~garnav.model.Garment` together with, for every piece,
 its exact pattern → world map and, for every edge, a dense sampling whose seam partners are the
 same world points (the mesh builder shares vertices there).
+
+Orientation: every piece map is orientation preserving in world coordinates,
+(∂X/∂x × ∂X/∂y) · n_out > 0 with the ordinary cross product, so mesh tools find outward normals and
+pattern turns keep their sign about the outward normal. Note that the world frame as stated
+(x towards the wearer's left, y forward, z up) is a left-handed triple: a viewer that assumes a
+right-handed frame shows the body mirrored. ``DemoDimensions(left_x_sign=-1.0)`` builds the mirror
+image (the wearer's left at −x) with every other property unchanged.
 """
 
 from __future__ import annotations
