@@ -127,6 +127,10 @@ def triangulate_piece(
     p0, p1, p2 = (points[simplices[:, i]] for i in range(3))
     cross = (p1[:, 0] - p0[:, 0]) * (p2[:, 1] - p0[:, 1]) - (p1[:, 1] - p0[:, 1]) * (p2[:, 0] - p0[:, 0])
     simplices = np.where((cross < 0)[:, None], simplices[:, [0, 2, 1]], simplices)
+    # canonical form, independent of the Delaunay library's output order: smallest index first
+    # (a rotation keeps the orientation), then rows sorted
+    shift = np.argmin(simplices, axis=1)
+    simplices = np.take_along_axis(simplices, (shift[:, None] + np.arange(3)) % 3, axis=1)
     simplices = simplices[np.lexsort(simplices.T[::-1])]
     # every boundary segment must be a triangle edge
     edges = set()
