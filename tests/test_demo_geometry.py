@@ -305,3 +305,51 @@ def test_geodesics_on_the_drape_are_pattern_straight_lines(drape, piece, start, 
     path = solver.find_geodesic_path(i, j)
     length = np.linalg.norm(np.diff(path, axis=0), axis=1).sum()
     assert length == pytest.approx(np.linalg.norm(a - b), rel=0.005)
+
+
+def test_piece_maps_are_exact_isometries(design):
+    # Identity between two computations: to_pattern ∘ to_world is the identity, and the Jacobian
+    # of to_world (central differences) has both singular values 1 (a local isometry).
+    rng = np.random.default_rng(7)
+    for piece in design.garment.pieces:
+        poly = piece.polygon
+        lo, hi = np.array(poly.bounds[:2]), np.array(poly.bounds[2:])
+        cand = lo + rng.random((400, 2)) * (hi - lo)
+        pts = cand[shapely.contains_xy(poly, cand[:, 0], cand[:, 1])][:50]
+        m = design.maps[piece.name]
+        assert np.abs(m.to_pattern(m.to_world(pts)) - pts).max() < 1e-7, piece.name
+        h = 1e-3
+        jac = np.stack(
+            [(m.to_world(pts + [h, 0]) - m.to_world(pts - [h, 0])) / (2 * h),
+             (m.to_world(pts + [0, h]) - m.to_world(pts - [0, h])) / (2 * h)], axis=-1
+        )
+        sv = np.linalg.svd(jac, compute_uv=False)
+        assert np.abs(sv - 1.0).max() < 1e-6, piece.name
+
+
+def test_ellipse_arc_length_inverse(design):
+    cyl = design.torso
+    s = np.linspace(-100.0, 2.5 * cyl.perimeter, 257)
+    assert np.abs(cyl.arc_length(cyl.theta_at(s)) - s).max() < 1e-9
+    # a quarter of the ellipse is a quarter of the perimeter (symmetry)
+    assert float(cyl.arc_length(math.pi / 2)) == pytest.approx(cyl.perimeter / 4, rel=1e-12)
+
+
+def test_body_is_closed_and_inside_the_garment(design, drape):
+    from garnav.demo.mesh import build_body
+
+    body = build_body(design)
+    mesh = trimesh.Trimesh(body.vertices, body.faces, process=False)
+    parts = mesh.split(only_watertight=False)
+    assert len(parts) == 5  # torso, neck, head, two arms
+    assert all(p.is_watertight and p.volume > 0 for p in parts)
+    sample = drape.vertices[::23]
+    _, distance, _ = trimesh.proximity.closest_point(mesh, sample)
+    assert distance.min() > 2.0
+
+
+def test_obj_has_one_group_per_piece():
+    text = (MESHES / DRAPE_NAME).read_text()
+    objects = [line[2:] for line in text.splitlines() if line.startswith("o ")]
+    groups = [line[2:] for line in text.splitlines() if line.startswith("g ")]
+    assert objects == groups == [p.name for p in demo_garment().pieces]

@@ -297,7 +297,16 @@ def _fan(ring: np.ndarray, centre: np.ndarray, offset: int, outward_ccw: bool) -
 def build_body(design: DemoDesign, inset: float = 3.0, around: int = 96) -> BodyMesh:
     """A mannequin made of the same surfaces, ``inset`` mm inside the garment, with neck, head and hands.
 
-    Parts overlap where they meet (the arms enter the torso); the mesh is for previews only.
+    Each part (torso, neck, head, two arms) is a closed, outward-wound surface; parts overlap
+    where they meet (the arms enter the torso), so the whole is for previews only.
+
+    Parameters
+    ----------
+    design : DemoDesign
+    inset : float
+        Distance (mm) of the body surfaces inside the garment's.
+    around : int
+        Vertices around each ring.
     """
     dims = design.dims
     verts: list[np.ndarray] = []
@@ -329,6 +338,12 @@ def build_body(design: DemoDesign, inset: float = 3.0, around: int = 96) -> Body
     ring = np.stack([na * np.cos(t), dims.neck_centre_y + nb * np.sin(t)], -1)
     tube = np.concatenate([np.column_stack([ring, np.full(around, z)]) for z in zn])
     add(tube, _grid_faces(len(zn), around, count))
+    bottom = np.arange(around) + count - len(tube)
+    top = bottom + (len(zn) - 1) * around
+    c, f = _fan(bottom, np.array([0.0, dims.neck_centre_y, zn[0]]), count, outward_ccw=False)
+    add(c, f)
+    c, f = _fan(top, np.array([0.0, dims.neck_centre_y, zn[-1]]), count, outward_ccw=True)
+    add(c, f)
     # head: an ellipsoid resting on the neck
     centre = np.array([0.0, dims.neck_centre_y + 10.0, dims.shoulder_z + 90.0 + 100.0])
     radii = np.array([75.0, 90.0, 110.0])
