@@ -33,7 +33,9 @@ class DemoFiles:
     triangles: int
 
 
-def build_demo(folder: str | os.PathLike, progress: Callable[[str], None] | None = None) -> DemoFiles:
+def build_demo(
+    folder: str | os.PathLike, progress: Callable[[str], None] | None = None
+) -> DemoFiles:
     """Build the demo garment and write its three files into ``folder`` (created if missing).
 
     Parameters

@@ -105,7 +105,7 @@ class EllipticCylinder:
 
 @dataclass(frozen=True)
 class Cone:
-    """A right circular cone: apex, unit axis ``d`` pointing from the body out to the apex, half-angle β.
+    """A right circular cone: apex, unit axis ``d`` (from the body out to the apex), half-angle β.
 
     Generators leave the apex in directions g(φ) = −cos β·d + sin β·(cos φ·e1 + sin φ·e2), where
     (e1, e2, d) is a right-handed orthonormal frame and φ = 0 is the generator towards ``e1``.
@@ -166,7 +166,7 @@ class HorizontalPlane:
 
 
 def cone_cylinder_intersection(cone: Cone, cyl: EllipticCylinder, phi: np.ndarray) -> np.ndarray:
-    """Slant distance ρ (n,) where each generator φ (n,) first meets the cylinder, coming from the apex.
+    """Slant distance ρ (n,) where each generator φ (n,) first meets the cylinder from the apex.
 
     Along a generator X = apex + ρ g, the cylinder's equation x²/a² + y²/b² = 1 is a quadratic
     A ρ² + B ρ + C = 0; the apex lies outside (C > 0) and the smaller positive root is where the

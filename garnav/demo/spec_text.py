@@ -60,11 +60,17 @@ def _interim_dumps(garment: Garment) -> str:
     for p in garment.pieces:
         entry: dict = {
             "name": p.name,
-            "placement": {"x": p.placement.x, "y": p.placement.y, "angle_deg": p.placement.angle_deg},
+            "placement": {
+                "x": p.placement.x,
+                "y": p.placement.y,
+                "angle_deg": p.placement.angle_deg,
+            },
             "edge": [{"name": e.name, "points": [list(pt) for pt in e.points]} for e in p.edges],
         }
         if p.openings:
-            entry["opening"] = [{"name": o.name, "points": [list(pt) for pt in o.points]} for o in p.openings]
+            entry["opening"] = [
+                {"name": o.name, "points": [list(pt) for pt in o.points]} for o in p.openings
+            ]
         doc["piece"].append(entry)
     doc["seam"] = [
         {
@@ -84,11 +90,17 @@ def _interim_dumps(garment: Garment) -> str:
         if isinstance(shape, Circle):
             entry.update(shape="circle", center=[shape.cx, shape.cy], radius=shape.radius)
         elif isinstance(shape, Rectangle):
-            entry.update(shape="rectangle", center=[shape.cx, shape.cy],
-                         size=[shape.width, shape.height], angle_deg=shape.angle_deg)
+            entry.update(
+                shape="rectangle",
+                center=[shape.cx, shape.cy],
+                size=[shape.width, shape.height],
+                angle_deg=shape.angle_deg,
+            )
         elif isinstance(shape, PolygonShape):
             entry.update(shape="polygon", points=[list(pt) for pt in shape.points])
-        entry.update(clearance_mm=float(k.clearance_mm), hard=k.hard, cost_factor=float(k.cost_factor))
+        entry.update(
+            clearance_mm=float(k.clearance_mm), hard=k.hard, cost_factor=float(k.cost_factor)
+        )
         keepouts.append(entry)
     doc["keepout"] = keepouts
     landmarks = []
