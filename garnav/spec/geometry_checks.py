@@ -58,6 +58,7 @@ def geometry_problems(
     source: str,
     broken_pieces: Iterable[str] = (),
     check_sheet: bool = True,
+    check_pieces: bool = True,
 ) -> list[Problem]:
     """:func:`garment_problems` with two reader options.
 
@@ -68,8 +69,10 @@ def geometry_problems(
         are not reported again.
     check_sheet : bool
         False when the sheet size itself was unreadable (already reported).
+    check_pieces : bool
+        False when a missing or malformed piece list was already reported.
     """
-    return _Checker(garment, source, set(broken_pieces), check_sheet).run()
+    return _Checker(garment, source, set(broken_pieces), check_sheet, check_pieces).run()
 
 
 def _fmt(v: float) -> str:
@@ -97,7 +100,10 @@ def _reason_place(reason: str) -> tuple[str, tuple[float, float] | None]:
 
 
 class _Checker:
-    def __init__(self, garment: Garment, source: str, broken: set[str], check_sheet: bool):
+    def __init__(
+        self, garment: Garment, source: str, broken: set[str], check_sheet: bool, check_pieces: bool
+    ):
+        self.check_pieces = check_pieces
         self.g = garment
         self.source = source
         self.broken = broken
@@ -136,7 +142,7 @@ class _Checker:
         if g.robot is not None:
             self.robot()
         self.duplicates("piece", (p.name for p in g.pieces))
-        if not g.pieces and not self.broken:
+        if not g.pieces and not self.broken and self.check_pieces:
             self.add("top level", "has no pieces; give at least one [[piece]]")
         for p in g.pieces:
             self.pieces.setdefault(p.name, p)
@@ -192,15 +198,20 @@ class _Checker:
             if gap > TOL_MM:
                 which = "the next edge" if i + 1 < n else "the first edge"
                 self.add(f"{item} edge '{e.name}'",
-                         f"ends at {_pt(end)} but {which} '{nxt.name}' starts at {_pt(start)}: "
-                         f"a gap of {gap:.3f} mm; edges must chain end to start",
-                         where=end)
+                         f"ends at {_pt(end)} but {which} '{nxt.name}' starts at {_pt(start)}, "
+                         f"a gap of {gap:.3f} mm",
+                         hint="each edge must start where the previous one ends")
                 sound = False
         if not sound:
             return None
         outline = p.outline
         if len(np.unique(np.round(outline, 9), axis=0)) < 3:
             self.add(item, "outline has fewer than 3 distinct corners; a piece needs an area")
+            return None
+        centred = outline - outline.mean(axis=0)
+        scale = max(float(np.abs(centred).max()), 1.0)
+        if np.linalg.matrix_rank(centred, tol=1e-9 * scale) < 2:
+            self.add(item, "has zero area: all outline points lie on one line")
             return None
         ring = shapely.Polygon(outline)
         reason = shapely.is_valid_reason(ring)

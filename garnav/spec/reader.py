@@ -271,6 +271,7 @@ class _Reader:
                 self.source,
                 broken_pieces=self.broken_pieces,
                 check_sheet=v["sheet_size_mm"] is not None,
+                check_pieces=v["piece"] is not None,
             )
         )
         if self.problems:
