@@ -425,7 +425,8 @@ class _Checker:
                          hint=did_you_mean(str(k.kind), KEEPOUT_KINDS))
             self.number("keepout", "clearance_mm", k.clearance_mm, item)
             self.number("keepout", "cost_factor", k.cost_factor, item)
-            geom = self.shape(k, item)
+            with np.errstate(over="ignore", invalid="ignore"):  # huge sizes: reported, not warned
+                geom = self.shape(k, item)
             piece = self.find_piece(k.piece, item)
             if geom is None or piece is None or k.piece not in self.polygons:
                 continue
