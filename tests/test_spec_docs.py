@@ -37,6 +37,27 @@ def test_doc_example_check_summary(tmp_path, capsys):
     assert "+10.0 (2.0%)" in out
 
 
+def test_doc_example_mesh_note(tmp_path, capsys):
+    path = tmp_path / "vest.toml"
+    path.write_text(_example(), encoding="utf-8")
+    main(["check", str(path)])
+    assert "two_panel_vest_drape.obj: NOT FOUND" in capsys.readouterr().out
+    (tmp_path / "two_panel_vest_drape.obj").write_text("v 0 0 0\n")
+    main(["check", str(path)])
+    assert "two_panel_vest_drape.obj: found" in capsys.readouterr().out
+
+
+def test_module_doctests():
+    import doctest
+
+    import garnav.spec.fields
+    import garnav.spec.writer
+
+    for module in (garnav.spec.fields, garnav.spec.writer):
+        result = doctest.testmod(module)
+        assert result.failed == 0 and result.attempted > 0
+
+
 def test_doc_lists_every_key():
     text = DOC.read_text(encoding="utf-8")
     for section, fields in SECTIONS.items():

@@ -109,7 +109,8 @@ def garment_summary(garment: Garment) -> tuple[Section, ...]:
                 _run_text(s.b),
                 _mm(eases[s.name].length_a),
                 _mm(eases[s.name].length_b),
-                f"{eases[s.name].ease_mm:+.1f} ({eases[s.name].ease_percent:.1f}%)",
+                f"{round(eases[s.name].ease_mm, 1) + 0.0:+.1f} "  # + 0.0 turns -0.0 into 0.0
+                f"({eases[s.name].ease_percent:.1f}%)",
                 "yes" if s.crossable else "no",
                 f"{s.crossing_cost_mm:g}",
                 f"{s.min_crossing_angle_deg:g}",
