@@ -25,7 +25,7 @@ from garnav import (
     SeamRun,
     SpecError,
 )
-from garnav.spec import dumps_garment, garment_problems, loads_garment
+from garnav.spec import check_garment, dumps_garment, garment_problems, loads_garment
 from garnav.spec.fields import range_problem
 
 
@@ -423,3 +423,12 @@ def test_reader_body_landmark_with_piece():
 def test_unnamed_items_are_numbered():
     text = GOOD + '\n[[seam]]\na = { piece = "left", edge = "top" }\nb = { piece = "right", edge = "top" }\n'
     assert any("seam #2: missing required key 'name'" in p for p in reader_problems(text))
+
+
+def test_check_garment_raises_with_all_problems(single_panel):
+    assert check_garment(single_panel) is single_panel
+    g = dataclasses.replace(single_panel, robot=Robot(radius_mm=0.0, speed_mm_s=-1.0))
+    with pytest.raises(SpecError) as info:
+        check_garment(g, "built.toml")
+    assert len(info.value.problems) == 2
+    assert str(info.value).startswith("2 problems found:")

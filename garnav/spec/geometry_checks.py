@@ -22,12 +22,12 @@ from typing import Iterable
 import numpy as np
 import shapely
 
-from garnav.errors import Problem, did_you_mean
+from garnav.errors import Problem, SpecError, did_you_mean
 from garnav.model import KEEPOUT_KINDS, Circle, Garment, KeepOut, Piece, PolygonShape, Rectangle
 from garnav.polyline import point_at_length
 from garnav.spec.fields import ROBOT_SIDES, range_problem
 
-__all__ = ["garment_problems", "geometry_problems", "TOL_MM"]
+__all__ = ["garment_problems", "check_garment", "geometry_problems", "TOL_MM"]
 
 TOL_MM = 1e-6
 """Distances below this (mm) count as zero: chained edge ends, run limits, overlaps."""
@@ -51,6 +51,15 @@ def garment_problems(garment: Garment, source: str = "<memory>") -> list["Proble
         Empty when the garment is sound.
     """
     return geometry_problems(garment, source)
+
+
+def check_garment(garment: Garment, source: str = "<memory>") -> Garment:
+    """Return ``garment`` unchanged when it is sound; raise :class:`SpecError` listing every
+    problem otherwise (for garments built in Python before they are planned on or saved)."""
+    problems = garment_problems(garment, source)
+    if problems:
+        raise SpecError(problems)
+    return garment
 
 
 def geometry_problems(
@@ -368,7 +377,7 @@ class _Checker:
                 if s1 > length + TOL_MM:
                     self.add(ritem, f"to_mm {s1:g} is past the end of edge '{run.edge}' "
                              f"(length {length:.1f} mm)",
-                             hint=f"leave to_mm out to run to the edge's end")
+                             hint="leave to_mm out to run to the edge's end")
                     continue
                 if s0 >= s1 - TOL_MM:
                     self.add(ritem, f"from_mm ({s0:g}) must be less than to_mm ({s1:g}); use "

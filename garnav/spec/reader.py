@@ -135,6 +135,17 @@ def _is_number(v: Any) -> bool:
     return isinstance(v, (int, float)) and not isinstance(v, bool)
 
 
+_SECTION_ORDER = ("file", "top level", "robot", "piece", "seam", "keepout", "landmark")
+
+
+def _section_rank(problem: Problem) -> int:
+    """Order problems as the sections of a file (a stable sort keeps the order within one)."""
+    head = problem.item.split(" ")[0]
+    if problem.item.startswith("top level"):
+        head = "top level"
+    return _SECTION_ORDER.index(head) if head in _SECTION_ORDER else len(_SECTION_ORDER)
+
+
 class _Invalid(Exception):
     """A value has the wrong type; carries the reason."""
 
@@ -275,7 +286,7 @@ class _Reader:
             )
         )
         if self.problems:
-            raise SpecError(self.problems)
+            raise SpecError(sorted(self.problems, key=_section_rank))
         return garment
 
     @staticmethod
