@@ -369,6 +369,8 @@ def test_reader_integers_are_numbers():
      "'placement' must be a table, found an integer (4)"),
     ("at = [150.0, 200.0]", "at = [150.0, 200.0, 0.0]", "'at' must be an array of 2 numbers"),
     ("reverse = true", 'reverse = "yes"', "'reverse' must be a boolean"),
+    ("radius_mm = 10.0", "radius_mm = 1" + "0" * 400, "found an integer too large for TOML"),
+    ("version = 1", "version = 1" + "0" * 30, "is not supported"),
     ('edge = "right", reverse = false', 'edge = "right", from_mm = "0", reverse = false',
      "run a: 'from_mm' must be a number"),
 ])

@@ -116,7 +116,7 @@ def _describe(value: Any) -> str:
     if isinstance(value, bool):
         return f"a boolean ({'true' if value else 'false'})"
     if isinstance(value, int):
-        return f"an integer ({value})"
+        return f"an integer ({value})" if abs(value) <= _MAX_INT else "an integer too large for TOML"
     if isinstance(value, float):
         return f"a number ({value})"
     if isinstance(value, str):
@@ -132,7 +132,13 @@ def _describe(value: Any) -> str:
 
 
 def _is_number(v: Any) -> bool:
-    return isinstance(v, (int, float)) and not isinstance(v, bool)
+    """A TOML integer or float, not a boolean, and small enough to be a float."""
+    if isinstance(v, bool) or not isinstance(v, (int, float)):
+        return False
+    return not isinstance(v, int) or abs(v) <= _MAX_INT
+
+
+_MAX_INT = 2**63 - 1  # TOML integers are 64-bit; tomllib accepts longer ones
 
 
 _SECTION_ORDER = ("file", "top level", "robot", "piece", "seam", "keepout", "landmark")
@@ -174,7 +180,7 @@ class _Reader:
                 raise _Invalid(f"must be {want}, found {_describe(value)}")
             return value
         if t == "int":
-            if isinstance(value, bool) or not isinstance(value, int):
+            if isinstance(value, bool) or not isinstance(value, int) or abs(value) > _MAX_INT:
                 raise _Invalid(f"must be {want}, found {_describe(value)}")
             return value
         if t == "float":
