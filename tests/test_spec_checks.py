@@ -331,6 +331,15 @@ def test_robot_problems(single_panel, changes, fragment):
     only(garment_problems(g), fragment)
 
 
+def test_huge_numbers_are_refused(single_panel):
+    piece = single_panel.pieces[0]
+    bad = dataclasses.replace(piece, edges=(Edge("bottom", ((0.0, 0.0), (1e300, 0.0))),)
+                              + piece.edges[1:])
+    only(garment_problems(with_piece(single_panel, bad)), "within ±1e7 mm")
+    g = dataclasses.replace(single_panel, robot=Robot(radius_mm=2e7))
+    only(garment_problems(g), "'radius_mm' is too large (2e+07)")
+
+
 def test_range_problem_table():
     assert range_problem("keepout", "cost_factor", 1.0) is None
     assert range_problem("seam", "min_crossing_angle_deg", 90.0) is None

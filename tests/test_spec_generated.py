@@ -132,7 +132,8 @@ DOC = Path(__file__).resolve().parent.parent / "docs" / "spec.md"
 EXAMPLE = re.search(r"```toml\n(.*?)```", DOC.read_text(encoding="utf-8"), re.S).group(1)
 LINES = EXAMPLE.splitlines()
 VALUES = ["0", "-1", '"x"', "true", "nan", "inf", "[]", "[1.0]", "[[1.0, 2.0]]", "{ a = 1 }",
-          "1e300", "[1, 2, 3]", '"front"', '"side_left"', "2000-01-01"]
+          "1e300", "[1, 2, 3]", '"front"', '"side_left"', "2000-01-01", "1" + "0" * 400,
+          "-0.0", "5e-324", '[["a", 1]]', "[[0.0, 0.0], [0.0, 0.0], [0.0, 0.0]]"]
 
 
 @settings(derandomize=True, max_examples=300, deadline=None)

@@ -33,7 +33,12 @@ __all__ = [
     "SHAPE_FIELDS",
     "ROBOT_SIDES",
     "range_problem",
+    "MAX_ABS",
 ]
+
+MAX_ABS = 1.0e7
+"""Largest magnitude of any number in a spec (mm, degrees, factors): 10 km. Larger values are
+refused so that sums and squares of coordinates stay far from float overflow."""
 
 FORMAT = "garnav-garment"
 VERSION = 1
@@ -231,6 +236,8 @@ def range_problem(section: str, key: str, value: float) -> str | None:
     v = float(value)
     if not math.isfinite(v):
         return f"must be a finite number, found {value}"
+    if abs(v) > MAX_ABS:
+        return f"is too large ({v:g}); numbers must lie within ±{MAX_ABS:g}"
     if f.low is not None and (v < f.low or (f.low_open and v <= f.low)):
         return f"must be {f.range_text()}, found {v:g}"
     if f.high is not None and v > f.high:

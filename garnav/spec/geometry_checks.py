@@ -14,7 +14,6 @@ missing pieces, outside their piece, or with both/neither of a pattern and a bod
 
 from __future__ import annotations
 
-import math
 import re
 from collections import Counter
 from typing import Iterable
@@ -25,7 +24,7 @@ import shapely
 from garnav.errors import Problem, SpecError, did_you_mean
 from garnav.model import KEEPOUT_KINDS, Circle, Garment, KeepOut, Piece, PolygonShape, Rectangle
 from garnav.polyline import point_at_length
-from garnav.spec.fields import ROBOT_SIDES, range_problem
+from garnav.spec.fields import MAX_ABS, ROBOT_SIDES, range_problem
 
 __all__ = ["garment_problems", "check_garment", "geometry_problems", "TOL_MM"]
 
@@ -93,8 +92,9 @@ def _pt(p) -> str:
 
 
 def _finite_points(points) -> bool:
+    """All coordinates finite and within ±MAX_ABS (mm)."""
     arr = np.asarray(points, dtype=float)
-    return bool(np.isfinite(arr).all())
+    return bool((np.abs(arr) <= MAX_ABS).all())  # False for nan and inf too
 
 
 _WHERE = re.compile(r"\[([-+0-9.eE]+|nan|inf) ([-+0-9.eE]+|nan|inf)\]")
@@ -192,7 +192,7 @@ class _Checker:
                          "an edge needs at least 2")
                 sound = False
             elif not _finite_points(e.points):
-                self.add(eitem, "has a point that is not a finite number (nan or inf)")
+                self.add(eitem, "has a point that is not a finite number within ±1e7 mm")
                 sound = False
             elif e.length <= TOL_MM:
                 self.add(eitem, "has zero length (all its points coincide)", where=e.points[0])
@@ -271,7 +271,7 @@ class _Checker:
                 sound = False
                 continue
             if not _finite_points(o.points):
-                self.add(oitem, "has a point that is not a finite number (nan or inf)")
+                self.add(oitem, "has a point that is not a finite number within ±1e7 mm")
                 sound = False
                 continue
             hole = shapely.Polygon(o.points)
@@ -313,8 +313,8 @@ class _Checker:
         placed: list[tuple[str, shapely.Geometry]] = []
         for name in sorted(self.polygons, key=[p.name for p in self.g.pieces].index):
             piece = self.pieces[name]
-            if not all(math.isfinite(v) for v in (piece.placement.x, piece.placement.y,
-                                                    piece.placement.angle_deg)):
+            if not _finite_points((piece.placement.x, piece.placement.y,
+                                   piece.placement.angle_deg)):
                 continue
             shell = piece.placement.to_sheet(piece.outline)
             sheet_poly = shapely.Polygon(shell, [piece.placement.to_sheet(o.array)
@@ -459,7 +459,7 @@ class _Checker:
                 self.add(item, f"polygon has {len(s.points)} points; it needs at least 3")
                 return None
             if not _finite_points(s.points):
-                self.add(item, "polygon has a point that is not a finite number (nan or inf)")
+                self.add(item, "polygon has a point that is not a finite number within ±1e7 mm")
                 return None
             poly = shapely.Polygon(s.points)
             reason = shapely.is_valid_reason(poly)
@@ -508,13 +508,13 @@ class _Checker:
                 continue
             if m.xyz is not None:
                 if len(m.xyz) != 3 or not _finite_points(m.xyz):
-                    self.add(item, f"xyz must be 3 finite numbers, found {m.xyz}")
+                    self.add(item, f"xyz must be 3 finite numbers within ±1e7 mm, found {m.xyz}")
                 continue
             if m.piece is None or m.x is None or m.y is None:
                 self.add(item, "a pattern landmark needs piece, x and y")
                 continue
-            if not (math.isfinite(m.x) and math.isfinite(m.y)):
-                self.add(item, f"position ({m.x}, {m.y}) is not finite")
+            if not _finite_points((m.x, m.y)):
+                self.add(item, f"position ({m.x}, {m.y}) is not finite or beyond ±1e7 mm")
                 continue
             piece = self.find_piece(m.piece, item)
             if piece is None or m.piece not in self.polygons:
