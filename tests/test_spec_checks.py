@@ -158,6 +158,8 @@ def test_openings(single_panel):
         bad = dataclasses.replace(piece, openings=(opening,))
         p = only(garment_problems(with_piece(single_panel, bad)), fragment)
         assert p.item == f"piece 'panel' opening '{opening.name}'"
+    clash = dataclasses.replace(piece, openings=(dataclasses.replace(inside, name="top"),))
+    only(garment_problems(with_piece(single_panel, clash)), "has the name of an edge")
     twin = dataclasses.replace(piece, openings=(inside, dataclasses.replace(inside, name="ok2")))
     probs = garment_problems(with_piece(single_panel, twin))
     only(probs, "overlaps or touches opening 'ok2'")

@@ -262,6 +262,9 @@ class _Checker:
         if not p.openings:
             return ring
         self.duplicates("opening", (o.name for o in p.openings), scope=item)
+        for name in sorted({o.name for o in p.openings} & set(p.edge_names)):
+            self.add(f"{item} opening '{name}'", f"has the name of an edge of piece '{p.name}'; "
+                     "edge and opening names share one list of open edges and must differ")
         sound = True
         holes: list[tuple[str, shapely.Polygon]] = []
         for o in p.openings:
