@@ -10,12 +10,11 @@ the pattern up to mesh chords, which gives exact check values.
 its exact pattern → world map and, for every edge, a dense sampling whose seam partners are the
 same world points (the mesh builder shares vertices there).
 
-Orientation: every piece map is orientation preserving in world coordinates,
-(∂X/∂x × ∂X/∂y) · n_out > 0 with the ordinary cross product, so mesh tools find outward normals and
-pattern turns keep their sign about the outward normal. Note that the world frame as stated
-(x towards the wearer's left, y forward, z up) is a left-handed triple: a viewer that assumes a
-right-handed frame shows the body mirrored. ``DemoDimensions(left_x_sign=-1.0)`` builds the mirror
-image (the wearer's left at −x) with every other property unchanged.
+Orientation: every piece map is orientation preserving in the right-handed world frame (z up,
+y forward, x towards the wearer's right): (∂X/∂x × ∂X/∂y) · n_out > 0, so mesh tools find
+outward normals and pattern turns keep their sign about the outward normal.
+``DemoDimensions(left_x_sign=1.0)`` builds the mirror image (the wearer's left at +x) with every
+other property unchanged.
 """
 
 from __future__ import annotations
@@ -81,9 +80,8 @@ class DemoDimensions:
     torso_step: float = 12.0  # boundary sampling of straight torso edges (mesh size)
     sleeve_step: float = 7.0  # boundary sampling of straight sleeve edges (mesh size)
     sheet_gap: float = 20.0  # gap between pieces on the sheet
-    left_x_sign: float = (
-        1.0  # +1: the wearer's left is at +x (the project's world frame); −1 mirrors
-    )
+    # −1: the wearer's left is at −x (the right-handed world frame); +1 builds the mirror image
+    left_x_sign: float = -1.0
 
     def x_sign(self, side: str) -> float:
         """+1 or −1: the sign of x on the wearer's ``side`` ("left" or "right")."""
