@@ -66,29 +66,21 @@ def _rebuild(out: Path) -> int:
 
 def _summary() -> int:
     from garnav.demo import demo_garment
+    from garnav.spec import garment_problems
 
     garment = demo_garment()
-    try:
-        from garnav.spec import garment_problems  # type: ignore[attr-defined]
-    except ImportError:
-        garment_problems = None
     print(f"demo garment '{garment.name}': {garment.description}")
     for piece in garment.pieces:
         edges = ", ".join(piece.edge_names)
         print(f"  piece {piece.name:<13} {piece.area / 100.0:8.0f} cm²  edges: {edges}")
     counts = (len(garment.seams), len(garment.keepouts), len(garment.landmarks))
     print("  %d seams, %d keep-outs, %d landmarks" % counts)
-    if garment_problems is not None:
-        problems = garment_problems(garment, "<demo>")
-        print(f"  check: {len(problems)} problem(s)")
-        for p in problems:
-            print(f"    - {p}")
-        status = 1 if problems else 0
-    else:
-        print("  check: spec checks not available in this build")
-        status = 0
+    problems = garment_problems(garment, "<demo>")
+    print(f"  check: {len(problems)} problem(s)")
+    for problem in problems:
+        print(f"    - {problem}")
     print("\n".join(CAUTIONS))
-    return status
+    return 1 if problems else 0
 
 
 def run(args: argparse.Namespace) -> int:
