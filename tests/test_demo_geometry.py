@@ -402,3 +402,11 @@ def test_obj_has_one_group_per_piece():
     objects = [line[2:] for line in text.splitlines() if line.startswith("o ")]
     groups = [line[2:] for line in text.splitlines() if line.startswith("g ")]
     assert objects == groups == [p.name for p in demo_garment().pieces]
+
+
+def test_demo_garment_passes_the_spec_checks(design):
+    from garnav.spec import garment_problems, loads_garment
+    from garnav.spec import dumps_garment
+
+    assert garment_problems(design.garment, "<demo>") == []
+    assert loads_garment(dumps_garment(design.garment)) == design.garment
