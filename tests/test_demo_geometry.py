@@ -405,8 +405,7 @@ def test_obj_has_one_group_per_piece():
 
 
 def test_demo_garment_passes_the_spec_checks(design):
-    from garnav.spec import garment_problems, loads_garment
-    from garnav.spec import dumps_garment
+    from garnav.spec import dumps_garment, garment_problems, loads_garment
 
     assert garment_problems(design.garment, "<demo>") == []
     assert loads_garment(dumps_garment(design.garment)) == design.garment
