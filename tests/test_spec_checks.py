@@ -109,7 +109,20 @@ def test_bow_tie_reports_crossing_point():
                 sheet_size_mm=(200.0, 200.0))
     p = only(garment_problems(g), "crosses itself")
     assert p.where == pytest.approx((50.0, 50.0))
-    assert "'e0' and 'e2'" in p.reason
+    assert "edges 'e0' and 'e2' cross" in p.reason
+
+
+def test_outline_crossing_itself_twice_lists_both():
+    # A square with a notch cut from its top down through its hem: the notch sides x = 60 and
+    # x = 30 cross the hem (y = 0) at (60, 0) and (30, 0) (hand-worked); nothing else crosses.
+    ring = [(0, 0), (100, 0), (100, 100), (60, 100), (60, -20), (30, -20), (30, 100), (0, 100)]
+    g = Garment("g", (poly_piece("p", ring),), sheet_size_mm=(200.0, 200.0))
+    p = only(garment_problems(g), "crosses itself")
+    crossings = {(30.0, 0.0), (60.0, 0.0)}
+    assert p.where in crossings
+    (other,) = crossings - {p.where}
+    assert f"(and at 1 more place: ({other[0]:.1f}, {other[1]:.1f}))" in p.reason
+    assert "crosses itself: edges 'e0' and" in p.reason
 
 
 def test_outline_touching_itself():
