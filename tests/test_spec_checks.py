@@ -190,6 +190,8 @@ def test_sheet_layout(two_panels):
     assert "390.0 mm past x = 0" in p.reason
     g = dataclasses.replace(two_panels, sheet_size_mm=(0.0, 420.0))
     only(garment_problems(g), "'sheet_size_mm' must be > 0")
+    g = dataclasses.replace(two_panels, sheet_size_mm=(650.0,))
+    only(garment_problems(g), "'sheet_size_mm' must be 2 numbers")
     g = with_piece(two_panels, dataclasses.replace(left, placement=Placement(math.inf, 10.0)))
     only(garment_problems(g), "'x' must be a finite number")
 

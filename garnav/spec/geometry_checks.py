@@ -113,11 +113,11 @@ class _Checker:
     def __init__(
         self, garment: Garment, source: str, broken: set[str], check_sheet: bool, check_pieces: bool
     ):
-        self.check_pieces = check_pieces
         self.g = garment
         self.source = source
         self.broken = broken
         self.check_sheet = check_sheet
+        self.check_pieces = check_pieces
         self.problems: list[Problem] = []
         self.polygons: dict[str, shapely.Polygon] = {}  # pieces with sound geometry
         self.pieces: dict[str, Piece] = {}  # first piece of each name
@@ -144,6 +144,10 @@ class _Checker:
     # ------------------------------------------------------------------------------------------
     def run(self) -> list[Problem]:
         g = self.g
+        if self.check_sheet and len(g.sheet_size_mm) != 2:
+            self.add("top level", f"'sheet_size_mm' must be 2 numbers (width, height), "
+                     f"found {len(g.sheet_size_mm)}")
+            self.check_sheet = False
         if self.check_sheet:
             for value in g.sheet_size_mm:
                 if not self.number("top", "sheet_size_mm", value, "top level"):
