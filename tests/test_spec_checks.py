@@ -460,3 +460,25 @@ def test_check_garment_raises_with_all_problems(single_panel):
         check_garment(g, "built.toml")
     assert len(info.value.problems) == 2
     assert str(info.value).startswith("2 problems found:")
+
+
+def test_field_defaults_match_the_model():
+    """fields.py and the model agree on every default (the reader fills absent keys from
+    fields.py; Python users get the model's)."""
+    from garnav.spec.fields import SECTIONS
+
+    pairs = {
+        "robot": (Robot, {}),
+        "placement": (Placement, {}),
+        "seam": (Seam, {"name": "s", "a": None, "b": None}),
+        "run": (SeamRun, {"piece": "p", "edge": "e"}),
+        "keepout": (KeepOut, {"name": "k", "piece": "p", "kind": "custom", "shape": None}),
+        "landmark": (Landmark, {"name": "m"}),
+    }
+    for section, (cls, required) in pairs.items():
+        obj = cls(**required)
+        for key, field in SECTIONS[section].items():
+            if hasattr(obj, key) and key not in required:
+                assert getattr(obj, key) == field.default, (section, key)
+    assert Garment("g", ()).sheet_size_mm == SECTIONS["top"]["sheet_size_mm"].default
+    assert Rectangle(0, 0, 1, 1).angle_deg == SECTIONS["keepout"]["angle_deg"].default
