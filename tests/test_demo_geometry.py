@@ -265,7 +265,7 @@ def test_mirrored_build_keeps_every_property():
     assert _free_space_problems(garment) == []
     mesh = build_drape(mirrored)
     left = mesh.face_piece == mesh.piece_names.index("sleeve_left")
-    assert np.all(mesh.vertices[np.unique(mesh.faces[left])][:, 0] < 0)
+    assert np.all(mesh.vertices[np.unique(mesh.faces[left])][:, 0] > 0)
     tri = mesh.vertices[mesh.faces]
     normals = np.cross(tri[:, 1] - tri[:, 0], tri[:, 2] - tri[:, 0])
     centres = mesh.pattern[mesh.face_uv].mean(axis=1)
