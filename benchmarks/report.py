@@ -228,7 +228,8 @@ def format_report(res: dict[str, Any]) -> str:
             f"{k} {'—' if v is None else f'{v:.2f}'}" for k, v in gr.items()))
     cli = res.get("cases", {}).get("demo_cli")
     if cli and cli.get("available"):
-        lines.append(f"`{cli['command']}`: {cli['seconds']:.1f} s (exit {cli['returncode']})")
+        for e in [cli] + cli.get("also", []):
+            lines.append(f"`{e['command']}`: {e['seconds']:.1f} s (exit {e['returncode']})")
     lines += ["", "targets:"]
     for t in res.get("targets", []):
         lines.append(f"  [{t['status']:4}] {t['target']}: {t['detail']}")
@@ -293,8 +294,11 @@ def markdown_report(res: dict[str, Any]) -> str:
     cli = res.get("cases", {}).get("demo_cli")
     if cli:
         out += ["", "## Demo end to end", ""]
-        out.append(f"`{cli['command']}`: {cli['seconds']:.1f} s, exit {cli['returncode']}" if cli.get("available")
-                   else f"not run: {cli.get('error')}")
+        if cli.get("available"):
+            for e in [cli] + cli.get("also", []):
+                out.append(f"- `{e['command']}`: {e['seconds']:.1f} s, exit {e['returncode']}")
+        else:
+            out.append(f"not run: {cli.get('error')}")
     for name, c in res.get("cases", {}).items():
         err = c.get("error") or _get(c, "garnav", "error")
         if err:

@@ -415,27 +415,23 @@ def run_cli(opts: Options, log) -> dict[str, Any]:
     probe = subprocess.run([sys.executable, "-m", "garnav", "demo", "--help"], capture_output=True, text=True, env=env)
     if probe.returncode != 0:
         return {"kind": "cli", "available": False, "error": "no 'garnav demo' command"}
+    out: dict[str, Any] = {"kind": "cli", "available": True}
     with tempfile.TemporaryDirectory() as tmp:
-        cmd = [sys.executable, "-m", "garnav", "demo"] + _demo_args(probe.stdout, tmp)
-        t0 = time.perf_counter()
-        res = subprocess.run(cmd, capture_output=True, text=True, env=env, cwd=tmp)
-        dt = time.perf_counter() - t0
-    return {"kind": "cli", "available": True, "command": " ".join(["garnav"] + cmd[3:]), "seconds": dt,
-            "returncode": res.returncode, "stderr_tail": res.stderr[-400:]}
-
-
-def _demo_args(help_text: str, tmp: str) -> list[str]:
-    """Options for a non-interactive, headless run, picked from the command's own --help."""
-    args = []
-    for flag in ("--out", "--output", "--out-dir"):
-        if flag in help_text:
-            args += [flag, tmp]
-            break
-    for flag in ("--no-show", "--no-window", "--headless"):
-        if flag in help_text:
-            args.append(flag)
-            break
-    return args
+        runs = [["demo"]]
+        if "--rebuild" in probe.stdout and "--out" in probe.stdout:
+            runs.append(["demo", "--rebuild", "--out", str(Path(tmp) / "out")])
+        for k, argv in enumerate(runs):
+            cmd = [sys.executable, "-m", "garnav"] + argv
+            t0 = time.perf_counter()
+            res = subprocess.run(cmd, capture_output=True, text=True, env=env, cwd=tmp)
+            dt = time.perf_counter() - t0
+            shown = "garnav " + " ".join(a if a != str(Path(tmp) / "out") else "TMP" for a in argv)
+            entry = {"command": shown, "seconds": dt, "returncode": res.returncode, "stderr_tail": res.stderr[-400:]}
+            if k == 0:
+                out.update(entry)
+            else:
+                out.setdefault("also", []).append(entry)
+    return out
 
 
 # --------------------------------------------------------------------------------------------
