@@ -272,7 +272,7 @@ def zigzag_route(
     return uv[ids].copy(), ids
 
 
-def lift_case(target_faces: int = 100_000, route_corners: int = 9, n_query: int = 100_000, seed: int = 0) -> LiftCase:
+def lift_case(target_faces: int = 100_000, route_corners: int = 11, n_query: int = 100_000, seed: int = 0) -> LiftCase:
     """A ~``target_faces`` triangle prism drape (sheet 900 × 700 mm), a zig-zag route, query points."""
     rng = np.random.default_rng([seed, target_faces])
     width, height = 900.0, 700.0
