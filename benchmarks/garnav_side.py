@@ -91,9 +91,9 @@ def build_planner(garment: Garment, robot: Robot):
     return _planner_class()(garment, robot)
 
 
-def route_points(planner, start: tuple[str, float, float], goal: tuple[str, float, float]):
+def route_points(planner, start: tuple[str, float, float], goal: tuple[str, float, float], via=()):
     """Plan one route; returns (route, (n, 2) points of all legs in order, piece frames)."""
-    route = planner.route(start, goal)
+    route = planner.route(start, goal, via=list(via)) if via else planner.route(start, goal)
     pts = [np.asarray(leg.points, dtype=float) for leg in route.legs]
     return route, np.vstack(pts)
 

@@ -101,6 +101,13 @@ def _mem_total_gb() -> float | None:
     return None
 
 
+def _load() -> list[float] | None:
+    try:
+        return [round(v, 2) for v in os.getloadavg()]
+    except (AttributeError, OSError):
+        return None
+
+
 PACKAGES = ("numpy", "scipy", "shapely", "networkx", "trimesh", "libigl", "pyvisgraph", "potpourri3d")
 
 
@@ -129,5 +136,6 @@ def machine_info() -> dict[str, Any]:
         "cpu_usable": usable,
         "memory_gb": _mem_total_gb(),
         "openblas_coretype": os.environ.get("OPENBLAS_CORETYPE"),
+        "load_average_1_5_15": _load(),
         "date_utc": _dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ"),
     }

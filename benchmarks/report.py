@@ -202,7 +202,8 @@ def _lift_lines(res) -> list[str]:
 
 def _machine_line(m) -> str:
     return (f"garnav {m['garnav_version']} | Python {m['python']} | {m['cpu_model']} | {m['cpu_count']} CPUs "
-            f"({m['cpu_usable']} usable) | {m['memory_gb']} GB | {m['os']} | {m['date_utc']}")
+            f"({m['cpu_usable']} usable) | {m['memory_gb']} GB | {m['os']} | {m['date_utc']} | "
+            f"load {m.get('load_average_1_5_15')}")
 
 
 def format_report(res: dict[str, Any]) -> str:
@@ -253,6 +254,8 @@ def markdown_report(res: dict[str, Any]) -> str:
         f"- OS: {m['os']}; Python {m['python']} ({m['implementation']})",
         f"- garnav {m['garnav_version']}; {pk}",
         f"- OPENBLAS_CORETYPE: {m['openblas_coretype']}",
+        f"- load average (1, 5, 15 min) at start: {m.get('load_average_1_5_15')}, at end: {m.get('load_average_at_end')}"
+        " — other work on the machine inflates every time; compare ratios measured in one run",
         f"- date (UTC): {m['date_utc']}; whole run {res.get('total_s', 0):.0f} s",
         f"- settings: {'quick' if s['quick'] else 'full'}; seed {s['seed']}; N = {', '.join(map(str, s['sizes']))}; "
         f"{s['n_pairs']} start/goal pairs per case; grid cell {s['grid_cell_mm']} mm; pyvisgraph budget {s['ref_budget_s']:.0f} s",
