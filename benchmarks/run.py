@@ -39,7 +39,7 @@ from benchmarks.report import evaluate_targets, format_report, markdown_report
 
 ALL_CASES = ("single", "demo", "lift", "cli")
 FULL_N = (10, 50, 200, 500)
-QUICK_N = (4, 8)
+QUICK_N = (2, 4)
 
 # pyvisgraph build time model for budgeting before any measurement: t ≈ c · V^2 (V vertices);
 # c measured here at 1.1e-5 – 1.5e-5 s on V = 341 … 1753 (a rough prior, replaced by a fit as soon
@@ -55,8 +55,8 @@ class Options:
         self.sizes = tuple(args.sizes) if args.sizes else (QUICK_N if self.quick else FULL_N)
         self.n_pairs = args.pairs if args.pairs is not None else (3 if self.quick else 20)
         self.grid_cell_mm = args.grid_cell if args.grid_cell is not None else (10.0 if self.quick else 2.0)
-        self.demo_buttons = 10 if self.quick else 200
-        self.demo_queries = 3 if self.quick else 20
+        self.demo_buttons = 0 if self.quick else 200
+        self.demo_queries = 2 if self.quick else 20
         self.lift_faces = 2_000 if self.quick else 100_000
         self.lift_queries = 2_000 if self.quick else 100_000
         self.lift_repeats = 3 if self.quick else 15
@@ -306,8 +306,9 @@ def run_demo(opts: Options, log) -> dict[str, Any]:
     if failures:
         out["garnav"]["last_failure"] = last_error  # noqa: F821 (set when failures > 0)
     out["garnav"]["length_mm"] = lengths
-    _, peak = peak_memory(lambda: G.build_planner(garment, robot))
-    out["garnav"]["build_peak_bytes"] = peak
+    if not opts.quick:
+        _, peak = peak_memory(lambda: G.build_planner(garment, robot))
+        out["garnav"]["build_peak_bytes"] = peak
     return out
 
 
