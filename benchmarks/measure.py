@@ -111,6 +111,24 @@ def _load() -> list[float] | None:
 PACKAGES = ("numpy", "scipy", "shapely", "networkx", "trimesh", "libigl", "pyvisgraph", "potpourri3d")
 
 
+def _git_commit() -> str | None:
+    import subprocess
+    from pathlib import Path
+
+    root = Path(__file__).resolve().parent.parent
+    if not (root / ".git").exists():
+        return None
+    try:
+        res = subprocess.run(["git", "-C", str(root), "rev-parse", "--short", "HEAD"], capture_output=True, text=True, timeout=10)
+        dirty = subprocess.run(["git", "-C", str(root), "status", "--porcelain", "--untracked-files=no"],
+                               capture_output=True, text=True, timeout=10)
+    except (OSError, subprocess.SubprocessError):
+        return None
+    if res.returncode != 0:
+        return None
+    return res.stdout.strip() + ("+changes" if dirty.stdout.strip() else "")
+
+
 def machine_info() -> dict[str, Any]:
     """garnav version, package versions, CPU, Python, OS and the UTC date of the run."""
     import garnav
@@ -127,6 +145,7 @@ def machine_info() -> dict[str, Any]:
         usable = os.cpu_count()
     return {
         "garnav_version": garnav.__version__,
+        "garnav_commit": _git_commit(),
         "packages": versions,
         "python": sys.version.split()[0],
         "implementation": platform.python_implementation(),

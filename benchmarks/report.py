@@ -252,13 +252,15 @@ def markdown_report(res: dict[str, Any]) -> str:
         "",
         f"- CPU: {m['cpu_model']}, {m['cpu_count']} logical CPUs ({m['cpu_usable']} usable), {m['memory_gb']} GB RAM",
         f"- OS: {m['os']}; Python {m['python']} ({m['implementation']})",
-        f"- garnav {m['garnav_version']}; {pk}",
+        f"- garnav {m['garnav_version']} (commit {m.get('garnav_commit') or 'unknown'}); {pk}",
         f"- OPENBLAS_CORETYPE: {m['openblas_coretype']}",
         f"- load average (1, 5, 15 min) at start: {m.get('load_average_1_5_15')}, at end: {m.get('load_average_at_end')}"
         " — other work on the machine inflates every time; compare ratios measured in one run",
         f"- date (UTC): {m['date_utc']}; whole run {res.get('total_s', 0):.0f} s",
         f"- settings: {'quick' if s['quick'] else 'full'}; seed {s['seed']}; N = {', '.join(map(str, s['sizes']))}; "
         f"{s['n_pairs']} start/goal pairs per case; grid cell {s['grid_cell_mm']} mm; pyvisgraph budget {s['ref_budget_s']:.0f} s",
+        "",
+        *([f"- note: {res['note']}"] if res.get("note") else []),
         "",
         "## Targets",
         "",

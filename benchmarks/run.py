@@ -502,6 +502,7 @@ def main(argv: list[str] | None = None) -> int:
     ap.add_argument("--ref-budget", type=float,
                     help="skip a pyvisgraph build predicted to take longer (s) and report the estimate")
     ap.add_argument("--seed", type=int, default=0)
+    ap.add_argument("--note", help="free text recorded with the results (e.g. what changed)")
     ap.add_argument("--json", metavar="PATH", help="write all results as JSON")
     ap.add_argument("--write-md", metavar="PATH", help="write the Markdown report (BENCHMARKS.md)")
     args = ap.parse_args(argv)
@@ -511,6 +512,8 @@ def main(argv: list[str] | None = None) -> int:
         ap.error(f"unknown case(s) {bad}; choose from {list(ALL_CASES)}")
     opts = Options(args)
     results = run(opts, which, log=lambda m: print(m, file=sys.stderr, flush=True))
+    if args.note:
+        results["note"] = args.note
     print(format_report(results))
     from garnav.atomic import write_text_atomic
 
