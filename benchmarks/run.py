@@ -327,11 +327,17 @@ def run_lift(opts: Options, log) -> dict[str, Any]:
     q = case.query_uv[rng.permutation(len(case.query_uv))]  # random order
 
     # references: Delaunay of the UV vertices (speed reference only), STRtree of triangle polygons
-    dl, t_dl_build = timed(lambda: Delaunay(case.uv))
+    def delaunay():
+        tri = Delaunay(case.uv)
+        tri.find_simplex(q[:8])  # scipy sets up its barycentric transforms on the first call
+        return tri
+
+    dl, t_dl_build = timed(delaunay)
     simp, t_dl = timed(lambda: dl.find_simplex(q))
     polys = shapely.polygons(tri_uv)
     tree, t_tree_build = timed(lambda: shapely.STRtree(polys))
-    (qi, ti), t_tree = timed(lambda: tree.query(shapely.points(q), predicate="intersects"))
+    qpts = shapely.points(q)
+    (qi, ti), t_tree = timed(lambda: tree.query(qpts, predicate="intersects"))
     out["delaunay_find_simplex"] = {"build_s": t_dl_build, "query_s": t_dl, "found": int((simp >= 0).sum())}
     out["strtree_intersects"] = {"build_s": t_tree_build, "query_s": t_tree, "hits": int(len(qi))}
 
