@@ -1,0 +1,153 @@
+"""Seam portals: the places along a crossable seam where the robot may cross, and the angle rule.
+
+A portal is a fraction ``t`` of a seam at which the robot centre fits on BOTH sides: the point of
+run ``a`` at ``t`` is free on piece a and the point of run ``b`` at ``t`` (the same 3D point) is
+free on piece b. Portals are spread along every free interval of the seam, ``spacing_mm`` apart,
+with at least one (its middle) on every interval, so that no passable stretch is missed. Each
+crossing of a found route is afterwards slid along its seam to the locally shortest position
+(:mod:`garnav.plan.refine`), so the spacing limits build size, not route length.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from garnav.model import Garment, Seam
+from garnav.plan.freespace import FreeSpace
+from garnav.polyline import cumulative_length, point_at_length
+
+__all__ = ["SeamSides", "seam_sides", "free_intervals", "portal_fractions", "angle_ok"]
+
+
+@dataclass(frozen=True)
+class SeamSides:
+    """Sampled geometry of one seam: both runs at common fractions.
+
+    Attributes
+    ----------
+    seam : Seam
+    t : (m,) fractions, increasing from 0 to 1
+    a_xy, b_xy : (m, 2) points of run a / run b (each in its own piece frame), mm
+    a_tan, b_tan : (m, 2) unit tangents of run a / run b (travel direction)
+    length_a : float, mm
+    """
+
+    seam: Seam
+    t: np.ndarray
+    a_xy: np.ndarray
+    b_xy: np.ndarray
+    a_tan: np.ndarray
+    b_tan: np.ndarray
+    length_a: float
+
+
+def _tangents(pts: np.ndarray, t: np.ndarray) -> np.ndarray:
+    cum = cumulative_length(pts)
+    s = np.clip(t, 0.0, 1.0) * cum[-1]
+    seg = np.clip(np.searchsorted(cum, s, side="right") - 1, 0, len(pts) - 2)
+    d = pts[seg + 1] - pts[seg]
+    n = np.linalg.norm(d, axis=1, keepdims=True)
+    return d / np.where(n > 0, n, 1.0)
+
+
+def seam_sides(garment: Garment, seam: Seam, t: np.ndarray) -> SeamSides:
+    """Points and tangents of both runs of ``seam`` at fractions ``t`` (m,)."""
+    t = np.asarray(t, dtype=float)
+    pa = garment.run_polyline(seam.a)
+    pb = garment.run_polyline(seam.b)
+    la = cumulative_length(pa)[-1]
+    lb = cumulative_length(pb)[-1]
+    return SeamSides(
+        seam,
+        t,
+        point_at_length(pa, t * la).reshape(-1, 2),
+        point_at_length(pb, t * lb).reshape(-1, 2),
+        _tangents(pa, t),
+        _tangents(pb, t),
+        float(la),
+    )
+
+
+def free_intervals(garment: Garment, seam: Seam, free: FreeSpace, step_mm: float = 0.5) -> list[tuple[float, float]]:
+    """Fraction intervals ``[t0, t1]`` of ``seam`` where the robot fits on both sides.
+
+    Sampled every ``step_mm`` along run a; interval ends are then bisected to 1e-9 of the run.
+    """
+    la = garment.run_length(seam.a)
+    m = max(int(math.ceil(la / step_mm)) + 1, 3)
+    t = np.linspace(0.0, 1.0, m)
+    ok = _fits(garment, seam, free, t)
+
+    def fits1(x: float) -> bool:
+        return bool(_fits(garment, seam, free, np.array([x]))[0])
+
+    out = []
+    k = 0
+    while k < m:
+        if not ok[k]:
+            k += 1
+            continue
+        j = k
+        while j + 1 < m and ok[j + 1]:
+            j += 1
+        lo, hi = t[k], t[j]
+        if k > 0:
+            lo = _bisect(fits1, t[k - 1], t[k])
+        if j < m - 1:
+            hi = _bisect(fits1, t[j + 1], t[j])
+        out.append((float(lo), float(hi)))
+        k = j + 1
+    return out
+
+
+def _bisect(fits, bad: float, good: float, iters: int = 40) -> float:
+    for _ in range(iters):
+        mid = 0.5 * (bad + good)
+        if fits(mid):
+            good = mid
+        else:
+            bad = mid
+    return good
+
+
+def _fits(garment: Garment, seam: Seam, free: FreeSpace, t: np.ndarray) -> np.ndarray:
+    sides = seam_sides(garment, seam, t)
+    return free[seam.a.piece].covers(sides.a_xy) & free[seam.b.piece].covers(sides.b_xy)
+
+
+def portal_fractions(intervals: list[tuple[float, float]], length_mm: float, spacing_mm: float) -> np.ndarray:
+    """Portal fractions: every interval split into pieces at most ``spacing_mm`` long, both ends
+    and the middle of each included. Sorted, unique; (p,) float.
+
+    >>> portal_fractions([(0.0, 0.5)], 100.0, 20.0).tolist()
+    [0.0, 0.1, 0.2, 0.25, 0.3, 0.4, 0.5]
+    """
+    out = []
+    for lo, hi in intervals:
+        n = max(int(math.ceil((hi - lo) * length_mm / spacing_mm)), 1)
+        out.extend(np.linspace(lo, hi, n + 1).tolist())
+        out.append(0.5 * (lo + hi))
+    return np.unique(np.round(np.array(out, dtype=float), 12))
+
+
+def angle_ok(direction: np.ndarray, tangent: np.ndarray, min_angle_deg) -> np.ndarray:
+    """Whether segments with ``direction`` (..., 2) make at least ``min_angle_deg`` (scalar or
+    array broadcasting against (...)) with the seam ``tangent`` (..., 2, unit). Zero-length
+    directions pass. Returns bool (...).
+    """
+    amin = np.asarray(min_angle_deg, dtype=float)
+    dot = np.abs((direction * tangent).sum(-1))
+    norm = np.linalg.norm(direction, axis=-1)
+    return (amin <= 0) | (dot <= norm * np.cos(np.radians(amin)) + 1e-12 * norm)
+
+
+def crossing_angle_deg(direction: np.ndarray, tangent: np.ndarray) -> float:
+    """Angle (0..90°) between a route direction (2,) and a seam tangent (2,)."""
+    n = float(np.linalg.norm(direction))
+    if n == 0:
+        return 90.0
+    c = min(abs(float(np.dot(direction, tangent))) / n, 1.0)
+    return math.degrees(math.acos(c))
