@@ -19,7 +19,9 @@ from garnav.model import Garment, Seam
 from garnav.plan.freespace import FreeSpace
 from garnav.polyline import cumulative_length, point_at_length
 
-__all__ = ["SeamSides", "seam_sides", "free_intervals", "portal_fractions", "angle_ok"]
+INSET_MM = 1e-7
+
+__all__ = ["INSET_MM", "SeamSides", "seam_sides", "free_intervals", "portal_fractions", "angle_ok"]
 
 
 @dataclass(frozen=True)
@@ -53,22 +55,25 @@ def _tangents(pts: np.ndarray, t: np.ndarray) -> np.ndarray:
     return d / np.where(n > 0, n, 1.0)
 
 
-def seam_sides(garment: Garment, seam: Seam, t: np.ndarray) -> SeamSides:
-    """Points and tangents of both runs of ``seam`` at fractions ``t`` (m,)."""
+def seam_sides(garment: Garment, seam: Seam, t: np.ndarray, inset_mm: float = INSET_MM) -> SeamSides:
+    """Points and tangents of both runs of ``seam`` at fractions ``t`` (m,).
+
+    Each point is moved ``inset_mm`` into its own piece along the inward normal: a point computed
+    on a slanted or curved edge may otherwise land a rounding error outside the piece polygon, and
+    exact predicates would then call it blocked. The two points of a crossing are therefore
+    2 × ``inset_mm`` apart in 3D (2e-7 mm by default).
+    """
     t = np.asarray(t, dtype=float)
-    pa = garment.run_polyline(seam.a)
-    pb = garment.run_polyline(seam.b)
-    la = cumulative_length(pa)[-1]
-    lb = cumulative_length(pb)[-1]
-    return SeamSides(
-        seam,
-        t,
-        point_at_length(pa, t * la).reshape(-1, 2),
-        point_at_length(pb, t * lb).reshape(-1, 2),
-        _tangents(pa, t),
-        _tangents(pb, t),
-        float(la),
-    )
+    out = []
+    for run in (seam.a, seam.b):
+        pts = garment.run_polyline(run)
+        length = cumulative_length(pts)[-1]
+        tan = _tangents(pts, t)
+        inward = np.stack([-tan[:, 1], tan[:, 0]], axis=1) * (-1.0 if run.reverse else 1.0)
+        xy = point_at_length(pts, t * length).reshape(-1, 2) + inset_mm * inward
+        out.append((xy, tan, float(length)))
+    (a_xy, a_tan, la), (b_xy, b_tan, _) = out
+    return SeamSides(seam, t, a_xy, b_xy, a_tan, b_tan, la)
 
 
 def free_intervals(garment: Garment, seam: Seam, free: FreeSpace, step_mm: float = 0.5) -> list[tuple[float, float]]:
