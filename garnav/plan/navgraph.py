@@ -1,12 +1,13 @@
 """The navigation graph of a whole garment: per-piece reduced visibility graphs joined at seam portals.
 
-Nodes (integers, numbered piece by piece in garment order): first the reflex corners of the
-piece's free space, then its portals sorted by (seam name, side, fraction). Edges:
+Nodes (integers, numbered piece by piece in garment order): the reflex corners of the piece's free
+space, its portals, and the approach points of those portals (see :class:`NavGraph`). Edges:
 
 * corner–corner bitangents (:func:`garnav.plan.visgraph.bitangent_pairs`);
-* portal–corner links, tangent at the corner, making at least the seam's smallest crossing angle
-  with the seam tangent at the portal;
-* portal–portal links on one piece (both angle limits);
+* portal/approach point – corner links, tangent at the corner; at a portal the link must make at
+  least the seam's smallest crossing angle with the seam tangent;
+* portal/approach point pairs on one piece (angle limits at portals);
+* each approach point to its own portal (the straight approach at the smallest angle);
 * crossing edges joining a portal to its partner on the other run (same 3D point), weighted by the
   seam's crossing cost.
 
@@ -24,10 +25,17 @@ import shapely
 
 from garnav.model import Garment
 from garnav.plan.freespace import FreeSpace, PieceFreeSpace
-from garnav.plan.portals import angle_ok, free_intervals, portal_fractions, seam_sides
+from garnav.plan.portals import angle_ok, approach_points, free_intervals, portal_fractions, seam_sides
 from garnav.plan.visgraph import Corners, bitangent_pairs, point_links, reflex_corners, segments_free
 
-__all__ = ["NavGraph", "build_nav_graph", "edge_costs", "DEFAULT_PORTAL_SPACING_MM"]
+__all__ = [
+    "NavGraph",
+    "build_nav_graph",
+    "edge_costs",
+    "free_point_links",
+    "point_pairs",
+    "DEFAULT_PORTAL_SPACING_MM",
+]
 
 DEFAULT_PORTAL_SPACING_MM = 20.0
 
@@ -50,20 +58,26 @@ def edge_costs(fs: PieceFreeSpace, a: np.ndarray, b: np.ndarray) -> tuple[np.nda
 class NavGraph:
     """The built graph and what its nodes are.
 
+    Node kinds, numbered piece by piece (garment order): the piece's reflex corners, then its
+    portals sorted by (seam name, side, fraction), then the approach points of those portals (for
+    seams with a smallest crossing angle, see :func:`garnav.plan.portals.approach_points`).
+
     Attributes
     ----------
     pieces : tuple of str
         Piece names in garment order; ``node_piece`` indexes it.
     xy : (N, 2) node positions in their piece frame, mm
     node_piece : (N,) int
-    portal_seam : (N,) int, index into ``seams`` (−1 for corners)
-    portal_side : (N,) int, 0 = run a, 1 = run b (−1 for corners)
-    portal_t : (N,) float, seam fraction (nan for corners)
-    portal_tan : (N, 2) seam tangent at portals in the piece frame (0 for corners)
-    graph : networkx.Graph with ``weight`` (cost) and ``length`` on every edge
+    portal_seam : (N,) int, index into ``seams`` (−1 unless a portal)
+    portal_side : (N,) int, 0 = run a, 1 = run b (−1 unless a portal)
+    portal_t : (N,) float, seam fraction (nan unless a portal)
+    portal_tan, portal_in : (N, 2) seam tangent / inward normal at portals (0 elsewhere)
+    approach_of : (N,) int, the portal an approach point belongs to (−1 otherwise)
+    graph : networkx.Graph with ``weight`` (cost), ``length`` and ``crossing`` on every edge
     corners : dict piece → (Corners, first node id)
-    portal_nodes : dict piece → (p,) node ids of its portals
+    portal_nodes, approach_nodes : dict piece → node ids
     intervals : dict seam name → free fraction intervals
+    approach_mm : float, length of the straight approach at the smallest crossing angle
     """
 
     garment: Garment
@@ -76,11 +90,15 @@ class NavGraph:
     portal_side: np.ndarray
     portal_t: np.ndarray
     portal_tan: np.ndarray
+    portal_in: np.ndarray
+    approach_of: np.ndarray
     graph: nx.Graph
     corners: dict[str, tuple[Corners, int]]
     portal_nodes: dict[str, np.ndarray]
+    approach_nodes: dict[str, np.ndarray]
     intervals: dict[str, list[tuple[float, float]]]
     spacing_mm: float
+    approach_mm: float
     stats: dict = field(default_factory=dict)
 
     def piece_index(self, piece: str) -> int:
@@ -90,15 +108,30 @@ class NavGraph:
         s = int(self.portal_seam[node])
         return float(self.seams[s].min_crossing_angle_deg) if s >= 0 else 0.0
 
+    def min_angles(self, nodes: np.ndarray) -> np.ndarray:
+        """Smallest crossing angle (deg) at each node (0 for non-portals); (m,)."""
+        limits = np.array([s.min_crossing_angle_deg for s in self.seams] + [0.0], dtype=float)
+        return limits[self.portal_seam[np.asarray(nodes, dtype=int)]]
 
-def build_nav_graph(garment: Garment, free: FreeSpace, spacing_mm: float = DEFAULT_PORTAL_SPACING_MM) -> NavGraph:
-    """Build the navigation graph of ``garment`` for the free space ``free``."""
+
+def build_nav_graph(
+    garment: Garment,
+    free: FreeSpace,
+    spacing_mm: float = DEFAULT_PORTAL_SPACING_MM,
+    approach_mm: float | None = None,
+) -> NavGraph:
+    """Build the navigation graph of ``garment`` for the free space ``free``.
+
+    ``approach_mm`` (default: the robot radius) is the straight run kept at the smallest crossing
+    angle on each side of a seam before the robot may turn.
+    """
     seams = tuple(sorted(garment.seams, key=lambda s: s.name))
     pieces = tuple(p.name for p in garment.pieces)
+    approach = float(free.robot.radius_mm if approach_mm is None else approach_mm)
 
-    # portals per seam
+    # portals per seam: (seam idx, side, t, xy, tangent, inward)
     intervals: dict[str, list[tuple[float, float]]] = {}
-    portal_rows: dict[str, list[tuple]] = {p: [] for p in pieces}  # (seam idx, side, t, xy, tan)
+    portal_rows: dict[str, list[tuple]] = {p: [] for p in pieces}
     for si, seam in enumerate(seams):
         if not seam.crossable:
             intervals[seam.name] = []
@@ -109,46 +142,72 @@ def build_nav_graph(garment: Garment, free: FreeSpace, spacing_mm: float = DEFAU
         if len(t) == 0:
             continue
         sides = seam_sides(garment, seam, t)
-        for k in range(len(t)):
-            portal_rows[seam.a.piece].append((si, 0, float(t[k]), sides.a_xy[k], sides.a_tan[k]))
-            portal_rows[seam.b.piece].append((si, 1, float(t[k]), sides.b_xy[k], sides.b_tan[k]))
+        for side, run in enumerate((seam.a, seam.b)):
+            xy, tan, inward = sides.side(side)
+            for k in range(len(t)):
+                portal_rows[run.piece].append((si, side, float(t[k]), xy[k], tan[k], inward[k]))
 
-    xy_parts, piece_parts, seam_parts, side_parts, t_parts, tan_parts = [], [], [], [], [], []
+    cols: dict[str, list] = {k: [] for k in ("xy", "piece", "seam", "side", "t", "tan", "in", "of")}
     corners: dict[str, tuple[Corners, int]] = {}
     portal_nodes: dict[str, np.ndarray] = {}
+    approach_nodes: dict[str, np.ndarray] = {}
     offset = 0
+
+    def add(xy, pi, seam=-1, side=-1, t=np.nan, tan=(0.0, 0.0), inward=(0.0, 0.0), of=-1):
+        for key, val in zip(cols, (xy, pi, seam, side, t, tan, inward, of)):
+            cols[key].append(val)
+
     for pi, name in enumerate(pieces):
-        c = reflex_corners(free[name].region)
+        fs = free[name]
+        c = reflex_corners(fs.region)
         corners[name] = (c, offset)
+        for xy in c.xy:
+            add(xy, pi)
         rows = sorted(portal_rows[name], key=lambda r: (seams[r[0]].name, r[1], r[2]))
-        n_c, n_p = len(c), len(rows)
-        xy_parts.append(c.xy)
-        tan = np.zeros((n_c, 2))
-        xy_parts.append(np.array([r[3] for r in rows]).reshape(-1, 2))
-        piece_parts.append(np.full(n_c + n_p, pi))
-        seam_parts.append(np.concatenate([np.full(n_c, -1), [r[0] for r in rows]]).astype(int))
-        side_parts.append(np.concatenate([np.full(n_c, -1), [r[1] for r in rows]]).astype(int))
-        t_parts.append(np.concatenate([np.full(n_c, np.nan), [r[2] for r in rows]]))
-        tan_parts.append(np.vstack([tan, np.array([r[4] for r in rows]).reshape(-1, 2)]))
-        portal_nodes[name] = np.arange(offset + n_c, offset + n_c + n_p)
-        offset += n_c + n_p
+        first_portal = offset + len(c)
+        portal_nodes[name] = np.arange(first_portal, first_portal + len(rows))
+        for si, side, t, xy, tan, inward in rows:
+            add(xy, pi, si, side, t, tan, inward)
+        # approach points, kept where the straight approach lies in free space
+        nxt = first_portal + len(rows)
+        app = []
+        for k, (si, side, t, xy, tan, inward) in enumerate(rows):
+            amin = seams[si].min_crossing_angle_deg
+            if amin <= 0 or approach <= 0:
+                continue
+            ends = approach_points(xy[None], tan[None], inward[None], amin, approach)[0]
+            ends = ends[:1] if amin >= 90.0 else ends
+            ok = segments_free(fs.region, np.repeat(xy[None], len(ends), axis=0), ends)
+            for e in ends[ok]:
+                add(e, pi, of=first_portal + k)
+                app.append(nxt)
+                nxt += 1
+        approach_nodes[name] = np.array(app, dtype=int)
+        offset = nxt
+
+    def arr(key, shape=None, dtype=float):
+        return np.array(cols[key], dtype=dtype).reshape(shape) if cols[key] else np.zeros(shape if shape else 0, dtype)
 
     ng = NavGraph(
         garment=garment,
         free=free,
         seams=seams,
         pieces=pieces,
-        xy=np.vstack(xy_parts) if xy_parts else np.zeros((0, 2)),
-        node_piece=np.concatenate(piece_parts).astype(int) if piece_parts else np.zeros(0, int),
-        portal_seam=np.concatenate(seam_parts).astype(int) if seam_parts else np.zeros(0, int),
-        portal_side=np.concatenate(side_parts).astype(int) if side_parts else np.zeros(0, int),
-        portal_t=np.concatenate(t_parts) if t_parts else np.zeros(0),
-        portal_tan=np.vstack(tan_parts) if tan_parts else np.zeros((0, 2)),
+        xy=arr("xy", (-1, 2)) if cols["xy"] else np.zeros((0, 2)),
+        node_piece=arr("piece", None, int),
+        portal_seam=arr("seam", None, int),
+        portal_side=arr("side", None, int),
+        portal_t=arr("t"),
+        portal_tan=arr("tan", (-1, 2)) if cols["tan"] else np.zeros((0, 2)),
+        portal_in=arr("in", (-1, 2)) if cols["in"] else np.zeros((0, 2)),
+        approach_of=arr("of", None, int),
         graph=nx.Graph(),
         corners=corners,
         portal_nodes=portal_nodes,
+        approach_nodes=approach_nodes,
         intervals=intervals,
         spacing_mm=float(spacing_mm),
+        approach_mm=approach,
     )
 
     edges: list[tuple[int, int, float, float, bool]] = []
@@ -174,38 +233,69 @@ def build_nav_graph(garment: Garment, free: FreeSpace, spacing_mm: float = DEFAU
     g.add_edges_from(
         (i, j, {"length": ln, "weight": w, "crossing": c}) for (i, j), (ln, w, c) in sorted(best.items())
     )
-    ng.stats = {"nodes": g.number_of_nodes(), "edges": g.number_of_edges(), "portals": int(len(portal_ids))}
+    ng.stats = {
+        "nodes": g.number_of_nodes(),
+        "edges": g.number_of_edges(),
+        "corners": int(sum(len(c) for c, _ in corners.values())),
+        "portals": int(len(portal_ids)),
+        "approach_points": int(sum(len(a) for a in approach_nodes.values())),
+    }
     return ng
+
+
+def free_point_links(ng: NavGraph, piece: str, xy: np.ndarray, limit_tan: np.ndarray | None = None, limit_deg=0.0):
+    """Links from points (m, 2) to the corners of a piece, tangent at the corner, with an optional
+    angle limit ``limit_deg`` (scalar or (m,)) to tangents ``limit_tan`` (m, 2) at the points.
+    Returns (point index, corner node id) arrays."""
+    fs = ng.free[piece]
+    c, off = ng.corners[piece]
+    if not len(c) or not len(xy):
+        return np.zeros(0, int), np.zeros(0, int)
+    allowed = None
+    if limit_tan is not None:
+        d = c.xy[None, :, :] - xy[:, None, :]
+        lim = np.broadcast_to(np.asarray(limit_deg, dtype=float), (len(xy),))
+        allowed = angle_ok(d, limit_tan[:, None, :], lim[:, None])
+    q, n = point_links(fs.region, c, xy, allowed)
+    return q, n + off
+
+
+def point_pairs(fs: PieceFreeSpace, xy: np.ndarray, tan: np.ndarray, amin: np.ndarray, pairs=None):
+    """Visible pairs (i, j), i < j, among points (m, 2) with angle limits ``amin`` (m,) to tangents
+    ``tan`` (m, 2) at each end (0 = no limit). Returns two int arrays."""
+    m = len(xy)
+    if pairs is None:
+        pa, pb = np.triu_indices(m, 1)
+    else:
+        pa, pb = pairs
+    d = xy[pb] - xy[pa]
+    ok = angle_ok(d, tan[pa], amin[pa]) & angle_ok(-d, tan[pb], amin[pb])
+    ok &= np.linalg.norm(d, axis=1) > 0
+    pa, pb = pa[ok], pb[ok]
+    vis = segments_free(fs.region, xy[pa], xy[pb])
+    return pa[vis], pb[vis]
 
 
 def _piece_edges(ng: NavGraph, name: str) -> list[tuple[int, int, float, float, bool]]:
     fs = ng.free[name]
     c, off = ng.corners[name]
-    out: list[tuple[int, int, float, float, bool]] = []
     i, j = bitangent_pairs(fs.region, c)
-    ia, ib = i + off, j + off
-    pn = ng.portal_nodes[name]
-    if len(pn):
-        pxy = ng.xy[pn]
-        ptan = ng.portal_tan[pn]
-        amin = np.array([ng.min_angle(int(n)) for n in pn])
-        # portal -> corner
-        if len(c):
-            d = c.xy[None, :, :] - pxy[:, None, :]
-            allowed = angle_ok(d, ptan[:, None, :], amin[:, None])
-            q, n = point_links(fs.region, c, pxy, allowed)
-            ia = np.concatenate([ia, pn[q]])
-            ib = np.concatenate([ib, n + off])
-        # portal -> portal (same piece)
-        pa, pb = np.triu_indices(len(pn), 1)
-        d = pxy[pb] - pxy[pa]
-        ok = angle_ok(d, ptan[pa], amin[pa]) & angle_ok(-d, ptan[pb], amin[pb])
-        ok &= np.linalg.norm(d, axis=1) > 0
-        pa, pb = pa[ok], pb[ok]
-        vis = segments_free(fs.region, pxy[pa], pxy[pb])
-        ia = np.concatenate([ia, pn[pa[vis]]])
-        ib = np.concatenate([ib, pn[pb[vis]]])
+    ia, ib = [i + off], [j + off]
+    # free points: portals (angle limit at them) and approach points (none)
+    fp = np.concatenate([ng.portal_nodes[name], ng.approach_nodes[name]]).astype(int)
+    if len(fp):
+        xy, tan, amin = ng.xy[fp], ng.portal_tan[fp], ng.min_angles(fp)
+        q, n = free_point_links(ng, name, xy, tan, amin)
+        ia.append(fp[q])
+        ib.append(n)
+        pa, pb = point_pairs(fs, xy, tan, amin)
+        ia.append(fp[pa])
+        ib.append(fp[pb])
+        # each approach point to its own portal (exactly at the angle limit)
+        own = ng.approach_nodes[name]
+        ia.append(ng.approach_of[own])
+        ib.append(own)
+    ia, ib = np.concatenate(ia).astype(int), np.concatenate(ib).astype(int)
     length, cost = edge_costs(fs, ng.xy[ia], ng.xy[ib])
     lo, hi = np.minimum(ia, ib), np.maximum(ia, ib)
-    out.extend((i, j, ln, w, False) for i, j, ln, w in zip(lo.tolist(), hi.tolist(), length.tolist(), cost.tolist()))
-    return out
+    return [(i, j, ln, w, False) for i, j, ln, w in zip(lo.tolist(), hi.tolist(), length.tolist(), cost.tolist())]

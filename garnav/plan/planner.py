@@ -15,16 +15,23 @@ from __future__ import annotations
 from typing import Callable, Sequence
 
 import numpy as np
+import scipy.sparse as sp
 
 from garnav.errors import NoRouteError, QueryError
 from garnav.model import Garment, Robot
 from garnav.plan.freespace import DEFAULT_QUAD_SEGS, FreeSpace, build_free_space
-from garnav.plan.navgraph import DEFAULT_PORTAL_SPACING_MM, NavGraph, build_nav_graph, edge_costs
+from garnav.plan.navgraph import (
+    DEFAULT_PORTAL_SPACING_MM,
+    NavGraph,
+    build_nav_graph,
+    edge_costs,
+    free_point_links,
+    point_pairs,
+)
 from garnav.plan.points import PiecePoint, PointLike, resolve_point
-from garnav.plan.portals import angle_ok
 from garnav.plan.route import Leg, Route, join_routes, make_route
 from garnav.plan.search import PortalGraph, astar, heuristic_values
-from garnav.plan.visgraph import point_links, segments_free
+from garnav.plan.visgraph import segments_free
 
 __all__ = ["Planner", "plan_route", "PLANNER_VERSION"]
 
@@ -71,6 +78,24 @@ class Planner:
         self.portal_graph = PortalGraph(self.nav)
         g = self.nav.graph
         self._adj = [[(m, d["weight"]) for m, d in g.adj[n].items()] for n in range(g.number_of_nodes())]
+        self._corner_mats: dict = {}
+
+    def corner_matrix(self, piece: str):
+        """(k, k) sparse matrix of the corner–corner edge costs of one piece (upper triangle)."""
+        cached = self._corner_mats.get(piece)
+        if cached is None:
+            corners, off = self.nav.corners[piece]
+            k = len(corners)
+            rows, cols, vals = [], [], []
+            for n in range(off, off + k):
+                for m, w in self._adj[n]:
+                    if n < m < off + k:
+                        rows.append(n - off)
+                        cols.append(m - off)
+                        vals.append(w)
+            cached = sp.csr_matrix((vals, (rows, cols)), shape=(k, k))
+            self._corner_mats[piece] = cached
+        return cached
 
     # ------------------------------------------------------------------ points
 
@@ -93,28 +118,23 @@ class Planner:
         corners_only: bool = False,
     ) -> list[tuple[int, float]]:
         """Graph nodes visible from a point, with edge costs: corners (tangent at the corner) and,
-        unless ``corners_only``, portals of its piece (angle limits at the portal and, when
-        ``tangent`` is given, at the point). Sorted by node."""
+        unless ``corners_only``, the portals (angle limit at the portal) and approach points of its
+        piece. With ``tangent`` the links also keep ``min_angle_deg`` to it at the point. Sorted by
+        node."""
         ng = self.nav
         fs = self.free[pp.piece]
-        corners, off = ng.corners[pp.piece]
         xy = pp.xy[None, :]
-        allowed = None
-        if tangent is not None and len(corners):
-            allowed = angle_ok(corners.xy - pp.xy, tangent, min_angle_deg)[None, :]
-        _, n = point_links(fs.region, corners, xy, allowed)
-        nodes = list((n + off).tolist())
+        tan = None if tangent is None else np.asarray(tangent, dtype=float).reshape(1, 2)
+        _, n = free_point_links(ng, pp.piece, xy, tan, min_angle_deg)
+        nodes = n.tolist()
         if not corners_only:
-            pn = ng.portal_nodes[pp.piece]
-            if len(pn):
-                d = ng.xy[pn] - pp.xy
-                amin = np.array([ng.min_angle(int(m)) for m in pn])
-                ok = angle_ok(-d, ng.portal_tan[pn], amin) & (np.linalg.norm(d, axis=1) > 0)
-                if tangent is not None:
-                    ok &= angle_ok(d, tangent, min_angle_deg)
-                cand = pn[ok]
-                vis = segments_free(fs.region, np.repeat(xy, len(cand), axis=0), ng.xy[cand])
-                nodes.extend(cand[vis].tolist())
+            fp = np.concatenate([ng.portal_nodes[pp.piece], ng.approach_nodes[pp.piece]]).astype(int)
+            if len(fp):
+                pts = np.vstack([xy, ng.xy[fp]])
+                tans = np.vstack([tan if tan is not None else np.zeros((1, 2)), ng.portal_tan[fp]])
+                amin = np.concatenate([[min_angle_deg if tan is not None else 0.0], ng.min_angles(fp)])
+                _, pb = point_pairs(fs, pts, tans, amin, (np.zeros(len(fp), int), np.arange(1, len(fp) + 1)))
+                nodes.extend(fp[pb - 1].tolist())
         nodes = sorted(nodes)
         if not nodes:
             return []

@@ -21,7 +21,7 @@ from garnav.polyline import cumulative_length, point_at_length
 
 INSET_MM = 1e-7
 
-__all__ = ["INSET_MM", "SeamSides", "seam_sides", "free_intervals", "portal_fractions", "angle_ok"]
+__all__ = ["INSET_MM", "SeamSides", "approach_points", "seam_sides", "free_intervals", "portal_fractions", "angle_ok"]
 
 
 @dataclass(frozen=True)
@@ -34,6 +34,7 @@ class SeamSides:
     t : (m,) fractions, increasing from 0 to 1
     a_xy, b_xy : (m, 2) points of run a / run b (each in its own piece frame), mm
     a_tan, b_tan : (m, 2) unit tangents of run a / run b (travel direction)
+    a_in, b_in : (m, 2) unit inward normals (into the run's own piece)
     length_a : float, mm
     """
 
@@ -43,7 +44,13 @@ class SeamSides:
     b_xy: np.ndarray
     a_tan: np.ndarray
     b_tan: np.ndarray
+    a_in: np.ndarray
+    b_in: np.ndarray
     length_a: float
+
+    def side(self, k: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """(points, tangents, inward normals) of run a (k = 0) or run b (k = 1)."""
+        return (self.a_xy, self.a_tan, self.a_in) if k == 0 else (self.b_xy, self.b_tan, self.b_in)
 
 
 def _tangents(pts: np.ndarray, t: np.ndarray) -> np.ndarray:
@@ -71,9 +78,28 @@ def seam_sides(garment: Garment, seam: Seam, t: np.ndarray, inset_mm: float = IN
         tan = _tangents(pts, t)
         inward = np.stack([-tan[:, 1], tan[:, 0]], axis=1) * (-1.0 if run.reverse else 1.0)
         xy = point_at_length(pts, t * length).reshape(-1, 2) + inset_mm * inward
-        out.append((xy, tan, float(length)))
-    (a_xy, a_tan, la), (b_xy, b_tan, _) = out
-    return SeamSides(seam, t, a_xy, b_xy, a_tan, b_tan, la)
+        out.append((xy, tan, inward, float(length)))
+    (a_xy, a_tan, a_in, la), (b_xy, b_tan, b_in, _) = out
+    return SeamSides(seam, t, a_xy, b_xy, a_tan, b_tan, a_in, b_in, la)
+
+
+def approach_points(xy: np.ndarray, tangent: np.ndarray, inward: np.ndarray, min_angle_deg: float, length_mm: float) -> np.ndarray:
+    """The two ends of the straight approach to a crossing at the smallest allowed angle.
+
+    A robot crossing a seam drives straight over it at an angle of at least ``min_angle_deg`` to
+    the seam tangent for ``length_mm`` (the robot radius: the whole disc crosses the ridge on
+    that straight); beyond, it may turn. If the next point is outside that cone, the shortest way
+    leaves along one of its two edges for exactly ``length_mm`` (going further along a straight
+    line that does not point at the target only adds length). Returns (m, 2, 2): for each crossing
+    point (m, 2) the points at directions ``min_angle`` and ``180° − min_angle`` from the tangent,
+    on the piece's side. For 90° both coincide.
+    """
+    a = np.radians(min_angle_deg)
+    out = []
+    for phi in (a, np.pi - a):
+        u = np.cos(phi) * tangent + np.sin(phi) * inward
+        out.append(xy + length_mm * u)
+    return np.stack(out, axis=1)
 
 
 def free_intervals(garment: Garment, seam: Seam, free: FreeSpace, step_mm: float = 0.5) -> list[tuple[float, float]]:

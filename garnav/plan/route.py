@@ -26,7 +26,7 @@ from garnav.model import Garment, Robot
 from garnav.plan.freespace import run_frame, seam_transform
 from garnav.plan.portals import crossing_angle_deg
 
-__all__ = ["Leg", "Crossing", "Route", "make_route", "signed_angle_deg", "join_routes"]
+__all__ = ["Leg", "Crossing", "Route", "make_route", "signed_angle_deg", "join_routes", "crossing_side"]
 
 
 @dataclass(frozen=True, eq=False)
@@ -201,14 +201,17 @@ def join_routes(garment: Garment, robot: Robot, parts: list[Route]) -> Route:
             legs.extend(r.legs[1:])
         else:
             legs.extend(r.legs)
-        for c in r.crossings:
-            seam = garment.seam(c.seam)
-            data.append((c.seam, c.fraction, 0 if (seam.a.piece == c.from_piece and _on_run(garment, seam.a, c)) else 1))
+        data.extend((c.seam, c.fraction, crossing_side(garment, c)) for c in r.crossings)
         cost += r.cost
     return make_route(garment, robot, legs, data, cost)
 
 
-def _on_run(garment: Garment, run, c: Crossing) -> bool:
-    """Whether crossing c leaves from ``run`` (disambiguates seams with both runs on one piece)."""
-    pts = garment.run_polyline(run)
-    return shapely.LineString(pts).distance(shapely.Point(*c.point_from)) < 1e-6
+def crossing_side(garment: Garment, c: Crossing) -> int:
+    """0 when crossing ``c`` leaves from the seam's run a, 1 when from run b (the pieces alone do
+    not tell when both runs lie on one piece)."""
+    seam = garment.seam(c.seam)
+    if seam.a.piece != seam.b.piece:
+        return 0 if c.from_piece == seam.a.piece else 1
+    da = shapely.LineString(garment.run_polyline(seam.a)).distance(shapely.Point(*c.point_from))
+    db = shapely.LineString(garment.run_polyline(seam.b)).distance(shapely.Point(*c.point_from))
+    return 0 if da <= db else 1
