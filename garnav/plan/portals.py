@@ -62,6 +62,22 @@ def _tangents(pts: np.ndarray, t: np.ndarray) -> np.ndarray:
     return d / np.where(n > 0, n, 1.0)
 
 
+_RUN_CACHE: dict = {}
+
+
+def _run_points(garment: Garment, run) -> np.ndarray:
+    """``garment.run_polyline(run)``, remembered per (piece edge, run): seams are sampled many
+    times during refinement. The key holds the edge's points, so a changed garment misses."""
+    edge = garment.piece(run.piece).edge(run.edge)
+    key = (edge.points, run)
+    pts = _RUN_CACHE.get(key)
+    if pts is None:
+        if len(_RUN_CACHE) > 4096:
+            _RUN_CACHE.clear()
+        pts = _RUN_CACHE[key] = garment.run_polyline(run)
+    return pts
+
+
 def seam_sides(garment: Garment, seam: Seam, t: np.ndarray, inset_mm: float = INSET_MM) -> SeamSides:
     """Points and tangents of both runs of ``seam`` at fractions ``t`` (m,).
 
@@ -73,7 +89,7 @@ def seam_sides(garment: Garment, seam: Seam, t: np.ndarray, inset_mm: float = IN
     t = np.asarray(t, dtype=float)
     out = []
     for run in (seam.a, seam.b):
-        pts = garment.run_polyline(run)
+        pts = _run_points(garment, run)
         length = cumulative_length(pts)[-1]
         tan = _tangents(pts, t)
         inward = np.stack([-tan[:, 1], tan[:, 0]], axis=1) * (-1.0 if run.reverse else 1.0)

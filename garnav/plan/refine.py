@@ -208,7 +208,7 @@ def _move_crossing(planner, seam_index: int, t0: float, from_side: int, field_in
     seam = ng.seams[seam_index]
     lo, hi = next(((a, b) for a, b in ng.intervals[seam.name] if a - 1e-12 <= t0 <= b + 1e-12), (t0, t0))
     if hi <= lo:
-        return t0
+        return t0, 0.0
 
     def f(t: np.ndarray) -> np.ndarray:
         (a_xy, a_tan, a_in), (b_xy, b_tan, b_in), amin = _seam_geometry(planner, seam_index, t, from_side)
@@ -224,10 +224,10 @@ def _move_crossing(planner, seam_index: int, t0: float, from_side: int, field_in
         best_t, best_v = float(t[k]), float(v[k])
         t = np.linspace(left, right, 41)
     if right > left:
-        res = minimize_scalar(lambda x: float(f(np.array([x]))[0]), bounds=(left, right), method="bounded", options={"xatol": 1e-12})
+        res = minimize_scalar(lambda x: float(f(np.array([x]))[0]), bounds=(left, right), method="bounded", options={"xatol": 1e-10})
         if np.isfinite(res.fun) and res.fun < best_v:
             best_t, best_v = float(res.x), float(res.fun)
-    return best_t if best_v < f0 - 1e-12 else t0
+    return (best_t, f0 - best_v) if best_v < f0 - 1e-12 else (t0, 0.0)
 
 
 def _total(planner, legs, crossings) -> float:
@@ -262,14 +262,14 @@ def refine(planner, legs: list[tuple[str, np.ndarray]], crossings: list[tuple[in
     crossings = list(crossings)
     if crossings:
         for _ in range(_MAX_ROUNDS):
-            moved = 0.0
+            gain = 0.0
             for i, (s, t, side) in enumerate(crossings):
                 f_in = DistanceField(planner, legs[i][0], _anchor(planner, legs, crossings, i, "start"))
                 f_out = DistanceField(planner, legs[i + 1][0], _anchor(planner, legs, crossings, i + 1, "end"))
-                t_new = _move_crossing(planner, s, t, side, f_in, f_out)
-                moved = max(moved, abs(t_new - t) * planner.garment.run_length(planner.nav.seams[s].a))
+                t_new, g = _move_crossing(planner, s, t, side, f_in, f_out)
+                gain += g
                 crossings[i] = (s, t_new, side)
-            if moved < 1e-9:
+            if gain < 1e-9:
                 break
         # re-plan every leg between its (new) ends
         for i, (piece, pts) in enumerate(legs):
