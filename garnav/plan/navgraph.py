@@ -26,7 +26,15 @@ import shapely
 from garnav.model import Garment
 from garnav.plan.freespace import FreeSpace, PieceFreeSpace
 from garnav.plan.portals import angle_ok, approach_points, free_intervals, portal_fractions, seam_sides
-from garnav.plan.visgraph import Corners, bitangent_pairs, point_links, reflex_corners, segments_free
+from garnav.plan.visgraph import (
+    Corners,
+    bitangent_pairs,
+    merge_corners,
+    point_links,
+    reflex_corners,
+    segments_free,
+    zone_corners,
+)
 
 __all__ = [
     "NavGraph",
@@ -41,7 +49,11 @@ DEFAULT_PORTAL_SPACING_MM = 20.0
 
 
 def edge_costs(fs: PieceFreeSpace, a: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Length and cost (length + soft-zone surcharge) of segments a[i] → b[i]; two (m,) arrays."""
+    """Length and cost of segments a[i] → b[i]; two (m,) arrays.
+
+    cost = length + Σ (cost_factor − 1) × length inside each soft zone (its interior: a segment
+    along the zone's edge pays nothing).
+    """
     a = np.asarray(a, dtype=float).reshape(-1, 2)
     b = np.asarray(b, dtype=float).reshape(-1, 2)
     length = np.linalg.norm(b - a, axis=1)
@@ -49,8 +61,10 @@ def edge_costs(fs: PieceFreeSpace, a: np.ndarray, b: np.ndarray) -> tuple[np.nda
     if fs.soft and len(a):
         segs = shapely.linestrings(np.stack([a, b], axis=1))
         for zone in fs.soft:
+            # driving along the zone's edge is outside it: count the interior only
             inside = shapely.length(shapely.intersection(segs, zone.grown))
-            cost += (zone.cost_factor - 1.0) * inside
+            inside -= shapely.length(shapely.intersection(segs, zone.grown.boundary))
+            cost += (zone.cost_factor - 1.0) * np.maximum(inside, 0.0)
     return length, cost
 
 
@@ -160,6 +174,8 @@ def build_nav_graph(
     for pi, name in enumerate(pieces):
         fs = free[name]
         c = reflex_corners(fs.region)
+        if fs.soft:
+            c = merge_corners(c, zone_corners(fs.region, [z.grown for z in fs.soft]))
         corners[name] = (c, offset)
         for xy in c.xy:
             add(xy, pi)

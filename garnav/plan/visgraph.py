@@ -30,6 +30,9 @@ import shapely
 __all__ = [
     "Corners",
     "reflex_corners",
+    "ring_corners",
+    "zone_corners",
+    "merge_corners",
     "tangent_mask",
     "segments_free",
     "bitangent_pairs",
@@ -71,13 +74,11 @@ def _rings(region: shapely.Geometry) -> list[np.ndarray]:
     return rings
 
 
-def reflex_corners(region: shapely.Geometry, tol: float = 1e-9) -> Corners:
-    """Reflex corners of free space (where its boundary turns right), sorted by ring order.
-
-    ``tol`` is relative: a corner whose turn is within ``tol`` of straight is not a node.
-    """
+def ring_corners(rings: list[np.ndarray], tol: float = 1e-9) -> Corners:
+    """Vertices where rings (each (n, 2), free side on the left) turn right: the corners a
+    shortest path may bend around. ``tol`` is relative: near-straight vertices are skipped."""
     xs, ps, ns = [], [], []
-    for ring in _rings(region):
+    for ring in rings:
         prev = np.roll(ring, 1, axis=0)
         nxt = np.roll(ring, -1, axis=0)
         e1 = ring - prev
@@ -92,6 +93,31 @@ def reflex_corners(region: shapely.Geometry, tol: float = 1e-9) -> Corners:
         z = np.zeros((0, 2))
         return Corners(z, z, z)
     return Corners(np.vstack(xs), np.vstack(ps), np.vstack(ns))
+
+
+def reflex_corners(region: shapely.Geometry, tol: float = 1e-9) -> Corners:
+    """Reflex corners of free space (where its boundary turns right), in ring order."""
+    return ring_corners(_rings(region), tol)
+
+
+def zone_corners(region: shapely.Geometry, zones: list[shapely.Geometry], tol: float = 1e-9) -> Corners:
+    """Convex corners of cost zones (seen from outside) that lie in the free region: a route may
+    bend around a zone as around an obstacle."""
+    rings = []
+    for zone in zones:
+        for poly in shapely.get_parts(shapely.orient_polygons(zone, exterior_cw=True)):
+            if isinstance(poly, shapely.Polygon) and not poly.is_empty:
+                rings.append(np.asarray(poly.exterior.coords)[:-1])
+    c = ring_corners(rings, tol)
+    if not len(c):
+        return c
+    inside = shapely.covers(region, shapely.points(c.xy))
+    return Corners(c.xy[inside], c.prev[inside], c.next[inside])
+
+
+def merge_corners(a: Corners, b: Corners) -> Corners:
+    """Corners of ``a`` followed by those of ``b``."""
+    return Corners(np.vstack([a.xy, b.xy]), np.vstack([a.prev, b.prev]), np.vstack([a.next, b.next]))
 
 
 def tangent_mask(v: np.ndarray, u: np.ndarray, w: np.ndarray, p: np.ndarray, tol: float = 1e-9) -> np.ndarray:
