@@ -88,10 +88,10 @@ def test_walled_gap_message_names_raw_gap_and_need():
 
 def test_snap_moves_start_to_nearest_free_point():
     planner = Planner(_walled_panel())
-    # the bar's half height 20 + (radius 8 + clearance 2) grown by 1/cos(pi/32): 30.05 mm either way
-    with pytest.raises(QueryError, match=r"nearest free point: panel:145\.0,(430\.0|370\.0)"):
+    # the bar's half height 20 + (radius 8 + clearance 2) grown by 1/cos(3 pi/64): 30.11 mm either way
+    with pytest.raises(QueryError, match=r"nearest free point: panel:145\.0,(430\.1|369\.9)"):
         planner.route("panel:145,400", "panel:300,600")
     route = planner.route("panel:145,400", "panel:300,600", snap=True)
     start = route.legs[0].points[0]
     assert planner.free["panel"].covers(start[None])[0]
-    assert abs(start[1] - 400.0) == pytest.approx(20.0 + 10.0 / math.cos(math.pi / 32), abs=1e-6)
+    assert abs(start[1] - 400.0) == pytest.approx(20.0 + 10.0 / math.cos(3 * math.pi / 64), abs=1e-6)

@@ -5,7 +5,7 @@ Public API: :class:`Planner` (built once per garment and robot, answers many que
 :func:`build_free_space`, :class:`PiecePoint`.
 """
 
-from garnav.plan.freespace import FreeSpace, build_free_space, grow, grow_factor
+from garnav.plan.freespace import FreeSpace, build_free_space, grow, grow_factor, join_grow_factor
 from garnav.plan.planner import PLANNER_VERSION, Planner, plan_route
 from garnav.plan.points import PiecePoint, parse_point, resolve_point
 from garnav.plan.route import Crossing, Leg, Route
@@ -21,6 +21,7 @@ __all__ = [
     "build_free_space",
     "grow",
     "grow_factor",
+    "join_grow_factor",
     "parse_point",
     "plan_route",
     "resolve_point",
