@@ -12,6 +12,7 @@ start and goal points, then refines the crossings (:mod:`garnav.plan.refine`) an
 
 from __future__ import annotations
 
+from pathlib import Path
 from typing import Callable, Sequence
 
 import numpy as np
@@ -19,10 +20,10 @@ import scipy.sparse as sp
 
 from garnav.errors import NoRouteError, QueryError
 from garnav.model import Garment, Robot
-from garnav.plan.freespace import DEFAULT_QUAD_SEGS, FreeSpace, build_free_space
+from garnav.plan.cache import cache_key, cache_path, load_nav_graph, save_nav_graph
+from garnav.plan.freespace import DEFAULT_QUAD_SEGS, build_free_space
 from garnav.plan.navgraph import (
     DEFAULT_PORTAL_SPACING_MM,
-    NavGraph,
     build_nav_graph,
     edge_costs,
     free_point_links,
@@ -54,6 +55,11 @@ class Planner:
         Added to every keep-out's clearance.
     locate_3d : callable, optional
         ``locate_3d(xyz) -> (piece, x, y)``: maps a world point (mm) to the pattern (needs a drape).
+    approach_mm : float, optional
+        Straight run kept at a seam's smallest crossing angle on each side (default: the robot
+        radius).
+    cache_dir : path, optional
+        Folder for the on-disk graph cache (:mod:`garnav.plan.cache`); None = no cache.
     """
 
     def __init__(
@@ -65,16 +71,29 @@ class Planner:
         portal_spacing_mm: float = DEFAULT_PORTAL_SPACING_MM,
         extra_clearance_mm: float = 0.0,
         locate_3d: Callable | None = None,
-        free: FreeSpace | None = None,
-        nav: NavGraph | None = None,
+        approach_mm: float | None = None,
+        cache_dir: str | Path | None = None,
     ):
         self.garment = garment
         self.robot = robot or garment.robot or Robot()
         self.locate_3d = locate_3d
-        self.free = free or build_free_space(
-            garment, self.robot, quad_segs=quad_segs, extra_clearance_mm=extra_clearance_mm
-        )
-        self.nav = nav or build_nav_graph(garment, self.free, portal_spacing_mm)
+        self.free = build_free_space(garment, self.robot, quad_segs=quad_segs, extra_clearance_mm=extra_clearance_mm)
+        self.nav = None
+        self.cache_file = None
+        if cache_dir is not None:
+            options = {
+                "quad_segs": quad_segs,
+                "portal_spacing_mm": portal_spacing_mm,
+                "extra_clearance_mm": extra_clearance_mm,
+                "approach_mm": approach_mm,
+            }
+            key = cache_key(garment, self.robot, options, PLANNER_VERSION)
+            self.cache_file = cache_path(cache_dir, key)
+            self.nav = load_nav_graph(self.cache_file, garment, self.free, key)
+        if self.nav is None:
+            self.nav = build_nav_graph(garment, self.free, portal_spacing_mm, approach_mm)
+            if self.cache_file is not None:
+                save_nav_graph(self.nav, self.cache_file, key)
         self.portal_graph = PortalGraph(self.nav)
         g = self.nav.graph
         self._adj = [[(m, d["weight"]) for m, d in g.adj[n].items()] for n in range(g.number_of_nodes())]
