@@ -14,7 +14,7 @@ import pytest
 import shapely
 
 import garments
-from garnav import Circle, Edge, KeepOut, Landmark, Piece, PolygonShape, Rectangle
+from garnav import Circle, Edge, KeepOut, Landmark, PolygonShape, Rectangle
 from garnav.demo import demo_garment
 from garnav.plan import Planner
 from garnav.plan.portals import seam_sides

@@ -146,12 +146,9 @@ def _wall_reason(planner, piece: str, reach: shapely.Polygon, goal_part: shapely
                 best = (gap, a, b, need)
     if best is not None:
         gap, a, b, need = best
-        return f"the gap between {_name(a)} and {_name(b)} is {gap:.1f} mm, the robot needs {need:.1f} mm"
+        return f"the gap between {a.label} and {b.label} is {gap:.1f} mm, the robot needs {need:.1f} mm"
     if wall:
-        names = ", ".join(_name(o) for o in wall)
+        names = ", ".join(o.label for o in wall)
         return f"it is walled off by {names}"
     return "its part of the free space touches no other part"
 
-
-def _name(o: Obstacle) -> str:
-    return o.label

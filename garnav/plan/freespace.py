@@ -55,7 +55,7 @@ import shapely
 import shapely.ops
 from shapely import affinity
 
-from garnav.model import Circle, Garment, KeepOut, Robot, Seam, SeamRun
+from garnav.model import Circle, Garment, Robot, Seam, SeamRun
 from garnav.polyline import cumulative_length, point_at_length, sub_polyline
 
 __all__ = [
@@ -80,7 +80,7 @@ def grow_factor(quad_segs: int = DEFAULT_QUAD_SEGS) -> float:
     contains the true round offset.
 
     >>> round(grow_factor(8), 6)
-    1.004838
+    1.004839
     >>> round(10 * grow_factor(8) * math.cos(math.pi / 32), 12)   # inscribed radius back to 10
     10.0
     """
@@ -92,7 +92,7 @@ def join_grow_factor(quad_segs: int = DEFAULT_QUAD_SEGS) -> float:
     steps of up to 1.5 × π/(2q) (see the module docstring).
 
     >>> round(join_grow_factor(8), 6)
-    1.010938
+    1.010942
     """
     return 1.0 / math.cos(3.0 * math.pi / (8 * int(quad_segs)))
 

@@ -21,6 +21,7 @@ import scipy.sparse as sp
 from garnav.errors import NoRouteError, QueryError
 from garnav.model import Garment, Robot
 from garnav.plan.cache import cache_key, cache_path, load_nav_graph, save_nav_graph
+from garnav.plan.explain import check_free, explain_no_route
 from garnav.plan.freespace import DEFAULT_QUAD_SEGS, build_free_space
 from garnav.plan.navgraph import (
     DEFAULT_PORTAL_SPACING_MM,
@@ -30,6 +31,7 @@ from garnav.plan.navgraph import (
     point_pairs,
 )
 from garnav.plan.points import PiecePoint, PointLike, resolve_point
+from garnav.plan.refine import refine
 from garnav.plan.route import Leg, Route, join_routes, make_route
 from garnav.plan.search import PortalGraph, astar, heuristic_values
 from garnav.plan.visgraph import segments_free
@@ -121,8 +123,6 @@ class Planner:
     def point(self, spec: PointLike, *, snap: bool = False, role: str = "point") -> PiecePoint:
         """Resolve a point (landmark name, ``PIECE:X,Y``, ``xyz:X,Y,Z`` or PiecePoint) and check
         that the robot fits there; with ``snap`` move it to the nearest free point instead."""
-        from garnav.plan.explain import check_free
-
         pp = resolve_point(self.garment, spec, locate_3d=self.locate_3d)
         return check_free(self.free, pp, snap=snap, role=role)
 
@@ -179,8 +179,6 @@ class Planner:
         """
         path, cost, k = self._search(start, goals)
         if path is None:
-            from garnav.plan.explain import explain_no_route
-
             raise NoRouteError(explain_no_route(self, start, goals))
         return path, cost, k
 
@@ -238,8 +236,6 @@ class Planner:
         return self._route_between(s, gs)
 
     def _route_between(self, start: PiecePoint, goals: list[PiecePoint]) -> tuple[int, Route]:
-        from garnav.plan.refine import refine
-
         path, cost, k = self.search(start, goals)
         legs, crossings = self._split(path, start, goals[k])
         legs, crossings, cost = refine(self, legs, crossings)

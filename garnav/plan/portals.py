@@ -169,8 +169,8 @@ def portal_fractions(intervals: list[tuple[float, float]], length_mm: float, spa
     """Portal fractions: every interval split into pieces at most ``spacing_mm`` long, both ends
     and the middle of each included. Sorted, unique; (p,) float.
 
-    >>> portal_fractions([(0.0, 0.5)], 100.0, 20.0).tolist()
-    [0.0, 0.1, 0.2, 0.25, 0.3, 0.4, 0.5]
+    >>> portal_fractions([(0.0, 0.5), (0.8, 0.9)], 100.0, 25.0).tolist()
+    [0.0, 0.25, 0.5, 0.8, 0.85, 0.9]
     """
     out = []
     for lo, hi in intervals:
