@@ -13,8 +13,10 @@ Construction (no Python loop over vertex pairs):
    ring turns right is a reflex corner of free space (a convex obstacle corner) and becomes a node;
 2. candidate pairs: tangency at both ends is evaluated for all pairs with numpy cross products,
    in row blocks;
-3. visibility: the surviving segments are tested in batches with ``shapely.covers(region,
-   segments)`` on the prepared region (exact predicates, boundary contact allowed).
+3. visibility: segments that pass through a disc lying strictly inside a hole are dropped by a
+   numpy distance test (cheap, certain); the rest are tested in batches with
+   ``shapely.covers(region, segments)`` on the prepared region (exact predicates, boundary contact
+   allowed).
 
 Query points (start, goal, seam portals) join the nodes they see, with tangency required at the
 node end only.
@@ -36,6 +38,7 @@ __all__ = [
     "tangent_mask",
     "segments_free",
     "bitangent_pairs",
+    "inner_discs",
     "point_links",
 ]
 
@@ -210,8 +213,42 @@ def bitangent_pairs(region: shapely.Geometry, corners: Corners) -> tuple[np.ndar
         return np.zeros(0, int), np.zeros(0, int)
     i = np.concatenate(ii)
     j = np.concatenate(jj)
+    keep = ~_through_inner_discs(region, xy[i], xy[j])
+    i, j = i[keep], j[keep]
     keep = segments_free(region, xy[i], xy[j])
     return i[keep], j[keep]
+
+
+def inner_discs(region: shapely.Geometry) -> tuple[np.ndarray, np.ndarray]:
+    """One open disc inside each hole of the region (centre (h, 2), radius (h,)): the hole's
+    centroid and its distance to the hole's ring, where the centroid lies inside the hole."""
+    holes = [shapely.Polygon(r) for poly in shapely.get_parts(region) if not poly.is_empty for r in poly.interiors]
+    if not holes:
+        return np.zeros((0, 2)), np.zeros(0)
+    holes = np.array(holes, dtype=object)
+    cent = shapely.centroid(holes)
+    inside = shapely.contains_properly(holes, cent)
+    radius = shapely.distance(cent, shapely.boundary(holes))
+    ok = inside & (radius > 0)
+    return shapely.get_coordinates(cent[ok]), radius[ok]
+
+
+def _through_inner_discs(region: shapely.Geometry, a: np.ndarray, b: np.ndarray, chunk: int = 2048) -> np.ndarray:
+    """Segments that certainly leave the region: they pass through a disc strictly inside a hole
+    (a cheap numpy test done before the exact one). (m,) bool."""
+    centres, radii = inner_discs(region)
+    out = np.zeros(len(a), dtype=bool)
+    if not len(radii):
+        return out
+    r2 = (radii * (1.0 - 1e-9)) ** 2
+    for s in range(0, len(a), chunk):
+        p, q = a[s : s + chunk, None, :], b[s : s + chunk, None, :]
+        d = q - p
+        dd = np.maximum((d * d).sum(-1), 1e-300)
+        t = np.clip(((centres[None] - p) * d).sum(-1) / dd, 0.0, 1.0)
+        near = p + t[..., None] * d - centres[None]
+        out[s : s + chunk] = ((near * near).sum(-1) < r2[None]).any(axis=1)
+    return out
 
 
 def point_links(
