@@ -89,3 +89,37 @@ def test_route_is_safe(case):
     assert route.length_mm >= np.linalg.norm(t - s) - 1e-9
     np.testing.assert_array_equal(pts[0], s)
     np.testing.assert_array_equal(pts[-1], t)
+
+
+def test_demo_routes_keep_their_distances():
+    """Random routes on the demo garment: every leg keeps radius + clearance from the EXACT hard
+    keep-outs of its piece and radius + margin from its open edges (shapely distances)."""
+    from garnav.demo import demo_garment
+    from garnav.polyline import sub_polyline
+
+    g = demo_garment()
+    planner = Planner(g)
+    r = planner.robot
+    rng = np.random.default_rng(7)
+    names = [p.name for p in g.pieces]
+    pts = []
+    while len(pts) < 16:
+        name = names[rng.integers(len(names))]
+        minx, miny, maxx, maxy = g.piece(name).polygon.bounds
+        xy = rng.uniform([minx, miny], [maxx, maxy])
+        if planner.free[name].covers(xy[None])[0]:
+            pts.append(PiecePoint(name, *xy))
+    for s, t in zip(pts[::2], pts[1::2]):
+        route = planner.route(s, t)
+        for leg in route.legs:
+            line = shapely.LineString(leg.points)
+            for ko in g.keepouts_on(leg.piece):
+                if ko.hard:
+                    assert _exact_distance(ko, line) >= r.radius_mm + ko.clearance_mm - TOL, ko.name
+            for run in g.open_runs():
+                if run.piece == leg.piece:
+                    edge = shapely.LineString(sub_polyline(g.piece(run.piece).edge(run.edge).array, run.from_mm, run.to_mm))
+                    assert edge.distance(line) >= r.radius_mm + r.edge_margin_mm - TOL, run.edge
+            for opening in g.piece(leg.piece).openings:
+                ring = shapely.LinearRing(opening.array)
+                assert ring.distance(line) >= r.radius_mm + r.edge_margin_mm - TOL, opening.name

@@ -276,7 +276,9 @@ def refine(planner, legs: list[tuple[str, np.ndarray]], crossings: list[tuple[in
             a0 = _anchor(planner, legs, crossings, i, "start")
             a1 = _anchor(planner, legs, crossings, i, "end")
             new_pts, _ = piece_path(planner, piece, a0, a1)
-            if new_pts is None:  # not expected: every accepted move kept the legs finite
-                raise RuntimeError(f"refinement lost leg {i} on piece '{piece}'")
+            if new_pts is None:
+                # only when no move was made here (an accepted move keeps both legs finite) and the
+                # searched leg passed a portal point on its way: keep it as it was
+                new_pts = np.vstack([a0.xy, pts[1:-1], a1.xy])
             legs[i] = (piece, new_pts)
     return legs, crossings, _total(planner, legs, crossings)
