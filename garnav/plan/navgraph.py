@@ -184,18 +184,18 @@ def build_nav_graph(
         portal_nodes[name] = np.arange(first_portal, first_portal + len(rows))
         for si, side, t, xy, tan, inward in rows:
             add(xy, pi, si, side, t, tan, inward)
-        # approach points, kept where the straight approach lies in free space
+        # approach points, kept where the straight approach lies in free space (one batch)
         nxt = first_portal + len(rows)
         app = []
-        for k, (si, side, t, xy, tan, inward) in enumerate(rows):
-            amin = seams[si].min_crossing_angle_deg
-            if amin <= 0 or approach <= 0:
-                continue
-            ends = approach_points(xy[None], tan[None], inward[None], amin, approach)[0]
-            ends = ends[:1] if amin >= 90.0 else ends
-            ok = segments_free(fs.region, np.repeat(xy[None], len(ends), axis=0), ends)
-            for e in ends[ok]:
-                add(e, pi, of=first_portal + k)
+        if rows and approach > 0:
+            amin = np.array([seams[r[0]].min_crossing_angle_deg for r in rows])
+            pxy, ptan, pin = (np.array([r[k] for r in rows]) for k in (3, 4, 5))
+            ends = approach_points(pxy, ptan, pin, amin[:, None], approach)  # (p, 2, 2)
+            want = np.stack([amin > 0, (amin > 0) & (amin < 90.0)], axis=1)  # at 90° the two coincide
+            k, e = np.nonzero(want)
+            ok = segments_free(fs.region, pxy[k], ends[k, e])
+            for kk, ee in zip(k[ok].tolist(), e[ok].tolist()):
+                add(ends[kk, ee], pi, of=first_portal + kk)
                 app.append(nxt)
                 nxt += 1
         approach_nodes[name] = np.array(app, dtype=int)

@@ -108,9 +108,9 @@ def approach_points(xy: np.ndarray, tangent: np.ndarray, inward: np.ndarray, min
     leaves along one of its two edges for exactly ``length_mm`` (going further along a straight
     line that does not point at the target only adds length). Returns (m, 2, 2): for each crossing
     point (m, 2) the points at directions ``min_angle`` and ``180° − min_angle`` from the tangent,
-    on the piece's side. For 90° both coincide.
+    on the piece's side. For 90° both coincide. ``min_angle_deg`` may be a scalar or (m, 1).
     """
-    a = np.radians(min_angle_deg)
+    a = np.radians(np.asarray(min_angle_deg, dtype=float))
     out = []
     for phi in (a, np.pi - a):
         u = np.cos(phi) * tangent + np.sin(phi) * inward
