@@ -7,6 +7,7 @@ import json
 import math
 from pathlib import Path
 
+import numpy as np
 import pytest
 
 import garments
@@ -95,3 +96,24 @@ def test_snap_moves_start_to_nearest_free_point():
     start = route.legs[0].points[0]
     assert planner.free["panel"].covers(start[None])[0]
     assert abs(start[1] - 400.0) == pytest.approx(20.0 + 10.0 / math.cos(3 * math.pi / 64), abs=1e-6)
+
+
+def test_xyz_points_go_through_the_locate_hook():
+    """A drape-free stand-in for the 3D → pattern map: world (x, y, z) → left piece at (x, z)."""
+    from garnav import Landmark
+
+    g = garments.two_panels()
+    g = dataclasses.replace(g, landmarks=g.landmarks + (Landmark("body_point", xyz=(120.0, 0.0, 250.0)),))
+    seen = []
+
+    def locate(xyz):
+        seen.append(tuple(xyz))
+        return "left", float(xyz[0]), float(xyz[2])
+
+    planner = Planner(g, locate_3d=locate)
+    route = planner.route("xyz:60,5,80", "body_point")
+    np.testing.assert_allclose(route.legs[0].points[0], [60.0, 80.0])
+    np.testing.assert_allclose(route.legs[-1].points[-1], [120.0, 250.0])
+    assert seen == [(60.0, 5.0, 80.0), (120.0, 0.0, 250.0)]
+    with pytest.raises(QueryError, match="landmark 'body_point': xyz points need a drape"):
+        Planner(g).route("left_centre", "body_point")
