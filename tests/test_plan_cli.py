@@ -117,3 +117,12 @@ def test_xyz_points_go_through_the_locate_hook():
     assert seen == [(60.0, 5.0, 80.0), (120.0, 0.0, 250.0)]
     with pytest.raises(QueryError, match="landmark 'body_point': xyz points need a drape"):
         Planner(g).route("left_centre", "body_point")
+
+
+def test_unreachable_piece_when_a_keepout_lines_the_seam():
+    g = garments.two_panels()
+    strip = KeepOut("zip", "left", "zip", Rectangle(295.0, 200.0, 10.0, 400.0), clearance_mm=1.0)
+    g = dataclasses.replace(g, keepouts=(strip,))
+    with pytest.raises(NoRouteError, match="piece 'right' is unreachable: seam 'middle' has no place where the robot "
+                       r"\(radius 10 mm\) fits on both sides and no other seam joins it"):
+        plan_route(g, "left_centre", "right_centre")
