@@ -44,3 +44,18 @@ def course(seed: int, n: int = 6, **kw):
     rng = np.random.default_rng(seed)
     g = garments.single_panel()
     return dataclasses.replace(g, keepouts=tuple(random_keepouts(rng, n, **kw))), rng
+
+
+def random_free_points(planner, rng: np.random.Generator, count: int):
+    """``count`` random points (PiecePoint) where the planner's robot may stand, on random pieces."""
+    from garnav.plan import PiecePoint
+
+    out = []
+    names = [p.name for p in planner.garment.pieces]
+    while len(out) < count:
+        name = names[rng.integers(len(names))]
+        minx, miny, maxx, maxy = planner.garment.piece(name).polygon.bounds
+        xy = rng.uniform([minx, miny], [maxx, maxy])
+        if planner.free[name].covers(xy[None])[0]:
+            out.append(PiecePoint(name, *xy))
+    return out

@@ -18,6 +18,7 @@ from hypothesis import strategies as st
 import garments
 from garnav import Circle, KeepOut, PolygonShape, Rectangle
 from garnav.plan import PiecePoint, Planner
+from plan_courses import random_free_points
 
 TOL = 1e-6
 
@@ -100,15 +101,7 @@ def test_demo_routes_keep_their_distances():
     g = demo_garment()
     planner = Planner(g)
     r = planner.robot
-    rng = np.random.default_rng(7)
-    names = [p.name for p in g.pieces]
-    pts = []
-    while len(pts) < 16:
-        name = names[rng.integers(len(names))]
-        minx, miny, maxx, maxy = g.piece(name).polygon.bounds
-        xy = rng.uniform([minx, miny], [maxx, maxy])
-        if planner.free[name].covers(xy[None])[0]:
-            pts.append(PiecePoint(name, *xy))
+    pts = random_free_points(planner, np.random.default_rng(7), 16)
     for s, t in zip(pts[::2], pts[1::2]):
         route = planner.route(s, t)
         for leg in route.legs:

@@ -14,7 +14,8 @@ import pytest
 import garments
 from garnav import Circle, KeepOut, Rectangle
 from garnav.demo import demo_garment
-from garnav.plan import PiecePoint, Planner
+from garnav.plan import Planner
+from plan_courses import random_free_points
 
 
 def _two_panels_with_keepouts():
@@ -27,21 +28,9 @@ def _two_panels_with_keepouts():
     return dataclasses.replace(g, keepouts=kos)
 
 
-def _random_free_points(planner, rng, count):
-    out = []
-    names = [p.name for p in planner.garment.pieces]
-    while len(out) < count:
-        name = names[rng.integers(len(names))]
-        minx, miny, maxx, maxy = planner.garment.piece(name).polygon.bounds
-        xy = rng.uniform([minx, miny], [maxx, maxy])
-        if planner.free[name].covers(xy[None])[0]:
-            out.append(PiecePoint(name, *xy))
-    return out
-
-
 def _check_against_dijkstra(planner, rng, queries):
     n0 = planner.nav.graph.number_of_nodes()
-    pts = _random_free_points(planner, rng, 2 * queries)
+    pts = random_free_points(planner, rng, 2 * queries)
     h = planner.nav.graph.copy()
     for s, g in zip(pts[::2], pts[1::2]):
         h.add_nodes_from([n0, n0 + 1])
@@ -88,7 +77,7 @@ def test_heuristic_is_a_lower_bound_demo(demo_planner):
     n0 = ng.graph.number_of_nodes()
     rng = np.random.default_rng(4)
     h = ng.graph.copy()
-    for s, g in zip(*[iter(_random_free_points(planner, rng, 10))] * 2):
+    for s, g in zip(*[iter(random_free_points(planner, rng, 10))] * 2):
         h.remove_nodes_from([n0, n0 + 1])
         for u, v, w in planner.query_edges(s, [g]):
             h.add_edge(u, v, weight=w)
