@@ -50,25 +50,21 @@ class PortalGraph:
     def __init__(self, ng: NavGraph):
         self.ng = ng
         self.portals = np.nonzero(ng.portal_seam >= 0)[0]
-        index = {int(n): k for k, n in enumerate(self.portals)}
         rows, cols, vals = [], [], []
         for piece, nodes in ng.portal_nodes.items():
             if len(nodes) < 2:
                 continue
             a, b = np.triu_indices(len(nodes), 1)
             d = np.linalg.norm(ng.xy[nodes[a]] - ng.xy[nodes[b]], axis=1)
-            rows.append(np.array([index[int(n)] for n in nodes[a]]))
-            cols.append(np.array([index[int(n)] for n in nodes[b]]))
+            rows.append(np.searchsorted(self.portals, nodes[a]))
+            cols.append(np.searchsorted(self.portals, nodes[b]))
             vals.append(d)
-        for n in self.portals:
-            n = int(n)
-            if ng.portal_side[n] != 0:
-                continue
-            for m in ng.graph.neighbors(n):
-                if ng.graph[n][m]["crossing"]:
-                    rows.append(np.array([index[n]]))
-                    cols.append(np.array([index[m]]))
-                    vals.append(np.array([ng.graph[n][m]["weight"]]))
+        crossing = [(n, m, d["weight"]) for n, m, d in ng.graph.edges(data=True) if d["crossing"]]
+        if crossing:
+            n, m, w = (np.array(x) for x in zip(*crossing))
+            rows.append(np.searchsorted(self.portals, n))
+            cols.append(np.searchsorted(self.portals, m))
+            vals.append(w.astype(float))
         p = len(self.portals)
         if rows:
             r = np.concatenate(rows)
