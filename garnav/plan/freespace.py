@@ -42,7 +42,8 @@ partner's side of the seam lands outside A). The carried shape is clipped to a b
 width around A's run. Not handled: (1) on curved seams the rigid motion is exact only at that
 nearest point, so the carried shape is a first-order picture of the fabric beyond the seam;
 (2) ease (runs of different length) is ignored when carrying; (3) obstacles are carried over one
-seam only, not over two seams meeting at a corner.
+seam only, not over two seams meeting at a corner; (4) soft zones are not carried: the part of a
+partner's grown soft zone that reaches across a seam costs nothing.
 """
 
 from __future__ import annotations
