@@ -263,6 +263,9 @@ def markdown_report(res: dict[str, Any]) -> str:
         f"{s['n_pairs']} start/goal pairs per case; grid cell {s['grid_cell_mm']} mm; pyvisgraph budget {s['ref_budget_s']:.0f} s",
         "",
         *([f"- note: {res['note']}"] if res.get("note") else []),
+        *[f"- part {i + 1}: cases {', '.join(run['cases'])} run {run['machine']['date_utc']} (commit "
+          f"{run['machine'].get('garnav_commit') or 'unknown'}, load at start {run['machine'].get('load_average_1_5_15')})"
+          for i, run in enumerate(res.get("runs", []))],
         "",
         "## Targets",
         "",

@@ -497,6 +497,26 @@ def run(opts: Options, which: tuple[str, ...], log=print) -> dict[str, Any]:
     return results
 
 
+def merge_results(old: dict[str, Any], new: dict[str, Any]) -> dict[str, Any]:
+    """Cases of ``new`` replace or join those of ``old``; targets and growth are recomputed.
+
+    Each part keeps its own machine description under ``runs`` so a merged report stays honest
+    about when and under which load each figure was taken.
+    """
+    merged = dict(old)
+    runs = list(old.get("runs") or [{"machine": old["machine"], "cases": sorted(old.get("cases", {}))}])
+    runs.append({"machine": new["machine"], "cases": sorted(new.get("cases", {}))})
+    merged["runs"] = runs
+    merged["machine"] = new["machine"]
+    merged["cases"] = {**old.get("cases", {}), **new.get("cases", {})}
+    if "growth_exponent_in_N" in new:
+        merged["growth_exponent_in_N"] = new["growth_exponent_in_N"]
+    merged["settings"] = {**old.get("settings", {}), **{k: v for k, v in new["settings"].items()}}
+    merged["total_s"] = float(old.get("total_s", 0.0)) + float(new.get("total_s", 0.0))
+    merged["targets"] = evaluate_targets(merged)
+    return merged
+
+
 def main(argv: list[str] | None = None) -> int:
     ap = argparse.ArgumentParser(prog="python -m benchmarks", description=__doc__.split("\n\n")[0])
     ap.add_argument("--quick", action="store_true", help="tiny cases, few queries (seconds; for the smoke test)")
@@ -509,6 +529,9 @@ def main(argv: list[str] | None = None) -> int:
                     help="skip a pyvisgraph build predicted to take longer (s) and report the estimate")
     ap.add_argument("--seed", type=int, default=0)
     ap.add_argument("--note", help="free text recorded with the results (e.g. what changed)")
+    ap.add_argument("--update", metavar="JSON",
+                    help="merge this run's cases into an earlier results file (re-run part of the suite); "
+                         "the merged results are what --json / --write-md write")
     ap.add_argument("--json", metavar="PATH", help="write all results as JSON")
     ap.add_argument("--write-md", metavar="PATH", help="write the Markdown report (BENCHMARKS.md)")
     args = ap.parse_args(argv)
@@ -518,6 +541,8 @@ def main(argv: list[str] | None = None) -> int:
         ap.error(f"unknown case(s) {bad}; choose from {list(ALL_CASES)}")
     opts = Options(args)
     results = run(opts, which, log=lambda m: print(m, file=sys.stderr, flush=True))
+    if args.update:
+        results = merge_results(json.loads(Path(args.update).read_text(encoding="utf-8")), results)
     if args.note:
         results["note"] = args.note
     print(format_report(results))
