@@ -157,3 +157,81 @@ def angle_to_run(heading_rad: float, tangent: tuple[float, float]) -> float:
     """Angle (deg, 0..90) between a heading and a seam tangent."""
     c = abs(math.cos(heading_rad) * tangent[0] + math.sin(heading_rad) * tangent[1])
     return math.degrees(math.acos(min(1.0, c)))
+
+
+# --------------------------------------------------------------------------- a lifted stand-in
+
+CYL_RADIUS = 600.0 / (2.0 * math.pi)  # two_panels' 600 mm of width wrap once around
+
+
+@dataclass(frozen=True)
+class CylinderLift:
+    """two_panels wrapped round a vertical cylinder: the route lifted analytically.
+
+    Piece 'left' covers angles x / R, piece 'right' (x + 300) / R; pattern y is world z. The
+    mapping is an exact isometry, so the 3D path is known in closed form: position
+    (R cos θ, R sin θ, y), outward normal (cos θ, sin θ, 0), and a pattern direction (dx, dy)
+    maps to dx (−sin θ, cos θ, 0) + dy (0, 0, 1).
+    """
+
+    points: np.ndarray
+    normals: np.ndarray
+    pieces: tuple
+    pattern: np.ndarray
+    waypoint_index: np.ndarray
+    length_3d_mm: float
+    climb_up_mm: float
+    climb_down_mm: float
+
+
+def cylinder_theta(piece: str, x: float) -> float:
+    return (x + (300.0 if piece == "right" else 0.0)) / CYL_RADIUS
+
+
+def cylinder_point(piece: str, x: float, y: float) -> np.ndarray:
+    th = cylinder_theta(piece, x)
+    return np.array([CYL_RADIUS * math.cos(th), CYL_RADIUS * math.sin(th), y])
+
+
+def cylinder_normal(piece: str, x: float) -> np.ndarray:
+    th = cylinder_theta(piece, x)
+    return np.array([math.cos(th), math.sin(th), 0.0])
+
+
+def cylinder_direction(piece: str, x: float, heading_deg: float) -> np.ndarray:
+    th = cylinder_theta(piece, x)
+    h = math.radians(heading_deg)
+    return math.cos(h) * np.array([-math.sin(th), math.cos(th), 0.0]) + math.sin(h) * np.array([0.0, 0.0, 1.0])
+
+
+def cylinder_lift(route, step_mm: float = 5.0) -> CylinderLift:
+    """Lift a two_panels route onto the cylinder, sampling every leg segment every ``step_mm``."""
+    pts, nrm, pcs, pat, wpi = [], [], [], [], []
+    for leg in route.legs:
+        p = np.asarray(leg.points, dtype=float)
+        for k in range(len(p)):
+            wpi.append(len(pts))
+            pts.append(cylinder_point(leg.piece, *p[k]))
+            nrm.append(cylinder_normal(leg.piece, p[k][0]))
+            pcs.append(leg.piece)
+            pat.append(p[k])
+            if k + 1 < len(p):
+                n = max(1, int(math.ceil(np.hypot(*(p[k + 1] - p[k])) / step_mm)))
+                for t in np.arange(1, n) / n:
+                    q = p[k] + t * (p[k + 1] - p[k])
+                    pts.append(cylinder_point(leg.piece, *q))
+                    nrm.append(cylinder_normal(leg.piece, q[0]))
+                    pcs.append(leg.piece)
+                    pat.append(q)
+    pts = np.array(pts)
+    dz = np.diff(pts[:, 2])
+    return CylinderLift(
+        points=pts,
+        normals=np.array(nrm),
+        pieces=tuple(pcs),
+        pattern=np.array(pat),
+        waypoint_index=np.array(wpi),
+        length_3d_mm=float(np.sum(np.linalg.norm(np.diff(pts, axis=0), axis=1))),
+        climb_up_mm=float(dz[dz > 0].sum()),
+        climb_down_mm=float(-dz[dz < 0].sum()),
+    )
