@@ -25,6 +25,7 @@ import io
 import json
 import math
 from importlib import resources
+from pathlib import Path
 from typing import Any, Protocol, Sequence
 
 import numpy as np
@@ -45,6 +46,7 @@ __all__ = [
     "document_csv",
     "write_route_json",
     "write_route_csv",
+    "read_route_document",
     "route_schema",
     "quaternion_xyzw",
     "body_frame",
@@ -370,3 +372,45 @@ def write_route_json(path, document: dict):
 def write_route_csv(path, document: dict):
     """Write a route document's waypoint table as CSV, atomically. Returns the path."""
     return write_text_atomic(path, document_csv(document))
+
+
+def read_route_document(path) -> dict:
+    """Read a ``garnav-route`` JSON file and check what readers rely on.
+
+    The check covers the format name and version and the waypoint fields; the full description is
+    the JSON Schema (:func:`route_schema`), which a general validator can apply.
+
+    Raises
+    ------
+    QueryError
+        Naming the file and the problem.
+    """
+    p = Path(path)
+    try:
+        text = p.read_text(encoding="utf-8")
+    except OSError as exc:
+        raise QueryError(f"{p}: cannot read: {exc.strerror or exc}") from None
+    except UnicodeDecodeError as exc:
+        raise QueryError(f"{p}: not UTF-8 text (bad byte at offset {exc.start})") from None
+    try:
+        doc = json.loads(text)
+    except json.JSONDecodeError as exc:
+        raise QueryError(f"{p}: not JSON: {exc.msg} at line {exc.lineno}, column {exc.colno}") from None
+    if not isinstance(doc, dict) or doc.get("format") != FORMAT_NAME:
+        found = doc.get("format") if isinstance(doc, dict) else type(doc).__name__
+        raise QueryError(f"{p}: not a {FORMAT_NAME} document (format is {found!r})")
+    if doc.get("version") != FORMAT_VERSION:
+        raise QueryError(f"{p}: {FORMAT_NAME} version {doc.get('version')!r} is not supported (this reader knows {FORMAT_VERSION})")
+    wps = doc.get("waypoints")
+    if not isinstance(wps, list) or len(wps) < 2:
+        raise QueryError(f"{p}: 'waypoints' must be a list of at least two waypoints")
+    for i, w in enumerate(wps):
+        for key, kind in (("leg", int), ("piece", str), ("x_mm", (int, float)), ("y_mm", (int, float))):
+            if not isinstance(w, dict) or not isinstance(w.get(key), kind) or isinstance(w.get(key), bool):
+                raise QueryError(f"{p}: waypoint {i}: '{key}' is missing or not {'a number' if key.endswith('_mm') else kind.__name__}")
+    path3d = doc.get("path_3d")
+    if path3d is not None:
+        pts = path3d.get("points_mm") if isinstance(path3d, dict) else None
+        if not isinstance(pts, list) or not all(isinstance(q, list) and len(q) == 3 for q in pts):
+            raise QueryError(f"{p}: 'path_3d.points_mm' must be a list of [x, y, z] points")
+    return doc

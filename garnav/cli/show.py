@@ -1,0 +1,139 @@
+"""``garnav show``: look at a garment and its routes in 3D (window or off-screen PNG).
+
+    garnav show GARMENT [ROUTE.json ...] [--screenshot PNG] [--size W H] [--sheet FILE]
+
+The window shows the mannequin (the spec's ``body`` mesh), the draped garment (the spec's ``drape``
+mesh) coloured by piece, seams, open edges, keep-outs, landmarks and each route. ``--screenshot``
+renders off-screen to a PNG instead of opening a window. ``--sheet`` also writes the flat pattern
+sheet (``.svg`` or ``.png``) with the same routes.
+"""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+
+from garnav.errors import MeshError, QueryError
+
+__all__ = ["register", "run"]
+
+
+def register(subparsers) -> None:
+    parser = subparsers.add_parser(
+        "show",
+        help="show a garment and routes in 3D, or render them to a PNG",
+        description="Show the mannequin, the draped garment and routes in a 3D window, "
+        "or render them off-screen with --screenshot.",
+    )
+    parser.add_argument("garment", help="garment spec file (.toml)")
+    parser.add_argument("routes", nargs="*", metavar="ROUTE.json", help="route files written by 'garnav route --json'")
+    parser.add_argument("--screenshot", metavar="PNG", help="render off-screen to this PNG file instead of opening a window")
+    parser.add_argument("--size", nargs=2, type=int, metavar=("W", "H"), default=(1200, 900),
+                        help="window or image size in pixels (default 1200 900)")
+    parser.add_argument("--sheet", metavar="FILE", help="also write the flat pattern sheet (.svg or .png)")
+    parser.set_defaults(func=run)
+
+
+def _load_body(path: Path):
+    import numpy as np
+    import trimesh
+
+    if not path.is_file():
+        raise MeshError(f"{path}: body mesh not found")
+    try:
+        mesh = trimesh.load(path, force="mesh", process=False)
+    except Exception as exc:  # trimesh raises many kinds on bad files
+        raise MeshError(f"{path}: cannot read the body mesh: {exc}") from None
+    if len(mesh.faces) == 0:
+        raise MeshError(f"{path}: the body mesh has no triangles")
+    return np.asarray(mesh.vertices, dtype=float), np.asarray(mesh.faces, dtype=np.int64)
+
+
+def _load_drape(garment, path: Path):
+    from garnav.drape import link_drape, load_uv_mesh
+
+    return link_drape(garment, load_uv_mesh(path))
+
+
+def run(args: argparse.Namespace) -> int:
+    from garnav.export.waypoints import read_route_document
+    from garnav.preview.scene import SceneRoute, build_plotter, off_screen_environment, route_polyline, write_screenshot
+    from garnav.spec import load_garment
+
+    w, h = args.size
+    if w < 16 or h < 16 or w > 8192 or h > 8192:
+        raise QueryError(f"--size {w} {h}: width and height must be 16..8192 pixels")
+    spec_path = Path(args.garment)
+    garment = load_garment(spec_path)
+    base = spec_path.parent
+    drape = _load_drape(garment, base / garment.drape) if garment.drape else None
+    body = _load_body(base / garment.body) if garment.body else None
+
+    docs = []
+    for name in args.routes:
+        doc = read_route_document(name)
+        planned_on = doc.get("garment", {}).get("name")
+        if planned_on != garment.name:
+            raise QueryError(f"{name}: the route was planned on garment '{planned_on}', not '{garment.name}'")
+        docs.append((name, doc))
+
+    if args.sheet:
+        _write_sheet(garment, docs, Path(args.sheet))
+
+    if drape is None and body is None:
+        if args.sheet:
+            return 0
+        raise MeshError(f"{spec_path}: the spec names no drape and no body mesh: nothing to show in 3D (try --sheet)")
+    routes = []
+    for name, doc in docs:
+        pts, nrm = route_polyline(doc, drape, garment, source=name)
+        routes.append(SceneRoute(Path(name).stem, pts, nrm))
+
+    off = args.screenshot is not None
+    if off:
+        off_screen_environment()
+    plotter = build_plotter(garment, drape, body, routes, off_screen=off, size=(w, h))
+    try:
+        if off:
+            out = write_screenshot(args.screenshot, plotter)
+            print(f"wrote {out} ({w} x {h} px)")
+        else:
+            plotter.show(title=f"garnav — {garment.name}")
+    finally:
+        plotter.close()
+    return 0
+
+
+def _write_sheet(garment, docs, path: Path) -> None:
+    from garnav.preview.sheet import sheet_drawing, write_sheet_png, write_sheet_svg
+
+    routes = [_route_from_document(doc) for _, doc in docs]
+    drawing = sheet_drawing(garment, routes, route_names=[Path(n).stem for n, _ in docs])
+    suffix = path.suffix.lower()
+    if suffix == ".svg":
+        write_sheet_svg(path, drawing)
+    elif suffix == ".png":
+        write_sheet_png(path, drawing)
+    else:
+        raise QueryError(f"--sheet {path}: use a .svg or .png file name")
+    print(f"wrote {path}")
+
+
+def _route_from_document(doc):
+    """A Route-shaped view of a route document (legs and crossings) for drawing."""
+    import numpy as np
+    from types import SimpleNamespace
+
+    legs: dict[int, list] = {}
+    for w in doc["waypoints"]:
+        legs.setdefault(int(w["leg"]), []).append(w)
+    leg_objs = tuple(
+        SimpleNamespace(piece=ws[0]["piece"], points=np.array([[w["x_mm"], w["y_mm"]] for w in ws], dtype=float))
+        for _, ws in sorted(legs.items())
+    )
+    crossings = tuple(
+        SimpleNamespace(seam=c["seam"], from_piece=c["from_piece"], to_piece=c["to_piece"],
+                        point_from=np.array(c["from_mm"], dtype=float), point_to=np.array(c["to_mm"], dtype=float))
+        for c in doc.get("crossings", [])
+    )
+    return SimpleNamespace(legs=leg_objs, crossings=crossings)
