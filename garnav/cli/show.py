@@ -65,10 +65,6 @@ def run(args: argparse.Namespace) -> int:
         raise QueryError(f"--size {w} {h}: width and height must be 16..8192 pixels")
     spec_path = Path(args.garment)
     garment = load_garment(spec_path)
-    base = spec_path.parent
-    drape = _load_drape(garment, base / garment.drape) if garment.drape else None
-    body = _load_body(base / garment.body) if garment.body else None
-
     docs = []
     for name in args.routes:
         doc = read_route_document(name)
@@ -80,10 +76,13 @@ def run(args: argparse.Namespace) -> int:
     if args.sheet:
         _write_sheet(garment, docs, Path(args.sheet))
 
-    if drape is None and body is None:
+    if not garment.drape and not garment.body:
         if args.sheet:
             return 0
         raise MeshError(f"{spec_path}: the spec names no drape and no body mesh: nothing to show in 3D (try --sheet)")
+    base = spec_path.parent
+    drape = _load_drape(garment, base / garment.drape) if garment.drape else None
+    body = _load_body(base / garment.body) if garment.body else None
     routes = []
     for name, doc in docs:
         pts, nrm = route_polyline(doc, drape, garment, source=name)
