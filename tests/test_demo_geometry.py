@@ -257,10 +257,10 @@ def test_demo_garment_matches_design():
 
 
 def test_mirrored_build_keeps_every_property():
-    # left_x_sign = −1 puts the wearer's left at −x (for a right-handed reading of the frame)
+    # left_x_sign = +1 mirrors the default layout (the wearer's left at +x)
     from garnav.demo.pattern import DemoDimensions
 
-    mirrored = build_design(DemoDimensions(left_x_sign=-1.0))
+    mirrored = build_design(DemoDimensions(left_x_sign=1.0))
     garment = mirrored.garment
     assert _free_space_problems(garment) == []
     mesh = build_drape(mirrored)
