@@ -139,3 +139,12 @@ def test_replay_needs_a_start_on_the_garment():
         replay_commands(g, CommandList((Go(1.0),)))
     with pytest.raises(ReplayError, match="'sleeve'"):
         replay_commands(g, CommandList((Go(1.0),), start=Start("sleeve", 0, 0, 0)))
+
+
+def test_touching_or_running_along_a_seam_does_not_cross():
+    g = garments.two_panels()
+    # to the seam (x = 300) and back; then along the seam line and off it again
+    legs = [("left", np.array([[100.0, 100.0], [300.0, 150.0], [100.0, 200.0], [300.0, 250.0], [300.0, 330.0], [150.0, 360.0]]))]
+    route = er.build_route(legs, [])
+    rep = assert_replay_matches(route, g)
+    assert rep.crossings == () and {p.piece for p in rep.poses} == {"left"}

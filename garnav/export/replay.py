@@ -18,6 +18,7 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
+import shapely
 
 from garnav.errors import QueryError
 from garnav.export.path import wrap_deg
@@ -33,6 +34,10 @@ END_TOL_MM = 1e-7
 ON_RUN_TOL_MM = 1e-6
 # How close a hit must be to a notice's announced distance to match it (mm).
 NOTICE_TOL_MM = 1e-6
+# A hit is an exit when the point this far beyond it lies this far outside the piece (mm): a
+# crossing at angle α puts it 1e-4·sin α outside, so any crossing steeper than 0.006° counts.
+EXIT_PROBE_MM = 1e-4
+EXIT_DEPTH_MM = 1e-8
 _MAX_CROSSINGS_PER_GO = 100_000
 
 
@@ -97,6 +102,7 @@ class _Boundary:
     e: np.ndarray  # (m, 2) segment vectors, oriented so the fabric lies on their left
     label: tuple[str, ...]  # edge or opening name per segment
     runs: tuple[tuple[str, str, np.ndarray], ...]  # (seam, side, run polyline) on this piece
+    polygon: shapely.Geometry  # the piece, openings as holes
 
 
 def _boundaries(garment: Garment) -> dict[str, _Boundary]:
@@ -123,12 +129,17 @@ def _boundaries(garment: Garment) -> dict[str, _Boundary]:
             for side, run in (("a", seam.a), ("b", seam.b)):
                 if run.piece == piece.name:
                     runs.append((seam.name, side, garment.run_polyline(run)))
-        out[piece.name] = _Boundary(np.vstack(starts), np.vstack(vecs), tuple(labels), tuple(runs))
+        out[piece.name] = _Boundary(np.vstack(starts), np.vstack(vecs), tuple(labels), tuple(runs), piece.polygon)
     return out
 
 
 def _first_exit(bound: _Boundary, p: np.ndarray, u: np.ndarray, reach: float):
-    """Smallest t in [-END_TOL, reach] where p + t·u leaves the piece; (t, segment) or None."""
+    """Smallest t in [-END_TOL, reach] where p + t·u leaves the piece; (t, segment) or None.
+
+    A boundary segment only counts when the motion really goes outside there: the point
+    ``EXIT_PROBE_MM`` beyond the hit must lie more than ``EXIT_DEPTH_MM`` outside the piece. So a
+    route that touches an edge at a vertex, or runs along it, does not cross.
+    """
     e = bound.e
     w = bound.a - p
     cross_ue = u[0] * e[:, 1] - u[1] * e[:, 0]
@@ -138,11 +149,12 @@ def _first_exit(bound: _Boundary, p: np.ndarray, u: np.ndarray, reach: float):
     t = (w[:, 0] * e[:, 1] - w[:, 1] * e[:, 0]) / safe
     s = (w[:, 0] * u[1] - w[:, 1] * u[0]) / safe
     ok = leaving & (s >= -1e-12) & (s <= 1.0 + 1e-12) & (t >= -END_TOL_MM) & (t <= reach)
-    if not np.any(ok):
-        return None
     idx = np.flatnonzero(ok)
-    k = int(idx[np.argmin(t[idx])])
-    return float(t[k]), k
+    for k in idx[np.argsort(t[idx], kind="stable")]:
+        probe = p + (max(float(t[k]), 0.0) + EXIT_PROBE_MM) * u
+        if shapely.distance(bound.polygon, shapely.Point(probe[0], probe[1])) > EXIT_DEPTH_MM:
+            return float(t[k]), int(k)
+    return None
 
 
 def replay_commands(garment: Garment, commands: CommandList, start: Start | None = None) -> Replay:
