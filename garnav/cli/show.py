@@ -107,7 +107,15 @@ def _write_sheet(garment, docs, path: Path) -> None:
     from garnav.preview.sheet import sheet_drawing, write_sheet_png, write_sheet_svg
 
     routes = [_route_from_document(doc) for _, doc in docs]
-    drawing = sheet_drawing(garment, routes, route_names=[Path(n).stem for n, _ in docs])
+    free = None
+    if garment.robot is not None:
+        try:
+            from garnav.plan import build_free_space
+        except ImportError:  # a build without the planner draws keep-outs and raw pieces only
+            build_free_space = None
+        if build_free_space is not None:
+            free = build_free_space(garment, garment.robot)
+    drawing = sheet_drawing(garment, routes, free, route_names=[Path(n).stem for n, _ in docs])
     suffix = path.suffix.lower()
     if suffix == ".svg":
         write_sheet_svg(path, drawing)
