@@ -81,3 +81,26 @@ def test_bad_route_files_are_named(two_panel_files, tmp_path, capsys):
     assert main(["show", str(spec), str(wrong), "--sheet", str(tmp_path / "s.svg")]) == 2
     assert "not a garnav-route document" in capsys.readouterr().err
     assert not (tmp_path / "s.svg").exists()
+
+
+def test_demo_screenshot_shows_a_hand_made_route(tmp_path, capsys):
+    pytest.importorskip("garnav.drape.lift")  # the 3D view needs the drape module
+    import matplotlib.image
+
+    from garnav.preview.sheet import ROUTE_COLOURS
+    from garnav.spec import load_garment
+
+    root = Path(__file__).resolve().parents[1]
+    spec = root / "meshes" / "sensing_top.toml"
+    g = load_garment(spec)
+    # a hand-made route on the front panel, below the chest keep-outs (no 3D path in the file:
+    # show lifts the waypoints through the drape)
+    route = er.build_route([("front", np.array([[60.0, 60.0], [220.0, 200.0], [380.0, 80.0]]))], [])
+    rfile = tmp_path / "front.json"
+    write_route_json(rfile, route_document(route, g))
+    shot = tmp_path / "shot.png"
+    assert main(["show", str(spec), str(rfile), "--screenshot", str(shot), "--size", "360", "300"]) == 0
+    img = matplotlib.image.imread(shot)
+    assert img.shape[:2] == (300, 360)
+    colour = np.array([int(ROUTE_COLOURS[0][i : i + 2], 16) for i in (1, 3, 5)]) / 255.0
+    assert np.sum(np.all(np.abs(img[..., :3] - colour) < 0.06, axis=2)) > 30

@@ -126,3 +126,26 @@ def test_a_failed_sheet_write_leaves_no_partial_file(tmp_path, monkeypatch, kind
     assert target.read_bytes() == b"old" and os.listdir(tmp_path) == [target.name]
     write(target)
     assert target.read_bytes() != b"old"
+
+
+def test_demo_sheet_marks_every_seam_and_open_edge():
+    from garnav.demo import demo_garment
+
+    g = demo_garment()
+    root = _parse(sheet_svg(sheet_drawing(g)))
+    paths = list(root.iter(SVG + "path"))
+    for seam in g.seams:
+        runs = [e for e in paths if e.get("class") == "seam" and e.get("data-seam") == seam.name]
+        assert sorted(e.get("data-side") for e in runs) == ["a", "b"]
+        notches = [e for e in paths if e.get("class") == "notch" and e.get("data-seam") == seam.name]
+        a = sorted(e.get("data-fraction") for e in notches if e.get("data-side") == "a")
+        assert a == sorted(e.get("data-fraction") for e in notches if e.get("data-side") == "b") and a
+    opens = {(e.get("data-piece"), e.get("data-edge") or e.get("data-opening"))
+             for e in paths if e.get("class") == "open-edge"}
+    expect = {(r.piece, r.edge) for r in g.open_runs()}
+    expect |= {(p.name, o.name) for p in g.pieces for o in p.openings}
+    assert opens == expect
+    pieces = [e.get("data-piece") for e in paths if e.get("class") == "piece"]
+    assert sorted(pieces) == sorted(p.name for p in g.pieces)
+    landmarks = {e.get("data-landmark") for e in paths if e.get("class") == "landmark"}
+    assert landmarks == {lm.name for lm in g.landmarks if lm.on_pattern}
