@@ -67,21 +67,30 @@ def test_keepout_faces_are_those_inside_the_zone():
     assert np.array_equal(mask, expect) and mask.sum() > 0
 
 
-def test_route_polyline_uses_path_3d_or_lifts_the_waypoints():
+def test_route_polyline_uses_path_3d():
     g = garments.two_panels()
-    d = cylinder_drape(g)
     route = er.two_panel_route(np.random.default_rng(3))
     lifted = er.cylinder_lift(route)
-    doc = route_document(route, g, None, lifted)
-    pts, nrm = route_polyline(doc)
-    assert np.array_equal(pts, lifted.points)
-    bare = route_document(route, g)
-    pts2, nrm2 = route_polyline(bare, d)
-    # the lift lands on the cylinder: distance from the axis is R everywhere
-    assert np.allclose(np.hypot(pts2[:, 0], pts2[:, 1]), cylinder_r)
-    assert np.allclose(nrm2[:, :2] * cylinder_r, pts2[:, :2])
+    pts, nrm = route_polyline(route_document(route, g, None, lifted))
+    assert np.array_equal(pts, lifted.points) and np.array_equal(nrm, lifted.normals)
     with pytest.raises(GarnavError, match="no 3D path"):
-        route_polyline(bare, None, source="r.json")
+        route_polyline(route_document(route, g), None, g, source="r.json")
+
+
+def test_route_polyline_lifts_a_route_without_3d_path_through_the_drape():
+    pytest.importorskip("garnav.drape.lift")  # runs once the drape module is in the package
+    import garnav.drape as drape_mod
+    g = garments.two_panels()
+    d = cylinder_drape(g)
+    drape = drape_mod.link_drape(g, drape_mod.uv_mesh_from_arrays(d.split_positions, d.split_faces, d.corner_uv))
+    route = er.two_panel_route(np.random.default_rng(3), back=True)
+    pts, nrm = route_polyline(route_document(route, g), drape, g)
+    # reference: the closed-form cylinder — every lifted point is R from the axis (mesh chords lie
+    # inside the circle by at most R (1 - cos(Δθ/2)) for the 10 mm cells)
+    chord_gap = cylinder_r * (1 - np.cos(10.0 / cylinder_r / 2))
+    r = np.hypot(pts[:, 0], pts[:, 1])
+    assert np.all(r <= cylinder_r + 1e-6) and np.all(r >= cylinder_r - chord_gap - 1e-6)
+    assert np.all(np.abs(np.linalg.norm(nrm, axis=1) - 1) < 1e-9)
 
 
 def _project(plotter, points):

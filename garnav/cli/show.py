@@ -104,9 +104,10 @@ def run(args: argparse.Namespace) -> int:
 
 
 def _write_sheet(garment, docs, path: Path) -> None:
+    from garnav.export.waypoints import document_route
     from garnav.preview.sheet import sheet_drawing, write_sheet_png, write_sheet_svg
 
-    routes = [_route_from_document(doc) for _, doc in docs]
+    routes = [document_route(doc) for _, doc in docs]
     free = None
     if garment.robot is not None:
         try:
@@ -124,23 +125,3 @@ def _write_sheet(garment, docs, path: Path) -> None:
     else:
         raise QueryError(f"--sheet {path}: use a .svg or .png file name")
     print(f"wrote {path}")
-
-
-def _route_from_document(doc):
-    """A Route-shaped view of a route document (legs and crossings) for drawing."""
-    import numpy as np
-    from types import SimpleNamespace
-
-    legs: dict[int, list] = {}
-    for w in doc["waypoints"]:
-        legs.setdefault(int(w["leg"]), []).append(w)
-    leg_objs = tuple(
-        SimpleNamespace(piece=ws[0]["piece"], points=np.array([[w["x_mm"], w["y_mm"]] for w in ws], dtype=float))
-        for _, ws in sorted(legs.items())
-    )
-    crossings = tuple(
-        SimpleNamespace(seam=c["seam"], from_piece=c["from_piece"], to_piece=c["to_piece"],
-                        point_from=np.array(c["from_mm"], dtype=float), point_to=np.array(c["to_mm"], dtype=float))
-        for c in doc.get("crossings", [])
-    )
-    return SimpleNamespace(legs=leg_objs, crossings=crossings)

@@ -47,6 +47,7 @@ __all__ = [
     "write_route_json",
     "write_route_csv",
     "read_route_document",
+    "document_route",
     "route_schema",
     "quaternion_xyzw",
     "body_frame",
@@ -414,3 +415,31 @@ def read_route_document(path) -> dict:
         if not isinstance(pts, list) or not all(isinstance(q, list) and len(q) == 3 for q in pts):
             raise QueryError(f"{p}: 'path_3d.points_mm' must be a list of [x, y, z] points")
     return doc
+
+
+def document_route(document: dict):
+    """A Route-shaped view of a route document: ``legs`` (piece, points (n, 2) mm) and
+    ``crossings`` (seam, from_piece, to_piece, point_from, point_to, fraction, angle_deg), enough to
+    draw or lift it."""
+    from types import SimpleNamespace
+
+    legs: dict[int, list] = {}
+    for w in document["waypoints"]:
+        legs.setdefault(int(w["leg"]), []).append(w)
+    leg_objs = tuple(
+        SimpleNamespace(piece=ws[0]["piece"], points=np.array([[w["x_mm"], w["y_mm"]] for w in ws], dtype=float))
+        for _, ws in sorted(legs.items())
+    )
+    crossings = tuple(
+        SimpleNamespace(
+            seam=c["seam"],
+            from_piece=c["from_piece"],
+            to_piece=c["to_piece"],
+            point_from=np.array(c["from_mm"], dtype=float),
+            point_to=np.array(c["to_mm"], dtype=float),
+            fraction=float(c["fraction"]),
+            angle_deg=float(c["angle_deg"]),
+        )
+        for c in document.get("crossings", [])
+    )
+    return SimpleNamespace(legs=leg_objs, crossings=crossings)

@@ -42,6 +42,9 @@ __all__ = [
     "off_screen_environment",
 ]
 
+# How far (mm) a route point may lie outside the drape's triangles when lifted for display only.
+DISPLAY_SNAP_MM = 5.0
+
 # Piece colours on the drape (our own muted palette), in garment piece order.
 PIECE_COLOURS = ("#9fb8ad", "#c9b79c", "#a9b4c2", "#d4a5a5", "#b5c99a", "#c3aed6", "#e3c88f", "#9cc5c9")
 
@@ -133,11 +136,11 @@ def keepout_face_mask(garment: Garment, drape) -> np.ndarray:
     return mask
 
 
-def route_polyline(document: dict, drape=None, garment: Garment | None = None, step_mm: float = 2.0, source: str = "route"):
+def route_polyline(document: dict, drape=None, garment: Garment | None = None, source: str = "route"):
     """The 3D polyline of a ``garnav-route`` document.
 
-    Uses the document's ``path_3d`` when it has one; otherwise lifts its waypoints leg by leg
-    through ``drape`` (sampling each straight step every ``step_mm``).
+    Uses the document's ``path_3d`` when it has one; otherwise lifts its legs onto ``drape`` with
+    :func:`garnav.drape.lift_route`.
 
     Returns
     -------
@@ -148,25 +151,14 @@ def route_polyline(document: dict, drape=None, garment: Garment | None = None, s
         pts = np.asarray(path["points_mm"], dtype=float).reshape(-1, 3)
         nrm = path.get("normals")
         return pts, (np.asarray(nrm, dtype=float).reshape(-1, 3) if nrm else None)
-    if drape is None:
+    if drape is None or garment is None:
         raise MeshError(f"{source}: the route has no 3D path and the garment has no drape to lift it onto")
-    pts_out, nrm_out = [], []
-    wps = document["waypoints"]
-    legs: dict[int, list[dict]] = {}
-    for w in wps:
-        legs.setdefault(int(w["leg"]), []).append(w)
-    for li in sorted(legs):
-        xy = np.array([[w["x_mm"], w["y_mm"]] for w in legs[li]], dtype=float)
-        piece = legs[li][0]["piece"]
-        dense = [xy[0]]
-        for a, b in zip(xy[:-1], xy[1:]):
-            n = max(1, int(math.ceil(np.hypot(*(b - a)) / step_mm)))
-            dense += list(a + (np.arange(1, n + 1) / n)[:, None] * (b - a))
-        dense = np.array(dense)
-        hits = drape.locate(piece, dense, snap_mm=1.0)
-        pts_out.append(drape.to_3d(hits.face, hits.bary))
-        nrm_out.append(drape.normals_at(hits.face, hits.bary))
-    return np.vstack(pts_out), np.vstack(nrm_out)
+    from garnav.drape import lift_route
+    from garnav.export.waypoints import document_route
+
+    # a route may hug a curved seam, which the mesh cuts by chords a few mm inside the pattern
+    lifted = lift_route(drape, garment, document_route(document), snap_mm=DISPLAY_SNAP_MM)
+    return np.asarray(lifted.points, dtype=float), np.asarray(lifted.normals, dtype=float)
 
 
 # --------------------------------------------------------------------------- plotting
