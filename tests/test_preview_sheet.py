@@ -149,3 +149,29 @@ def test_demo_sheet_marks_every_seam_and_open_edge():
     assert sorted(pieces) == sorted(p.name for p in g.pieces)
     landmarks = {e.get("data-landmark") for e in paths if e.get("class") == "landmark"}
     assert landmarks == {lm.name for lm in g.landmarks if lm.on_pattern}
+
+
+def _ring_area(d):
+    """Area enclosed by an SVG path of 'M x,y L x,y ... Z' rings, holes subtracted (even-odd)."""
+    total = 0.0
+    for ring in d.split("Z"):
+        pts = [tuple(map(float, p.lstrip("ML").split(","))) for p in ring.split() if p not in ("",)]
+        if len(pts) < 3:
+            continue
+        x, y = np.array(pts).T
+        total += 0.5 * (x @ np.roll(y, -1) - np.roll(x, -1) @ y)
+    return total
+
+
+def test_sheet_shades_the_planners_free_space():
+    freespace = pytest.importorskip("garnav.plan.freespace")  # once the planner is in the package
+    g = er.turned_panels()
+    fs = freespace.build_free_space(g)
+    root = _parse(sheet_svg(sheet_drawing(g, free_space=fs)))
+    for piece in ("a", "b"):
+        free = [e for e in root.iter(SVG + "path") if e.get("class") == "free" and e.get("data-piece") == piece]
+        # reference: shapely's area of the planner's free region (rings written to 0.001 mm)
+        area = sum(abs(_ring_area(e.get("d"))) for e in free)
+        assert area == pytest.approx(fs.pieces[piece].region.area, rel=1e-4)
+    grown = {e.get("data-obstacle") for e in root.iter(SVG + "path") if e.get("class") == "grown"}
+    assert {"patch"} <= grown

@@ -177,6 +177,11 @@ def _to_sheet(piece: Piece, pts) -> np.ndarray:
     return piece.placement.to_sheet(np.asarray(pts, dtype=float).reshape(-1, 2))
 
 
+def _place(piece: Piece, geom: shapely.Geometry) -> shapely.Geometry:
+    """A piece-frame geometry moved onto the sheet."""
+    return shapely.transform(geom, lambda c: _to_sheet(piece, c))
+
+
 # --------------------------------------------------------------------------- the drawing
 
 
@@ -240,29 +245,29 @@ def sheet_drawing(
         for name in sorted(free_space.pieces):
             pfs = free_space.pieces[name]
             p = pieces[name]
-            place = lambda g, p=p: shapely.transform(g, lambda c: _to_sheet(p, c))  # noqa: E731
             for ob in pfs.obstacles:
-                zones += _polygon_areas(place(ob.grown.intersection(p.polygon)), style.grown_fill, opacity=0.9,
+                zones += _polygon_areas(_place(p, ob.grown.intersection(p.polygon)), style.grown_fill, opacity=0.9,
                                         kind="grown", info=(("piece", name), ("obstacle", ob.name)))
             for sz in pfs.soft:
-                zones += _polygon_areas(place(sz.grown.intersection(p.polygon)), style.soft_fill, opacity=0.45,
+                zones += _polygon_areas(_place(p, sz.grown.intersection(p.polygon)), style.soft_fill, opacity=0.45,
                                         kind="soft", info=(("piece", name), ("zone", sz.name)))
-            zones += _polygon_areas(place(pfs.region), style.free_fill, opacity=0.75, kind="free",
+            zones += _polygon_areas(_place(p, pfs.region), style.free_fill, opacity=0.75, kind="free",
                                     info=(("piece", name),))
     layers.append(("free-space", tuple(zones)))
 
     kos = []
     for k in garment.keepouts:
         p = pieces[k.piece]
-        geom = shapely.transform(k.shape.exact_geometry(), lambda c, p=p: _to_sheet(p, c))
+        exact = k.shape.exact_geometry()
+        geom = _place(p, exact)
         fill = style.keepout_fill if k.hard else style.soft_fill
         kos += _polygon_areas(geom, fill, style.text, 0.3, opacity=0.85, kind="keepout",
                               info=(("piece", k.piece), ("keepout", k.name), ("hard", str(k.hard).lower())))
         if free_space is None and robot is not None:
-            grown = k.shape.exact_geometry().buffer(robot.radius_mm + k.clearance_mm)
+            grown = exact.buffer(robot.radius_mm + k.clearance_mm)
             ring = _to_sheet(p, np.asarray(grown.exterior.coords))
             kos.append(Line(ring, fill, 0.5, dash=(3.0, 2.0), kind="keepout-grown", info=(("keepout", k.name),)))
-        c = _to_sheet(p, [[k.shape.exact_geometry().centroid.x, k.shape.exact_geometry().centroid.y]])[0]
+        c = _to_sheet(p, [[exact.centroid.x, exact.centroid.y]])[0]
         kos.append(Label((float(c[0]), float(c[1])), k.name, style.label_size * 0.6, style.text))
     layers.append(("keepouts", tuple(kos)))
 
