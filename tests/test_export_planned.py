@@ -23,7 +23,7 @@ import garments  # noqa: E402
 from garnav.demo import demo_garment  # noqa: E402
 from garnav.errors import GarnavError  # noqa: E402
 from garnav.export.commands import Cross, Turn, format_commands, parse_commands, route_commands  # noqa: E402
-from garnav.export.path import route_waypoints  # noqa: E402
+from garnav.export.path import ZERO_STEP_MM, route_waypoints  # noqa: E402
 from garnav.export.replay import replay_commands  # noqa: E402
 from garnav.export.waypoints import route_document, route_schema  # noqa: E402
 from garnav.plan import PiecePoint, Planner  # noqa: E402
@@ -96,6 +96,13 @@ def test_enough_routes_were_planned(demo, small):
     assert sum(len(r.crossings) for r in routes) >= 5
 
 
+def _stub_legs(route) -> set[int]:
+    """Legs shorter than ZERO_STEP_MM: the stub a route leaves in a piece it only touches at a
+    corner where several seams meet."""
+    return {i for i, leg in enumerate(route.legs)
+            if np.linalg.norm(np.diff(leg.points, axis=0), axis=1).sum() < ZERO_STEP_MM}
+
+
 def _cases(demo, small):
     garment, routes = demo
     return [(garment, r) for r in routes] + list(small)
@@ -111,9 +118,11 @@ def test_waypoints_agree_with_the_planners(demo, small):
         ours = route_waypoints(route)
         theirs = route.waypoints()
         assert len(ours) == len(theirs)
+        stubs = _stub_legs(route)
         for w, (piece, x, y, h) in zip(ours, theirs):
             assert (w.piece, w.x_mm, w.y_mm) == (piece, x, y)
-            assert abs(math.remainder(w.heading_deg - h, 360.0)) < 1e-6
+            if w.leg not in stubs:  # a stub leg has no direction of its own
+                assert abs(math.remainder(w.heading_deg - h, 360.0)) < 1e-6
 
 
 def test_replay_reproduces_every_waypoint(demo, small):
@@ -148,8 +157,10 @@ def test_turns_sum_like_the_planners_and_crossing_angles_agree(demo, small):
             assert total == pytest.approx(sign * float(np.sum(route.turns_deg)), abs=1e-6)
         notices = [c for c in route_commands(route, garment).commands if isinstance(c, Cross)]
         assert [n.seam for n in notices] == [c.seam for c in route.crossings]
-        for n, c in zip(notices, route.crossings):
-            assert n.angle_deg == pytest.approx(c.angle_deg, abs=1e-6)
+        stubs = _stub_legs(route)
+        for i, (n, c) in enumerate(zip(notices, route.crossings)):
+            if i not in stubs and i + 1 not in stubs:  # the planner measures a stub's noise direction
+                assert n.angle_deg == pytest.approx(c.angle_deg, abs=1e-6)
 
 
 def test_lifted_documents_have_unit_quaternions_along_the_normal(demo):

@@ -18,8 +18,9 @@ import numpy as np
 
 __all__ = ["Waypoint", "route_waypoints", "wrap_deg", "ZERO_STEP_MM"]
 
-# Steps shorter than this are treated as no motion (repeated points).
-ZERO_STEP_MM = 1e-12
+# Steps shorter than this (mm) are treated as no motion: repeated points, or the stub of a leg
+# through a corner where several seams meet (a planner may leave one of ~1e-7 mm there).
+ZERO_STEP_MM = 1e-6
 
 
 @dataclass(frozen=True)

@@ -29,16 +29,18 @@ from garnav.model import Garment
 __all__ = ["Pose", "ReplayCrossing", "Replay", "ReplayError", "replay_commands"]
 
 # How close a seam hit must be to a go's end to count as "at the end" (mm).
-END_TOL_MM = 1e-7
+END_TOL_MM = 1e-6
 # How close a hit point must be to a seam run to lie on it (mm).
 ON_RUN_TOL_MM = 1e-6
 # How close a hit must be to a notice's announced distance to match it (mm).
 NOTICE_TOL_MM = 1e-6
-# A hit is an exit when the point this far beyond it lies this far outside the piece (mm): a
-# crossing at angle α puts it 1e-4·sin α outside, so any crossing steeper than 0.006° counts.
-EXIT_PROBE_MM = 1e-4
-EXIT_DEPTH_MM = 1e-8
-_MAX_CROSSINGS_PER_GO = 100_000
+# A hit is an exit when the point EXIT_PROBE_MM beyond it lies more than EXIT_DEPTH_MM outside the
+# piece: a crossing at angle α puts it 0.01·sin α outside, so crossings steeper than 0.06° count,
+# while a robot running along a seam edge, a hair (well under 1e-5 mm) off it, does not cross.
+EXIT_PROBE_MM = 1e-2
+EXIT_DEPTH_MM = 1e-5
+# Crossings in a row without moving (a heading out of a corner where seams meet) before giving up.
+_MAX_STALLS = 16
 
 
 class ReplayError(QueryError):
@@ -148,12 +150,32 @@ def _first_exit(bound: _Boundary, p: np.ndarray, u: np.ndarray, reach: float):
     safe = np.where(leaving, cross_ue, 1.0)
     t = (w[:, 0] * e[:, 1] - w[:, 1] * e[:, 0]) / safe
     s = (w[:, 0] * u[1] - w[:, 1] * u[0]) / safe
-    ok = leaving & (s >= -1e-12) & (s <= 1.0 + 1e-12) & (t >= -END_TOL_MM) & (t <= reach)
+    slack = END_TOL_MM / np.maximum(elen, 1e-300)  # segment ends get END_TOL_MM of slack (mm)
+    ok = leaving & (s >= -slack) & (s <= 1.0 + slack) & (t >= -END_TOL_MM) & (t <= reach)
     idx = np.flatnonzero(ok)
     for k in idx[np.argsort(t[idx], kind="stable")]:
         probe = p + (max(float(t[k]), 0.0) + EXIT_PROBE_MM) * u
         if shapely.distance(bound.polygon, shapely.Point(probe[0], probe[1])) > EXIT_DEPTH_MM:
             return float(t[k]), int(k)
+    return None
+
+
+def _runs_under(bound: _Boundary, q: np.ndarray) -> list[tuple[float, str, str]]:
+    """Seam runs of the piece passing within ON_RUN_TOL_MM of q: (distance, seam, side), nearest first."""
+    out = []
+    for seam_name, side, pts in bound.runs:
+        _, dist = locate_on_run(pts, q)
+        if dist <= ON_RUN_TOL_MM:
+            out.append((dist, seam_name, side))
+    return sorted(out)
+
+
+def _announced(runs, notices: list[Cross], at_mm: float):
+    """The first of ``runs`` that a pending notice announces at ``at_mm``: (seam, side, notice)."""
+    for _, seam_name, side in runs:
+        for n in notices:
+            if n.seam == seam_name and abs(n.at_mm - at_mm) <= NOTICE_TOL_MM:
+                return seam_name, side, n
     return None
 
 
@@ -205,7 +227,27 @@ def replay_commands(garment: Garment, commands: CommandList, start: Start | None
             remaining = float(cmd.distance_mm)
             done = 0.0
             ended_on_transfer = False
-            for _ in range(_MAX_CROSSINGS_PER_GO):
+            stalls = 0
+
+            def cross(match) -> None:
+                nonlocal piece, p, heading
+                seam_name, side, notice = match
+                if notice is not None:
+                    notices.remove(notice)
+                tr = seam_transfer(garment, garment.seam(seam_name), side, p)
+                last = poses[-1]
+                if last.piece != piece or math.hypot(last.x_mm - p[0], last.y_mm - p[1]) > END_TOL_MM:
+                    poses.append(_pose(piece, p, heading))
+                crossings.append(
+                    ReplayCrossing(seam_name, piece, tr.to_piece, (float(p[0]), float(p[1])),
+                                   (float(tr.point_to[0]), float(tr.point_to[1])), travelled + done,
+                                   notice is not None, crossable.get(seam_name, True))
+                )
+                piece, p = tr.to_piece, tr.point_to.astype(float)
+                heading = heading + tr.rotation_rad
+                poses.append(_pose(piece, p, heading))
+
+            while True:
                 u = np.array([math.cos(heading), math.sin(heading)])
                 bound = bounds[piece]
                 hit = _first_exit(bound, p, u, remaining + END_TOL_MM)
@@ -214,61 +256,37 @@ def replay_commands(garment: Garment, commands: CommandList, start: Start | None
                 t, seg = hit
                 q = p + max(t, 0.0) * u
                 at_end = t >= remaining - END_TOL_MM
-                on_runs = []
-                for seam_name, side, pts in bound.runs:
-                    _, dist = locate_on_run(pts, q)
-                    if dist <= ON_RUN_TOL_MM:
-                        on_runs.append((dist, seam_name, side))
-                if not on_runs:
+                runs = _runs_under(bound, q)
+                if not runs:
                     if at_end:
                         break
                     raise ReplayError(
                         f"after {travelled + done + t:.3f} mm the robot drives off piece '{piece}' "
                         f"through open {bound.label[seg]} at ({q[0]:.3f}, {q[1]:.3f}) mm"
                     )
-                on_runs.sort()
-                match = None
-                for dist, seam_name, side in on_runs:
-                    for n in notices:
-                        if n.seam == seam_name and abs(n.at_mm - (done + t)) <= NOTICE_TOL_MM:
-                            match = (seam_name, side, n)
-                            break
-                    if match:
-                        break
+                step = min(max(t, 0.0), remaining)
+                match = _announced(runs, notices, done + step)
                 if match is None:
                     if at_end:
                         break
-                    match = (on_runs[0][1], on_runs[0][2], None)
-                seam_name, side, notice = match
-                if notice is not None:
-                    notices.remove(notice)
-                tr = seam_transfer(garment, garment.seam(seam_name), side, q)
-                step = min(max(t, 0.0), remaining)
+                    match = (runs[0][1], runs[0][2], None)
                 done += step
                 remaining -= step
-                if poses[-1].piece != piece or math.hypot(poses[-1].x_mm - q[0], poses[-1].y_mm - q[1]) > END_TOL_MM:
-                    poses.append(_pose(piece, q, heading))
-                crossings.append(
-                    ReplayCrossing(
-                        seam_name,
-                        piece,
-                        tr.to_piece,
-                        (float(q[0]), float(q[1])),
-                        (float(tr.point_to[0]), float(tr.point_to[1])),
-                        travelled + done,
-                        notice is not None,
-                        crossable.get(seam_name, True),
-                    )
-                )
-                piece, p = tr.to_piece, tr.point_to.astype(float)
-                heading = heading + tr.rotation_rad
-                poses.append(_pose(piece, p, heading))
-                ended_on_transfer = remaining <= END_TOL_MM
-                if ended_on_transfer:
-                    remaining = 0.0
+                p = q
+                cross(match)
+                # further crossings announced at the same place: seams meeting at a corner
+                while (chained := _announced(_runs_under(bounds[piece], p), notices, done)) is not None:
+                    cross(chained)
+                if remaining <= END_TOL_MM:
+                    remaining, ended_on_transfer = 0.0, True
                     break
-            else:
-                raise ReplayError(f"a go of {cmd.distance_mm} mm crosses seams more than {_MAX_CROSSINGS_PER_GO} times")
+                stalls = stalls + 1 if step <= END_TOL_MM else 0
+                if stalls > _MAX_STALLS:
+                    raise ReplayError(
+                        f"after {travelled + done:.3f} mm the robot is at a point of piece '{piece}' "
+                        f"({p[0]:.3f}, {p[1]:.3f}) mm where several seams meet, and its heading leads "
+                        f"out across each of them in turn; no crossing there was announced"
+                    )
             if not ended_on_transfer:
                 p = p + remaining * np.array([math.cos(heading), math.sin(heading)])
                 done += remaining
