@@ -6,8 +6,9 @@ a common direction of travel, so near the crossing the two piece frames differ b
 takes run ``a``'s tangent onto run ``b``'s tangent. A robot driving straight over the seam keeps its
 angle to the seam tangent (DESIGN.md, "Planning"): its heading turns by exactly that rotation.
 
-At an interior vertex of a run polyline the tangent is the normalised mean of the two segment
-tangents, on both runs alike.
+The run frames (point, tangent, inward normal at a fraction of a run) are the planner's
+(:func:`garnav.plan.freespace.run_frame`), so commands, replay and planned turns share one
+convention.
 """
 
 from __future__ import annotations
@@ -19,12 +20,10 @@ from typing import Literal
 import numpy as np
 
 from garnav.model import Garment, Seam
-from garnav.polyline import cumulative_length, point_at_length
+from garnav.plan.freespace import run_frame
+from garnav.polyline import cumulative_length
 
-__all__ = ["SeamTransfer", "run_tangent", "locate_on_run", "seam_transfer", "run_side"]
-
-_VERTEX_TOL_MM = 1e-9
-
+__all__ = ["SeamTransfer", "locate_on_run", "seam_transfer", "run_side"]
 
 @dataclass(frozen=True)
 class SeamTransfer:
@@ -55,38 +54,6 @@ class SeamTransfer:
     fraction: float
     rotation_rad: float
     tangent_from: np.ndarray
-
-
-def run_tangent(points: np.ndarray, s: float) -> np.ndarray:
-    """Unit tangent (2,) of a polyline (n, 2) at arc length ``s`` (mm).
-
-    At an interior vertex (within 1e-9 mm) the mean of the two adjacent unit tangents is used.
-    """
-    points = np.asarray(points, dtype=float)
-    cum = cumulative_length(points)
-    steps = np.diff(points, axis=0)
-    lengths = np.diff(cum)
-    keep = lengths > 0
-    if not np.any(keep):
-        raise ValueError("a run of zero length has no tangent")
-    unit = np.zeros_like(steps)
-    unit[keep] = steps[keep] / lengths[keep, None]
-    s = float(np.clip(s, 0.0, cum[-1]))
-    seg = int(np.clip(np.searchsorted(cum, s, side="right") - 1, 0, len(points) - 2))
-    # skip zero-length segments
-    while not keep[seg] and seg < len(steps) - 1:
-        seg += 1
-    while not keep[seg] and seg > 0:
-        seg -= 1
-    tangent = unit[seg]
-    if 0 < seg and abs(s - cum[seg]) <= _VERTEX_TOL_MM and keep[seg - 1]:
-        tangent = unit[seg - 1] + unit[seg]
-    elif seg < len(steps) - 1 and abs(s - cum[seg + 1]) <= _VERTEX_TOL_MM and keep[seg + 1]:
-        tangent = unit[seg] + unit[seg + 1]
-    norm = float(np.hypot(*tangent))
-    if norm == 0.0:  # a run that folds back on itself: keep the incoming segment's direction
-        return unit[seg].copy()
-    return tangent / norm
 
 
 def locate_on_run(points: np.ndarray, point: np.ndarray) -> tuple[float, float]:
@@ -138,14 +105,11 @@ def seam_transfer(garment: Garment, seam: Seam, side: Literal["a", "b"], point: 
     """
     own, other = (seam.a, seam.b) if side == "a" else (seam.b, seam.a)
     own_pts = garment.run_polyline(own)
-    other_pts = garment.run_polyline(other)
     own_len = float(cumulative_length(own_pts)[-1])
-    other_len = float(cumulative_length(other_pts)[-1])
     s, _ = locate_on_run(own_pts, point)
     fraction = s / own_len if own_len > 0 else 0.0
-    s_other = fraction * other_len
-    t_own = run_tangent(own_pts, s)
-    t_other = run_tangent(other_pts, s_other)
+    _, t_own, _ = run_frame(garment, own, fraction)
+    point_to, t_other, _ = run_frame(garment, other, fraction)
     rotation = math.atan2(t_other[1], t_other[0]) - math.atan2(t_own[1], t_own[0])
     rotation = math.remainder(rotation, 2.0 * math.pi)
     return SeamTransfer(
@@ -154,7 +118,7 @@ def seam_transfer(garment: Garment, seam: Seam, side: Literal["a", "b"], point: 
         from_piece=own.piece,
         to_piece=other.piece,
         point_from=np.asarray(point, dtype=float).copy(),
-        point_to=point_at_length(other_pts, s_other),
+        point_to=np.asarray(point_to, dtype=float),
         fraction=fraction,
         rotation_rad=rotation,
         tangent_from=t_own,
