@@ -126,3 +126,10 @@ def test_unreachable_piece_when_a_keepout_lines_the_seam():
     with pytest.raises(NoRouteError, match="piece 'right' is unreachable: seam 'middle' has no place where the robot "
                        r"\(radius 10 mm\) fits on both sides and no other seam joins it"):
         plan_route(g, "left_centre", "right_centre")
+
+
+def test_cli_snap_says_where_the_point_went(tmp_path, capsys):
+    spec = tmp_path / "g.toml"
+    save_garment(_walled_panel(), spec)
+    assert main(["route", str(spec), "--from", "panel:145,400", "--to", "panel:300,600", "--snap"]) == 0
+    assert "note: panel:145,400 moved to the nearest free point panel:145.0,430.1" in capsys.readouterr().out
