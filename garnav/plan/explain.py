@@ -28,7 +28,7 @@ def check_free(free: FreeSpace, pp: PiecePoint, *, snap: bool = False, role: str
     if snap and near is not None:
         step = near - pp.xy
         unit = step / max(np.linalg.norm(step), 1e-300)
-        for k in range(8):  # the boundary point may miss by rounding: nudge inwards, at most 1e-3 mm
+        for k in range(8):  # the boundary point may miss by rounding: nudge inwards, at most 0.01 mm
             q = near + unit * (1e-9 * 10**k if k else 0.0)
             if fs.covers(q[None])[0]:
                 return PiecePoint(pp.piece, float(q[0]), float(q[1]), label=f"{pp.label or role} (snapped)")
