@@ -1,9 +1,9 @@
 """Hand-made routes for the export and preview tests.
 
-Until the planner's Route is available these tests build Route-shaped objects with the fields
-the Route object has (legs, crossings, length_mm, cost, turns_deg, headings_deg). Crossing points
-are computed here by hand from the garments' seam layout (no garnav seam code is used), so they are
-an independent reference for the seam transfer.
+Routes are the planner's Route objects assembled by hand: crossing points are computed here from
+the garments' seam layout (no garnav seam code is used), so they are an independent reference for
+the seam transfer. Only legs, crossings and length matter to the export; turns and headings are
+filled in plainly.
 """
 
 from __future__ import annotations
@@ -15,37 +15,7 @@ import numpy as np
 
 from garnav import Edge, Garment, KeepOut, Landmark, Piece, Placement, Rectangle, Robot, Seam, SeamRun
 from garnav.model import Circle
-
-try:  # the planner's classes, once they exist
-    from garnav.plan.route import Crossing, Leg, Route  # type: ignore[attr-defined]
-
-    REAL_ROUTE = True
-except ImportError:  # pragma: no cover - depends on what is installed
-    REAL_ROUTE = False
-
-    @dataclass(frozen=True)
-    class Leg:  # type: ignore[no-redef]
-        piece: str
-        points: np.ndarray
-
-    @dataclass(frozen=True)
-    class Crossing:  # type: ignore[no-redef]
-        seam: str
-        from_piece: str
-        to_piece: str
-        point_from: np.ndarray
-        point_to: np.ndarray
-        fraction: float
-        angle_deg: float
-
-    @dataclass(frozen=True)
-    class Route:  # type: ignore[no-redef]
-        legs: tuple
-        crossings: tuple
-        length_mm: float
-        cost: float
-        turns_deg: np.ndarray
-        headings_deg: np.ndarray
+from garnav.plan.route import Crossing, Leg, Route
 
 
 def _rect(name, w, h, placement=Placement()):
