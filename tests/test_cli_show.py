@@ -76,6 +76,10 @@ def test_bad_route_files_are_named(two_panel_files, tmp_path, capsys):
     wrong.write_text(json.dumps(other))
     assert main(["show", str(spec), str(wrong), "--sheet", str(tmp_path / "s.svg")]) == 2
     assert "planned on garment 'someone_else', not 'two_panels'" in capsys.readouterr().err
+    other["garment"] = "two_panels"
+    wrong.write_text(json.dumps(other))
+    assert main(["show", str(spec), str(wrong), "--sheet", str(tmp_path / "s.svg")]) == 2
+    assert "'garment' must be an object" in capsys.readouterr().err
     other["format"] = "something"
     wrong.write_text(json.dumps(other))
     assert main(["show", str(spec), str(wrong), "--sheet", str(tmp_path / "s.svg")]) == 2

@@ -402,6 +402,13 @@ def read_route_document(path) -> dict:
         raise QueryError(f"{p}: not a {FORMAT_NAME} document (format is {found!r})")
     if doc.get("version") != FORMAT_VERSION:
         raise QueryError(f"{p}: {FORMAT_NAME} version {doc.get('version')!r} is not supported (this reader knows {FORMAT_VERSION})")
+    garment = doc.get("garment")
+    if not isinstance(garment, dict) or not isinstance(garment.get("name"), str):
+        raise QueryError(f"{p}: 'garment' must be an object with a 'name' string")
+    crossings = doc.get("crossings", [])
+    need = ("seam", "from_piece", "to_piece", "from_mm", "to_mm", "fraction", "angle_deg")
+    if not isinstance(crossings, list) or not all(isinstance(c, dict) and all(k in c for k in need) for c in crossings):
+        raise QueryError(f"{p}: 'crossings' must be a list of objects with " + ", ".join(need))
     wps = doc.get("waypoints")
     if not isinstance(wps, list) or len(wps) < 2:
         raise QueryError(f"{p}: 'waypoints' must be a list of at least two waypoints")
