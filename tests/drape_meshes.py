@@ -117,12 +117,15 @@ def flat_sheet(width: float = 400.0, height: float = 300.0, nx: int = 40, ny: in
     return garment, mesh_from_parts(garment, {"panel": (pattern, tris, xyz)})
 
 
-def folded_panels(nx: int = 30, ny: int = 40):
-    """The two-panel garment folded at its seam by 90°: 'left' in the plane y = 0, 'right' in x = 300."""
+def folded_panels(nx: int = 30, ny: int = 40, gap: float = 0.0):
+    """The two-panel garment folded at its seam by 90°: 'left' in the plane y = 0, 'right' in x = 300.
+
+    ``gap`` (mm) moves the right panel along +x, opening the seam.
+    """
     garment = garments.two_panels()
     pattern, tris = rect_grid(300.0, 400.0, nx, ny)
     left = np.column_stack([pattern[:, 0], np.zeros(len(pattern)), pattern[:, 1]])
-    right = np.column_stack([np.full(len(pattern), 300.0), pattern[:, 0], pattern[:, 1]])
+    right = np.column_stack([np.full(len(pattern), 300.0 + gap), pattern[:, 0], pattern[:, 1]])
     mesh = mesh_from_parts(
         garment, {"left": (pattern, tris, left), "right": (pattern, tris, right)}
     )
