@@ -13,6 +13,7 @@ triangulation, not on a given mesh.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 
@@ -72,7 +73,7 @@ class TriangleLocator:
     members: np.ndarray
 
     @classmethod
-    def build(cls, triangles: np.ndarray, per_cell: float = 2.0) -> "TriangleLocator":
+    def build(cls, triangles: np.ndarray, per_cell: float = 0.5) -> "TriangleLocator":
         """Index triangles (T, 3, 2) into about ``T / per_cell`` square buckets."""
         tri = np.ascontiguousarray(triangles, dtype=float).reshape(-1, 3, 2)
         if len(tri) == 0:
@@ -100,7 +101,22 @@ class TriangleLocator:
         start = np.searchsorted(bucket[order], np.arange(nx * ny + 1))
         return cls(tri, lo, cell, (nx, ny), start, tid[order])
 
-    def locate(self, points: np.ndarray, tol: float = 1e-9) -> tuple[np.ndarray, np.ndarray]:
+    @cached_property
+    def _affine(self) -> tuple[np.ndarray, np.ndarray]:
+        """Per triangle: first corner (T, 2) and the inverse edge matrix (T, 2, 2)."""
+        tri = self.triangles
+        e = np.stack([tri[:, 1] - tri[:, 0], tri[:, 2] - tri[:, 0]], axis=2)  # columns
+        det = e[:, 0, 0] * e[:, 1, 1] - e[:, 0, 1] * e[:, 1, 0]
+        with np.errstate(divide="ignore", invalid="ignore"):
+            inv = np.stack(
+                [np.stack([e[:, 1, 1], -e[:, 0, 1]], 1), np.stack([-e[:, 1, 0], e[:, 0, 0]], 1)],
+                axis=1,
+            ) / det[:, None, None]
+        return np.ascontiguousarray(tri[:, 0]), inv
+
+    def locate(
+        self, points: np.ndarray, tol: float = 1e-9, chunk: int = 1 << 16
+    ) -> tuple[np.ndarray, np.ndarray]:
         """Triangle and barycentric coordinates of each point.
 
         Parameters
@@ -109,6 +125,8 @@ class TriangleLocator:
         tol : float
             A point counts as inside when its smallest barycentric coordinate is >= -tol
             (points on shared edges pick one of the triangles).
+        chunk : int
+            Points handled per vectorised pass (bounds memory use).
 
         Returns
         -------
@@ -118,6 +136,13 @@ class TriangleLocator:
             Barycentric coordinates (clipped to >= 0 and renormalised); NaN where face is -1.
         """
         pts = np.asarray(points, dtype=float).reshape(-1, 2)
+        face = np.full(len(pts), -1, dtype=np.int64)
+        bary = np.full((len(pts), 3), np.nan)
+        for s in range(0, len(pts), chunk):
+            face[s : s + chunk], bary[s : s + chunk] = self._locate_chunk(pts[s : s + chunk], tol)
+        return face, bary
+
+    def _locate_chunk(self, pts: np.ndarray, tol: float) -> tuple[np.ndarray, np.ndarray]:
         n = len(pts)
         face = np.full(n, -1, dtype=np.int64)
         bary = np.full((n, 3), np.nan)
@@ -134,19 +159,28 @@ class TriangleLocator:
         total = int(cnt.sum())
         if total == 0:
             return face, bary
+        first_of = np.cumsum(cnt) - cnt  # first candidate row of each point
         pid = np.repeat(np.arange(n), cnt)
-        offs = np.arange(total) - np.repeat(np.cumsum(cnt) - cnt, cnt)
-        cand = self.members[np.repeat(s, cnt) + offs]
-        lam = barycentric_2d(self.triangles[cand], pts[pid])
-        score = np.nan_to_num(lam.min(axis=1), nan=-np.inf)
-        # best candidate per point: sort by (point, -score) and take each point's first row
-        order = np.lexsort((-score, pid))
-        firsts = order[np.r_[True, pid[order][1:] != pid[order][:-1]]]
-        ok = score[firsts] >= -tol
-        hit = pid[firsts][ok]
-        face[hit] = cand[firsts][ok]
-        lam_hit = np.clip(lam[firsts][ok], 0.0, None)
-        bary[hit] = lam_hit / lam_hit.sum(axis=1, keepdims=True)
+        cand = self.members[np.arange(total) - np.repeat(first_of - s, cnt)]
+        origin, inv = self._affine
+        d = pts[pid] - origin[cand]
+        l1 = inv[cand, 0, 0] * d[:, 0] + inv[cand, 0, 1] * d[:, 1]
+        l2 = inv[cand, 1, 0] * d[:, 0] + inv[cand, 1, 1] * d[:, 1]
+        l0 = 1.0 - l1 - l2
+        score = np.nan_to_num(np.minimum(np.minimum(l0, l1), l2), nan=-np.inf)
+        # best candidate per point (candidates of one point are contiguous): the first maximum
+        has = cnt > 0
+        best = np.full(n, -np.inf)
+        best[has] = np.maximum.reduceat(score, first_of[has])
+        is_best = score == best[pid]
+        rows = np.flatnonzero(is_best)
+        rows = rows[np.r_[True, pid[rows][1:] != pid[rows][:-1]]]
+        ok = score[rows] >= -tol
+        rows = rows[ok]
+        hit = pid[rows]
+        face[hit] = cand[rows]
+        lam = np.clip(np.column_stack([l0[rows], l1[rows], l2[rows]]), 0.0, None)
+        bary[hit] = lam / lam.sum(axis=1, keepdims=True)
         return face, bary
 
     def _near_grid(self, pts: np.ndarray, tol: float) -> np.ndarray:
