@@ -1,0 +1,71 @@
+"""Mesh-first import: pieces, seams and open edges derived from UV islands."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+import shapely
+
+import drape_meshes as dm
+from garnav.drape import drape_report, link_drape
+from garnav.drape.import_mesh import fit_sheet_size, garment_from_mesh
+
+
+def _seam_pairs(garment, rename=lambda n: n):
+    return sorted(tuple(sorted((rename(s.a.piece), rename(s.b.piece)))) for s in garment.seams)
+
+
+def _by_position(original, imported):
+    """Map imported piece names to original ones by the pieces' places on the sheet."""
+    out = {}
+    for p in imported.pieces:
+        centre = p.placement.to_sheet(np.array(p.polygon.centroid.coords[0]))
+        for q in original.pieces:
+            if q.polygon.contains(shapely.Point(q.placement.from_sheet(centre))):
+                out[p.name] = q.name
+    return out
+
+
+@pytest.mark.parametrize("build", [dm.folded_panels, dm.cylinder, dm.cone, dm.flat_sheet])
+def test_import_round_trip(build):
+    g, m = build()
+    imported = garment_from_mesh(m, sheet_size_mm=g.sheet_size_mm)
+    names = _by_position(g, imported)
+    assert sorted(names.values()) == sorted(p.name for p in g.pieces)
+    for p in imported.pieces:
+        # areas by shapely (GEOS) on both sides
+        assert p.area == pytest.approx(g.piece(names[p.name]).area, rel=5e-3)
+        assert p.polygon.is_valid and p.polygon.exterior.is_ccw
+    assert _seam_pairs(imported, names.get) == _seam_pairs(g)
+    # the derived garment links back to the mesh and its seams close in 3D
+    rep = drape_report(imported, link_drape(imported, m))
+    assert all(c.max_gap_mm < 1e-9 for c in rep.seams)
+    assert all(pc.coverage == pytest.approx(1.0) for pc in rep.pieces)
+
+
+def test_edges_split_at_seam_and_open_transitions():
+    g, m = dm.cylinder(n_around=32, n_along=8)
+    imported = garment_from_mesh(m, sheet_size_mm=g.sheet_size_mm)
+    (piece,) = imported.pieces
+    kinds = [e.name.split("_")[0] for e in piece.edges]
+    assert kinds.count("seam") == 2 and kinds.count("open") == 2
+    seam = imported.seams[0]
+    ra = imported.run_polyline(seam.a)
+    rb = imported.run_polyline(seam.b)
+    # the closing seam's runs are the tube's two vertical sides, matched at equal heights
+    np.testing.assert_allclose(ra[:, 1], rb[:, 1], atol=1e-9)
+    assert abs(ra[0, 0] - rb[0, 0]) == pytest.approx(2 * math.pi * 50.0)
+
+
+def test_fitted_sheet_size():
+    g, m = dm.folded_panels()
+    w, h = fit_sheet_size(m)
+    assert (w, h) == pytest.approx(g.sheet_size_mm, rel=1e-9)
+    # on a square sheet, the area ratio sqrt(3D area / UV area) gives the same scale (isometry)
+    g2, m2 = dm.cone()
+    w2, h2 = fit_sheet_size(m2)
+    ratio = math.sqrt(m2.face_area_3d.sum() / np.abs(m2.face_area_uv).sum())
+    assert w2 == pytest.approx(ratio, rel=1e-3)
+    assert w2 == pytest.approx(g2.sheet_size_mm[0], rel=1e-3)
