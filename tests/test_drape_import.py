@@ -69,3 +69,32 @@ def test_fitted_sheet_size():
     ratio = math.sqrt(m2.face_area_3d.sum() / np.abs(m2.face_area_uv).sum())
     assert w2 == pytest.approx(ratio, rel=1e-3)
     assert w2 == pytest.approx(g2.sheet_size_mm[0], rel=1e-3)
+
+
+def test_uv_scale_option():
+    from garnav.cli.import_mesh import parse_uv_scale
+    from garnav.errors import QueryError
+
+    assert parse_uv_scale("1200") == (1200.0, 1200.0)
+    assert parse_uv_scale("1600, 1200") == (1600.0, 1200.0)
+    assert parse_uv_scale(None) is None
+    for bad in ("wide", "0", "1,2,3", "-5"):
+        with pytest.raises(QueryError, match="--uv-scale"):
+            parse_uv_scale(bad)
+
+
+def test_import_command_writes_a_spec(tmp_path):
+    spec = pytest.importorskip("garnav.spec")
+    if not hasattr(spec, "save_garment"):
+        pytest.skip("garnav.spec.save_garment is not available in this build")
+    from garnav.cli import main
+    from garnav.drape.meshio import save_obj
+
+    g, m = dm.folded_panels()
+    mesh_path = save_obj(m, tmp_path / "meshes" / "panels.obj")
+    out = tmp_path / "panels.toml"
+    assert main(["import", str(mesh_path), "--uv-scale", "650,420", "-o", str(out)]) == 0
+    loaded = spec.load_garment(out)
+    assert loaded.drape == "meshes/panels.obj"
+    assert len(loaded.pieces) == 2 and len(loaded.seams) == 1
+    assert sorted(p.area for p in loaded.pieces) == pytest.approx([120000.0, 120000.0])
