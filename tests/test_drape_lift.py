@@ -151,3 +151,21 @@ def test_segment_through_vertices(cyl):
     assert np.all(np.linalg.norm(np.diff(pts, axis=0), axis=1) > 0)
     t = (path.pattern - a) @ (b - a) / np.dot(b - a, b - a)
     assert np.all(np.diff(t) > 0)
+
+
+def test_segment_over_a_gap_in_the_mesh():
+    from garnav.drape.meshio import uv_mesh_from_arrays
+
+    g, m = dm.flat_sheet(nx=40, ny=30)  # 10 mm cells, pattern = world x, y
+    centre = m.positions[m.faces].mean(axis=1)
+    notch = (centre[:, 0] > 100) & (centre[:, 0] < 110) & (centre[:, 1] < 10)
+    assert notch.sum() == 2
+    cut = uv_mesh_from_arrays(m.positions, m.faces[~notch], m.corner_uv[~notch])
+    d = link_drape(g, cut)
+    seg = np.array([[50.0, 5.0], [150.0, 5.0]])
+    with pytest.raises(QueryError, match=r"leaves the drape's triangles at \(100\.0, 5\.0\) mm for 10\.0 mm"):
+        lift_polyline(d, "panel", seg, snap_mm=1.0)
+    path = lift_polyline(d, "panel", seg, snap_mm=12.0)
+    pts = d.to_3d(path.face, path.bary)
+    assert np.linalg.norm(np.diff(pts, axis=0), axis=1).sum() == pytest.approx(100.0)
+    np.testing.assert_allclose(pts[:, :2], path.pattern, atol=1e-9)

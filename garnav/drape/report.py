@@ -24,12 +24,16 @@ STRETCH_LIMIT = 0.02
 
 @dataclass(frozen=True)
 class PieceCoverage:
-    """Share of a piece covered by its UV island(s): triangle area (pattern mm²) / piece area."""
+    """Share of a piece covered by its UV island(s): triangle area (pattern mm²) / piece area.
+
+    ``stretch`` holds the piece's own stretch statistics.
+    """
 
     piece: str
     triangles: int
     island_area_mm2: float
     piece_area_mm2: float
+    stretch: "StretchStats | None" = None
 
     @property
     def coverage(self) -> float:
@@ -86,10 +90,13 @@ class DrapeReport:
         out += [f"  note: {n}" for n in self.notes]
         out.append("  coverage (island area / piece area):")
         for p in self.pieces:
-            out.append(
+            line = (
                 f"    {p.piece:<16} {p.coverage:7.2%}  ({p.triangles} triangles, "
                 f"{p.island_area_mm2:.0f} of {p.piece_area_mm2:.0f} mm²)"
             )
+            if p.stretch is not None:
+                line += f"; σ {p.stretch.sigma_min:.4f}..{p.stretch.sigma_max:.4f}"
+            out.append(line)
         out.append(
             f"  stretch σ (pattern → 3D): min {s.sigma_min:.4f}, median {s.median_min:.4f}/"
             f"{s.median_max:.4f}, max {s.sigma_max:.4f}; "
@@ -151,9 +158,15 @@ def drape_report(garment: Garment, drape: Drape) -> DrapeReport:
     """Coverage per piece, stretch statistics and seam closure of a linked drape."""
     pieces = []
     for i, p in enumerate(garment.pieces):
-        sel = drape.face_piece == i
+        sel = np.flatnonzero(drape.face_piece == i)
         pieces.append(
-            PieceCoverage(p.name, int(sel.sum()), float(drape.pattern_area[sel].sum()), p.area)
+            PieceCoverage(
+                p.name,
+                len(sel),
+                float(drape.pattern_area[sel].sum()),
+                p.area,
+                stretch_stats(drape, sel) if len(sel) else None,
+            )
         )
     return DrapeReport(
         source=drape.source,
