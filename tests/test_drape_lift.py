@@ -11,6 +11,7 @@ import trimesh
 
 import drape_meshes as dm
 from garnav.drape import link_drape, lift_polyline, lift_route, surface_to_pattern
+from garnav.drape.locate import barycentric_2d
 from garnav.errors import QueryError
 
 
@@ -169,3 +170,38 @@ def test_segment_over_a_gap_in_the_mesh():
     pts = d.to_3d(path.face, path.bary)
     assert np.linalg.norm(np.diff(pts, axis=0), axis=1).sum() == pytest.approx(100.0)
     np.testing.assert_allclose(pts[:, :2], path.pattern, atol=1e-9)
+
+
+def test_many_segments_including_ones_along_mesh_edges(cyl):
+    g, d = cyl
+    circ = 2 * math.pi * 50.0
+    cell_x, cell_y = circ / 128, 10.0
+    rng = np.random.default_rng(17)
+    segs = [rng.uniform([1, 1], [circ - 1, 299], (2, 2)) for _ in range(40)]
+    # along grid lines (mesh edges), along cell diagonals (mesh edges too), and through vertices
+    segs += [np.array([[cell_x * 3, 50.0], [cell_x * 90, 50.0]])]
+    segs += [np.array([[cell_x * 7, 10.0], [cell_x * 7, 280.0]])]
+    segs += [np.array([[cell_x * 5, 20.0], [cell_x * 25, 220.0]])]
+    segs += [np.array([[cell_x * 40, 270.0], [cell_x * 20, 70.0]])]
+    mesh = trimesh.Trimesh(d.positions, d.faces, process=False)
+    for seg in segs:
+        path = lift_polyline(d, "tube", seg)
+        pts = d.to_3d(path.face, path.bary)
+        # pattern points advance monotonically along the segment and stay on it
+        t = (path.pattern - seg[0]) @ (seg[1] - seg[0]) / np.dot(seg[1] - seg[0], seg[1] - seg[0])
+        assert np.all(np.diff(t) > 0) and t[0] == pytest.approx(0) and t[-1] == pytest.approx(1)
+        u, v = seg[1] - seg[0], path.pattern - seg[0]
+        off = np.abs(u[0] * v[:, 1] - u[1] * v[:, 0]) / np.linalg.norm(u)
+        assert off.max() < 1e-9
+        # each dense point maps back to the pattern position it came from
+        np.testing.assert_allclose(d.to_pattern(path.face, path.bary), path.pattern, atol=1e-9)
+        # consecutive points lie in one triangle (the one holding their midpoint), so each 3D
+        # piece is a chord of one flat facet and lies on the surface
+        mid = 0.5 * (path.pattern[1:] + path.pattern[:-1])
+        fm = d.locate("tube", mid).face
+        tri = d.corner_pattern[fm]
+        assert barycentric_2d(tri, path.pattern[:-1]).min() >= -1e-9
+        assert barycentric_2d(tri, path.pattern[1:]).min() >= -1e-9
+    # reference: trimesh.proximity.closest_point puts the last path on the surface
+    _, dist, _ = trimesh.proximity.closest_point(mesh, pts)
+    assert dist.max() < 1e-6

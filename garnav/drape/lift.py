@@ -124,14 +124,10 @@ def lift_polyline(
             if min(lb) >= -1e-9:
                 break
             lp = _bary(tri, px, py)
-            tau, k_exit = 2.0, -1
-            for k in range(3):
-                if k == entered or lb[k] >= 0.0 or lb[k] >= lp[k]:
-                    continue
-                t = max(lp[k], 0.0) / (lp[k] - lb[k])
-                if t < tau:
-                    tau, k_exit = t, k
-            if k_exit < 0 or tau >= 1.0:
+            tau, k_exit = _exit_edge(lp, lb, entered)
+            if k_exit < 0:  # rounding at a vertex: allow leaving through the entry edge
+                tau, k_exit = _exit_edge(lp, lb, -1)
+            if k_exit < 0:
                 break
             x, y = px + tau * (bx - px), py + tau * (by - py)
             lam = [lp[j] + tau * (lb[j] - lp[j]) for j in range(3)]
@@ -176,6 +172,22 @@ def lift_polyline(
         waypoint_index=new_index[np.array(wp)],
         snap=np.asarray(hits.snap),
     )
+
+
+def _exit_edge(lp, lb, skip: int) -> tuple[float, int]:
+    """Where the segment p → b leaves the triangle: (τ along p → b, edge k), or (2, -1).
+
+    ``lp``, ``lb`` are the barycentric coordinates of p and b; edge k is opposite corner k, and
+    the segment crosses it where the (linear) coordinate k reaches 0.
+    """
+    tau, k_exit = 2.0, -1
+    for k in range(3):
+        if k == skip or lb[k] >= 0.0 or lb[k] >= lp[k]:
+            continue
+        t = max(lp[k], 0.0) / (lp[k] - lb[k])
+        if t < tau:
+            tau, k_exit = t, k
+    return tau, k_exit
 
 
 def _entry_edge(tri: list, x: float, y: float) -> int:
