@@ -1,0 +1,10 @@
+"""The built-in demo: a long-sleeved sensing top on a stylised mannequin of developable surfaces.
+
+``demo_garment()`` builds the garment in memory; ``build_demo(folder)`` writes its spec, drape mesh
+and mannequin mesh.
+"""
+
+from garnav.demo.build import build_demo
+from garnav.demo.pattern import build_design, demo_garment
+
+__all__ = ["demo_garment", "build_demo", "build_design"]
