@@ -134,3 +134,43 @@ def test_demo_body_landmark_snaps(demo):
     # the snapped pattern point maps back onto the closest surface point
     back = d.pattern_to_3d(piece, np.array([[x, y]]))[0]
     assert np.linalg.norm(back - np.asarray(lm.xyz)) == pytest.approx(dist, abs=1e-6)
+
+
+def test_demo_route_across_a_side_seam(demo):
+    from dataclasses import dataclass
+
+    from garnav.drape import lift_route
+    from garnav.polyline import cumulative_length, point_at_length
+
+    @dataclass(frozen=True)
+    class Leg:  # stand-in with the fields of garnav.plan's Leg
+        piece: str
+        points: np.ndarray
+
+    @dataclass(frozen=True)
+    class Route:  # stand-in: lifting reads only the legs
+        legs: tuple
+
+    g, m, d = demo
+    seam = g.seam("side_left_lower")
+    run_a = g.run_polyline(seam.a)
+    cross_a = point_at_length(run_a, 0.5 * cumulative_length(run_a)[-1])
+    cross_b = g.seam_partner(seam, "a", np.array([0.5]))[0]
+    start = g.landmark("omphalion")
+    goal = g.landmark("dock")
+    legs = (
+        Leg(seam.a.piece, np.array([[start.x, start.y], cross_a])),
+        Leg(seam.b.piece, np.array([cross_b, [goal.x, goal.y]])),
+    )
+    lr = lift_route(d, g, Route(legs))
+    assert lr.pieces[0] == seam.a.piece and lr.pieces[-1] == seam.b.piece
+    # the crossing is one 3D point (the seam closes), shared by both legs
+    assert lr.waypoint_index[1] == lr.waypoint_index[2]
+    pattern_length = sum(float(np.linalg.norm(np.diff(leg.points, axis=0), axis=1).sum()) for leg in legs)
+    # a near-isometric drape keeps lengths: within the report's stretch band
+    assert lr.length_3d_mm == pytest.approx(pattern_length, rel=5e-3)
+    assert lr.climb_up_mm - lr.climb_down_mm == pytest.approx(lr.points[-1, 2] - lr.points[0, 2])
+    assert np.allclose(np.linalg.norm(lr.normals, axis=1), 1.0)
+    # outside normals point away from the body axis (the torso is convex)
+    radial = lr.points[:, :2] - lr.points[:, :2].mean(axis=0)
+    assert np.all(np.einsum("ij,ij->i", lr.normals[:, :2], radial) > 0)

@@ -303,12 +303,14 @@ class LiftedRoute:
         return tuple(self.piece_names[i] for i in self.piece_index)
 
 
-def lift_route(drape: Drape, garment: Garment, route, snap_mm: float = 1.0) -> LiftedRoute:
+def lift_route(
+    drape: Drape, garment: Garment, route, snap_mm: float = 1.0, seam_tol_mm: float = 0.01
+) -> LiftedRoute:
     """Lift a planned route (``garnav.plan`` Route: legs joined by seam crossings) onto the drape.
 
     Each leg is lifted with :func:`lift_polyline`. At a crossing the next leg starts at the
     partner point on the other piece, which is the same 3D point when the drape's seam closes; it
-    becomes a separate dense point only when the two images differ by more than 1e-6 mm.
+    becomes a separate dense point only when the two images are more than ``seam_tol_mm`` apart.
 
     Parameters
     ----------
@@ -319,6 +321,8 @@ def lift_route(drape: Drape, garment: Garment, route, snap_mm: float = 1.0) -> L
         Anything with ``legs`` (each with ``piece`` and ``points`` (n, 2)).
     snap_mm : float
         See :func:`lift_polyline`.
+    seam_tol_mm : float
+        Crossing images closer than this (mm) are one point.
 
     Returns
     -------
@@ -340,7 +344,7 @@ def lift_route(drape: Drape, garment: Garment, route, snap_mm: float = 1.0) -> L
         if count:
             prev = drape.to_3d(np.array([face[-1][-1]]), bary[-1][-1:])
             here = drape.to_3d(path.face[:1], path.bary[:1])
-            skip = 1 if float(np.linalg.norm(prev - here)) <= 1e-6 else 0
+            skip = 1 if float(np.linalg.norm(prev - here)) <= seam_tol_mm else 0
         pattern.append(path.pattern[skip:])
         face.append(path.face[skip:])
         bary.append(path.bary[skip:])
