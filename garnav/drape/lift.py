@@ -108,8 +108,8 @@ def lift_polyline(
     wp = [0]
     for i in range(len(pts) - 1):
         f = int(hits.face[i])
-        px, py = target[i]
-        bx, by = target[i + 1]
+        px, py = target[i].tolist()
+        bx, by = target[i + 1].tolist()
         entered = -1  # edge of f we came in through (not an exit candidate)
         steps = 0
         while True:
@@ -137,8 +137,8 @@ def lift_polyline(
             out_bary.append(_norm_bary(lam))
             g = int(nb[f, k_exit])
             if g >= 0:
-                back = np.flatnonzero(nb[g] == f)
-                entered = int(back[0]) if len(back) == 1 else _entry_edge(cp[g].tolist(), x, y)
+                back = nb[g].tolist()
+                entered = back.index(f) if back.count(f) == 1 else _entry_edge(cp[g].tolist(), x, y)
                 f, px, py = g, x, y
                 continue
             # left the island: find where the rest of the segment comes back, if it does

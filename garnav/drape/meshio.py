@@ -110,6 +110,13 @@ def _signed_area_2d(tri: np.ndarray) -> np.ndarray:
     return 0.5 * (a[:, 0] * b[:, 1] - a[:, 1] * b[:, 0])
 
 
+def _no_uv_message(source: str) -> str:
+    return (
+        f"{source}: the mesh has no texture coordinates (UV); garnav needs the flattened "
+        "pattern as UVs to link the mesh to the pieces"
+    )
+
+
 def weld_positions(positions: np.ndarray, tol: float) -> tuple[np.ndarray, np.ndarray]:
     """Merge positions closer than ``tol`` (transitively).
 
@@ -187,10 +194,7 @@ def uv_mesh_from_arrays(
     if faces.ndim != 2 or faces.shape[1] != 3:
         raise MeshError(f"{source}: faces must be triangles, got shape {faces.shape}")
     if corner_uv.size == 0:
-        raise MeshError(
-            f"{source}: the mesh has no texture coordinates (UV); garnav needs the flattened "
-            "pattern as UVs to link the mesh to the pieces"
-        )
+        raise MeshError(_no_uv_message(source))
     if corner_uv.shape != (len(faces), 3, 2):
         raise MeshError(f"{source}: expected (F, 3, 2) corner UVs, got shape {corner_uv.shape}")
     faces = faces.astype(np.int64)
@@ -371,7 +375,7 @@ def _trimesh_arrays(path: Path, source: str) -> tuple[np.ndarray, np.ndarray, np
     if not parts or all(len(f) == 0 for _, f, _ in parts):
         raise MeshError(f"{source}: not a triangle mesh (no faces found)")
     if any(uv is None for _, _, uv in parts):
-        return np.zeros((0, 3)), np.zeros((1, 3), dtype=np.int64), np.zeros(0)
+        raise MeshError(_no_uv_message(source))
     positions, faces, corner = [], [], []
     offset = 0
     for verts, f, uv in parts:
