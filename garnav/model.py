@@ -10,7 +10,8 @@ Frames (see DEVELOPERS.md):
   grainline towards the garment's top. A piece's edges run counter-clockwise around it.
 * **sheet frame** — all pieces laid on one sheet; piece → sheet is the rigid motion
   :class:`Placement`. UV = sheet position / ``Garment.sheet_size_mm``.
-* **world frame** — mm, z up, x towards the wearer's left, y forward.
+* **world frame** — mm, right-handed: z up, y forward (where the wearer faces), x towards the
+  wearer's right.
 
 This module does no I/O and no validation beyond what construction needs; the spec reader
 (:mod:`garnav.spec`) validates and reports every problem of a file at once.

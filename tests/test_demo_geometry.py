@@ -257,15 +257,15 @@ def test_demo_garment_matches_design():
 
 
 def test_mirrored_build_keeps_every_property():
-    # left_x_sign = −1 puts the wearer's left at −x (for a right-handed reading of the frame)
+    # left_x_sign = +1 mirrors the default layout (the wearer's left at +x)
     from garnav.demo.pattern import DemoDimensions
 
-    mirrored = build_design(DemoDimensions(left_x_sign=-1.0))
+    mirrored = build_design(DemoDimensions(left_x_sign=1.0))
     garment = mirrored.garment
     assert _free_space_problems(garment) == []
     mesh = build_drape(mirrored)
     left = mesh.face_piece == mesh.piece_names.index("sleeve_left")
-    assert np.all(mesh.vertices[np.unique(mesh.faces[left])][:, 0] < 0)
+    assert np.all(mesh.vertices[np.unique(mesh.faces[left])][:, 0] > 0)
     tri = mesh.vertices[mesh.faces]
     normals = np.cross(tri[:, 1] - tri[:, 0], tri[:, 2] - tri[:, 0])
     centres = mesh.pattern[mesh.face_uv].mean(axis=1)

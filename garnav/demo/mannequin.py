@@ -1,7 +1,7 @@
 """A stylised mannequin made of developable surfaces, and their exact developments.
 
 Three surface kinds, each with a pure map between its flat development (mm) and the world (mm,
-z up, x towards the wearer's left, y forward):
+right-handed: z up, y forward, x towards the wearer's right):
 
 * :class:`EllipticCylinder` — the torso, axis along z. Developed by arc length around the ellipse
   (incomplete elliptic integral of the second kind, scipy ``ellipeinc``) and height.
@@ -37,7 +37,7 @@ __all__ = [
 class EllipticCylinder:
     """The elliptic cylinder x²/a² + y²/b² = 1 for z in [z_bottom, z_top] (world mm).
 
-    The ellipse is parametrised by θ: (x, y) = (a cos θ, b sin θ); θ = 0 is the wearer's left side
+    The ellipse is parametrised by θ: (x, y) = (a cos θ, b sin θ); θ = 0 is the +x side (the wearer's right in the default layout)
     (x = a), θ = π/2 the front (y = b). Increasing θ runs counter-clockwise seen from above.
     """
 

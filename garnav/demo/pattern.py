@@ -69,7 +69,7 @@ class DemoDimensions:
     torso_step: float = 12.0  # boundary sampling of straight torso edges (mesh size)
     sleeve_step: float = 7.0  # boundary sampling of straight sleeve edges (mesh size)
     sheet_gap: float = 20.0  # gap between pieces on the sheet
-    left_x_sign: float = 1.0  # +1: the wearer's left is at +x (the project's world frame); −1 mirrors
+    left_x_sign: float = -1.0  # −1: the wearer's left is at −x (the right-handed world frame); +1 mirrors
 
     def x_sign(self, side: str) -> float:
         """+1 or −1: the sign of x on the wearer's ``side`` ("left" or "right")."""
