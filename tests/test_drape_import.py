@@ -98,3 +98,28 @@ def test_import_command_writes_a_spec(tmp_path):
     assert loaded.drape == "meshes/panels.obj"
     assert len(loaded.pieces) == 2 and len(loaded.seams) == 1
     assert sorted(p.area for p in loaded.pieces) == pytest.approx([120000.0, 120000.0])
+
+
+def test_closing_seam_that_folds_at_an_apex():
+    # a cone cut along one slant line from the apex: the two sides of the cut meet at the apex,
+    # so the boundary runs side → apex → side with each side sewn to the other
+    from garnav.drape.meshio import uv_mesh_from_arrays
+
+    n, slant = 64, 300.0
+    phi = np.linspace(0.0, math.pi, n + 1)  # development angle 2π sin α with sin α = 1/2
+    pattern = np.vstack([[0.0, 0.0], np.column_stack([slant * np.cos(phi), slant * np.sin(phi)])])
+    tris = np.array([[0, i + 1, i + 2] for i in range(n)])
+    theta = phi / 0.5
+    rim = np.column_stack(
+        [0.5 * slant * np.cos(theta), 0.5 * slant * np.sin(theta), np.full(n + 1, -slant * math.sqrt(0.75))]
+    )
+    mesh = uv_mesh_from_arrays(np.vstack([[0.0, 0.0, 0.0], rim]), tris, (pattern[tris] + 310.0) / 620.0)
+    imported = garment_from_mesh(mesh)
+    (piece,) = imported.pieces
+    assert sorted(e.name for e in piece.edges) == ["open_1", "seam_1", "seam_2"]
+    (seam,) = imported.seams
+    ra, rb = imported.run_polyline(seam.a), imported.run_polyline(seam.b)
+    # the two sides match point for point from the apex outwards (or from the rim inwards)
+    apex = piece.placement.from_sheet(np.array([310.0, 310.0]) * imported.sheet_size_mm[0] / 620.0)
+    assert np.linalg.norm(ra - apex, axis=1) == pytest.approx(np.linalg.norm(rb - apex, axis=1), abs=1e-6)
+    assert imported.sheet_size_mm == pytest.approx((620.0, 620.0), rel=1e-6)
