@@ -159,9 +159,14 @@ class Drape:
             self._cache[key] = (ids, TriangleLocator.build(self.corner_pattern[ids]))
         return self._cache[key]
 
+    def boundary_segments(self, piece: str) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """The piece's island boundary: segment ends (B, 2, 2) in pattern mm, their triangle
+        (B,) and that triangle's edge k (B,; edge k is opposite corner k)."""
+        self._piece_id(piece)
+        return self._all_boundary_segments[piece]
+
     @cached_property
-    def _boundary_segments(self) -> dict[str, tuple[np.ndarray, np.ndarray, np.ndarray]]:
-        """Per piece: boundary segment ends (B, 2, 2) in pattern mm, face (B,), edge k (B,)."""
+    def _all_boundary_segments(self) -> dict[str, tuple[np.ndarray, np.ndarray, np.ndarray]]:
         topo = self.topology
         f, k = topo.boundary[:, 0], topo.boundary[:, 1]
         c0, c1 = NEXT[k], NEXT[NEXT[k]]
@@ -202,7 +207,7 @@ class Drape:
         snap = np.zeros(len(pts))
         miss = np.flatnonzero(face < 0)
         if len(miss):
-            segs, sf, sk = self._boundary_segments[piece]
+            segs, sf, _ = self.boundary_segments(piece)
             q, d, which = _nearest_on_segments(pts[miss], segs)
             far = d > snap_mm
             if np.any(far):

@@ -15,7 +15,7 @@ from functools import cached_property
 
 import numpy as np
 
-from garnav.drape.drape import Drape, _nearest_on_segments
+from garnav.drape.drape import Drape
 from garnav.errors import QueryError
 from garnav.model import Garment
 
@@ -99,7 +99,7 @@ def lift_polyline(
     target = drape.to_pattern(hits.face, hits.bary)
     cp = drape.corner_pattern
     nb = drape.topology.neighbor
-    segs, seg_face, seg_k = drape._boundary_segments[piece]
+    segs, seg_face, seg_k = drape.boundary_segments(piece)
     max_steps = 4 * len(drape.faces) + 16
 
     out_xy: list[tuple[float, float]] = [tuple(target[0])]
