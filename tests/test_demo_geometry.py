@@ -1,5 +1,6 @@
 """The demo garment against outside references: elliptic integrals, the cone development, the
-isometry of the drape, seam closure, the surfaces' implicit equations, free space, reproducibility."""
+isometry of the drape, seam closure, the surfaces' implicit equations, free space, reproducibility.
+"""
 
 from __future__ import annotations
 
@@ -82,7 +83,9 @@ def test_sleeve_is_an_annular_sector_of_angle_2_pi_r_over_s(design, side):
     angle = math.acos(np.dot(d0, d1) / (np.linalg.norm(d0) * np.linalg.norm(d1)))
     assert angle == pytest.approx(expected_angle, rel=1e-6)
     cuff = piece.edge("cuff")
-    assert np.linalg.norm(cuff.array - apex, axis=1) == pytest.approx(np.full(len(cuff.points), s_w), rel=1e-6)
+    assert np.linalg.norm(cuff.array - apex, axis=1) == pytest.approx(
+        np.full(len(cuff.points), s_w), rel=1e-6
+    )
     # the cuff arc is the wrist circle's circumference 2π·r
     assert cuff.length == pytest.approx(2.0 * math.pi * r_w, rel=1e-4)
     # the straight edges are generators: they point at the apex
@@ -138,8 +141,12 @@ def test_armhole_lies_on_cone_and_cylinder(design):
     a, b = dims.half_width, dims.half_depth
     for side in ("left", "right"):
         cone = design.cones[side]
-        for piece, edge in ((f"sleeve_{side}", "armhole_front"), (f"sleeve_{side}", "armhole_back"),
-                            ("front", f"armhole_{side}"), ("back", f"armhole_{side}")):
+        for piece, edge in (
+            (f"sleeve_{side}", "armhole_front"),
+            (f"sleeve_{side}", "armhole_back"),
+            ("front", f"armhole_{side}"),
+            ("back", f"armhole_{side}"),
+        ):
             p = design.maps[piece].to_world(design.samples[(piece, edge)])
             # implicit cylinder x²/a² + y²/b² = 1
             assert np.abs((p[:, 0] / a) ** 2 + (p[:, 1] / b) ** 2 - 1.0).max() < 1e-6
@@ -172,14 +179,22 @@ def _free_space_problems(garment) -> list[str]:
         for run in garment.open_runs():
             if run.piece != piece.name:
                 continue
-            line = shapely.LineString(sub_polyline(piece.edge(run.edge).array, run.from_mm, run.to_mm))
+            line = shapely.LineString(
+                sub_polyline(piece.edge(run.edge).array, run.from_mm, run.to_mm)
+            )
             if line.distance(point) <= robot.radius_mm + robot.edge_margin_mm:
                 problems.append(f"{lm.name}: too close to open edge {run.edge}")
         for opening in piece.openings:
-            if shapely.LinearRing(opening.array).distance(point) <= robot.radius_mm + robot.edge_margin_mm:
+            if (
+                shapely.LinearRing(opening.array).distance(point)
+                <= robot.radius_mm + robot.edge_margin_mm
+            ):
                 problems.append(f"{lm.name}: too close to opening {opening.name}")
         for keepout in garment.keepouts_on(piece.name):
-            if keepout.shape.exact_geometry().distance(point) <= robot.radius_mm + keepout.clearance_mm:
+            if (
+                keepout.shape.exact_geometry().distance(point)
+                <= robot.radius_mm + keepout.clearance_mm
+            ):
                 problems.append(f"{lm.name}: inside grown keep-out {keepout.name}")
     return problems
 
@@ -220,17 +235,33 @@ def test_landmark_check_catches_a_bad_point(design):
 def test_triangulation_rejects_a_too_coarse_boundary():
     # a long slot side with lattice points on both sides is no Delaunay edge: any circle through
     # its ends holds a cap of height >= half its length on one side
-    outline = np.array([[0.0, 0.0], [100.0, 0.0], [100.0, 45.0], [20.0, 45.0], [20.0, 55.0],
-                        [100.0, 55.0], [100.0, 100.0], [0.0, 100.0]])
+    outline = np.array(
+        [
+            [0.0, 0.0],
+            [100.0, 0.0],
+            [100.0, 45.0],
+            [20.0, 45.0],
+            [20.0, 55.0],
+            [100.0, 55.0],
+            [100.0, 100.0],
+            [0.0, 100.0],
+        ]
+    )
     with pytest.raises(MeshError):
         triangulate_piece(outline, [], 2.0)
     # the same shape with a fine boundary meshes, covering the area exactly
-    ring = np.vstack([sub_polyline(np.vstack([outline, outline[:1]]), s, s + 1.5)[0]
-                      for s in np.arange(0.0, 560.0, 1.5)])
+    ring = np.vstack(
+        [
+            sub_polyline(np.vstack([outline, outline[:1]]), s, s + 1.5)[0]
+            for s in np.arange(0.0, 560.0, 1.5)
+        ]
+    )
     points, triangles = triangulate_piece(ring, [], 2.0)
     area = shapely.Polygon(ring).area
     p = points[triangles]
-    cross = (p[:, 1, 0] - p[:, 0, 0]) * (p[:, 2, 1] - p[:, 0, 1]) - (p[:, 1, 1] - p[:, 0, 1]) * (p[:, 2, 0] - p[:, 0, 0])
+    cross = (p[:, 1, 0] - p[:, 0, 0]) * (p[:, 2, 1] - p[:, 0, 1]) - (p[:, 1, 1] - p[:, 0, 1]) * (
+        p[:, 2, 0] - p[:, 0, 0]
+    )
     assert np.all(cross > 0)
     assert cross.sum() / 2 == pytest.approx(area, rel=1e-9)
 
@@ -248,11 +279,26 @@ def test_build_reproduces_committed_files(tmp_path):
 
 def test_demo_garment_matches_design():
     assert demo_garment() == build_design().garment
-    assert [p.name for p in demo_garment().pieces] == ["front", "back", "sleeve_left", "sleeve_right", "yoke"]
+    assert [p.name for p in demo_garment().pieces] == [
+        "front",
+        "back",
+        "sleeve_left",
+        "sleeve_right",
+        "yoke",
+    ]
     assert {s.name for s in demo_garment().seams} == {
-        "side_left_lower", "side_left_upper", "side_right_lower", "side_right_upper",
-        "armhole_left_front", "armhole_left_back", "armhole_right_front", "armhole_right_back",
-        "yoke_front", "yoke_back", "underarm_left", "underarm_right",
+        "side_left_lower",
+        "side_left_upper",
+        "side_right_lower",
+        "side_right_upper",
+        "armhole_left_front",
+        "armhole_left_back",
+        "armhole_right_front",
+        "armhole_right_back",
+        "yoke_front",
+        "yoke_back",
+        "underarm_left",
+        "underarm_right",
     }
 
 
@@ -305,3 +351,61 @@ def test_geodesics_on_the_drape_are_pattern_straight_lines(drape, piece, start, 
     path = solver.find_geodesic_path(i, j)
     length = np.linalg.norm(np.diff(path, axis=0), axis=1).sum()
     assert length == pytest.approx(np.linalg.norm(a - b), rel=0.005)
+
+
+def test_piece_maps_are_exact_isometries(design):
+    # Identity between two computations: to_pattern ∘ to_world is the identity, and the Jacobian
+    # of to_world (central differences) has both singular values 1 (a local isometry).
+    rng = np.random.default_rng(7)
+    for piece in design.garment.pieces:
+        poly = piece.polygon
+        lo, hi = np.array(poly.bounds[:2]), np.array(poly.bounds[2:])
+        cand = lo + rng.random((400, 2)) * (hi - lo)
+        pts = cand[shapely.contains_xy(poly, cand[:, 0], cand[:, 1])][:50]
+        m = design.maps[piece.name]
+        assert np.abs(m.to_pattern(m.to_world(pts)) - pts).max() < 1e-7, piece.name
+        h = 1e-3
+        jac = np.stack(
+            [
+                (m.to_world(pts + [h, 0]) - m.to_world(pts - [h, 0])) / (2 * h),
+                (m.to_world(pts + [0, h]) - m.to_world(pts - [0, h])) / (2 * h),
+            ],
+            axis=-1,
+        )
+        sv = np.linalg.svd(jac, compute_uv=False)
+        assert np.abs(sv - 1.0).max() < 1e-6, piece.name
+
+
+def test_ellipse_arc_length_inverse(design):
+    cyl = design.torso
+    s = np.linspace(-100.0, 2.5 * cyl.perimeter, 257)
+    assert np.abs(cyl.arc_length(cyl.theta_at(s)) - s).max() < 1e-9
+    # a quarter of the ellipse is a quarter of the perimeter (symmetry)
+    assert float(cyl.arc_length(math.pi / 2)) == pytest.approx(cyl.perimeter / 4, rel=1e-12)
+
+
+def test_body_is_closed_and_inside_the_garment(design, drape):
+    from garnav.demo.mesh import build_body
+
+    body = build_body(design)
+    mesh = trimesh.Trimesh(body.vertices, body.faces, process=False)
+    parts = mesh.split(only_watertight=False)
+    assert len(parts) == 5  # torso, neck, head, two arms
+    assert all(p.is_watertight and p.volume > 0 for p in parts)
+    sample = drape.vertices[::23]
+    _, distance, _ = trimesh.proximity.closest_point(mesh, sample)
+    assert distance.min() > 2.0
+
+
+def test_obj_has_one_group_per_piece():
+    text = (MESHES / DRAPE_NAME).read_text()
+    objects = [line[2:] for line in text.splitlines() if line.startswith("o ")]
+    groups = [line[2:] for line in text.splitlines() if line.startswith("g ")]
+    assert objects == groups == [p.name for p in demo_garment().pieces]
+
+
+def test_demo_garment_passes_the_spec_checks(design):
+    from garnav.spec import dumps_garment, garment_problems, loads_garment
+
+    assert garment_problems(design.garment, "<demo>") == []
+    assert loads_garment(dumps_garment(design.garment)) == design.garment

@@ -109,7 +109,20 @@ def test_bow_tie_reports_crossing_point():
                 sheet_size_mm=(200.0, 200.0))
     p = only(garment_problems(g), "crosses itself")
     assert p.where == pytest.approx((50.0, 50.0))
-    assert "'e0' and 'e2'" in p.reason
+    assert "edges 'e0' and 'e2' cross" in p.reason
+
+
+def test_outline_crossing_itself_twice_lists_both():
+    # A square with a notch cut from its top down through its hem: the notch sides x = 60 and
+    # x = 30 cross the hem (y = 0) at (60, 0) and (30, 0) (hand-worked); nothing else crosses.
+    ring = [(0, 0), (100, 0), (100, 100), (60, 100), (60, -20), (30, -20), (30, 100), (0, 100)]
+    g = Garment("g", (poly_piece("p", ring),), sheet_size_mm=(200.0, 200.0))
+    p = only(garment_problems(g), "crosses itself")
+    crossings = {(30.0, 0.0), (60.0, 0.0)}
+    assert p.where in crossings
+    (other,) = crossings - {p.where}
+    assert f"(and at 1 more place: ({other[0]:.1f}, {other[1]:.1f}))" in p.reason
+    assert "crosses itself: edges 'e0' and" in p.reason
 
 
 def test_outline_touching_itself():
@@ -177,6 +190,8 @@ def test_sheet_layout(two_panels):
     assert "390.0 mm past x = 0" in p.reason
     g = dataclasses.replace(two_panels, sheet_size_mm=(0.0, 420.0))
     only(garment_problems(g), "'sheet_size_mm' must be > 0")
+    g = dataclasses.replace(two_panels, sheet_size_mm=(650.0,))
+    only(garment_problems(g), "'sheet_size_mm' must be 2 numbers")
     g = with_piece(two_panels, dataclasses.replace(left, placement=Placement(math.inf, 10.0)))
     only(garment_problems(g), "'x' must be a finite number")
 
@@ -445,3 +460,25 @@ def test_check_garment_raises_with_all_problems(single_panel):
         check_garment(g, "built.toml")
     assert len(info.value.problems) == 2
     assert str(info.value).startswith("2 problems found:")
+
+
+def test_field_defaults_match_the_model():
+    """fields.py and the model agree on every default (the reader fills absent keys from
+    fields.py; Python users get the model's)."""
+    from garnav.spec.fields import SECTIONS
+
+    pairs = {
+        "robot": (Robot, {}),
+        "placement": (Placement, {}),
+        "seam": (Seam, {"name": "s", "a": None, "b": None}),
+        "run": (SeamRun, {"piece": "p", "edge": "e"}),
+        "keepout": (KeepOut, {"name": "k", "piece": "p", "kind": "custom", "shape": None}),
+        "landmark": (Landmark, {"name": "m"}),
+    }
+    for section, (cls, required) in pairs.items():
+        obj = cls(**required)
+        for key, field in SECTIONS[section].items():
+            if hasattr(obj, key) and key not in required:
+                assert getattr(obj, key) == field.default, (section, key)
+    assert Garment("g", ()).sheet_size_mm == SECTIONS["top"]["sheet_size_mm"].default
+    assert Rectangle(0, 0, 1, 1).angle_deg == SECTIONS["keepout"]["angle_deg"].default

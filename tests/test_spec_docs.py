@@ -18,6 +18,18 @@ def _example() -> str:
     return blocks[0]
 
 
+def test_doc_error_example_is_real(tmp_path, monkeypatch, capsys):
+    doc = DOC.read_text(encoding="utf-8")
+    shown = re.search(r"```text\n(garnav check: error.*?)```", doc, re.S).group(1)
+    text = _example()
+    text = text.replace("clearance_mm = 5.0", "clerance_mm = 5.0", 1)
+    text = text.replace("[[400.0, 0.0], [400.0, 500.0]]", "[[400.0, 2.0], [400.0, 500.0]]", 1)
+    (tmp_path / "vest.toml").write_text(text, encoding="utf-8")
+    monkeypatch.chdir(tmp_path)
+    assert main(["check", "vest.toml"]) == 2
+    assert capsys.readouterr().err == shown
+
+
 def test_doc_example_loads_and_round_trips():
     g = loads_garment(_example(), "docs/spec.md")
     assert [p.name for p in g.pieces] == ["front", "back"]

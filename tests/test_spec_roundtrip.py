@@ -26,3 +26,18 @@ def test_save_and_load_file(tmp_path, two_panels):
     path = save_garment(two_panels, tmp_path / "sub" / "g.toml")
     assert load_garment(path) == two_panels
     assert not [p for p in path.parent.iterdir() if p.name.endswith(".tmp")]
+
+
+def test_save_refuses_a_garment_with_problems(tmp_path, two_panels):
+    import dataclasses
+
+    from garnav import Robot, SpecError
+
+    bad = dataclasses.replace(two_panels, robot=Robot(radius_mm=0.0))
+    target = tmp_path / "g.toml"
+    with pytest.raises(SpecError, match="radius_mm"):
+        save_garment(bad, target)
+    assert not target.exists() and list(tmp_path.iterdir()) == []
+    save_garment(bad, target, check=False)  # explicitly unchecked: written as is
+    with pytest.raises(SpecError, match="radius_mm"):
+        load_garment(target)

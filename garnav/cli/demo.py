@@ -31,16 +31,24 @@ def register(subparsers) -> None:
         description="The built-in demo: a long-sleeved sensing top on a stylised mannequin.",
     )
     parser.add_argument("--rebuild", action="store_true", help="write the demo spec and meshes")
-    parser.add_argument("--out", metavar="DIR", help="folder for --rebuild (default: meshes/ of this checkout)")
+    parser.add_argument(
+        "--out", metavar="DIR", help="folder for --rebuild (default: meshes/ of this checkout)"
+    )
     parser.set_defaults(func=run)
 
 
 def _default_out() -> Path:
     """The checkout's meshes/ folder, or a GarnavError when garnav is not run from a checkout."""
     root = Path(__file__).resolve().parents[2]
-    if (root / "pyproject.toml").is_file() and (root / "garnav").is_dir() and (root / ".git").exists():
+    if (
+        (root / "pyproject.toml").is_file()
+        and (root / "garnav").is_dir()
+        and (root / ".git").exists()
+    ):
         return root / "meshes"
-    raise GarnavError("demo --rebuild: not running from a source checkout; give a folder with --out DIR")
+    raise GarnavError(
+        "demo --rebuild: not running from a source checkout; give a folder with --out DIR"
+    )
 
 
 def _rebuild(out: Path) -> int:
@@ -58,27 +66,21 @@ def _rebuild(out: Path) -> int:
 
 def _summary() -> int:
     from garnav.demo import demo_garment
+    from garnav.spec import garment_problems
 
     garment = demo_garment()
-    try:
-        from garnav.spec import garment_problems  # type: ignore[attr-defined]
-    except ImportError:
-        garment_problems = None
     print(f"demo garment '{garment.name}': {garment.description}")
     for piece in garment.pieces:
-        print(f"  piece {piece.name:<13} {piece.area / 100.0:8.0f} cm²  edges: {', '.join(piece.edge_names)}")
-    print(f"  {len(garment.seams)} seams, {len(garment.keepouts)} keep-outs, {len(garment.landmarks)} landmarks")
-    if garment_problems is not None:
-        problems = garment_problems(garment, "<demo>")
-        print(f"  check: {len(problems)} problem(s)")
-        for p in problems:
-            print(f"    - {p}")
-        status = 1 if problems else 0
-    else:
-        print("  check: spec checks not available in this build")
-        status = 0
+        edges = ", ".join(piece.edge_names)
+        print(f"  piece {piece.name:<13} {piece.area / 100.0:8.0f} cm²  edges: {edges}")
+    counts = (len(garment.seams), len(garment.keepouts), len(garment.landmarks))
+    print("  %d seams, %d keep-outs, %d landmarks" % counts)
+    problems = garment_problems(garment, "<demo>")
+    print(f"  check: {len(problems)} problem(s)")
+    for problem in problems:
+        print(f"    - {problem}")
     print("\n".join(CAUTIONS))
-    return status
+    return 1 if problems else 0
 
 
 def run(args: argparse.Namespace) -> int:

@@ -5,6 +5,6 @@ and mannequin mesh.
 """
 
 from garnav.demo.build import build_demo
-from garnav.demo.pattern import build_design, demo_garment
+from garnav.demo.pattern import DemoDimensions, build_design, demo_garment
 
-__all__ = ["demo_garment", "build_demo", "build_design"]
+__all__ = ["demo_garment", "build_demo", "build_design", "DemoDimensions"]

@@ -13,7 +13,7 @@ from typing import Callable
 from garnav.atomic import write_text_atomic
 from garnav.demo.mesh import body_obj_text, build_body, build_drape, drape_obj_text
 from garnav.demo.pattern import build_design
-from garnav.demo.spec_text import garment_toml
+from garnav.spec import check_garment, save_garment
 
 __all__ = ["DemoFiles", "build_demo", "SPEC_NAME", "DRAPE_NAME", "BODY_NAME"]
 
@@ -33,7 +33,9 @@ class DemoFiles:
     triangles: int
 
 
-def build_demo(folder: str | os.PathLike, progress: Callable[[str], None] | None = None) -> DemoFiles:
+def build_demo(
+    folder: str | os.PathLike, progress: Callable[[str], None] | None = None
+) -> DemoFiles:
     """Build the demo garment and write its three files into ``folder`` (created if missing).
 
     Parameters
@@ -51,8 +53,8 @@ def build_demo(folder: str | os.PathLike, progress: Callable[[str], None] | None
     step("drape mesh")
     body = build_body(design)
     step("mannequin mesh")
-    garment = design.garment
-    spec = write_text_atomic(folder / SPEC_NAME, garment_toml(garment))
+    garment = check_garment(design.garment, "<demo>")
+    spec = save_garment(garment, folder / SPEC_NAME)
     drape_path = write_text_atomic(folder / DRAPE_NAME, drape_obj_text(drape, garment.name))
     body_path = write_text_atomic(folder / BODY_NAME, body_obj_text(body))
     step("files")

@@ -37,8 +37,8 @@ __all__ = [
 class EllipticCylinder:
     """The elliptic cylinder x²/a² + y²/b² = 1 for z in [z_bottom, z_top] (world mm).
 
-    The ellipse is parametrised by θ: (x, y) = (a cos θ, b sin θ); θ = 0 is the +x side (the wearer's right in the default layout)
-    (x = a), θ = π/2 the front (y = b). Increasing θ runs counter-clockwise seen from above.
+    The ellipse is parametrised by θ: (x, y) = (a cos θ, b sin θ); θ = 0 is the +x side (x = a, the
+    wearer's right), θ = π/2 the front (y = b). Increasing θ runs counter-clockwise seen from above.
     """
 
     a: float
@@ -53,7 +53,11 @@ class EllipticCylinder:
 
     @property
     def perimeter(self) -> float:
-        """Ellipse perimeter 4·a·E(m), mm."""
+        """Ellipse perimeter 4·a·E(m), mm.
+
+        >>> abs(EllipticCylinder(100.0, 100.0, 0.0, 1.0).perimeter - 2 * math.pi * 100.0) < 1e-9
+        True
+        """
         return 4.0 * self.a * float(ellipe(self.m))
 
     def arc_length(self, theta: np.ndarray | float) -> np.ndarray:
@@ -101,7 +105,7 @@ class EllipticCylinder:
 
 @dataclass(frozen=True)
 class Cone:
-    """A right circular cone: apex, unit axis ``d`` pointing from the body out to the apex, half-angle β.
+    """A right circular cone: apex, unit axis ``d`` (from the body out to the apex), half-angle β.
 
     Generators leave the apex in directions g(φ) = −cos β·d + sin β·(cos φ·e1 + sin φ·e2), where
     (e1, e2, d) is a right-handed orthonormal frame and φ = 0 is the generator towards ``e1``.
@@ -162,7 +166,7 @@ class HorizontalPlane:
 
 
 def cone_cylinder_intersection(cone: Cone, cyl: EllipticCylinder, phi: np.ndarray) -> np.ndarray:
-    """Slant distance ρ (n,) where each generator φ (n,) first meets the cylinder, coming from the apex.
+    """Slant distance ρ (n,) where each generator φ (n,) first meets the cylinder from the apex.
 
     Along a generator X = apex + ρ g, the cylinder's equation x²/a² + y²/b² = 1 is a quadratic
     A ρ² + B ρ + C = 0; the apex lies outside (C > 0) and the smaller positive root is where the

@@ -74,13 +74,15 @@ class BodyMesh:
 
 
 def _lattice(polygon: shapely.Polygon, step: float, clearance: float) -> np.ndarray:
-    """Triangular-lattice points (n, 2) inside ``polygon`` at least ``clearance`` from its boundary."""
+    """Triangular-lattice points (n, 2) inside ``polygon``, at least ``clearance`` from its edge."""
     minx, miny, maxx, maxy = polygon.bounds
     dy = step * math.sqrt(3.0) / 2.0
     rows = np.arange(miny + clearance, maxy - clearance + 1e-9, dy)
     pts = []
     for i, y in enumerate(rows):
-        xs = np.arange(minx + clearance + (step / 2.0 if i % 2 else 0.0), maxx - clearance + 1e-9, step)
+        xs = np.arange(
+            minx + clearance + (step / 2.0 if i % 2 else 0.0), maxx - clearance + 1e-9, step
+        )
         pts.append(np.stack([xs, np.full_like(xs, y)], axis=-1))
     cand = np.vstack(pts) if pts else np.zeros((0, 2))
     inside = shapely.contains_xy(polygon, cand[:, 0], cand[:, 1])
@@ -125,8 +127,14 @@ def triangulate_piece(
     centroids = points[simplices].mean(axis=1)
     simplices = simplices[shapely.contains_xy(polygon, centroids[:, 0], centroids[:, 1])]
     p0, p1, p2 = (points[simplices[:, i]] for i in range(3))
-    cross = (p1[:, 0] - p0[:, 0]) * (p2[:, 1] - p0[:, 1]) - (p1[:, 1] - p0[:, 1]) * (p2[:, 0] - p0[:, 0])
+    cross = (p1[:, 0] - p0[:, 0]) * (p2[:, 1] - p0[:, 1]) - (p1[:, 1] - p0[:, 1]) * (
+        p2[:, 0] - p0[:, 0]
+    )
     simplices = np.where((cross < 0)[:, None], simplices[:, [0, 2, 1]], simplices)
+    # canonical form, independent of the Delaunay library's output order: smallest index first
+    # (a rotation keeps the orientation), then rows sorted
+    shift = np.argmin(simplices, axis=1)
+    simplices = np.take_along_axis(simplices, (shift[:, None] + np.arange(3)) % 3, axis=1)
     simplices = simplices[np.lexsort(simplices.T[::-1])]
     # every boundary segment must be a triangle edge
     edges = set()
@@ -140,12 +148,15 @@ def triangulate_piece(
             if (int(i), int(j)) not in edges and (int(j), int(i)) not in edges:
                 raise MeshError(
                     f"piece mesh: boundary segment {points[i].round(2).tolist()} - "
-                    f"{points[j].round(2).tolist()} is not a triangle edge; refine the boundary sampling"
+                    f"{points[j].round(2).tolist()} is not a triangle edge; "
+                    "refine the boundary sampling"
                 )
         start += n
     area = float(np.sum(np.abs(cross)) / 2.0)
     if abs(area - polygon.area) > 1e-6 * polygon.area:
-        raise MeshError(f"piece mesh: triangles cover {area:.3f} mm², the piece {polygon.area:.3f} mm²")
+        raise MeshError(
+            f"piece mesh: triangles cover {area:.3f} mm², the piece {polygon.area:.3f} mm²"
+        )
     return points, simplices
 
 
@@ -199,7 +210,9 @@ def build_drape(design: DemoDesign, weld_tol: float = 1e-3, progress=None) -> Dr
         na = len(design.samples[(seam.a.piece, seam.a.edge)])
         nb = len(design.samples[(seam.b.piece, seam.b.edge)])
         if na != nb or seam.a.reverse:
-            raise MeshError(f"seam '{seam.name}': runs are not sampled alike ({na} and {nb} samples)")
+            raise MeshError(
+                f"seam '{seam.name}': runs are not sampled alike ({na} and {nb} samples)"
+            )
         ia = key_base[(seam.a.piece, seam.a.edge)] + np.arange(na)
         ib = key_base[(seam.b.piece, seam.b.edge)] + np.arange(nb)
         if seam.b.reverse:
@@ -210,12 +223,15 @@ def build_drape(design: DemoDesign, weld_tol: float = 1e-3, progress=None) -> Dr
     prov_world = np.zeros((total, 3))
     for (piece, edge), base in key_base.items():
         pts = design.samples[(piece, edge)]
-        prov_world[base:base + len(pts)] = design.maps[piece].to_world(pts)
+        prov_world[base : base + len(pts)] = design.maps[piece].to_world(pts)
     roots = np.array([uf.find(i) for i in range(total)])
     spread = np.linalg.norm(prov_world - prov_world[roots], axis=1)
     if spread.max() > weld_tol:
         worst = int(np.argmax(spread))
-        raise MeshError(f"drape: seam samples {spread.max():.4f} mm apart at {prov_world[worst].round(2).tolist()}")
+        raise MeshError(
+            f"drape: seam samples {spread.max():.4f} mm apart "
+            f"at {prov_world[worst].round(2).tolist()}"
+        )
 
     vertices: list[np.ndarray] = []
     root_vertex: dict[int, int] = {}
@@ -268,19 +284,22 @@ def build_drape(design: DemoDesign, weld_tol: float = 1e-3, progress=None) -> Dr
 
 
 def _grid_faces(rows: int, cols: int, offset: int, closed: bool = True) -> np.ndarray:
-    """Faces (2·(rows−1)·cols, 3) of a rows × cols vertex grid wrapped around in the column index."""
+    """Faces (2·(rows−1)·cols, 3) of a rows × cols vertex grid, wrapped around in the columns."""
     r, c = np.meshgrid(np.arange(rows - 1), np.arange(cols), indexing="ij")
     c1 = (c + 1) % cols if closed else c + 1
     v00 = r * cols + c
     v01 = r * cols + c1
     v10 = (r + 1) * cols + c
     v11 = (r + 1) * cols + c1
-    tri = np.concatenate([np.stack([v00, v01, v11], -1).reshape(-1, 3),
-                          np.stack([v00, v11, v10], -1).reshape(-1, 3)])
+    tri = np.concatenate(
+        [np.stack([v00, v01, v11], -1).reshape(-1, 3), np.stack([v00, v11, v10], -1).reshape(-1, 3)]
+    )
     return tri + offset
 
 
-def _fan(ring: np.ndarray, centre: np.ndarray, offset: int, outward_ccw: bool) -> tuple[np.ndarray, np.ndarray]:
+def _fan(
+    ring: np.ndarray, centre: np.ndarray, offset: int, outward_ccw: bool
+) -> tuple[np.ndarray, np.ndarray]:
     """Cap a ring of vertex indices with a fan around a new centre vertex."""
     n = len(ring)
     centre_index = offset
@@ -291,9 +310,18 @@ def _fan(ring: np.ndarray, centre: np.ndarray, offset: int, outward_ccw: bool) -
 
 
 def build_body(design: DemoDesign, inset: float = 3.0, around: int = 96) -> BodyMesh:
-    """A mannequin made of the same surfaces, ``inset`` mm inside the garment, with neck, head and hands.
+    """A mannequin of the same surfaces, ``inset`` mm inside the garment, with neck, head and hands.
 
-    Parts overlap where they meet (the arms enter the torso); the mesh is for previews only.
+    Each part (torso, neck, head, two arms) is a closed, outward-wound surface; parts overlap
+    where they meet (the arms enter the torso), so the whole is for previews only.
+
+    Parameters
+    ----------
+    design : DemoDesign
+    inset : float
+        Distance (mm) of the body surfaces inside the garment's.
+    around : int
+        Vertices around each ring.
     """
     dims = design.dims
     verts: list[np.ndarray] = []
@@ -325,14 +353,28 @@ def build_body(design: DemoDesign, inset: float = 3.0, around: int = 96) -> Body
     ring = np.stack([na * np.cos(t), dims.neck_centre_y + nb * np.sin(t)], -1)
     tube = np.concatenate([np.column_stack([ring, np.full(around, z)]) for z in zn])
     add(tube, _grid_faces(len(zn), around, count))
+    bottom = np.arange(around) + count - len(tube)
+    top = bottom + (len(zn) - 1) * around
+    c, f = _fan(bottom, np.array([0.0, dims.neck_centre_y, zn[0]]), count, outward_ccw=False)
+    add(c, f)
+    c, f = _fan(top, np.array([0.0, dims.neck_centre_y, zn[-1]]), count, outward_ccw=True)
+    add(c, f)
     # head: an ellipsoid resting on the neck
     centre = np.array([0.0, dims.neck_centre_y + 10.0, dims.shoulder_z + 90.0 + 100.0])
     radii = np.array([75.0, 90.0, 110.0])
     lat = np.linspace(-math.pi / 2, math.pi / 2, 33)[1:-1]
-    sphere = np.concatenate([
-        np.column_stack([np.cos(la) * np.cos(t), np.cos(la) * np.sin(t), np.full(around, np.sin(la))])
-        for la in lat
-    ]) * radii + centre
+    sphere = (
+        np.concatenate(
+            [
+                np.column_stack(
+                    [np.cos(la) * np.cos(t), np.cos(la) * np.sin(t), np.full(around, np.sin(la))]
+                )
+                for la in lat
+            ]
+        )
+        * radii
+        + centre
+    )
     add(sphere, _grid_faces(len(lat), around, count))
     south = np.arange(around) + count - len(sphere)
     north = south + (len(lat) - 1) * around
@@ -348,19 +390,24 @@ def build_body(design: DemoDesign, inset: float = 3.0, around: int = 96) -> Body
         rho_joint = dims.sleeve_radius_shoulder / k
         rhos = np.linspace(rho_wrist - 160.0, rho_joint + 40.0, 30)
         phis = np.linspace(-math.pi, math.pi, around, endpoint=False)
-        rows = []
-        for rho in rhos:
-            p = cone.point(np.full(around, rho), phis) - inset * cone.outward_normal(phis)
-            rows.append(p)
-        tube = np.concatenate(rows)
+        tube = np.concatenate(
+            [
+                cone.point(np.full(around, rho), phis) - inset * cone.outward_normal(phis)
+                for rho in rhos
+            ]
+        )
+        # rows run towards the body, columns counter-clockwise about d: flip to face outwards
         add(tube, _grid_faces(len(rhos), around, count)[:, [0, 2, 1]])
         outer = np.arange(around) + count - len(tube)
         inner = outer + (len(rhos) - 1) * around
-        axis_point = lambda rho: np.asarray(cone.apex) - math.cos(cone.beta) * rho * np.asarray(cone.d)
+        apex, axis = np.asarray(cone.apex), np.asarray(cone.d)
+        # the point on the axis level with slant distance ρ
+        hand_tip = apex - math.cos(cone.beta) * (rhos[0] - 20.0) * axis
+        body_end = apex - math.cos(cone.beta) * rhos[-1] * axis
         # φ increases counter-clockwise about d, so a fan around the hand end faces +d (outwards)
-        c, f = _fan(outer, axis_point(rhos[0] - 20.0), count, outward_ccw=True)
+        c, f = _fan(outer, hand_tip, count, outward_ccw=True)
         add(c, f)
-        c, f = _fan(inner, axis_point(rhos[-1]), count, outward_ccw=False)
+        c, f = _fan(inner, body_end, count, outward_ccw=False)
         add(c, f)
     return BodyMesh(np.vstack(verts), np.vstack(faces).astype(np.int64))
 
@@ -379,8 +426,9 @@ def drape_obj_text(mesh: DrapeMesh, name: str) -> str:
     """Wavefront OBJ text: shared ``v`` lines, then one ``o``/``g`` group per piece with its ``vt``
     (sheet UV) and ``f v/vt`` lines. World mm, z up."""
     lines = [
-        f"# {name}: draped garment, world mm (z up), texture coordinates = sheet position / sheet size",
-        f"# {len(mesh.vertices)} vertices, {len(mesh.faces)} triangles, {len(mesh.piece_names)} pieces",
+        f"# {name}: draped garment, world mm (z up), vt = sheet position / sheet size",
+        f"# {len(mesh.vertices)} vertices, {len(mesh.faces)} triangles, "
+        f"{len(mesh.piece_names)} pieces",
     ]
     lines += _fmt_rows(mesh.vertices, "v", 5)
     for pi, piece in enumerate(mesh.piece_names):
@@ -390,7 +438,7 @@ def drape_obj_text(mesh: DrapeMesh, name: str) -> str:
         lo, hi = int(f_t.min()), int(f_t.max())
         lines.append(f"o {piece}")
         lines.append(f"g {piece}")
-        lines += _fmt_rows(mesh.uv[lo:hi + 1], "vt", 8)
+        lines += _fmt_rows(mesh.uv[lo : hi + 1], "vt", 8)
         corners = np.stack([f_v + 1, f_t + 1], axis=-1).reshape(len(f_v), 6)
         lines += ["f %d/%d %d/%d %d/%d" % tuple(row) for row in corners.tolist()]
     return "\n".join(lines) + "\n"

@@ -1,4 +1,4 @@
-"""The built-in demo garment: a long-sleeved sensing top for a rehabilitation lab (invented scenario).
+"""The built-in demo garment: a long-sleeved sensing top for a rehabilitation lab (invented).
 
 Every piece is the exact development of a developable part of the stylised mannequin
 (:mod:`garnav.demo.mannequin`): front and back halves of an elliptic-cylinder torso, a flat yoke
@@ -9,6 +9,12 @@ the pattern up to mesh chords, which gives exact check values.
 :func:`build_design` returns the :class:`~garnav.model.Garment` together with, for every piece,
 its exact pattern → world map and, for every edge, a dense sampling whose seam partners are the
 same world points (the mesh builder shares vertices there).
+
+Orientation: every piece map is orientation preserving in the right-handed world frame (z up,
+y forward, x towards the wearer's right): (∂X/∂x × ∂X/∂y) · n_out > 0, so mesh tools find
+outward normals and pattern turns keep their sign about the outward normal.
+``DemoDimensions(left_x_sign=1.0)`` builds the mirror image (the wearer's left at +x) with every
+other property unchanged.
 """
 
 from __future__ import annotations
@@ -21,7 +27,12 @@ from types import MappingProxyType
 
 import numpy as np
 
-from garnav.demo.mannequin import Cone, EllipticCylinder, HorizontalPlane, cone_cylinder_intersection
+from garnav.demo.mannequin import (
+    Cone,
+    EllipticCylinder,
+    HorizontalPlane,
+    cone_cylinder_intersection,
+)
 from garnav.model import (
     Circle,
     Edge,
@@ -69,7 +80,8 @@ class DemoDimensions:
     torso_step: float = 12.0  # boundary sampling of straight torso edges (mesh size)
     sleeve_step: float = 7.0  # boundary sampling of straight sleeve edges (mesh size)
     sheet_gap: float = 20.0  # gap between pieces on the sheet
-    left_x_sign: float = -1.0  # −1: the wearer's left is at −x (the right-handed world frame); +1 mirrors
+    # −1: the wearer's left is at −x (the right-handed world frame); +1 builds the mirror image
+    left_x_sign: float = -1.0
 
     def x_sign(self, side: str) -> float:
         """+1 or −1: the sign of x on the wearer's ``side`` ("left" or "right")."""
@@ -95,7 +107,9 @@ class TorsoPieceMap:
     def to_pattern(self, world: np.ndarray) -> np.ndarray:
         """Pattern points (n, 2) of world points (n, 3) on this half of the cylinder."""
         world = np.asarray(world, dtype=float).reshape(-1, 3)
-        rel = np.mod(self.cyl.theta_of(world) - self.theta0 + math.pi / 2, 2 * math.pi) - math.pi / 2
+        rel = (
+            np.mod(self.cyl.theta_of(world) - self.theta0 + math.pi / 2, 2 * math.pi) - math.pi / 2
+        )
         u = self.cyl.arc_length(self.theta0 + rel) - self.s0
         return np.stack([u, world[:, 2] - self.cyl.z_bottom], axis=-1)
 
@@ -234,8 +248,9 @@ def _sleeve_cone(dims: DemoDimensions, side: str) -> Cone:
     beta = math.atan((r0 - rw) / length)
     joint = np.array([sgn * dims.half_width, 0.0, dims.shoulder_z - dims.arm_joint_below_shoulder])
     apex = joint + (r0 / math.tan(beta)) * d
-    return Cone(tuple(float(v) for v in apex), tuple(float(v) for v in d),
-                tuple(float(v) for v in e1), beta)
+    return Cone(
+        tuple(float(v) for v in apex), tuple(float(v) for v in d), tuple(float(v) for v in e1), beta
+    )
 
 
 def _armhole_phis(cone: Cone, cyl: EllipticCylinder, phi_end: float, step: float) -> np.ndarray:
@@ -281,7 +296,10 @@ def _yoke(dims: DemoDimensions, cyl: EllipticCylinder, parts: _Parts) -> np.ndar
     n_neck = _count(math.pi * (dims.neck_half_width + dims.neck_half_depth), dims.curve_step)
     t = np.linspace(0.0, 2 * math.pi, n_neck, endpoint=False)
     return np.stack(
-        [a + dims.neck_half_width * np.cos(t), b + dims.neck_centre_y + dims.neck_half_depth * np.sin(t)],
+        [
+            a + dims.neck_half_width * np.cos(t),
+            b + dims.neck_centre_y + dims.neck_half_depth * np.sin(t),
+        ],
         -1,
     )
 
@@ -324,7 +342,13 @@ def _sleeve(dims: DemoDimensions, cyl: EllipticCylinder, side: str, parts: _Part
     half_a = smap.from_cone(rho_neg[::-1], phi_neg[::-1])  # −π → 0
     half_b = smap.from_cone(rho_pos, phi_pos)  # 0 → +π
     a_name, b_name = ("front", "back") if neg_is_front else ("back", "front")
-    names = ("cuff", f"underarm_{a_name}", f"armhole_{a_name}", f"armhole_{b_name}", f"underarm_{b_name}")
+    names = (
+        "cuff",
+        f"underarm_{a_name}",
+        f"armhole_{a_name}",
+        f"armhole_{b_name}",
+        f"underarm_{b_name}",
+    )
     arrays = (cuff, rise, half_a, half_b, fall)
     curved = {"cuff", f"armhole_{a_name}", f"armhole_{b_name}"}
     for edge_name, arr in zip(names, arrays):
@@ -404,7 +428,10 @@ def _layout(dims: DemoDimensions, parts: _Parts, neck: np.ndarray):
         pieces.append(Piece(name, _chain(parts.edges[name]), openings, placement))
         cursor += hi[0] - lo[0] + dims.sheet_gap
         tallest = max(tallest, hi[1] - lo[1])
-    sheet = (float(math.ceil(cursor - dims.sheet_gap + margin)), float(math.ceil(tallest + 2 * margin)))
+    sheet = (
+        float(math.ceil(cursor - dims.sheet_gap + margin)),
+        float(math.ceil(tallest + 2 * margin)),
+    )
     return tuple(pieces), sheet
 
 
@@ -428,13 +455,31 @@ def _seams(parts: _Parts) -> tuple[Seam, ...]:
             seams.append(seam(e, "front", e, "back", e, 8.0, 20.0))
     for side in ("left", "right"):
         for half in ("front", "back"):
-            seams.append(seam(f"armhole_{side}_{half}", half, f"armhole_{side}", f"sleeve_{side}",
-                              f"armhole_{half}", 12.0, 30.0))
+            seams.append(
+                seam(
+                    f"armhole_{side}_{half}",
+                    half,
+                    f"armhole_{side}",
+                    f"sleeve_{side}",
+                    f"armhole_{half}",
+                    12.0,
+                    30.0,
+                )
+            )
     seams.append(seam("yoke_front", "front", "yoke", "yoke", "front", 10.0, 30.0))
     seams.append(seam("yoke_back", "back", "yoke", "yoke", "back", 10.0, 30.0))
     for side in ("left", "right"):
-        seams.append(seam(f"underarm_{side}", f"sleeve_{side}", "underarm_front",
-                          f"sleeve_{side}", "underarm_back", 8.0, 20.0))
+        seams.append(
+            seam(
+                f"underarm_{side}",
+                f"sleeve_{side}",
+                "underarm_front",
+                f"sleeve_{side}",
+                "underarm_back",
+                8.0,
+                20.0,
+            )
+        )
     return tuple(seams)
 
 
@@ -443,12 +488,24 @@ def _keepouts(dims: DemoDimensions, width: float) -> tuple[KeepOut, ...]:
     mid = round(width / 2.0, 3)
     towards_left = -dims.left_x_sign  # on the front, u grows towards −x
     return (
-        KeepOut("chest_pocket", "front", "pocket",
-                Rectangle(mid + towards_left * 100.0, 400.0, 100.0, 120.0), 5.0),
+        KeepOut(
+            "chest_pocket",
+            "front",
+            "pocket",
+            Rectangle(mid + towards_left * 100.0, 400.0, 100.0, 120.0),
+            5.0,
+        ),
         KeepOut("placket", "front", "buttonhole", Rectangle(mid, height - 150.0, 30.0, 300.0), 3.0),
         KeepOut("neck_label", "back", "label", Rectangle(mid, height - 25.0, 50.0, 25.0), 3.0),
-        KeepOut("back_print", "back", "print", Circle(mid, 380.0, 70.0), 0.0, hard=False,
-                cost_factor=3.0),
+        KeepOut(
+            "back_print",
+            "back",
+            "print",
+            Circle(mid, 380.0, 70.0),
+            0.0,
+            hard=False,
+            cost_factor=3.0,
+        ),
         KeepOut("charging_dock", "back", "dock", Rectangle(mid, 120.0, 80.0, 50.0), 5.0),
     )
 
@@ -459,31 +516,68 @@ def _landmarks(dims: DemoDimensions, width: float, parts: _Parts) -> tuple[Landm
     mid = round(width / 2.0, 3)
     towards_left = -dims.left_x_sign
     landmarks = [
-        Landmark("suprasternale", "yoke", a, b + dims.neck_centre_y + dims.neck_half_depth + 35.0,
-                 description="jugular notch, front of the neck base"),
-        Landmark("sternum_left", "front", mid + towards_left * 60.0, height - 60.0,
-                 description="left chest beside the placket, above the pocket"),
+        Landmark(
+            "suprasternale",
+            "yoke",
+            a,
+            b + dims.neck_centre_y + dims.neck_half_depth + 35.0,
+            description="jugular notch, front of the neck base",
+        ),
+        Landmark(
+            "sternum_left",
+            "front",
+            mid + towards_left * 60.0,
+            height - 60.0,
+            description="left chest beside the placket, above the pocket",
+        ),
         Landmark("omphalion", "front", mid, 230.0, description="navel, front centre"),
-        Landmark("dock", "back", mid + 90.0, 120.0, description="parking spot beside the charging dock"),
+        Landmark(
+            "dock", "back", mid + 90.0, 120.0, description="parking spot beside the charging dock"
+        ),
     ]
     for side in ("left", "right"):
-        landmarks.append(Landmark(f"acromion_{side}", "yoke", a + dims.x_sign(side) * (a - 30.0), b,
-                                  description="shoulder tip, top of the shoulder"))
+        landmarks.append(
+            Landmark(
+                f"acromion_{side}",
+                "yoke",
+                a + dims.x_sign(side) * (a - 30.0),
+                b,
+                description="shoulder tip, top of the shoulder",
+            )
+        )
     for side in ("left", "right"):
         cone, smap = parts.cones[side], parts.maps[f"sleeve_{side}"]
         rho_w = dims.sleeve_radius_wrist / math.sin(cone.beta)
         wrist = smap.from_cone(np.array([rho_w + 40.0]), np.array([0.0]))[0]
-        landmarks.append(Landmark(f"wrist_{side}", f"sleeve_{side}", round(float(wrist[0]), 3),
-                                  round(float(wrist[1]), 3), description="back of the wrist"))
+        landmarks.append(
+            Landmark(
+                f"wrist_{side}",
+                f"sleeve_{side}",
+                round(float(wrist[0]), 3),
+                round(float(wrist[1]), 3),
+                description="back of the wrist",
+            )
+        )
         back_is_pos = float(cone.outward_normal(np.array([math.pi / 2]))[0, 1]) < 0
         back_phi = math.pi / 2 if back_is_pos else -math.pi / 2
-        elbow = smap.from_cone(np.array([rho_w + dims.sleeve_length / 2.0]), np.array([back_phi]))[0]
-        landmarks.append(Landmark(f"olecranon_{side}", f"sleeve_{side}", round(float(elbow[0]), 3),
-                                  round(float(elbow[1]), 3),
-                                  description="point of the elbow, back of the arm"))
+        elbow = smap.from_cone(np.array([rho_w + dims.sleeve_length / 2.0]), np.array([back_phi]))[
+            0
+        ]
+        landmarks.append(
+            Landmark(
+                f"olecranon_{side}",
+                f"sleeve_{side}",
+                round(float(elbow[0]), 3),
+                round(float(elbow[1]), 3),
+                description="point of the elbow, back of the arm",
+            )
+        )
     landmarks.append(
-        Landmark("cervicale", xyz=(0.0, dims.neck_centre_y - dims.neck_half_depth - 38.0, dims.shoulder_z - 3.0),
-                 description="seventh cervical vertebra, back of the neck base (on the body)")
+        Landmark(
+            "cervicale",
+            xyz=(0.0, dims.neck_centre_y - dims.neck_half_depth - 38.0, dims.shoulder_z - 3.0),
+            description="seventh cervical vertebra, back of the neck base (on the body)",
+        )
     )
     return tuple(landmarks)
 
@@ -520,8 +614,14 @@ def build_design(dims: DemoDimensions = DemoDimensions()) -> DemoDesign:
         seams=_seams(parts),
         keepouts=_keepouts(dims, width),
         landmarks=_landmarks(dims, width, parts),
-        robot=Robot("demo_crawler", radius_mm=20.0, wheel_base_mm=30.0, speed_mm_s=25.0,
-                    side="outside", edge_margin_mm=5.0),
+        robot=Robot(
+            "demo_crawler",
+            radius_mm=20.0,
+            wheel_base_mm=30.0,
+            speed_mm_s=25.0,
+            side="outside",
+            edge_margin_mm=5.0,
+        ),
         sheet_size_mm=sheet,
         drape="sensing_top_drape.obj",
         body="mannequin.obj",

@@ -14,6 +14,7 @@ missing pieces, outside their piece, or with both/neither of a pattern and a bod
 
 from __future__ import annotations
 
+import math
 import re
 from collections import Counter
 from typing import Iterable
@@ -112,11 +113,11 @@ class _Checker:
     def __init__(
         self, garment: Garment, source: str, broken: set[str], check_sheet: bool, check_pieces: bool
     ):
-        self.check_pieces = check_pieces
         self.g = garment
         self.source = source
         self.broken = broken
         self.check_sheet = check_sheet
+        self.check_pieces = check_pieces
         self.problems: list[Problem] = []
         self.polygons: dict[str, shapely.Polygon] = {}  # pieces with sound geometry
         self.pieces: dict[str, Piece] = {}  # first piece of each name
@@ -143,6 +144,10 @@ class _Checker:
     # ------------------------------------------------------------------------------------------
     def run(self) -> list[Problem]:
         g = self.g
+        if self.check_sheet and len(g.sheet_size_mm) != 2:
+            self.add("top level", f"'sheet_size_mm' must be 2 numbers (width, height), "
+                     f"found {len(g.sheet_size_mm)}")
+            self.check_sheet = False
         if self.check_sheet:
             for value in g.sheet_size_mm:
                 if not self.number("top", "sheet_size_mm", value, "top level"):
@@ -245,16 +250,24 @@ class _Checker:
             return
         near = [e.name for e in p.edges
                 if shapely.LineString(e.points).distance(shapely.Point(place)) <= 1e-6]
+        crossing = words.lower() == "self-intersection"
+        verb = "cross" if crossing else "touch"
         on = ""
-        if near:
-            on = " where edge" + ("s " if len(near) > 1 else " ") + " and ".join(
-                f"'{n}'" for n in near) + (" meet" if len(near) > 1 else " touches itself")
-        if words.lower() == "self-intersection":
+        if len(near) == 1:
+            on = f" within edge '{near[0]}'"
+        elif near:
+            quoted = [f"'{n}'" for n in near]
+            on = ": edges " + ", ".join(quoted[:-1]) + " and " + quoted[-1] + f" {verb}"
+        if crossing:
             text = f"outline crosses itself{on}"
         elif "ring self-intersection" in words.lower():
             text = f"outline touches itself{on}"
         else:
             text = f"outline is not a valid polygon ({words}){on}"
+        others = [c for c in _self_contacts(p.outline) if math.dist(c, place) > 1e-6]
+        if others:
+            shown = ", ".join(_pt(c) for c in others[:4]) + (", ..." if len(others) > 4 else "")
+            text += f" (and at {len(others)} more place{'s' if len(others) > 1 else ''}: {shown})"
         self.add(item, text, where=place,
                  hint="an outline must be a simple loop; check the order of points and edges")
 
@@ -526,6 +539,25 @@ class _Checker:
             if d > TOL_MM:
                 self.add(item, f"lies outside piece '{m.piece}', {d:.1f} mm from it",
                          where=(m.x, m.y))
+
+
+def _self_contacts(ring: np.ndarray) -> list[tuple[float, float]]:
+    """Points where non-neighbouring sides of a closed ring (n, 2) cross or touch, sorted.
+
+    Neighbouring sides share a corner and are not compared; collinear overlaps give the
+    overlap's end points.
+    """
+    n = len(ring)
+    segs = shapely.linestrings(np.stack([ring, np.roll(ring, -1, axis=0)], axis=1))
+    tree = shapely.STRtree(segs)
+    i, j = tree.query(segs, predicate="intersects")
+    gap = (j - i) % n
+    keep = (i < j) & (gap > 1) & (gap < n - 1)
+    if not keep.any():
+        return []
+    meet = shapely.intersection(segs[i[keep]], segs[j[keep]])
+    pts = np.unique(np.round(shapely.get_coordinates(meet), 9), axis=0)
+    return [(float(x), float(y)) for x, y in pts]
 
 
 def _signed_area(ring: np.ndarray) -> float:

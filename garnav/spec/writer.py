@@ -16,9 +16,10 @@ from typing import Any
 import tomli_w
 
 from garnav.atomic import write_text_atomic
-from garnav.errors import GarnavError
+from garnav.errors import GarnavError, SpecError
 from garnav.model import Circle, Garment, KeepOut, Landmark, Piece, PolygonShape, Rectangle, Seam
 from garnav.spec.fields import FORMAT, VERSION
+from garnav.spec.geometry_checks import garment_problems
 
 __all__ = ["garment_to_dict", "dumps_garment", "save_garment"]
 
@@ -192,6 +193,17 @@ def dumps_garment(garment: Garment) -> str:
     return "\n".join(out) + "\n"
 
 
-def save_garment(garment: Garment, path: str | os.PathLike) -> Path:
-    """Write the garment as a spec file at ``path`` (atomically). Returns the path."""
+def save_garment(garment: Garment, path: str | os.PathLike, check: bool = True) -> Path:
+    """Write the garment as a spec file at ``path`` (atomically). Returns the path.
+
+    Parameters
+    ----------
+    check : bool
+        Run :func:`garnav.spec.garment_problems` first and raise :class:`SpecError` (writing
+        nothing) when the garment has problems, so that every saved file loads again.
+    """
+    if check:
+        problems = garment_problems(garment, str(path))
+        if problems:
+            raise SpecError(problems)
     return write_text_atomic(path, dumps_garment(garment))
