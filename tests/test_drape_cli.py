@@ -28,7 +28,7 @@ def test_check_with_a_drape_that_does_not_fit(tmp_path, capsys):
     spec = tmp_path / "panels.toml"
     save_garment(g, spec)
     assert main(["check", str(spec), "--drape"]) == 2
-    assert "names no drape mesh" in capsys.readouterr().err
+    assert "names no drape mesh; give one (e.g. --drape MESH)" in capsys.readouterr().err
     # a mesh for another garment: its single island matches neither piece
     _, other = dm.flat_sheet(width=600.0, height=400.0)
     mesh = save_obj(other, tmp_path / "other.obj")

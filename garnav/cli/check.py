@@ -50,14 +50,9 @@ def run(args: argparse.Namespace) -> int:
 
 def drape_text(garment, mesh: str, folder: Path) -> str:
     """The drape report of ``mesh`` (or, when empty, of the spec's own drape) for ``garment``."""
-    from garnav.drape import drape_report, link_drape, load_uv_mesh
-    from garnav.errors import QueryError
+    from garnav.drape import drape_report, load_drape
 
-    if not mesh:
-        if garment.drape is None:
-            raise QueryError("--drape: the spec names no drape mesh; give one: --drape MESH")
-        mesh = str(folder / garment.drape)
-    return drape_report(garment, link_drape(garment, load_uv_mesh(mesh))).text()
+    return drape_report(garment, load_drape(garment, mesh, str(folder))).text()
 
 
 def mesh_notes(garment, folder: Path) -> list[str]:

@@ -9,7 +9,7 @@
 * :mod:`~garnav.drape.report` — coverage, stretch and seam closure of a drape.
 """
 
-from garnav.drape.drape import Drape, link_drape
+from garnav.drape.drape import Drape, link_drape, load_drape
 from garnav.drape.inverse import locate_3d, surface_to_pattern
 from garnav.drape.lift import LiftedPath, LiftedRoute, lift_polyline, lift_route
 from garnav.drape.locate import TriangleLocator
@@ -27,6 +27,7 @@ __all__ = [
     "lift_polyline",
     "lift_route",
     "link_drape",
+    "load_drape",
     "load_uv_mesh",
     "locate_3d",
     "save_obj",

@@ -8,6 +8,7 @@ and surface normals are answered from there.
 
 from __future__ import annotations
 
+import os
 from dataclasses import dataclass
 from functools import cached_property
 
@@ -15,12 +16,12 @@ import numpy as np
 import shapely
 
 from garnav.drape.locate import TriangleLocator, barycentric_2d
-from garnav.drape.meshio import UVMesh
+from garnav.drape.meshio import UVMesh, load_uv_mesh
 from garnav.drape.uvtopo import NEXT, UVTopology, uv_topology
 from garnav.errors import MeshError, QueryError, did_you_mean
 from garnav.model import Garment
 
-__all__ = ["Drape", "link_drape", "PieceHits"]
+__all__ = ["Drape", "link_drape", "load_drape", "PieceHits"]
 
 #: An island is assigned to a piece when at least this share of its UV area lies on the piece.
 MAJORITY = 0.5
@@ -377,6 +378,31 @@ def link_drape(garment: Garment, mesh: UVMesh) -> Drape:
         source=src,
         notes=mesh.notes,
     )
+
+
+def load_drape(garment: Garment, mesh: str | None = None, folder: str = ".") -> Drape:
+    """Read and link a garment's drape mesh.
+
+    Parameters
+    ----------
+    garment : Garment
+    mesh : str, optional
+        Mesh file; default: the garment's own ``drape``, relative to ``folder``.
+    folder : str
+        The spec file's folder (what the garment's ``drape`` path is relative to).
+
+    Raises
+    ------
+    MeshError
+        No mesh given and the garment names none, or any loading or linking problem.
+    """
+    if not mesh:
+        if garment.drape is None:
+            raise MeshError(
+                f"garment '{garment.name}' names no drape mesh; give one (e.g. --drape MESH)"
+            )
+        mesh = os.path.join(folder, garment.drape)
+    return link_drape(garment, load_uv_mesh(mesh))
 
 
 def _signed(tri: np.ndarray) -> np.ndarray:
