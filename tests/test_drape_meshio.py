@@ -259,3 +259,28 @@ def test_bad_obj_line(tmp_path):
     q.write_text("v 0 0 0\nvt 0 0\nf 1/1 2/1 3/1\n")
     with pytest.raises(MeshError, match="refers to a vertex that does not exist"):
         load_uv_mesh(q)
+
+
+def test_gltf_with_one_mesh_per_piece_is_welded_at_the_seam(tmp_path):
+    # each piece its own mesh (as exporters write one primitive per material); trimesh must not
+    # concatenate them (that can repack UVs), and the loader welds the shared seam vertices
+    g, m = dm.folded_panels(nx=6, ny=8)
+    half = len(m.faces) // 2
+    scene = trimesh.Scene()
+    for name, sel in (("left", slice(0, half)), ("right", slice(half, None))):
+        part = uv_mesh_from_arrays(m.positions, m.faces[sel], m.corner_uv[sel])
+        scene.add_geometry(_split_trimesh(part), geom_name=name, node_name=name)
+    path = tmp_path / "pieces.glb"
+    path.write_bytes(scene.export(file_type="glb"))
+    loaded = load_uv_mesh(path)
+    assert len(loaded.positions) == len(m.positions)  # seam vertices welded once more
+    assert _triangle_set(loaded) == _triangle_set(m)
+
+
+def _triangle_set(mesh) -> list[tuple]:
+    """Every triangle as (corner positions, corner UVs), rounded, in sorted order."""
+    rows = np.concatenate(
+        [mesh.positions[mesh.faces].reshape(len(mesh.faces), -1), mesh.corner_uv.reshape(len(mesh.faces), -1)],
+        axis=1,
+    )
+    return sorted(map(tuple, np.round(rows, 4).tolist()))
