@@ -57,9 +57,23 @@ def test_overlapping_islands():
     uv = m.corner_uv.copy()
     right = np.arange(len(uv)) >= len(uv) // 2
     assert np.all(uv[right][..., 0] > 0.5)
-    uv[right, :, 0] -= 50.0 / g.sheet_size_mm[0]  # slide the right island 50 mm onto the left one
+    uv[right, :, 0] -= 22.0 / g.sheet_size_mm[0]  # slide the right island 22 mm: 2 mm onto the left
     bad = uv_mesh_from_arrays(m.positions, m.faces, uv)
-    with pytest.raises(MeshError, match=r"UV islands 0 \(piece 'left'\) and 1 \(piece 'right'\) overlap by 12000\.0 mm²"):
+    with pytest.raises(
+        MeshError, match=r"UV islands 0 \(piece 'left'\) and 1 \(piece 'right'\) overlap by 800\.0 mm²"
+    ):
+        link_drape(g, bad)
+
+
+def test_overlapping_islands_on_one_piece():
+    g, m = dm.flat_sheet()  # 400 × 300 mm
+    uv = m.corner_uv.copy()
+    right = m.positions[m.faces].mean(axis=1)[:, 0] > 200.0
+    uv[right, :, 0] -= 20.0 / g.sheet_size_mm[0]  # cut at x = 200 and slide the right half over
+    bad = uv_mesh_from_arrays(m.positions, m.faces, uv)
+    with pytest.raises(
+        MeshError, match=r"UV islands 0 \(piece 'panel'\) and 1 \(piece 'panel'\) overlap by 6000\.0 mm²"
+    ):
         link_drape(g, bad)
 
 
@@ -171,3 +185,17 @@ def test_body_landmark_snaps(cyl):
     assert piece == "tube" and y == pytest.approx(200.0)
     hits = surface_to_pattern(d, np.array([lm.xyz]))
     assert hits.distance[0] == pytest.approx(dist)
+
+
+def test_island_across_two_pieces():
+    g, m = dm.folded_panels()
+    # shift the sheet placement of 'right' 100 mm to the left: a third of the left island now
+    # lies on the right piece too
+    moved = Garment(
+        g.name,
+        (g.pieces[0], type(g.pieces[1])(g.pieces[1].name, g.pieces[1].edges, placement=Placement(210.0, 10.0))),
+        seams=g.seams,
+        sheet_size_mm=g.sheet_size_mm,
+    )
+    with pytest.raises(MeshError, match=r"UV island 0 .* lies across pieces 'left' 100%, 'right' 33%"):
+        link_drape(moved, m)

@@ -25,6 +25,8 @@ __all__ = ["Drape", "link_drape", "load_drape", "PieceHits"]
 
 #: An island is assigned to a piece when at least this share of its UV area lies on the piece.
 MAJORITY = 0.5
+#: An island with more than this share of its UV area on a second piece lies across pieces.
+ACROSS_TOL = 0.01
 #: Overlap between islands (or an island with itself) above this share of the smaller area fails.
 OVERLAP_TOL = 1e-4
 
@@ -341,6 +343,14 @@ def link_drape(garment: Garment, mesh: UVMesh) -> Drape:
                 + "; check the pieces' placements and sheet_size_mm"
             )
             problems.append(raise_text)
+            continue
+        others = [i for i in np.flatnonzero(share > ACROSS_TOL) if i != best]
+        if others:
+            on = ", ".join(f"'{garment.pieces[i].name}' {share[i]:.0%}" for i in [best, *others])
+            problems.append(
+                f"UV island {isl} ({int(sel.sum())} triangles, {where}) lies across pieces {on}; "
+                "check the pieces' placements and sheet_size_mm"
+            )
             continue
         island_piece[isl] = best
         s_sel = signed[sel]
