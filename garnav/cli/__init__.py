@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import argparse
 import importlib
+import os
 import sys
 
 from garnav import __version__
@@ -53,3 +54,8 @@ def main(argv: list[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("garnav: interrupted", file=sys.stderr)
         return 130
+    except BrokenPipeError:
+        # The reader went away (`garnav demo | head`): stop quietly, as other tools do.
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        return 141
