@@ -1,0 +1,118 @@
+"""``garnav route GARMENT --from POINT --to POINT``: plan a route and print a short summary.
+
+Points are landmark names, ``PIECE:X,Y`` (pattern mm) or ``xyz:X,Y,Z`` (world mm; needs a drape).
+``--json`` writes the route (length, cost, seams, waypoints with headings); ``--csv`` writes the
+waypoints one per line. Both are written atomically.
+"""
+
+from __future__ import annotations
+
+import argparse
+import csv
+import dataclasses
+import io
+import json
+
+from garnav.atomic import write_text_atomic
+from garnav.errors import QueryError
+from garnav.model import Robot
+from garnav.plan import PLANNER_VERSION, Planner, Route
+from garnav.spec import load_garment
+
+__all__ = ["register", "run", "route_summary", "route_to_json", "route_to_csv"]
+
+
+def register(subparsers: argparse._SubParsersAction) -> None:
+    parser = subparsers.add_parser(
+        "route",
+        help="plan the shortest safe route between two points of a garment",
+        description="Plan the shortest route for the garment's robot between two points, around "
+        "keep-outs and across seams, and print its length, seams crossed, turns and driving time. "
+        "POINT is a landmark name, PIECE:X,Y (pattern mm) or xyz:X,Y,Z (world mm, needs a drape).",
+    )
+    parser.add_argument("garment", metavar="GARMENT", help="garment spec file (.toml)")
+    parser.add_argument("--from", dest="start", required=True, metavar="POINT", help="start point")
+    parser.add_argument("--to", dest="goal", required=True, metavar="POINT", help="goal point")
+    parser.add_argument("--via", action="append", default=[], metavar="POINT", help="pass through this point (repeatable, in order)")
+    parser.add_argument("--radius", type=float, metavar="MM", help="robot radius in mm (default: the spec's robot)")
+    parser.add_argument("--clearance", type=float, default=0.0, metavar="MM", help="extra clearance added to every keep-out, mm")
+    parser.add_argument("--snap", action="store_true", help="move points the robot cannot stand on to the nearest free point")
+    parser.add_argument("--json", metavar="FILE", help="write the route as JSON")
+    parser.add_argument("--csv", metavar="FILE", help="write the waypoints as CSV")
+    parser.set_defaults(func=run)
+
+
+def run(args: argparse.Namespace) -> int:
+    garment = load_garment(args.garment)
+    robot = garment.robot or Robot()
+    if args.radius is not None:
+        if not args.radius > 0:
+            raise QueryError(f"--radius must be a positive number of mm, got {args.radius:g}")
+        robot = dataclasses.replace(robot, radius_mm=float(args.radius))
+    if not args.clearance >= 0:
+        raise QueryError(f"--clearance must be zero or more mm, got {args.clearance:g}")
+    planner = Planner(garment, robot, extra_clearance_mm=args.clearance)
+    route = planner.route(args.start, args.goal, via=args.via, snap=args.snap)
+    print(route_summary(route, args.start, args.goal))
+    if args.json:
+        write_text_atomic(args.json, route_to_json(route, garment.name, robot))
+    if args.csv:
+        write_text_atomic(args.csv, route_to_csv(route))
+    return 0
+
+
+def route_summary(route: Route, start: str, goal: str) -> str:
+    """A short table: length, cost, seams crossed, turns, driving time."""
+    seams = ", ".join(route.seams_crossed) if route.crossings else "none"
+    rows = [
+        ("from", start),
+        ("to", goal),
+        ("length", f"{route.length_mm:.1f} mm"),
+        ("cost", f"{route.cost:.1f} mm"),
+        ("seams crossed", f"{len(route.crossings)} ({seams})"),
+        ("turns", f"{route.turn_count()} (total {sum(abs(route.turns_deg)):.0f}°)"),
+        ("time", f"{route.time_s:.1f} s at {route.speed_mm_s:g} mm/s"),
+    ]
+    width = max(len(k) for k, _ in rows)
+    return "\n".join(f"{k:<{width}}  {v}" for k, v in rows)
+
+
+def route_to_json(route: Route, garment_name: str, robot: Robot) -> str:
+    """The route as JSON text: lengths in mm, angles in degrees, points in piece frames."""
+    data = {
+        "format": "garnav-route",
+        "version": 1,
+        "planner_version": PLANNER_VERSION,
+        "garment": garment_name,
+        "robot": {"name": robot.name, "radius_mm": robot.radius_mm, "speed_mm_s": robot.speed_mm_s},
+        "length_mm": route.length_mm,
+        "cost": route.cost,
+        "time_s": route.time_s,
+        "turns_deg": [float(t) for t in route.turns_deg],
+        "crossings": [
+            {
+                "seam": c.seam,
+                "from_piece": c.from_piece,
+                "to_piece": c.to_piece,
+                "fraction": c.fraction,
+                "angle_deg": c.angle_deg,
+                "point_from": [float(v) for v in c.point_from],
+                "point_to": [float(v) for v in c.point_to],
+            }
+            for c in route.crossings
+        ],
+        "waypoints": [
+            {"piece": p, "x": x, "y": y, "heading_deg": h} for p, x, y, h in route.waypoints()
+        ],
+    }
+    return json.dumps(data, indent=2) + "\n"
+
+
+def route_to_csv(route: Route) -> str:
+    """Waypoints as CSV: piece, x_mm, y_mm, heading_deg."""
+    buf = io.StringIO()
+    writer = csv.writer(buf, lineterminator="\n")
+    writer.writerow(["piece", "x_mm", "y_mm", "heading_deg"])
+    for p, x, y, h in route.waypoints():
+        writer.writerow([p, f"{x:.6f}", f"{y:.6f}", f"{h:.6f}"])
+    return buf.getvalue()

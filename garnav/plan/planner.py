@@ -1,0 +1,281 @@
+"""The planner: built once per (garment, robot), answers many route queries.
+
+>>> import garnav.plan as plan                                    # doctest: +SKIP
+>>> planner = plan.Planner(garment)                               # doctest: +SKIP
+>>> route = planner.route("wrist_left", "sternum_left")           # doctest: +SKIP
+>>> route = plan.plan_route(garment, "front:100,200", "dock")     # doctest: +SKIP
+
+A query runs A* (:mod:`garnav.plan.search`) on the navigation graph plus temporary links from the
+start and goal points, then refines the crossings (:mod:`garnav.plan.refine`) and assembles a
+:class:`~garnav.plan.route.Route`.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Callable, Sequence
+
+import numpy as np
+import scipy.sparse as sp
+
+from garnav.errors import NoRouteError, QueryError
+from garnav.model import Garment, Robot
+from garnav.plan.cache import cache_key, cache_path, load_nav_graph, save_nav_graph
+from garnav.plan.explain import check_free, explain_no_route
+from garnav.plan.freespace import DEFAULT_QUAD_SEGS, build_free_space
+from garnav.plan.navgraph import (
+    DEFAULT_PORTAL_SPACING_MM,
+    build_nav_graph,
+    edge_costs,
+    free_point_links,
+    point_pairs,
+)
+from garnav.plan.points import PiecePoint, PointLike, resolve_point
+from garnav.plan.refine import refine
+from garnav.plan.route import Leg, Route, join_routes, make_route
+from garnav.plan.search import PortalGraph, astar, heuristic_values
+from garnav.plan.visgraph import segments_free
+
+__all__ = ["Planner", "plan_route", "PLANNER_VERSION"]
+
+PLANNER_VERSION = "1"
+
+
+class Planner:
+    """Route planner for one garment and one robot.
+
+    Parameters
+    ----------
+    garment : Garment
+    robot : Robot, optional
+        Defaults to ``garment.robot``, else a default :class:`Robot`.
+    quad_segs : int
+        Segments per quarter circle of grown shapes (see :mod:`garnav.plan.freespace`).
+    portal_spacing_mm : float
+        Largest gap between seam portals before refinement.
+    extra_clearance_mm : float
+        Added to every keep-out's clearance.
+    locate_3d : callable, optional
+        ``locate_3d(xyz) -> (piece, x, y)``: maps a world point (mm) to the pattern (needs a drape).
+    approach_mm : float, optional
+        Straight run kept at a seam's smallest crossing angle on each side (default: the robot
+        radius).
+    cache_dir : path, optional
+        Folder for the on-disk graph cache (:mod:`garnav.plan.cache`); None = no cache.
+    """
+
+    def __init__(
+        self,
+        garment: Garment,
+        robot: Robot | None = None,
+        *,
+        quad_segs: int = DEFAULT_QUAD_SEGS,
+        portal_spacing_mm: float = DEFAULT_PORTAL_SPACING_MM,
+        extra_clearance_mm: float = 0.0,
+        locate_3d: Callable | None = None,
+        approach_mm: float | None = None,
+        cache_dir: str | Path | None = None,
+    ):
+        self.garment = garment
+        self.robot = robot or garment.robot or Robot()
+        self.locate_3d = locate_3d
+        self.free = build_free_space(garment, self.robot, quad_segs=quad_segs, extra_clearance_mm=extra_clearance_mm)
+        self.nav = None
+        self.cache_file = None
+        if cache_dir is not None:
+            options = {
+                "quad_segs": quad_segs,
+                "portal_spacing_mm": portal_spacing_mm,
+                "extra_clearance_mm": extra_clearance_mm,
+                "approach_mm": approach_mm,
+            }
+            key = cache_key(garment, self.robot, options, PLANNER_VERSION)
+            self.cache_file = cache_path(cache_dir, key)
+            self.nav = load_nav_graph(self.cache_file, garment, self.free, key)
+        if self.nav is None:
+            self.nav = build_nav_graph(garment, self.free, portal_spacing_mm, approach_mm)
+            if self.cache_file is not None:
+                save_nav_graph(self.nav, self.cache_file, key)
+        self.portal_graph = PortalGraph(self.nav)
+        g = self.nav.graph
+        self._adj = [[(m, d["weight"]) for m, d in g.adj[n].items()] for n in range(g.number_of_nodes())]
+        self._corner_mats: dict = {}
+
+    def corner_matrix(self, piece: str):
+        """(k, k) sparse matrix of the corner–corner edge costs of one piece (upper triangle)."""
+        cached = self._corner_mats.get(piece)
+        if cached is None:
+            corners, off = self.nav.corners[piece]
+            k = len(corners)
+            rows, cols, vals = [], [], []
+            for n in range(off, off + k):
+                for m, w in self._adj[n]:
+                    if n < m < off + k:
+                        rows.append(n - off)
+                        cols.append(m - off)
+                        vals.append(w)
+            cached = sp.csr_matrix((vals, (rows, cols)), shape=(k, k))
+            self._corner_mats[piece] = cached
+        return cached
+
+    # ------------------------------------------------------------------ points
+
+    def point(self, spec: PointLike, *, snap: bool = False, role: str = "point") -> PiecePoint:
+        """Resolve a point (landmark name, ``PIECE:X,Y``, ``xyz:X,Y,Z`` or PiecePoint) and check
+        that the robot fits there; with ``snap`` move it to the nearest free point instead."""
+        pp = resolve_point(self.garment, spec, locate_3d=self.locate_3d)
+        return check_free(self.free, pp, snap=snap, role=role)
+
+    # ------------------------------------------------------------------ links
+
+    def links(
+        self,
+        pp: PiecePoint,
+        *,
+        tangent: np.ndarray | None = None,
+        min_angle_deg: float = 0.0,
+        corners_only: bool = False,
+    ) -> list[tuple[int, float]]:
+        """Graph nodes visible from a point, with edge costs: corners (tangent at the corner) and,
+        unless ``corners_only``, the portals (angle limit at the portal) and approach points of its
+        piece. With ``tangent`` the links also keep ``min_angle_deg`` to it at the point. Sorted by
+        node."""
+        ng = self.nav
+        fs = self.free[pp.piece]
+        xy = pp.xy[None, :]
+        tan = None if tangent is None else np.asarray(tangent, dtype=float).reshape(1, 2)
+        _, n = free_point_links(ng, pp.piece, xy, tan, min_angle_deg)
+        nodes = n.tolist()
+        if not corners_only:
+            fp = np.concatenate([ng.portal_nodes[pp.piece], ng.approach_nodes[pp.piece]]).astype(int)
+            if len(fp):
+                pts = np.vstack([xy, ng.xy[fp]])
+                tans = np.vstack([tan if tan is not None else np.zeros((1, 2)), ng.portal_tan[fp]])
+                amin = np.concatenate([[min_angle_deg if tan is not None else 0.0], ng.min_angles(fp)])
+                _, pb = point_pairs(fs, pts, tans, amin, (np.zeros(len(fp), int), np.arange(1, len(fp) + 1)))
+                nodes.extend(fp[pb - 1].tolist())
+        nodes = sorted(nodes)
+        if not nodes:
+            return []
+        _, cost = edge_costs(fs, np.repeat(xy, len(nodes), axis=0), ng.xy[nodes])
+        return list(zip(nodes, cost.tolist()))
+
+    def direct(self, p: PiecePoint, q: PiecePoint) -> float | None:
+        """Cost of the straight segment p → q when both lie on one piece and it is free, else None."""
+        if p.piece != q.piece:
+            return None
+        fs = self.free[p.piece]
+        if not segments_free(fs.region, p.xy[None], q.xy[None])[0]:
+            return None
+        return float(edge_costs(fs, p.xy[None], q.xy[None])[1][0])
+
+    # ------------------------------------------------------------------ search
+
+    def search(self, start: PiecePoint, goals: Sequence[PiecePoint]) -> tuple[list[int], float, int]:
+        """A* from ``start`` to the cheapest of ``goals`` on the navigation graph.
+
+        Returns (node path, cost, goal index). Temporary node ids: N = start, N + 1 + k = goal k.
+        Raises NoRouteError when no goal is reachable.
+        """
+        path, cost, k = self._search(start, goals)
+        if path is None:
+            raise NoRouteError(explain_no_route(self, start, goals))
+        return path, cost, k
+
+    def query_edges(self, start: PiecePoint, goals: Sequence[PiecePoint]) -> list[tuple[int, int, float]]:
+        """The temporary edges (u, v, cost) a query adds to the graph (ids as in :meth:`search`)."""
+        n0 = self.nav.graph.number_of_nodes()
+        edges = [(n0, m, w) for m, w in self.links(start)]
+        for k, g in enumerate(goals):
+            gid = n0 + 1 + k
+            edges.extend((gid, m, w) for m, w in self.links(g))
+            d = self.direct(start, g)
+            if d is not None:
+                edges.append((n0, gid, d))
+        return edges
+
+    def _search(self, start: PiecePoint, goals: Sequence[PiecePoint]):
+        ng = self.nav
+        n0 = ng.graph.number_of_nodes()
+        extra: dict[int, list[tuple[int, float]]] = {}
+        for u, v, w in self.query_edges(start, goals):
+            extra.setdefault(u, []).append((v, w))
+            extra.setdefault(v, []).append((u, w))
+        goal_pairs = [(ng.piece_index(g.piece), g.xy) for g in goals]
+        xy = np.vstack([ng.xy, start.xy[None], np.array([g.xy for g in goals]).reshape(-1, 2)])
+        piece = np.concatenate([ng.node_piece, [ng.piece_index(start.piece)], [p for p, _ in goal_pairs]]).astype(int)
+        h = heuristic_values(self.portal_graph, goal_pairs, xy, piece)
+        h[n0 + 1 :] = 0.0
+
+        def neighbors(n: int):
+            base = self._adj[n] if n < n0 else []
+            return base + sorted(extra.get(n, []))
+
+        found = astar(neighbors, {n0: 0.0}, set(range(n0 + 1, n0 + 1 + len(goals))), lambda n: h[n])
+        if found is None:
+            return None, np.inf, -1
+        path, cost = found
+        return path, cost, path[-1] - n0 - 1
+
+    # ------------------------------------------------------------------ queries
+
+    def route(self, start: PointLike, goal: PointLike, via: Sequence[PointLike] = (), *, snap: bool = False) -> Route:
+        """Shortest safe route from ``start`` through each ``via`` point to ``goal``."""
+        stops = [self.point(start, snap=snap, role="start")]
+        stops += [self.point(v, snap=snap, role="via point") for v in via]
+        stops.append(self.point(goal, snap=snap, role="goal"))
+        parts = [self._route_between(a, [b])[1] for a, b in zip(stops[:-1], stops[1:])]
+        return parts[0] if len(parts) == 1 else join_routes(self.garment, self.robot, parts)
+
+    def nearest(self, start: PointLike, goals: Sequence[PointLike], *, snap: bool = False) -> tuple[int, Route]:
+        """The goal reached at least cost (by graph search) and the refined route to it."""
+        if not goals:
+            raise QueryError("nearest: no goals given")
+        s = self.point(start, snap=snap, role="start")
+        gs = [self.point(g, snap=snap, role="goal") for g in goals]
+        return self._route_between(s, gs)
+
+    def _route_between(self, start: PiecePoint, goals: list[PiecePoint]) -> tuple[int, Route]:
+        path, cost, k = self.search(start, goals)
+        legs, crossings = self._split(path, start, goals[k])
+        legs, crossings, cost = refine(self, legs, crossings)
+        route = make_route(
+            self.garment,
+            self.robot,
+            [Leg(piece, pts) for piece, pts in legs],
+            [(self.nav.seams[s].name, t, side) for s, t, side in crossings],
+            cost,
+        )
+        return k, route
+
+    def _split(self, path: list[int], start: PiecePoint, goal: PiecePoint):
+        """Node path → legs [(piece, (n, 2) points)] and crossings [(seam index, t, from side)]."""
+        ng = self.nav
+        n0 = ng.graph.number_of_nodes()
+
+        def pos(n: int) -> np.ndarray:
+            return start.xy if n == n0 else (goal.xy if n > n0 else ng.xy[n])
+
+        legs: list[tuple[str, list[np.ndarray]]] = [(start.piece, [start.xy])]
+        crossings = []
+        for u, v in zip(path[:-1], path[1:]):
+            if u < n0 and v < n0 and ng.graph[u][v]["crossing"]:
+                crossings.append((int(ng.portal_seam[u]), float(ng.portal_t[u]), int(ng.portal_side[u])))
+                legs.append((ng.pieces[ng.node_piece[v]], [ng.xy[v]]))
+            else:
+                legs[-1][1].append(pos(v))
+        return [(p, np.array(pts, dtype=float)) for p, pts in legs], crossings
+
+
+def plan_route(
+    garment: Garment,
+    start: PointLike,
+    goal: PointLike,
+    robot: Robot | None = None,
+    *,
+    via: Sequence[PointLike] = (),
+    snap: bool = False,
+    **planner_options,
+) -> Route:
+    """One call: build a :class:`Planner` and return the route from ``start`` to ``goal``."""
+    return Planner(garment, robot, **planner_options).route(start, goal, via, snap=snap)

@@ -1,0 +1,217 @@
+"""The Route object: legs inside pieces, crossings between them, turns and headings.
+
+Turn angles are intrinsic. Inside a leg the turn at a vertex is the signed angle between the
+incoming and outgoing segment directions (CCW positive, piece frames are seen from the garment's
+outside); a rotation of the piece frame leaves it unchanged. At a seam crossing the outgoing
+direction, given in the next piece's frame, is first carried into the previous piece's frame by the
+seam correspondence (tangent onto tangent, the partner's inward normal onto the outward normal, see
+:func:`garnav.plan.freespace.seam_transform`). That is the same as comparing the two headings
+*relative to the seam tangent* on each side, so it does not depend on either frame.
+
+``turns_deg`` has one entry per interior vertex of the route, a crossing counting once: its length
+is ``len(waypoints()) − 2 − len(crossings)``. ``headings_deg`` has one entry per waypoint (the
+crossing point appears once in each piece frame): the heading of the segment leaving the waypoint,
+or, at the last point of a leg, of the segment arriving there.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+import shapely
+
+from garnav.model import Garment, Robot
+from garnav.plan.freespace import run_frame, seam_transform
+from garnav.plan.portals import crossing_angle_deg
+
+__all__ = ["Leg", "Crossing", "Route", "make_route", "signed_angle_deg", "join_routes", "crossing_side"]
+
+
+@dataclass(frozen=True, eq=False)
+class Leg:
+    """A straight-line polyline inside one piece: ``points`` (n, 2), piece frame, mm, n >= 2."""
+
+    piece: str
+    points: np.ndarray
+
+    @property
+    def length_mm(self) -> float:
+        return float(np.linalg.norm(np.diff(self.points, axis=0), axis=1).sum())
+
+
+@dataclass(frozen=True, eq=False)
+class Crossing:
+    """A seam crossing between ``legs[i]`` and ``legs[i + 1]``.
+
+    ``point_from`` (2,) ends legs[i] (frame of ``from_piece``); ``point_to`` (2,) starts legs[i+1]
+    (frame of ``to_piece``), the same 3D point. ``fraction`` is the position along run a (0..1);
+    ``angle_deg`` the angle between the route and the seam tangent (0..90), on the arriving side.
+    """
+
+    seam: str
+    from_piece: str
+    to_piece: str
+    point_from: np.ndarray
+    point_to: np.ndarray
+    fraction: float
+    angle_deg: float
+
+
+@dataclass(frozen=True, eq=False)
+class Route:
+    """A planned route in pattern space. See the module docstring for turns and headings."""
+
+    legs: tuple[Leg, ...]
+    crossings: tuple[Crossing, ...]
+    length_mm: float
+    cost: float
+    turns_deg: np.ndarray
+    headings_deg: np.ndarray
+    speed_mm_s: float = 20.0
+
+    def waypoints(self) -> list[tuple[str, float, float, float]]:
+        """Every leg point as (piece, x mm, y mm, heading_deg), in driving order."""
+        out = []
+        k = 0
+        for leg in self.legs:
+            for p in leg.points:
+                out.append((leg.piece, float(p[0]), float(p[1]), float(self.headings_deg[k])))
+                k += 1
+        return out
+
+    @property
+    def time_s(self) -> float:
+        """Driving time at the robot's cruise speed, s."""
+        return self.length_mm / self.speed_mm_s if self.speed_mm_s > 0 else math.inf
+
+    @property
+    def seams_crossed(self) -> tuple[str, ...]:
+        return tuple(c.seam for c in self.crossings)
+
+    def turn_count(self, threshold_deg: float = 0.5) -> int:
+        """Number of vertices where the robot turns by more than ``threshold_deg``."""
+        return int(np.sum(np.abs(self.turns_deg) > threshold_deg))
+
+
+def signed_angle_deg(d0: np.ndarray, d1: np.ndarray) -> float:
+    """Signed angle from direction d0 to d1 (2,), degrees in (−180, 180], CCW positive."""
+    cross = d0[0] * d1[1] - d0[1] * d1[0]
+    dot = d0[0] * d1[0] + d0[1] * d1[1]
+    if cross == 0 and dot == 0:
+        return 0.0
+    return math.degrees(math.atan2(cross, dot))
+
+
+def _heading_deg(d: np.ndarray) -> float:
+    if d[0] == 0 and d[1] == 0:
+        return 0.0
+    return math.degrees(math.atan2(d[1], d[0])) % 360.0
+
+
+def _directions(points: np.ndarray) -> list[np.ndarray]:
+    """Non-zero segment directions of a polyline (zero-length steps skipped)."""
+    d = np.diff(points, axis=0)
+    return [v for v in d if v[0] != 0 or v[1] != 0]
+
+
+def make_route(
+    garment: Garment,
+    robot: Robot,
+    legs: list[Leg],
+    crossing_data: list[tuple[str, float, int]],
+    cost: float,
+) -> Route:
+    """Assemble a Route from legs and crossings given as (seam name, fraction, from side 0=a/1=b).
+
+    Parameters
+    ----------
+    cost : float
+        Route cost (length + soft surcharges + crossing costs), computed by the caller.
+    """
+    crossings = []
+    for i, (name, t, from_side) in enumerate(crossing_data):
+        seam = garment.seam(name)
+        runs = (seam.a, seam.b)
+        d_in = legs[i].points[-1] - legs[i].points[-2] if len(legs[i].points) >= 2 else np.zeros(2)
+        _, tan, _ = run_frame(garment, runs[from_side], t)
+        crossings.append(
+            Crossing(
+                seam=name,
+                from_piece=runs[from_side].piece,
+                to_piece=runs[1 - from_side].piece,
+                point_from=legs[i].points[-1].copy(),
+                point_to=legs[i + 1].points[0].copy(),
+                fraction=float(t),
+                angle_deg=crossing_angle_deg(d_in, tan),
+            )
+        )
+
+    # turns: vertices inside legs, then one per crossing
+    turns = []
+    for i, leg in enumerate(legs):
+        dirs = _directions(leg.points)
+        for k in range(1, len(leg.points) - 1):
+            d0 = leg.points[k] - leg.points[k - 1]
+            d1 = leg.points[k + 1] - leg.points[k]
+            turns.append(signed_angle_deg(d0, d1) if (d0.any() and d1.any()) else 0.0)
+        if i < len(crossing_data):
+            name, t, from_side = crossing_data[i]
+            seam = garment.seam(name)
+            nxt = _directions(legs[i + 1].points)
+            if dirs and nxt:
+                mat = seam_transform(garment, seam, "a" if from_side == 0 else "b", t)
+                turns.append(signed_angle_deg(dirs[-1], mat[:2, :2] @ nxt[0]))
+            else:
+                turns.append(0.0)
+
+    headings = []
+    for leg in legs:
+        pts = leg.points
+        dirs = _directions(pts)
+        for k in range(len(pts)):
+            d = pts[k + 1] - pts[k] if k < len(pts) - 1 else pts[k] - pts[k - 1]
+            if not d.any():
+                d = dirs[-1] if (dirs and k == len(pts) - 1) else (dirs[0] if dirs else np.zeros(2))
+            headings.append(_heading_deg(d))
+
+    length = float(sum(leg.length_mm for leg in legs))
+    return Route(
+        legs=tuple(legs),
+        crossings=tuple(crossings),
+        length_mm=length,
+        cost=float(cost),
+        turns_deg=np.array(turns, dtype=float),
+        headings_deg=np.array(headings, dtype=float),
+        speed_mm_s=float(robot.speed_mm_s),
+    )
+
+
+def join_routes(garment: Garment, robot: Robot, parts: list[Route]) -> Route:
+    """Join routes end to start (the via points) into one; the joint becomes an ordinary vertex."""
+    legs: list[Leg] = []
+    data: list[tuple[str, float, int]] = []
+    cost = 0.0
+    for r in parts:
+        if legs:
+            last = legs.pop()
+            first = r.legs[0]
+            legs.append(Leg(last.piece, np.vstack([last.points, first.points[1:]])))
+            legs.extend(r.legs[1:])
+        else:
+            legs.extend(r.legs)
+        data.extend((c.seam, c.fraction, crossing_side(garment, c)) for c in r.crossings)
+        cost += r.cost
+    return make_route(garment, robot, legs, data, cost)
+
+
+def crossing_side(garment: Garment, c: Crossing) -> int:
+    """0 when crossing ``c`` leaves from the seam's run a, 1 when from run b (the pieces alone do
+    not tell when both runs lie on one piece)."""
+    seam = garment.seam(c.seam)
+    if seam.a.piece != seam.b.piece:
+        return 0 if c.from_piece == seam.a.piece else 1
+    da = shapely.LineString(garment.run_polyline(seam.a)).distance(shapely.Point(*c.point_from))
+    db = shapely.LineString(garment.run_polyline(seam.b)).distance(shapely.Point(*c.point_from))
+    return 0 if da <= db else 1

@@ -1,0 +1,55 @@
+"""Exactness of single-piece planning against pyvisgraph (an independent visibility-graph library).
+
+pyvisgraph (Reksten-Monsen, MIT) builds a full visibility graph of polygonal obstacles and runs
+Dijkstra on it; we give it the SAME free-space polygons our planner uses (the hole rings of the
+free space). Its quirks: it knows only obstacle polygons (interiors blocked), not an outer
+boundary, so every course keeps all grown keep-outs and both query points inside the box
+[60, 540] x [60, 740], strictly inside the panel's free outer boundary (x, y >= 10.05 mm from the
+hems); a shortest path lies in the convex hull of the query points and the obstacles, so the outer
+boundary never matters. Courses whose free space falls apart are skipped (pyvisgraph has no notion
+of separate components).
+"""
+
+import numpy as np
+import pyvisgraph as vg
+import pytest
+import shapely
+
+from garnav.plan import PiecePoint, Planner
+from plan_courses import course
+
+BOX = shapely.box(60.0, 60.0, 540.0, 740.0)
+
+
+def _courses(count=50):
+    seed = 0
+    while count:
+        g, rng = course(seed, n=6)
+        seed += 1
+        planner = Planner(g, quad_segs=4)
+        region = planner.free["panel"].region
+        if region.geom_type != "Polygon":
+            continue
+        holes = [shapely.Polygon(r) for r in region.interiors]
+        if not all(BOX.contains(h) for h in holes):
+            continue
+        yield seed - 1, planner, rng
+        count -= 1
+
+
+@pytest.mark.parametrize("seed, planner, rng", list(_courses(50)), ids=lambda v: str(v) if isinstance(v, int) else "")
+def test_route_length_equals_pyvisgraph(seed, planner, rng):
+    region = planner.free["panel"].region
+    while True:
+        s, g = rng.uniform([60, 60], [540, 740], size=(2, 2))
+        if region.covers(shapely.Point(*s)) and region.covers(shapely.Point(*g)):
+            break
+    route = planner.route(PiecePoint("panel", *s), PiecePoint("panel", *g))
+    polys = [[vg.Point(x, y) for x, y in np.asarray(r.coords)[:-1]] for r in region.interiors]
+    ref = vg.VisGraph()
+    ref.build(polys, workers=1, status=False)
+    path = ref.shortest_path(vg.Point(*s), vg.Point(*g))
+    ref_len = sum(np.hypot(a.x - b.x, a.y - b.y) for a, b in zip(path[:-1], path[1:]))
+    assert route.length_mm == pytest.approx(ref_len, rel=1e-6)
+    # the route stayed in the box where the outer boundary cannot matter
+    assert BOX.covers(shapely.LineString(route.legs[0].points))

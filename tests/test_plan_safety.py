@@ -1,0 +1,118 @@
+"""Safety of planned routes, by property-based testing (hypothesis, derandomized).
+
+Keep-outs are checked against their EXACT shapes (shapely distance to the true polygon, or to the
+circle's centre minus its radius: Euclidean geometry, no buffering), not against the grown shapes
+the planner used: the route keeps >= radius + clearance from every hard keep-out and
+>= radius + edge margin from every open edge (1e-6 mm slack for rounding), is no shorter than the
+straight line (triangle inequality) and starts and ends exactly at the query points.
+"""
+
+import dataclasses
+import math
+
+import numpy as np
+import shapely
+from hypothesis import HealthCheck, assume, given, settings
+from hypothesis import strategies as st
+
+import garments
+from garnav import Circle, KeepOut, PolygonShape, Rectangle
+from garnav.plan import PiecePoint, Planner
+from plan_courses import random_free_points
+
+TOL = 1e-6
+
+coord_x = st.floats(80.0, 520.0)
+coord_y = st.floats(80.0, 720.0)
+
+
+@st.composite
+def keepout(draw, index):
+    kind = draw(st.sampled_from(["circle", "rectangle", "polygon"]))
+    cx, cy = draw(coord_x), draw(coord_y)
+    size = draw(st.floats(5.0, 80.0))
+    clearance = draw(st.floats(0.0, 10.0))
+    if kind == "circle":
+        shape = Circle(cx, cy, size / 2)
+    elif kind == "rectangle":
+        shape = Rectangle(cx, cy, size, draw(st.floats(5.0, 80.0)), draw(st.floats(0.0, 180.0)))
+    else:
+        n = draw(st.integers(3, 7))
+        a = np.sort(np.array([draw(st.floats(0.0, 2 * math.pi)) for _ in range(n)]))
+        assume(len(np.unique(np.round(a, 3))) == n)
+        pts = np.stack([cx + size / 2 * np.cos(a), cy + size / 2 * np.sin(a)], axis=1)
+        poly = shapely.Polygon(pts)
+        assume(poly.is_valid and poly.area > 10.0)
+        shape = PolygonShape(tuple(map(tuple, pts.tolist())))
+    return KeepOut(f"k{index}", "panel", "custom", shape, clearance_mm=clearance)
+
+
+@st.composite
+def scenario(draw):
+    n = draw(st.integers(0, 4))
+    kos = [draw(keepout(i)) for i in range(n)]
+    radius = draw(st.floats(3.0, 25.0))
+    start = (draw(coord_x), draw(coord_y))
+    goal = (draw(coord_x), draw(coord_y))
+    return kos, radius, start, goal
+
+
+def _exact_distance(ko: KeepOut, line: shapely.LineString) -> float:
+    if isinstance(ko.shape, Circle):
+        return line.distance(shapely.Point(ko.shape.cx, ko.shape.cy)) - ko.shape.radius
+    return line.distance(ko.shape.exact_geometry())
+
+
+@settings(max_examples=200, derandomize=True, deadline=None, suppress_health_check=[HealthCheck.too_slow, HealthCheck.filter_too_much])
+@given(scenario())
+def test_route_is_safe(case):
+    kos, radius, start, goal = case
+    base = garments.single_panel()
+    robot = dataclasses.replace(base.robot, radius_mm=radius)
+    g = dataclasses.replace(base, keepouts=tuple(kos), robot=robot)
+    planner = Planner(g)
+    fs = planner.free["panel"]
+    s, t = np.array(start), np.array(goal)
+    assume(fs.covers(s[None])[0] and fs.covers(t[None])[0])
+    try:
+        route = planner.route(PiecePoint("panel", *start), PiecePoint("panel", *goal))
+    except Exception as exc:  # a separated goal is allowed, nothing else
+        from garnav.errors import NoRouteError
+
+        assert isinstance(exc, NoRouteError)
+        return
+    pts = route.legs[0].points
+    line = shapely.LineString(pts) if len(pts) > 1 and route.length_mm > 0 else shapely.Point(pts[0])
+    for ko in kos:
+        assert _exact_distance(ko, line) >= radius + ko.clearance_mm - TOL, ko.name
+    outline = g.piece("panel").polygon.exterior
+    assert outline.distance(line) >= radius + robot.edge_margin_mm - TOL
+    assert route.length_mm >= np.linalg.norm(t - s) - 1e-9
+    np.testing.assert_array_equal(pts[0], s)
+    np.testing.assert_array_equal(pts[-1], t)
+
+
+def test_demo_routes_keep_their_distances():
+    """Random routes on the demo garment: every leg keeps radius + clearance from the EXACT hard
+    keep-outs of its piece and radius + margin from its open edges (shapely distances)."""
+    from garnav.demo import demo_garment
+    from garnav.polyline import sub_polyline
+
+    g = demo_garment()
+    planner = Planner(g)
+    r = planner.robot
+    pts = random_free_points(planner, np.random.default_rng(7), 16)
+    for s, t in zip(pts[::2], pts[1::2]):
+        route = planner.route(s, t)
+        for leg in route.legs:
+            line = shapely.LineString(leg.points)
+            for ko in g.keepouts_on(leg.piece):
+                if ko.hard:
+                    assert _exact_distance(ko, line) >= r.radius_mm + ko.clearance_mm - TOL, ko.name
+            for run in g.open_runs():
+                if run.piece == leg.piece:
+                    edge = shapely.LineString(sub_polyline(g.piece(run.piece).edge(run.edge).array, run.from_mm, run.to_mm))
+                    assert edge.distance(line) >= r.radius_mm + r.edge_margin_mm - TOL, run.edge
+            for opening in g.piece(leg.piece).openings:
+                ring = shapely.LinearRing(opening.array)
+                assert ring.distance(line) >= r.radius_mm + r.edge_margin_mm - TOL, opening.name
