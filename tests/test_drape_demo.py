@@ -174,3 +174,48 @@ def test_demo_route_across_a_side_seam(demo):
     # outside normals point away from the body axis (the torso is convex)
     radial = lr.points[:, :2] - lr.points[:, :2].mean(axis=0)
     assert np.all(np.einsum("ij,ij->i", lr.normals[:, :2], radial) > 0)
+
+
+@pytest.fixture(scope="module")
+def demo_planner(demo):
+    from garnav.drape import pattern_locator
+    from garnav.plan import Planner
+
+    g, m, d = demo
+    return Planner(g, locate_3d=pattern_locator(d, g))
+
+
+@pytest.mark.parametrize(
+    "start, goal", [("omphalion", "dock"), ("wrist_left", "cervicale"), ("sternum_left", "wrist_right")]
+)
+def test_demo_planned_routes_lift(demo, demo_planner, start, goal):
+    from garnav.drape import lift_route
+
+    g, m, d = demo
+    route = demo_planner.route(start, goal, snap=True)
+    lr = lift_route(d, g, route)
+    # every waypoint of the plan is in the dense path, at its pattern position
+    wps = route.waypoints()
+    assert len(lr.waypoint_index) == len(wps)
+    first_of_leg = np.r_[0, np.cumsum([len(leg.points) for leg in route.legs])[:-1]]
+    for i, ((piece, x, y, _), k) in enumerate(zip(wps, lr.waypoint_index)):
+        if lr.pieces[k] == piece:
+            assert np.linalg.norm(lr.pattern[k] - [x, y]) <= lr.max_snap_mm + 1e-9
+        else:  # a leg's first point merged into the previous leg's crossing point
+            assert i in first_of_leg
+    # at each crossing both legs meet in one 3D point (the demo's seams close)
+    ends = np.cumsum([len(leg.points) for leg in route.legs])
+    for e in ends[:-1]:
+        assert lr.waypoint_index[e - 1] == lr.waypoint_index[e]
+    # the drape is isometric within its stretch band (±0.3 %): 3D length ≈ pattern length
+    assert lr.length_3d_mm == pytest.approx(route.length_mm, rel=5e-3)
+    assert lr.climb_up_mm - lr.climb_down_mm == pytest.approx(lr.points[-1, 2] - lr.points[0, 2])
+
+
+def test_demo_world_point_through_the_planner(demo_planner):
+    from garnav.errors import QueryError
+
+    # the body landmark snaps through the drape (3 mm off the garment in the demo)
+    assert demo_planner.point("cervicale").piece == "yoke"
+    with pytest.raises(QueryError, match=r"is 55 mm from the garment; the largest snap distance is 10 mm"):
+        demo_planner.point("xyz:0,-95,1455")

@@ -10,7 +10,7 @@
 """
 
 from garnav.drape.drape import Drape, link_drape, load_drape
-from garnav.drape.inverse import locate_3d, surface_to_pattern
+from garnav.drape.inverse import locate_3d, pattern_locator, surface_to_pattern
 from garnav.drape.lift import LiftedPath, LiftedRoute, lift_polyline, lift_route
 from garnav.drape.locate import TriangleLocator
 from garnav.drape.meshio import UVMesh, load_uv_mesh, save_obj, uv_mesh_from_arrays
@@ -30,6 +30,7 @@ __all__ = [
     "load_drape",
     "load_uv_mesh",
     "locate_3d",
+    "pattern_locator",
     "save_obj",
     "surface_to_pattern",
     "uv_mesh_from_arrays",

@@ -18,7 +18,7 @@ from garnav.drape.drape import Drape
 from garnav.errors import QueryError
 from garnav.model import Garment
 
-__all__ = ["SurfaceHits", "closest_surface_points", "surface_to_pattern", "locate_3d"]
+__all__ = ["SurfaceHits", "closest_surface_points", "surface_to_pattern", "locate_3d", "pattern_locator"]
 
 #: Default largest snap distance from a 3D point to the garment surface, mm.
 DEFAULT_MAX_SNAP_MM = 10.0
@@ -163,3 +163,17 @@ def locate_3d(
             f"the largest snap distance is {max_snap_mm:g} mm"
         )
     return hits.piece[0], float(hits.pattern[0, 0]), float(hits.pattern[0, 1]), d
+
+
+def pattern_locator(drape: Drape, garment: Garment, max_snap_mm: float = DEFAULT_MAX_SNAP_MM):
+    """A ``locate_3d(xyz) -> (piece, x, y)`` callable for the planner's world points.
+
+    Wraps :func:`locate_3d` with this drape, garment and snap limit (the planner's ``xyz:X,Y,Z``
+    points and body landmarks go through it).
+    """
+
+    def locate(xyz) -> tuple[str, float, float]:
+        piece, x, y, _ = locate_3d(drape, garment, xyz, max_snap_mm)
+        return piece, x, y
+
+    return locate
