@@ -3,8 +3,6 @@
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
-
 import numpy as np
 import pytest
 import trimesh
@@ -13,17 +11,7 @@ import drape_meshes as dm
 from garnav.drape import link_drape, lift_polyline, lift_route, surface_to_pattern
 from garnav.drape.locate import barycentric_2d
 from garnav.errors import QueryError
-
-
-@dataclass(frozen=True)
-class Leg:  # stand-in with the fields of garnav.plan's Leg
-    piece: str
-    points: np.ndarray
-
-
-@dataclass(frozen=True)
-class Route:  # stand-in with the fields of garnav.plan's Route that lifting reads
-    legs: tuple
+from garnav.plan import Crossing, Leg, Planner, Route
 
 
 @pytest.fixture(scope="module")
@@ -119,7 +107,10 @@ def test_route_across_a_folded_seam():
         Leg("left", np.array([[100.0, 50.0], [300.0, 150.0]])),
         Leg("right", np.array([[0.0, 150.0], [200.0, 350.0]])),
     )
-    lr = lift_route(d, g, Route(legs))
+    crossing = Crossing("middle", "left", "right", legs[0].points[-1], legs[1].points[0], 0.375, 63.4)
+    length = math.hypot(200, 100) + math.hypot(200, 200)
+    route = Route(legs, (crossing,), length, length, np.array([18.4]), np.array([26.6, 26.6, 45.0, 45.0]))
+    lr = lift_route(d, g, route)
     expect = math.hypot(200, 100) + math.hypot(200, 200)  # each leg is straight on a flat panel
     assert lr.length_3d_mm == pytest.approx(expect, rel=1e-9)
     assert lr.climb_up_mm == pytest.approx(300.0)
@@ -132,6 +123,19 @@ def test_route_across_a_folded_seam():
     # outside normals: the left panel (plane y = 0, pattern x along world x, pattern y up) faces -y
     np.testing.assert_allclose(lr.normals[0], [0.0, -1.0, 0.0], atol=1e-9)
     np.testing.assert_allclose(lr.normals[-1], [1.0, 0.0, 0.0], atol=1e-9)
+
+
+def test_planned_route_on_folded_panels():
+    g, m = dm.folded_panels()
+    d = link_drape(g, m)
+    route = Planner(g).route("left_centre", "right_centre")
+    assert route.seams_crossed == ("middle",)
+    lr = lift_route(d, g, route)
+    # folding is an isometry: the 3D length is the planner's pattern length
+    assert lr.length_3d_mm == pytest.approx(route.length_mm, rel=1e-9)
+    assert lr.climb_up_mm == pytest.approx(0.0, abs=1e-9) and lr.climb_down_mm == pytest.approx(0.0, abs=1e-9)
+    np.testing.assert_allclose(lr.points[0], [150.0, 0.0, 200.0], atol=1e-9)
+    np.testing.assert_allclose(lr.points[-1], [300.0, 150.0, 200.0], atol=1e-9)
 
 
 def test_lift_errors(cyl):
