@@ -47,3 +47,31 @@ def test_import_bad_mesh_is_a_clear_error(tmp_path, capsys):
     err = capsys.readouterr().err
     assert "plain.obj: the mesh has no texture coordinates" in err
     assert not (tmp_path / "x.toml").exists()
+
+
+@pytest.mark.skipif(not SPEC.is_file(), reason="demo files not built")
+def test_route_with_the_drape(capsys):
+    assert main(["route", str(SPEC), "--from", "cervicale", "--to", "wrist_left", "--drape"]) == 0
+    out = capsys.readouterr().out
+    assert "3D length" in out and "climb" in out
+
+
+@pytest.mark.skipif(not SPEC.is_file(), reason="demo files not built")
+def test_route_world_points_use_the_specs_drape(capsys):
+    assert main(["route", str(SPEC), "--from", "xyz:0,-92,1395", "--to", "omphalion"]) == 0
+    assert "seams crossed" in capsys.readouterr().out
+    assert main(["route", str(SPEC), "--from", "xyz:0,-95,1455", "--to", "omphalion"]) == 2
+    err = capsys.readouterr().err
+    assert "is 55 mm from the garment; the largest snap distance is 10 mm" in err
+
+
+def test_route_on_a_mesh_alone(tmp_path, capsys):
+    g, m = dm.folded_panels()  # left panel in the plane y = 0, right panel in x = 300
+    mesh = save_obj(m, tmp_path / "panels.obj")
+    args = ["route", str(mesh), "--from", "xyz:150,0,200", "--to", "xyz:300,150,200"]
+    assert main(args) == 0
+    out = capsys.readouterr().out
+    # the fold is an isometry: the pattern route and its 3D image are both 150 + 150 mm
+    assert "length         300.0 mm" in out and "3D length  300.0 mm on the drape" in out
+    assert main(["route", str(mesh), "--from", "xyz:150,-30,200", "--to", "xyz:300,150,200"]) == 2
+    assert "30 mm from the garment" in capsys.readouterr().err

@@ -12,12 +12,15 @@ import csv
 import dataclasses
 import io
 import json
+from pathlib import Path
 
 from garnav.atomic import write_text_atomic
+from garnav.drape.inverse import pattern_locator
+from garnav.drape.lift import lift_route
+from garnav.drape.sources import garment_and_drape, spec_drape_locator
 from garnav.errors import QueryError
 from garnav.model import Robot
 from garnav.plan import PLANNER_VERSION, Planner, Route
-from garnav.spec import load_garment
 
 __all__ = ["register", "run", "route_summary", "route_to_json", "route_to_csv"]
 
@@ -30,20 +33,37 @@ def register(subparsers: argparse._SubParsersAction) -> None:
         "keep-outs and across seams, and print its length, seams crossed, turns and driving time. "
         "POINT is a landmark name, PIECE:X,Y (pattern mm) or xyz:X,Y,Z (world mm, needs a drape).",
     )
-    parser.add_argument("garment", metavar="GARMENT", help="garment spec file (.toml)")
+    parser.add_argument(
+        "garment",
+        metavar="GARMENT",
+        help="garment spec file (.toml), or a UV-mapped mesh (.obj, .gltf, .glb, .ply) whose UV "
+        "islands become the pieces",
+    )
     parser.add_argument("--from", dest="start", required=True, metavar="POINT", help="start point")
     parser.add_argument("--to", dest="goal", required=True, metavar="POINT", help="goal point")
     parser.add_argument("--via", action="append", default=[], metavar="POINT", help="pass through this point (repeatable, in order)")
     parser.add_argument("--radius", type=float, metavar="MM", help="robot radius in mm (default: the spec's robot)")
     parser.add_argument("--clearance", type=float, default=0.0, metavar="MM", help="extra clearance added to every keep-out, mm")
     parser.add_argument("--snap", action="store_true", help="move points the robot cannot stand on to the nearest free point")
+    parser.add_argument(
+        "--drape",
+        metavar="MESH",
+        nargs="?",
+        const="",
+        help="lift the route onto a UV-mapped drape mesh (default: the spec's drape) and print its "
+        "3D length and climb",
+    )
     parser.add_argument("--json", metavar="FILE", help="write the route as JSON")
     parser.add_argument("--csv", metavar="FILE", help="write the waypoints as CSV")
     parser.set_defaults(func=run)
 
 
 def run(args: argparse.Namespace) -> int:
-    garment = load_garment(args.garment)
+    garment, drape = garment_and_drape(args.garment, getattr(args, "drape", None))
+    if drape is not None:
+        locate = pattern_locator(drape, garment)
+    else:
+        locate = spec_drape_locator(garment, Path(args.garment).parent)
     robot = garment.robot or Robot()
     if args.radius is not None:
         if not args.radius > 0:
@@ -51,9 +71,11 @@ def run(args: argparse.Namespace) -> int:
         robot = dataclasses.replace(robot, radius_mm=float(args.radius))
     if not args.clearance >= 0:
         raise QueryError(f"--clearance must be zero or more mm, got {args.clearance:g}")
-    planner = Planner(garment, robot, extra_clearance_mm=args.clearance)
+    planner = Planner(garment, robot, extra_clearance_mm=args.clearance, locate_3d=locate)
     route = planner.route(args.start, args.goal, via=args.via, snap=args.snap)
     print(route_summary(route, args.start, args.goal))
+    if drape is not None:
+        print("\n".join(lift_route(drape, garment, route).lines()))
     if args.json:
         write_text_atomic(args.json, route_to_json(route, garment.name, robot))
     if args.csv:

@@ -302,6 +302,18 @@ class LiftedRoute:
         """Piece name of every point."""
         return tuple(self.piece_names[i] for i in self.piece_index)
 
+    def lines(self) -> list[str]:
+        """A short summary in the style of the route table: 3D length, climbs, points."""
+        z = self.points[:, 2]
+        rows = [
+            ("3D length", f"{self.length_3d_mm:.1f} mm on the drape"),
+            ("climb", f"up {self.climb_up_mm:.1f} mm, down {self.climb_down_mm:.1f} mm "
+             f"(height {z.min():.0f}..{z.max():.0f} mm)"),
+            ("3D points", f"{len(self.points)}"),
+        ]
+        width = max(len(k) for k, _ in rows)
+        return [f"{k:<{width}}  {v}" for k, v in rows]
+
 
 def lift_route(
     drape: Drape, garment: Garment, route, snap_mm: float = 1.0, seam_tol_mm: float = 0.01
