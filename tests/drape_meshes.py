@@ -10,6 +10,7 @@ from __future__ import annotations
 import math
 
 import numpy as np
+import shapely
 
 import garments
 from garnav import Edge, Garment, Piece, Placement, Robot, Seam, SeamRun
@@ -130,3 +131,14 @@ def folded_panels(nx: int = 30, ny: int = 40, gap: float = 0.0):
         garment, {"left": (pattern, tris, left), "right": (pattern, tris, right)}
     )
     return garment, mesh
+
+
+def match_pieces(original: Garment, imported: Garment) -> dict[str, str]:
+    """Map imported piece names to original ones by where the pieces lie on the sheet."""
+    out = {}
+    for p in imported.pieces:
+        inside = p.placement.to_sheet(np.array(p.polygon.representative_point().coords[0]))
+        for q in original.pieces:
+            if q.polygon.contains(shapely.Point(q.placement.from_sheet(inside))):
+                out[p.name] = q.name
+    return out

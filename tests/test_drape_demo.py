@@ -9,6 +9,7 @@ import numpy as np
 import pytest
 import shapely
 
+import drape_meshes as dm
 from garnav.drape import drape_report, link_drape, lift_polyline, load_uv_mesh, locate_3d, surface_to_pattern
 from garnav.drape.import_mesh import garment_from_mesh
 
@@ -108,13 +109,7 @@ def test_demo_lifted_segments_match_exact_geodesics(demo):
 def test_demo_import_round_trip(demo):
     g, m, d = demo
     imported = garment_from_mesh(m, sheet_size_mm=g.sheet_size_mm)
-    # map imported pieces to the demo's by where they lie on the sheet
-    names = {}
-    for p in imported.pieces:
-        c = p.placement.to_sheet(np.array(p.polygon.representative_point().coords[0]))
-        for q in g.pieces:
-            if q.polygon.contains(shapely.Point(q.placement.from_sheet(c))):
-                names[p.name] = q.name
+    names = dm.match_pieces(g, imported)
     assert sorted(names.values()) == sorted(p.name for p in g.pieces)
     for p in imported.pieces:
         assert p.area == pytest.approx(g.piece(names[p.name]).area, rel=5e-3)  # shapely areas

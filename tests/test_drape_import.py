@@ -6,7 +6,6 @@ import math
 
 import numpy as np
 import pytest
-import shapely
 
 import drape_meshes as dm
 from garnav.drape import drape_report, link_drape
@@ -17,22 +16,11 @@ def _seam_pairs(garment, rename=lambda n: n):
     return sorted(tuple(sorted((rename(s.a.piece), rename(s.b.piece)))) for s in garment.seams)
 
 
-def _by_position(original, imported):
-    """Map imported piece names to original ones by the pieces' places on the sheet."""
-    out = {}
-    for p in imported.pieces:
-        centre = p.placement.to_sheet(np.array(p.polygon.centroid.coords[0]))
-        for q in original.pieces:
-            if q.polygon.contains(shapely.Point(q.placement.from_sheet(centre))):
-                out[p.name] = q.name
-    return out
-
-
 @pytest.mark.parametrize("build", [dm.folded_panels, dm.cylinder, dm.cone, dm.flat_sheet])
 def test_import_round_trip(build):
     g, m = build()
     imported = garment_from_mesh(m, sheet_size_mm=g.sheet_size_mm)
-    names = _by_position(g, imported)
+    names = dm.match_pieces(g, imported)
     assert sorted(names.values()) == sorted(p.name for p in g.pieces)
     for p in imported.pieces:
         # areas by shapely (GEOS) on both sides

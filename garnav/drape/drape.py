@@ -16,7 +16,7 @@ import numpy as np
 import shapely
 
 from garnav.drape.locate import TriangleLocator, barycentric_2d
-from garnav.drape.meshio import UVMesh, load_uv_mesh
+from garnav.drape.meshio import UVMesh, load_uv_mesh, signed_area_2d
 from garnav.drape.uvtopo import NEXT, UVTopology, uv_topology
 from garnav.errors import MeshError, QueryError, did_you_mean
 from garnav.model import Garment
@@ -317,7 +317,7 @@ def link_drape(garment: Garment, mesh: UVMesh) -> Drape:
     sheet = np.asarray(garment.sheet_size_mm, dtype=float)
     topo = uv_topology(mesh)
     corner_sheet = mesh.corner_uv * sheet
-    signed = _signed(corner_sheet)
+    signed = signed_area_2d(corner_sheet)
     area = np.abs(signed)
     centroid = corner_sheet.mean(axis=1)
     polys = _sheet_polygons(garment)
@@ -413,11 +413,6 @@ def load_drape(garment: Garment, mesh: str | None = None, folder: str = ".") -> 
             )
         mesh = os.path.join(folder, garment.drape)
     return link_drape(garment, load_uv_mesh(mesh))
-
-
-def _signed(tri: np.ndarray) -> np.ndarray:
-    a, b = tri[:, 1] - tri[:, 0], tri[:, 2] - tri[:, 0]
-    return 0.5 * (a[:, 0] * b[:, 1] - a[:, 1] * b[:, 0])
 
 
 def island_polygons(topo: UVTopology, corner_xy: np.ndarray) -> list[shapely.Geometry]:

@@ -97,14 +97,15 @@ class UVMesh:
     @cached_property
     def face_area_uv(self) -> np.ndarray:
         """(F,) *signed* triangle areas in UV units² (positive = counter-clockwise in UV)."""
-        return _signed_area_2d(self.corner_uv)
+        return signed_area_2d(self.corner_uv)
 
 
 def _area_3d(tri: np.ndarray) -> np.ndarray:
     return 0.5 * np.linalg.norm(np.cross(tri[:, 1] - tri[:, 0], tri[:, 2] - tri[:, 0]), axis=1)
 
 
-def _signed_area_2d(tri: np.ndarray) -> np.ndarray:
+def signed_area_2d(tri: np.ndarray) -> np.ndarray:
+    """(F,) signed areas of 2D triangles (F, 3, 2); positive when counter-clockwise."""
     a = tri[:, 1] - tri[:, 0]
     b = tri[:, 2] - tri[:, 0]
     return 0.5 * (a[:, 0] * b[:, 1] - a[:, 1] * b[:, 0])
@@ -118,16 +119,18 @@ def _no_uv_message(source: str) -> str:
 
 
 def weld_positions(positions: np.ndarray, tol: float) -> tuple[np.ndarray, np.ndarray]:
-    """Merge positions closer than ``tol`` (transitively).
+    """Merge points closer than ``tol`` (transitively).
 
     Parameters
     ----------
-    positions : (N, 3) float array, mm
-    tol : float, mm
+    positions : (N, d) float array
+        Positions in mm, or any points to cluster (UV corners use (u, v, offset vertex id)).
+    tol : float
+        Same unit as the points.
 
     Returns
     -------
-    welded : (V, 3) float array
+    welded : (V, d) float array
         One position per group (the first member's, in input order), groups ordered by their
         first member.
     index : (N,) int array
@@ -136,7 +139,7 @@ def weld_positions(positions: np.ndarray, tol: float) -> tuple[np.ndarray, np.nd
     positions = np.asarray(positions, dtype=float)
     n = len(positions)
     if n == 0:
-        return positions.reshape(0, 3), np.zeros(0, dtype=np.int64)
+        return positions, np.zeros(0, dtype=np.int64)
     pairs = cKDTree(positions).query_pairs(r=tol, output_type="ndarray")
     graph = scipy.sparse.coo_matrix(
         (np.ones(len(pairs)), (pairs[:, 0], pairs[:, 1])) if len(pairs) else ([], ([], [])),
@@ -219,7 +222,7 @@ def uv_mesh_from_arrays(
 
     notes: list[str] = []
     area3 = _area_3d(welded[faces])
-    area_uv = np.abs(_signed_area_2d(corner_uv))
+    area_uv = np.abs(signed_area_2d(corner_uv))
     flat_uv = area_uv <= uv_area_tol
     flat_3d = area3 <= area_tol_mm2
     collapsed = flat_3d & ~flat_uv

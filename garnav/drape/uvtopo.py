@@ -14,9 +14,8 @@ from dataclasses import dataclass
 import numpy as np
 import scipy.sparse
 import scipy.sparse.csgraph
-from scipy.spatial import cKDTree
 
-from garnav.drape.meshio import UVMesh
+from garnav.drape.meshio import UVMesh, weld_positions
 
 __all__ = ["UVTopology", "uv_topology", "NEXT"]
 
@@ -100,15 +99,9 @@ def uv_topology(mesh: UVMesh, uv_tol: float = 1e-7) -> UVTopology:
     n_f = len(faces)
     corners_v = faces.reshape(-1)
     corners_uv = mesh.corner_uv.reshape(-1, 2)
-    # weld corners: same 3D vertex (separated by a large offset) and UV within tolerance
+    # weld corners: same 3D vertex (kept apart by a large offset) and UV within tolerance
     key = np.column_stack([corners_uv, corners_v.astype(float) * 10.0])
-    pairs = cKDTree(key).query_pairs(r=uv_tol, output_type="ndarray")
-    n_c = len(key)
-    graph = scipy.sparse.coo_matrix(
-        (np.ones(len(pairs)), (pairs[:, 0], pairs[:, 1])) if len(pairs) else ([], ([], [])),
-        shape=(n_c, n_c),
-    )
-    _, labels = scipy.sparse.csgraph.connected_components(graph, directed=False)
+    _, labels = weld_positions(key, uv_tol)
     uv_vertex = labels.reshape(n_f, 3).astype(np.int64)
 
     # half-edges: edge k of face f, opposite corner k
