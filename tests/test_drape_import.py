@@ -111,3 +111,22 @@ def test_closing_seam_that_folds_at_an_apex():
     apex = piece.placement.from_sheet(np.array([310.0, 310.0]) * imported.sheet_size_mm[0] / 620.0)
     assert np.linalg.norm(ra - apex, axis=1) == pytest.approx(np.linalg.norm(rb - apex, axis=1), abs=1e-6)
     assert imported.sheet_size_mm == pytest.approx((620.0, 620.0), rel=1e-6)
+
+
+def test_sewn_hole_is_refused():
+    # a 4 × 4 cell panel with its central 2 × 2 cells cut out, and a patch sewn into the hole
+    # (the patch's own UVs lie beside the panel on the sheet)
+    from garnav.drape.meshio import uv_mesh_from_arrays
+    from garnav.errors import MeshError
+
+    pattern, tris = dm.rect_grid(40.0, 40.0, 4, 4)
+    centre = pattern[tris].mean(axis=1)
+    hole = (np.abs(centre[:, 0] - 20) < 10) & (np.abs(centre[:, 1] - 20) < 10)
+    panel_tris = tris[~hole]
+    patch_tris = tris[hole]
+    xyz = np.column_stack([pattern, np.zeros(len(pattern))])
+    uv_panel = pattern[panel_tris] / 100.0
+    uv_patch = (pattern[patch_tris] + [40.0, 0.0]) / 100.0
+    mesh = uv_mesh_from_arrays(xyz, np.vstack([panel_tris, patch_tris]), np.vstack([uv_panel, uv_patch]))
+    with pytest.raises(MeshError, match=r"UV island 0 has an interior hole sewn to another edge"):
+        garment_from_mesh(mesh, sheet_size_mm=(100.0, 100.0))
