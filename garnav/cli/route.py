@@ -72,8 +72,14 @@ def run(args: argparse.Namespace) -> int:
     if not args.clearance >= 0:
         raise QueryError(f"--clearance must be zero or more mm, got {args.clearance:g}")
     planner = Planner(garment, robot, extra_clearance_mm=args.clearance, locate_3d=locate)
-    route = planner.route(args.start, args.goal, via=args.via, snap=args.snap)
+    texts = [args.start, *args.via, args.goal]
+    roles = ["start"] + ["via point"] * len(args.via) + ["goal"]
+    stops = [planner.point(t, snap=args.snap, role=r) for t, r in zip(texts, roles)]
+    route = planner.route(stops[0], stops[-1], via=stops[1:-1])
     print(route_summary(route, args.start, args.goal))
+    for text, pp in zip(texts, stops):
+        if pp.label.endswith("(snapped)"):
+            print(f"note: {text} moved to the nearest free point {pp.piece}:{pp.x:.1f},{pp.y:.1f}")
     if drape is not None:
         print("\n".join(lift_route(drape, garment, route).lines()))
     if args.json:
