@@ -284,3 +284,12 @@ def _triangle_set(mesh) -> list[tuple]:
         axis=1,
     )
     return sorted(map(tuple, np.round(rows, 4).tolist()))
+
+
+def test_gltf_text_with_separate_buffer(tube_mesh, tmp_path):
+    files = _split_trimesh(tube_mesh).export(file_type="gltf")
+    for name, data in files.items():
+        (tmp_path / name).write_bytes(data)
+    (gltf,) = [n for n in files if n.endswith(".gltf")]
+    loaded = load_uv_mesh(tmp_path / gltf)
+    _same_mesh(tube_mesh, loaded, atol=1e-5)
