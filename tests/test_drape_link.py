@@ -199,3 +199,19 @@ def test_island_across_two_pieces():
     )
     with pytest.raises(MeshError, match=r"UV island 0 .* lies across pieces 'left' 100%, 'right' 33%"):
         link_drape(moved, m)
+
+
+def test_report_snaps_body_landmarks(cyl):
+    import dataclasses
+
+    g, d = cyl
+    near = Landmark("near", xyz=(53.0, 0.0, 120.0))  # 3 mm outside the tube at angle 0
+    far = Landmark("far", xyz=(0.0, 0.0, 150.0))  # on the axis: 50 mm from the tube
+    g2 = dataclasses.replace(g, landmarks=(near, far))
+    rep = drape_report(g2, d)
+    snaps = {s.landmark: s for s in rep.landmarks}
+    assert snaps["near"].piece == "tube" and snaps["near"].y == pytest.approx(120.0)
+    assert snaps["near"].distance_mm == pytest.approx(3.0) and not snaps["near"].too_far
+    assert snaps["far"].too_far
+    text = rep.text()
+    assert "near             tube" in text and "TOO FAR (largest snap distance 10 mm)" in text

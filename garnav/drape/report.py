@@ -12,11 +12,20 @@ from dataclasses import dataclass
 import numpy as np
 
 from garnav.drape.drape import Drape
+from garnav.drape.inverse import DEFAULT_MAX_SNAP_MM, surface_to_pattern
 from garnav.errors import QueryError
 from garnav.model import Garment
 from garnav.polyline import cumulative_length, point_at_length
 
-__all__ = ["PieceCoverage", "StretchStats", "SeamClosure", "DrapeReport", "drape_report", "stretch_stats"]
+__all__ = [
+    "PieceCoverage",
+    "StretchStats",
+    "SeamClosure",
+    "LandmarkSnap",
+    "DrapeReport",
+    "drape_report",
+    "stretch_stats",
+]
 
 #: Stretch (|σ - 1|) above which a triangle's area counts as stretched: 2 % (common practice, no source).
 STRETCH_LIMIT = 0.02
@@ -74,6 +83,22 @@ class SeamClosure:
 
 
 @dataclass(frozen=True)
+class LandmarkSnap:
+    """A body landmark (world mm) snapped to the garment: its piece, pattern position and distance."""
+
+    landmark: str
+    piece: str
+    x: float
+    y: float
+    distance_mm: float
+    max_snap_mm: float
+
+    @property
+    def too_far(self) -> bool:
+        return self.distance_mm > self.max_snap_mm
+
+
+@dataclass(frozen=True)
 class DrapeReport:
     source: str
     vertices: int
@@ -82,6 +107,7 @@ class DrapeReport:
     stretch: StretchStats
     seams: tuple[SeamClosure, ...]
     notes: tuple[str, ...] = ()
+    landmarks: tuple[LandmarkSnap, ...] = ()
 
     def lines(self) -> list[str]:
         """The report as lines of text (mm, percent)."""
@@ -107,6 +133,16 @@ class DrapeReport:
             for c in self.seams:
                 out.append(
                     f"    {c.seam:<24} max {c.max_gap_mm:.3f} mm, mean {c.mean_gap_mm:.3f} mm"
+                )
+        if self.landmarks:
+            out.append("  body landmarks snapped to the garment:")
+            for b in self.landmarks:
+                state = (
+                    f"TOO FAR (largest snap distance {b.max_snap_mm:g} mm)" if b.too_far else "ok"
+                )
+                out.append(
+                    f"    {b.landmark:<16} {b.piece} ({b.x:.1f}, {b.y:.1f}) mm, "
+                    f"{b.distance_mm:.1f} mm off the surface: {state}"
                 )
         return out
 
@@ -154,8 +190,21 @@ def seam_closure(drape: Drape, garment: Garment, samples: int = 33, snap_mm: flo
     return tuple(out)
 
 
+def landmark_snaps(garment: Garment, drape: Drape, max_snap_mm: float = DEFAULT_MAX_SNAP_MM) -> tuple[LandmarkSnap, ...]:
+    """Every body landmark (given by ``xyz``) snapped to its closest garment point."""
+    body = [lm for lm in garment.landmarks if lm.xyz is not None and not lm.on_pattern]
+    if not body:
+        return ()
+    hits = surface_to_pattern(drape, np.array([lm.xyz for lm in body], dtype=float))
+    return tuple(
+        LandmarkSnap(lm.name, hits.piece[i], float(hits.pattern[i, 0]), float(hits.pattern[i, 1]),
+                     float(hits.distance[i]), max_snap_mm)
+        for i, lm in enumerate(body)
+    )
+
+
 def drape_report(garment: Garment, drape: Drape) -> DrapeReport:
-    """Coverage per piece, stretch statistics and seam closure of a linked drape."""
+    """Coverage per piece, stretch statistics, seam closure and body-landmark snaps of a drape."""
     pieces = []
     for i, p in enumerate(garment.pieces):
         sel = np.flatnonzero(drape.face_piece == i)
@@ -176,4 +225,5 @@ def drape_report(garment: Garment, drape: Drape) -> DrapeReport:
         stretch=stretch_stats(drape),
         seams=seam_closure(drape, garment),
         notes=drape.notes,
+        landmarks=landmark_snaps(garment, drape),
     )
