@@ -2,7 +2,7 @@
 
 Points are landmark names, ``PIECE:X,Y`` (pattern mm) or ``xyz:X,Y,Z`` (world mm; needs a drape).
 ``--json`` writes the route document (``garnav-route``, docs/route-format.md; with world positions,
-orientations and the 3D path when the spec names a drape), ``--csv`` its waypoint table and
+orientations and the 3D path when ``--drape`` lifts the route), ``--csv`` its waypoint table and
 ``--commands`` the robot's turn-and-go commands (docs/commands.md). All are written atomically.
 """
 
@@ -12,18 +12,16 @@ import argparse
 import dataclasses
 from pathlib import Path
 
+from garnav.drape.inverse import pattern_locator
+from garnav.drape.lift import lift_route
+from garnav.drape.sources import garment_and_drape, spec_drape_locator
 from garnav.errors import QueryError
 from garnav.export.commands import route_commands, write_commands
 from garnav.export.waypoints import route_document, write_route_csv, write_route_json
 from garnav.model import Robot
 from garnav.plan import Planner, Route
-from garnav.spec import load_garment
 
 __all__ = ["register", "run", "route_summary"]
-
-# How far (mm) a route point may lie outside the drape's triangles when lifted: a route may hug a
-# curved seam, which the mesh cuts by straight chords a few mm inside the pattern outline.
-LIFT_SNAP_MM = 5.0
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:
@@ -34,13 +32,26 @@ def register(subparsers: argparse._SubParsersAction) -> None:
         "keep-outs and across seams, and print its length, seams crossed, turns and driving time. "
         "POINT is a landmark name, PIECE:X,Y (pattern mm) or xyz:X,Y,Z (world mm, needs a drape).",
     )
-    parser.add_argument("garment", metavar="GARMENT", help="garment spec file (.toml)")
+    parser.add_argument(
+        "garment",
+        metavar="GARMENT",
+        help="garment spec file (.toml), or a UV-mapped mesh (.obj, .gltf, .glb, .ply) whose UV "
+        "islands become the pieces",
+    )
     parser.add_argument("--from", dest="start", required=True, metavar="POINT", help="start point")
     parser.add_argument("--to", dest="goal", required=True, metavar="POINT", help="goal point")
     parser.add_argument("--via", action="append", default=[], metavar="POINT", help="pass through this point (repeatable, in order)")
     parser.add_argument("--radius", type=float, metavar="MM", help="robot radius in mm (default: the spec's robot)")
     parser.add_argument("--clearance", type=float, default=0.0, metavar="MM", help="extra clearance added to every keep-out, mm")
     parser.add_argument("--snap", action="store_true", help="move points the robot cannot stand on to the nearest free point")
+    parser.add_argument(
+        "--drape",
+        metavar="MESH",
+        nargs="?",
+        const="",
+        help="lift the route onto a UV-mapped drape mesh (default: the spec's drape) and print its "
+        "3D length and climb",
+    )
     parser.add_argument("--json", metavar="FILE", help="write the route document as JSON (docs/route-format.md)")
     parser.add_argument("--csv", metavar="FILE", help="write the waypoints as CSV")
     parser.add_argument("--commands", metavar="FILE", help="write the robot commands as text (docs/commands.md)")
@@ -48,7 +59,11 @@ def register(subparsers: argparse._SubParsersAction) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    garment = load_garment(args.garment)
+    garment, drape = garment_and_drape(args.garment, getattr(args, "drape", None))
+    if drape is not None:
+        locate = pattern_locator(drape, garment)
+    else:
+        locate = spec_drape_locator(garment, Path(args.garment).parent)
     robot = garment.robot or Robot()
     if args.radius is not None:
         if not args.radius > 0:
@@ -56,7 +71,7 @@ def run(args: argparse.Namespace) -> int:
         robot = dataclasses.replace(robot, radius_mm=float(args.radius))
     if not args.clearance >= 0:
         raise QueryError(f"--clearance must be zero or more mm, got {args.clearance:g}")
-    planner = Planner(garment, robot, extra_clearance_mm=args.clearance)
+    planner = Planner(garment, robot, extra_clearance_mm=args.clearance, locate_3d=locate)
     texts = [args.start, *args.via, args.goal]
     roles = ["start"] + ["via point"] * len(args.via) + ["goal"]
     stops = [planner.point(t, snap=args.snap, role=r) for t, r in zip(texts, roles)]
@@ -65,8 +80,11 @@ def run(args: argparse.Namespace) -> int:
     for text, pp in zip(texts, stops):
         if pp.label.endswith("(snapped)"):
             print(f"note: {text} moved to the nearest free point {pp.piece}:{pp.x:.1f},{pp.y:.1f}")
+    lifted = lift_route(drape, garment, route) if drape is not None else None
+    if lifted is not None:
+        print("\n".join(lifted.lines()))
     if args.json or args.csv:
-        doc = route_document(route, garment, robot, _lift(garment, route, Path(args.garment).parent))
+        doc = route_document(route, garment, robot, lifted)
         if args.json:
             write_route_json(args.json, doc)
         if args.csv:
@@ -75,19 +93,6 @@ def run(args: argparse.Namespace) -> int:
         comment = f"{args.start} to {args.goal} on garment '{garment.name}', robot '{robot.name}'"
         write_commands(args.commands, route_commands(route, garment, robot), comment=comment)
     return 0
-
-
-def _lift(garment, route: Route, base: Path):
-    """The route lifted onto the spec's drape, or None when the spec names no drape."""
-    if not garment.drape:
-        return None
-    try:
-        from garnav.drape import lift_route, link_drape, load_uv_mesh
-    except ImportError:  # a build without the drape module exports the pattern route only
-        return None
-
-    drape = link_drape(garment, load_uv_mesh(base / garment.drape))
-    return lift_route(drape, garment, route, snap_mm=LIFT_SNAP_MM)
 
 
 def route_summary(route: Route, start: str, goal: str) -> str:
