@@ -25,7 +25,7 @@ def register(subparsers) -> None:
         description="Show the mannequin, the draped garment and routes in a 3D window, "
         "or render them off-screen with --screenshot.",
     )
-    parser.add_argument("garment", help="garment spec file (.toml)")
+    parser.add_argument("garment", help="garment spec file (.toml), or a UV-mapped mesh whose UV islands are the pieces")
     parser.add_argument("routes", nargs="*", metavar="ROUTE.json", help="route files written by 'garnav route --json'")
     parser.add_argument("--screenshot", metavar="PNG", help="render off-screen to this PNG file instead of opening a window")
     parser.add_argument("--size", nargs=2, type=int, metavar=("W", "H"), default=(1200, 900),
@@ -49,22 +49,17 @@ def _load_body(path: Path):
     return np.asarray(mesh.vertices, dtype=float), np.asarray(mesh.faces, dtype=np.int64)
 
 
-def _load_drape(garment, path: Path):
-    from garnav.drape import link_drape, load_uv_mesh
-
-    return link_drape(garment, load_uv_mesh(path))
-
-
 def run(args: argparse.Namespace) -> int:
     from garnav.export.waypoints import read_route_document
     from garnav.preview.scene import SceneRoute, build_plotter, off_screen_environment, route_polyline, write_screenshot
-    from garnav.spec import load_garment
+    from garnav.drape.drape import load_drape
+    from garnav.drape.sources import garment_and_drape
 
     w, h = args.size
     if w < 16 or h < 16 or w > 8192 or h > 8192:
         raise QueryError(f"--size {w} {h}: width and height must be 16..8192 pixels")
     spec_path = Path(args.garment)
-    garment = load_garment(spec_path)
+    garment, drape = garment_and_drape(spec_path)  # a mesh file brings its drape along
     docs = []
     for name in args.routes:
         doc = read_route_document(name)
@@ -81,7 +76,8 @@ def run(args: argparse.Namespace) -> int:
             return 0
         raise MeshError(f"{spec_path}: the spec names no drape and no body mesh: nothing to show in 3D (try --sheet)")
     base = spec_path.parent
-    drape = _load_drape(garment, base / garment.drape) if garment.drape else None
+    if drape is None and garment.drape:
+        drape = load_drape(garment, None, str(base))
     body = _load_body(base / garment.body) if garment.body else None
     routes = []
     for name, doc in docs:
