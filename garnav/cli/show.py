@@ -58,12 +58,14 @@ def run(args: argparse.Namespace) -> int:
     w, h = args.size
     if w < 16 or h < 16 or w > 8192 or h > 8192:
         raise QueryError(f"--size {w} {h}: width and height must be 16..8192 pixels")
+    if args.sheet and Path(args.sheet).suffix.lower() not in (".svg", ".png"):
+        raise QueryError(f"--sheet {args.sheet}: use a .svg or .png file name")
     spec_path = Path(args.garment)
     garment, drape = garment_and_drape(spec_path)  # a mesh file brings its drape along
     docs = []
     for name in args.routes:
         doc = read_route_document(name)
-        planned_on = doc.get("garment", {}).get("name")
+        planned_on = doc["garment"]["name"]
         if planned_on != garment.name:
             raise QueryError(f"{name}: the route was planned on garment '{planned_on}', not '{garment.name}'")
         docs.append((name, doc))
@@ -101,23 +103,15 @@ def run(args: argparse.Namespace) -> int:
 
 def _write_sheet(garment, docs, path: Path) -> None:
     from garnav.export.waypoints import document_route
+    from garnav.plan import build_free_space
     from garnav.preview.sheet import sheet_drawing, write_sheet_png, write_sheet_svg
 
     routes = [document_route(doc) for _, doc in docs]
-    free = None
-    if garment.robot is not None:
-        try:
-            from garnav.plan import build_free_space
-        except ImportError:  # a build without the planner draws keep-outs and raw pieces only
-            build_free_space = None
-        if build_free_space is not None:
-            free = build_free_space(garment, garment.robot)
+    # free space only for the spec's own robot: another robot would need other margins
+    free = build_free_space(garment, garment.robot) if garment.robot is not None else None
     drawing = sheet_drawing(garment, routes, free, route_names=[Path(n).stem for n, _ in docs])
-    suffix = path.suffix.lower()
-    if suffix == ".svg":
+    if path.suffix.lower() == ".svg":
         write_sheet_svg(path, drawing)
-    elif suffix == ".png":
-        write_sheet_png(path, drawing)
     else:
-        raise QueryError(f"--sheet {path}: use a .svg or .png file name")
+        write_sheet_png(path, drawing)
     print(f"wrote {path}")
