@@ -19,7 +19,7 @@ from __future__ import annotations
 import io
 import math
 from dataclasses import dataclass, field
-from typing import Iterable, Sequence
+from typing import Sequence
 from xml.sax.saxutils import escape, quoteattr
 
 import numpy as np
