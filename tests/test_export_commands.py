@@ -146,10 +146,10 @@ def test_text_names_with_spaces_are_quoted():
     cl = CommandList(
         (Cross('side "seam" #1', 0.0, 90.0, "both", 0.0), Go(12.5), Turn(-0.1)),
         side="inside",
-        start=Start("left front", 1.0, -2.0, 180.0),
+        start=Start("left front\u2028\x85 two\nthree\r", 1.0, -2.0, 180.0),  # line breaks in a name
     )
     text = format_commands(cl)
-    assert '"left front"' in text and '"side \\"seam\\" #1"' in text
+    assert '"left front\u2028\x85 two\\nthree\\r"' in text and '"side \\"seam\\" #1"' in text
     assert parse_commands(text) == cl
 
 
@@ -207,3 +207,37 @@ def test_write_and_read_file(tmp_path):
     assert read_commands(path) == cl
     with pytest.raises(CommandSyntaxError, match="cannot read"):
         read_commands(tmp_path / "missing.cmd")
+
+
+# property test: any command list (names with any characters, any finite numbers) survives the
+# text round trip exactly (hypothesis, derandomized by the suite's profile)
+from hypothesis import given  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+_names = st.text(st.characters(blacklist_categories=("Cs",)), min_size=1, max_size=12)
+_finite = st.floats(allow_nan=False, allow_infinity=False, min_value=-1e6, max_value=1e6)
+_dist = st.floats(min_value=0.0, max_value=1e6, allow_nan=False)
+
+
+@st.composite
+def _command_lists(draw):
+    cmds = []
+    for _ in range(draw(st.integers(0, 6))):
+        kind = draw(st.sampled_from(["turn", "go", "cross"]))
+        if kind == "turn":
+            cmds.append(Turn(draw(_finite)))
+        elif kind == "go":
+            cmds.append(Go(draw(_dist)))
+        else:
+            go = draw(_dist)
+            cmds.append(Cross(draw(_names), draw(st.floats(0.0, go)) if go > 0 else 0.0,
+                              draw(st.floats(0.0, 90.0)), draw(st.sampled_from(["left", "right", "both"])),
+                              draw(_dist)))
+            cmds.append(Go(go))
+    start = draw(st.none() | st.builds(Start, _names, _finite, _finite, _finite))
+    return CommandList(tuple(cmds), side=draw(st.sampled_from(["outside", "inside"])), start=start)
+
+
+@given(_command_lists())
+def test_any_command_list_round_trips_exactly(cl):
+    assert parse_commands(format_commands(cl)) == cl

@@ -278,6 +278,7 @@ def _notice(seam: str, at_mm: float, heading: float, tangent: np.ndarray, robot:
 
 _NAME_RE = re.compile(r"[A-Za-z0-9_.:/+\-]+")
 _NUMBER_RE = re.compile(r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?")
+_UNESCAPE = {"n": "\n", "r": "\r"}
 _TOKEN_RE = re.compile(r'\s*(?:(#.*)|("(?:[^"\\]|\\.)*")|([^\s"#]+))')
 
 
@@ -296,7 +297,8 @@ def _num(value: float, signed: bool = False) -> str:
 def _name(name: str) -> str:
     if _NAME_RE.fullmatch(name) and not _NUMBER_RE.fullmatch(name):
         return name
-    return '"' + name.replace("\\", "\\\\").replace('"', '\\"') + '"'
+    escaped = name.replace("\\", "\\\\").replace('"', '\\"').replace("\n", "\\n").replace("\r", "\\r")
+    return '"' + escaped + '"'
 
 
 def format_commands(commands: CommandList, comment: str | None = None) -> str:
@@ -343,7 +345,8 @@ def _tokens(line: str, where: str) -> list[str]:
             break
         if m.group(2) is not None:
             raw = m.group(2)[1:-1]
-            out.append("\x00" + re.sub(r"\\(.)", r"\1", raw))  # \x00 marks a quoted name
+            text = re.sub(r"\\(.)", lambda m: _UNESCAPE.get(m.group(1), m.group(1)), raw)
+            out.append("\x00" + text)  # \x00 marks a quoted name
         elif m.group(3) is not None:
             out.append(m.group(3))
     return out
@@ -404,7 +407,9 @@ def parse_commands(text: str, source: str = "<string>") -> CommandList:
     start: Start | None = None
     seen_header = seen_side = False
     pending: list[tuple[int, Cross]] = []
-    for lineno, line in enumerate(text.splitlines(), start=1):
+    # lines end at \n (and \r\n) only: other Unicode line breaks may sit inside quoted names
+    for lineno, line in enumerate(text.split("\n"), start=1):
+        line = line.removesuffix("\r")
         where = f"{source}:{lineno}"
         toks = _tokens(line, where)
         if not toks:
