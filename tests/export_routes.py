@@ -13,22 +13,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from garnav import Edge, Garment, KeepOut, Landmark, Piece, Placement, Rectangle, Robot, Seam, SeamRun
+from garments import rect_piece
+from garnav import Garment, KeepOut, Landmark, Placement, Rectangle, Robot, Seam, SeamRun
 from garnav.model import Circle
 from garnav.plan.route import Crossing, Leg, Route
-
-
-def _rect(name, w, h, placement=Placement()):
-    return Piece(
-        name,
-        (
-            Edge("bottom", ((0.0, 0.0), (w, 0.0))),
-            Edge("right", ((w, 0.0), (w, h))),
-            Edge("top", ((w, h), (0.0, h))),
-            Edge("left", ((0.0, h), (0.0, 0.0))),
-        ),
-        placement=placement,
-    )
 
 
 def turned_panels() -> Garment:
@@ -38,8 +26,8 @@ def turned_panels() -> Garment:
     Fraction f meets a(300, 400 f) and b(300 − 300 f, 0): the runs differ in length (ease), and
     the piece frames differ by +90° there (a's tangent +y, b's tangent −x).
     """
-    a = _rect("a", 300.0, 400.0, Placement(10.0, 10.0))
-    b = _rect("b", 300.0, 250.0, Placement(330.0, 10.0))
+    a = rect_piece("a", 300.0, 400.0, Placement(10.0, 10.0))
+    b = rect_piece("b", 300.0, 250.0, Placement(330.0, 10.0))
     seam = Seam("join", SeamRun("a", "right"), SeamRun("b", "bottom", reverse=True), crossing_cost_mm=5.0)
     return Garment(
         "turned_panels",
