@@ -148,3 +148,35 @@ def test_touching_or_running_along_a_seam_does_not_cross():
     route = er.build_route(legs, [])
     rep = assert_replay_matches(route, g)
     assert rep.crossings == () and {p.piece for p in rep.poses} == {"left"}
+
+
+def _three_panels():
+    """'l' and 'r' (300 × 400) side by side under 't' (600 × 200); all three meet at one corner:
+    l(300, 400) = r(0, 400) = t(300, 0). Seams: l.right–r.left, l.top–t.bottom[0, 300],
+    r.top–t.bottom[300, 600], each run pair given in one direction of travel."""
+    from garnav import Garment, Placement, Robot, Seam, SeamRun
+
+    pieces = (
+        garments.rect_piece("l", 300, 400, Placement(10, 10)),
+        garments.rect_piece("r", 300, 400, Placement(320, 10)),
+        garments.rect_piece("t", 600, 200, Placement(10, 420)),
+    )
+    seams = (
+        Seam("middle", SeamRun("l", "right"), SeamRun("r", "left", reverse=True)),
+        Seam("top_left", SeamRun("l", "top"), SeamRun("t", "bottom", 0.0, 300.0, reverse=True)),
+        Seam("top_right", SeamRun("r", "top"), SeamRun("t", "bottom", 300.0, 600.0, reverse=True)),
+    )
+    return Garment("three", pieces, seams=seams, robot=Robot(radius_mm=5.0), sheet_size_mm=(620.0, 630.0))
+
+
+def test_crossings_chained_at_a_corner_where_three_pieces_meet():
+    # l → r at the corner (fraction 1 of 'middle'), a stub on r, then r → t (fraction 1 of
+    # 'top_right'): all tangents there point the same way in the three frames (by hand: +y, +y;
+    # -x, -x), so the heading is carried unchanged and t continues at (300, 0)
+    g = _three_panels()
+    legs = [("l", np.array([[100.0, 200.0], [300.0, 400.0]])), ("r", np.array([[0.0, 400.0], [0.0, 400.0]])),
+            ("t", np.array([[300.0, 0.0], [450.0, 100.0]]))]
+    route = er.build_route(legs, [("middle", 1.0, 45.0), ("top_right", 1.0, 45.0)])
+    rep = assert_replay_matches(route, g)
+    assert [(c.from_piece, c.to_piece) for c in rep.crossings] == [("l", "r"), ("r", "t")]
+    assert rep.end.heading_deg == pytest.approx(math.degrees(math.atan2(100.0, 150.0)))
