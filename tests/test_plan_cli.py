@@ -45,8 +45,8 @@ def test_cli_route_writes_json_and_csv(tmp_path, capsys):
     text = capsys.readouterr().out
     assert "length" in text and "seams crossed  1 (middle)" in text
     data = json.loads(out_json.read_text())
-    assert data["length_mm"] == pytest.approx(plan_route(garments.two_panels(), "left_centre", "right:250,300").length_mm)
-    assert {"piece", "x", "y", "heading_deg"} <= set(data["waypoints"][0])
+    assert data["summary"]["pattern_length_mm"] == pytest.approx(plan_route(garments.two_panels(), "left_centre", "right:250,300").length_mm)
+    assert {"piece", "x_mm", "y_mm", "heading_deg"} <= set(data["waypoints"][0])
     rows = list(csv.DictReader(out_csv.open()))
     assert len(rows) == len(data["waypoints"])
 
@@ -126,3 +126,24 @@ def test_unreachable_piece_when_a_keepout_lines_the_seam():
     with pytest.raises(NoRouteError, match="piece 'right' is unreachable: seam 'middle' has no place where the robot "
                        r"\(radius 10 mm\) fits on both sides and no other seam joins it"):
         plan_route(g, "left_centre", "right_centre")
+
+
+def test_cli_snap_says_where_the_point_went(tmp_path, capsys):
+    spec = tmp_path / "g.toml"
+    save_garment(_walled_panel(), spec)
+    assert main(["route", str(spec), "--from", "panel:145,400", "--to", "panel:300,600", "--snap"]) == 0
+    out = capsys.readouterr().out
+    # 30.11 mm above or below the bar's centre line (tie): see test_snap_moves_start_to_nearest_free_point
+    assert any(f"note: panel:145,400 moved to the nearest free point panel:145.0,{y}" in out for y in ("430.1", "369.9"))
+
+
+def test_unreachable_piece_behind_a_wall_on_the_start_piece():
+    """The seam is free only at its top; a bar walls the start off from it."""
+    g = garments.two_panels()
+    kos = (
+        KeepOut("bar", "left", "zip", Rectangle(150.0, 250.0, 300.0, 10.0), clearance_mm=1.0),
+        KeepOut("strip", "left", "zip", Rectangle(295.0, 125.0, 10.0, 250.0), clearance_mm=1.0),
+    )
+    g = dataclasses.replace(g, keepouts=kos)
+    with pytest.raises(NoRouteError, match="seam 'middle' is crossable only from a part of piece 'left' that the start cannot reach"):
+        plan_route(g, "left:150,100", "right_centre")

@@ -78,3 +78,16 @@ def test_seam_edges_are_not_shrunk(two_panels):
     region = free["left"].region
     assert region.covers(shapely.Point(300.0 - 1e-9, 200.0))
     assert not region.covers(shapely.Point(150.0, 400.0 - 11.0))
+
+
+def test_soft_zone_is_carried_across_a_seam():
+    """A costly soft disc on the right piece touching the seam: the route from the left goes round
+    it on both sides of the seam (in the unfolded frame it keeps out of the grown disc)."""
+    g = garments.two_panels()
+    zone = KeepOut("print", "right", "print", Circle(5.0, 200.0, 30.0), hard=False, cost_factor=5.0)
+    planner = Planner(dataclasses.replace(g, keepouts=(zone,)))
+    assert any(z.carried for z in planner.free["left"].soft)
+    route = planner.route("left:150,200", "right:150,200")
+    assert route.cost == pytest.approx(route.length_mm, abs=1e-6)  # nothing inside the zone
+    unfolded = shapely.LineString(np.vstack([route.legs[0].points, route.legs[1].points + [300.0, 0.0]]))
+    assert unfolded.distance(shapely.Point(305.0, 200.0)) >= 30.0 + g.robot.radius_mm - 1e-6

@@ -17,6 +17,7 @@ from hypothesis import strategies as st
 
 import garments
 from garnav import Circle, KeepOut, PolygonShape, Rectangle
+from garnav.errors import NoRouteError
 from garnav.plan import PiecePoint, Planner
 from plan_courses import random_free_points
 
@@ -116,3 +117,58 @@ def test_demo_routes_keep_their_distances():
             for opening in g.piece(leg.piece).openings:
                 ring = shapely.LinearRing(opening.array)
                 assert ring.distance(line) >= r.radius_mm + r.edge_margin_mm - TOL, opening.name
+
+
+@st.composite
+def seam_scenario(draw):
+    """Keep-outs near the seam of two_panels, given in the unfolded frame (right piece at +300)."""
+    kos = []
+    for i in range(draw(st.integers(1, 3))):
+        x = draw(st.floats(240.0, 360.0))
+        y = draw(st.floats(80.0, 320.0))
+        size = draw(st.floats(4.0, 40.0))
+        clearance = draw(st.floats(0.0, 6.0))
+        if draw(st.booleans()):
+            shape = Circle(x, y, size / 2)
+        else:
+            shape = Rectangle(x, y, size, draw(st.floats(4.0, 40.0)), draw(st.floats(0.0, 180.0)))
+        kos.append((shape, clearance))
+    start = (draw(st.floats(40.0, 280.0)), draw(st.floats(40.0, 360.0)))
+    goal = (draw(st.floats(320.0, 560.0)), draw(st.floats(40.0, 360.0)))
+    return kos, start, goal
+
+
+@settings(max_examples=100, derandomize=True, deadline=None, suppress_health_check=[HealthCheck.too_slow, HealthCheck.filter_too_much])
+@given(seam_scenario())
+def test_route_across_seam_is_safe(case):
+    """Across a seam the route keeps its distance from keep-outs on BOTH pieces, measured in the
+    unfolded plane against the exact shapes (a keep-out must lie on one piece: those straddling
+    the seam are skipped)."""
+    shapes, start, goal = case
+    base = garments.two_panels()
+    seam_line = shapely.LineString([(300.0, 0.0), (300.0, 400.0)])
+    kos = []
+    for i, (shape, clearance) in enumerate(shapes):
+        geom = shape.exact_geometry() if not isinstance(shape, Circle) else shapely.Point(shape.cx, shape.cy).buffer(shape.radius, 64)
+        assume(not geom.intersects(seam_line))
+        piece, dx = ("left", 0.0) if shape.cx < 300.0 else ("right", -300.0)
+        local = dataclasses.replace(shape, cx=shape.cx + dx)
+        kos.append(KeepOut(f"k{i}", piece, "custom", local, clearance_mm=clearance))
+    g = dataclasses.replace(base, keepouts=tuple(kos))
+    planner = Planner(g)
+    s = np.array(start)
+    t = np.array(goal) - [300.0, 0.0]
+    assume(planner.free["left"].covers(s[None])[0] and planner.free["right"].covers(t[None])[0])
+    try:
+        route = planner.route(PiecePoint("left", *s), PiecePoint("right", *t))
+    except NoRouteError:
+        return
+    shift = {"left": 0.0, "right": 300.0}
+    parts = [leg.points + [shift[leg.piece], 0.0] for leg in route.legs]
+    line = shapely.LineString(np.vstack(parts))
+    for (shape, clearance), ko in zip(shapes, kos):
+        if isinstance(shape, Circle):
+            d = line.distance(shapely.Point(shape.cx, shape.cy)) - shape.radius
+        else:
+            d = line.distance(shape.exact_geometry())
+        assert d >= base.robot.radius_mm + clearance - TOL, ko.name

@@ -23,6 +23,14 @@ def register(subparsers: argparse._SubParsersAction) -> None:
         "seams with their ease, open edges, keep-outs, landmarks and the robot.",
     )
     parser.add_argument("garment", metavar="GARMENT", help="garment spec file (.toml)")
+    parser.add_argument(
+        "--drape",
+        metavar="MESH",
+        nargs="?",
+        const="",
+        help="also link a UV-mapped drape mesh (default: the spec's drape) and report coverage, "
+        "stretch and seam closure",
+    )
     parser.set_defaults(func=run)
 
 
@@ -34,7 +42,17 @@ def run(args: argparse.Namespace) -> int:
     if notes:
         print()
         print("\n".join(notes))
+    if getattr(args, "drape", None) is not None:
+        print()
+        print(drape_text(garment, args.drape, Path(args.garment).parent))
     return 0
+
+
+def drape_text(garment, mesh: str, folder: Path) -> str:
+    """The drape report of ``mesh`` (or, when empty, of the spec's own drape) for ``garment``."""
+    from garnav.drape import drape_report, load_drape
+
+    return drape_report(garment, load_drape(garment, mesh, str(folder))).text()
 
 
 def mesh_notes(garment, folder: Path) -> list[str]:

@@ -1,25 +1,27 @@
 """``garnav route GARMENT --from POINT --to POINT``: plan a route and print a short summary.
 
 Points are landmark names, ``PIECE:X,Y`` (pattern mm) or ``xyz:X,Y,Z`` (world mm; needs a drape).
-``--json`` writes the route (length, cost, seams, waypoints with headings); ``--csv`` writes the
-waypoints one per line. Both are written atomically.
+``--json`` writes the route document (``garnav-route``, docs/route-format.md; with world positions,
+orientations and the 3D path when ``--drape`` lifts the route), ``--csv`` its waypoint table and
+``--commands`` the robot's turn-and-go commands (docs/commands.md). All are written atomically.
 """
 
 from __future__ import annotations
 
 import argparse
-import csv
 import dataclasses
-import io
-import json
+from pathlib import Path
 
-from garnav.atomic import write_text_atomic
+from garnav.drape.inverse import pattern_locator
+from garnav.drape.lift import lift_route
+from garnav.drape.sources import garment_and_drape, spec_drape_locator
 from garnav.errors import QueryError
+from garnav.export.commands import route_commands, write_commands
+from garnav.export.waypoints import route_document, write_route_csv, write_route_json
 from garnav.model import Robot
-from garnav.plan import PLANNER_VERSION, Planner, Route
-from garnav.spec import load_garment
+from garnav.plan import Planner, Route
 
-__all__ = ["register", "run", "route_summary", "route_to_json", "route_to_csv"]
+__all__ = ["register", "run", "route_summary"]
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:
@@ -30,20 +32,38 @@ def register(subparsers: argparse._SubParsersAction) -> None:
         "keep-outs and across seams, and print its length, seams crossed, turns and driving time. "
         "POINT is a landmark name, PIECE:X,Y (pattern mm) or xyz:X,Y,Z (world mm, needs a drape).",
     )
-    parser.add_argument("garment", metavar="GARMENT", help="garment spec file (.toml)")
+    parser.add_argument(
+        "garment",
+        metavar="GARMENT",
+        help="garment spec file (.toml), or a UV-mapped mesh (.obj, .gltf, .glb, .ply) whose UV "
+        "islands become the pieces",
+    )
     parser.add_argument("--from", dest="start", required=True, metavar="POINT", help="start point")
     parser.add_argument("--to", dest="goal", required=True, metavar="POINT", help="goal point")
     parser.add_argument("--via", action="append", default=[], metavar="POINT", help="pass through this point (repeatable, in order)")
     parser.add_argument("--radius", type=float, metavar="MM", help="robot radius in mm (default: the spec's robot)")
     parser.add_argument("--clearance", type=float, default=0.0, metavar="MM", help="extra clearance added to every keep-out, mm")
     parser.add_argument("--snap", action="store_true", help="move points the robot cannot stand on to the nearest free point")
-    parser.add_argument("--json", metavar="FILE", help="write the route as JSON")
+    parser.add_argument(
+        "--drape",
+        metavar="MESH",
+        nargs="?",
+        const="",
+        help="lift the route onto a UV-mapped drape mesh (default: the spec's drape) and print its "
+        "3D length and climb",
+    )
+    parser.add_argument("--json", metavar="FILE", help="write the route document as JSON (docs/route-format.md)")
     parser.add_argument("--csv", metavar="FILE", help="write the waypoints as CSV")
+    parser.add_argument("--commands", metavar="FILE", help="write the robot commands as text (docs/commands.md)")
     parser.set_defaults(func=run)
 
 
 def run(args: argparse.Namespace) -> int:
-    garment = load_garment(args.garment)
+    garment, drape = garment_and_drape(args.garment, getattr(args, "drape", None))
+    if drape is not None:
+        locate = pattern_locator(drape, garment)
+    else:
+        locate = spec_drape_locator(garment, Path(args.garment).parent)
     robot = garment.robot or Robot()
     if args.radius is not None:
         if not args.radius > 0:
@@ -51,13 +71,27 @@ def run(args: argparse.Namespace) -> int:
         robot = dataclasses.replace(robot, radius_mm=float(args.radius))
     if not args.clearance >= 0:
         raise QueryError(f"--clearance must be zero or more mm, got {args.clearance:g}")
-    planner = Planner(garment, robot, extra_clearance_mm=args.clearance)
-    route = planner.route(args.start, args.goal, via=args.via, snap=args.snap)
+    planner = Planner(garment, robot, extra_clearance_mm=args.clearance, locate_3d=locate)
+    texts = [args.start, *args.via, args.goal]
+    roles = ["start"] + ["via point"] * len(args.via) + ["goal"]
+    stops = [planner.point(t, snap=args.snap, role=r) for t, r in zip(texts, roles)]
+    route = planner.route(stops[0], stops[-1], via=stops[1:-1])
     print(route_summary(route, args.start, args.goal))
-    if args.json:
-        write_text_atomic(args.json, route_to_json(route, garment.name, robot))
-    if args.csv:
-        write_text_atomic(args.csv, route_to_csv(route))
+    for text, pp in zip(texts, stops):
+        if pp.label.endswith("(snapped)"):
+            print(f"note: {text} moved to the nearest free point {pp.piece}:{pp.x:.1f},{pp.y:.1f}")
+    lifted = lift_route(drape, garment, route) if drape is not None else None
+    if lifted is not None:
+        print("\n".join(lifted.lines()))
+    if args.json or args.csv:
+        doc = route_document(route, garment, robot, lifted)
+        if args.json:
+            write_route_json(args.json, doc)
+        if args.csv:
+            write_route_csv(args.csv, doc)
+    if args.commands:
+        comment = f"{args.start} to {args.goal} on garment '{garment.name}', robot '{robot.name}'"
+        write_commands(args.commands, route_commands(route, garment, robot), comment=comment)
     return 0
 
 
@@ -75,44 +109,3 @@ def route_summary(route: Route, start: str, goal: str) -> str:
     ]
     width = max(len(k) for k, _ in rows)
     return "\n".join(f"{k:<{width}}  {v}" for k, v in rows)
-
-
-def route_to_json(route: Route, garment_name: str, robot: Robot) -> str:
-    """The route as JSON text: lengths in mm, angles in degrees, points in piece frames."""
-    data = {
-        "format": "garnav-route",
-        "version": 1,
-        "planner_version": PLANNER_VERSION,
-        "garment": garment_name,
-        "robot": {"name": robot.name, "radius_mm": robot.radius_mm, "speed_mm_s": robot.speed_mm_s},
-        "length_mm": route.length_mm,
-        "cost": route.cost,
-        "time_s": route.time_s,
-        "turns_deg": [float(t) for t in route.turns_deg],
-        "crossings": [
-            {
-                "seam": c.seam,
-                "from_piece": c.from_piece,
-                "to_piece": c.to_piece,
-                "fraction": c.fraction,
-                "angle_deg": c.angle_deg,
-                "point_from": [float(v) for v in c.point_from],
-                "point_to": [float(v) for v in c.point_to],
-            }
-            for c in route.crossings
-        ],
-        "waypoints": [
-            {"piece": p, "x": x, "y": y, "heading_deg": h} for p, x, y, h in route.waypoints()
-        ],
-    }
-    return json.dumps(data, indent=2) + "\n"
-
-
-def route_to_csv(route: Route) -> str:
-    """Waypoints as CSV: piece, x_mm, y_mm, heading_deg."""
-    buf = io.StringIO()
-    writer = csv.writer(buf, lineterminator="\n")
-    writer.writerow(["piece", "x_mm", "y_mm", "heading_deg"])
-    for p, x, y, h in route.waypoints():
-        writer.writerow([p, f"{x:.6f}", f"{y:.6f}", f"{h:.6f}"])
-    return buf.getvalue()

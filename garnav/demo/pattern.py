@@ -495,7 +495,8 @@ def _keepouts(dims: DemoDimensions, width: float) -> tuple[KeepOut, ...]:
             Rectangle(mid + towards_left * 100.0, 400.0, 100.0, 120.0),
             5.0,
         ),
-        KeepOut("placket", "front", "buttonhole", Rectangle(mid, height - 150.0, 30.0, 300.0), 3.0),
+        # The top button sits 50 mm below the yoke seam, so the neck base stays reachable.
+        KeepOut("placket", "front", "buttonhole", Rectangle(mid, height - 175.0, 30.0, 250.0), 3.0),
         KeepOut("neck_label", "back", "label", Rectangle(mid, height - 25.0, 50.0, 25.0), 3.0),
         KeepOut(
             "back_print",

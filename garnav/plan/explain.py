@@ -28,7 +28,7 @@ def check_free(free: FreeSpace, pp: PiecePoint, *, snap: bool = False, role: str
     if snap and near is not None:
         step = near - pp.xy
         unit = step / max(np.linalg.norm(step), 1e-300)
-        for k in range(12):  # the boundary point itself may miss by rounding: nudge inwards
+        for k in range(8):  # the boundary point may miss by rounding: nudge inwards, at most 0.01 mm
             q = near + unit * (1e-9 * 10**k if k else 0.0)
             if fs.covers(q[None])[0]:
                 return PiecePoint(pp.piece, float(q[0]), float(q[1]), label=f"{pp.label or role} (snapped)")
@@ -100,7 +100,7 @@ def explain_no_route(planner, start: PiecePoint, goals) -> str:
         )
     reachable_pieces = {p for (p, k), i in ids.items() if find(i) == s_root}
     if goal.piece not in reachable_pieces:
-        return f"piece '{goal.piece}' is unreachable: " + _seam_reasons(planner, goal.piece)
+        return f"piece '{goal.piece}' is unreachable: " + _seam_reasons(planner, goal.piece, reachable_pieces)
     # the goal's piece is reachable, but not the goal's part of it
     reach = [k for k in range(len(comps[goal.piece])) if find(ids[(goal.piece, k)]) == s_root]
     pgoal = shapely.Point(*goal.xy)
@@ -110,7 +110,7 @@ def explain_no_route(planner, start: PiecePoint, goals) -> str:
     )
 
 
-def _seam_reasons(planner, piece: str) -> str:
+def _seam_reasons(planner, piece: str, reachable_pieces: set[str]) -> str:
     garment = planner.garment
     ng = planner.nav
     seams = [s for s in sorted(garment.seams, key=lambda s: s.name) if piece in (s.a.piece, s.b.piece) and s.a.piece != s.b.piece]
@@ -125,7 +125,10 @@ def _seam_reasons(planner, piece: str) -> str:
             reasons.append(f"seam '{s.name}' has no place where the robot (radius {r.radius_mm:g} mm) fits on both sides")
         else:
             other = s.b.piece if s.a.piece == piece else s.a.piece
-            reasons.append(f"seam '{s.name}' leads only to piece '{other}', which cannot be reached from the start either")
+            if other in reachable_pieces:
+                reasons.append(f"seam '{s.name}' is crossable only from a part of piece '{other}' that the start cannot reach")
+            else:
+                reasons.append(f"seam '{s.name}' leads to piece '{other}', which cannot be reached from the start either")
     if len(reasons) == 1:
         return reasons[0] + " and no other seam joins it"
     return "; ".join(reasons)

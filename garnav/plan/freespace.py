@@ -42,12 +42,12 @@ partner's side of the seam lands outside A). The carried shape is clipped to a b
 width around A's run. Not handled: (1) on curved seams the rigid motion is exact only at that
 nearest point, so the carried shape is a first-order picture of the fabric beyond the seam;
 (2) ease (runs of different length) is ignored when carrying; (3) obstacles are carried over one
-seam only, not over two seams meeting at a corner; (4) soft zones are not carried: the part of a
-partner's grown soft zone that reaches across a seam costs nothing.
+seam only, not over two seams meeting at a corner. Soft zones are carried the same way.
 """
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass
 
@@ -144,11 +144,15 @@ class Obstacle:
 
 @dataclass(frozen=True)
 class SoftZone:
-    """A soft keep-out grown like a hard one: length driven inside costs ``cost_factor`` times."""
+    """A soft keep-out grown like a hard one: length driven inside costs ``cost_factor`` times.
+    ``raw`` is the exact shape, ``need_mm`` the growth distance; ``carried`` as for Obstacle."""
 
     name: str
     grown: shapely.Geometry
     cost_factor: float
+    raw: shapely.Geometry | None = None
+    need_mm: float = 0.0
+    carried: bool = False
 
 
 @dataclass(frozen=True)
@@ -288,38 +292,32 @@ def _own_obstacles(
                 Obstacle(f"keep-out '{ko.name}'", ko.shape.exact_geometry(), grown, need, ko.name)
             )
         else:
-            soft.append(SoftZone(ko.name, grown, float(ko.cost_factor)))
+            soft.append(SoftZone(ko.name, grown, float(ko.cost_factor), ko.shape.exact_geometry(), need))
     return obstacles, soft
 
 
-def _carried_obstacles(
-    garment: Garment, own: dict[str, list[Obstacle]], quad_segs: int
-) -> dict[str, list[Obstacle]]:
-    carried: dict[str, list[Obstacle]] = {p.name: [] for p in garment.pieces}
+def _carried(garment: Garment, own: dict[str, list], quad_segs: int) -> dict[str, list]:
+    """Obstacles (or soft zones) of partner pieces that reach a seam, carried across it into each
+    piece's frame and clipped to the band of their growth width along the seam."""
+    carried: dict[str, list] = {p.name: [] for p in garment.pieces}
     for seam in sorted(garment.seams, key=lambda s: s.name):
         for side in ("a", "b"):
             this, other = (seam.a, seam.b) if side == "a" else (seam.b, seam.a)
             other_line = shapely.LineString(garment.run_polyline(other))
             this_line = shapely.LineString(garment.run_polyline(this))
-            for ob in own[other.piece]:
-                if not ob.grown.intersects(other_line):
+            for item in own[other.piece]:
+                if not item.grown.intersects(other_line):
                     continue
-                t = _run_fraction_nearest(garment, other, ob.raw)
+                t = _run_fraction_nearest(garment, other, item.raw)
                 mat = seam_transform(garment, seam, side, t)
-                band = grow(this_line, ob.need_mm, quad_segs)
-                grown = _apply(ob.grown, mat).intersection(band)
+                grown = _apply(item.grown, mat).intersection(grow(this_line, item.need_mm, quad_segs))
+                grown = _polygonal(grown)
                 if grown.is_empty:
                     continue
-                carried[this.piece].append(
-                    Obstacle(
-                        f"{ob.label} across seam '{seam.name}'",
-                        _apply(ob.raw, mat),
-                        grown,
-                        ob.need_mm,
-                        ob.name,
-                        carried=True,
-                    )
-                )
+                changes = {"raw": _apply(item.raw, mat), "grown": grown, "carried": True}
+                if isinstance(item, Obstacle):
+                    changes["label"] = f"{item.label} across seam '{seam.name}'"
+                carried[this.piece].append(dataclasses.replace(item, **changes))
     return carried
 
 
@@ -352,7 +350,8 @@ def build_free_space(
     soft: dict[str, list[SoftZone]] = {}
     for p in garment.pieces:
         own[p.name], soft[p.name] = _own_obstacles(garment, p.name, robot, quad_segs, extra_clearance_mm)
-    carried = _carried_obstacles(garment, own, quad_segs)
+    carried = _carried(garment, own, quad_segs)
+    carried_soft = _carried(garment, soft, quad_segs)
     out: dict[str, PieceFreeSpace] = {}
     for p in garment.pieces:
         obstacles = tuple(own[p.name] + carried[p.name])
@@ -361,7 +360,7 @@ def build_free_space(
         region = shapely.make_valid(region) if not region.is_valid else region
         region = _polygonal(region)
         shapely.prepare(region)
-        out[p.name] = PieceFreeSpace(p.name, region, obstacles, tuple(soft[p.name]))
+        out[p.name] = PieceFreeSpace(p.name, region, obstacles, tuple(soft[p.name] + carried_soft[p.name]))
     return FreeSpace(out, robot, int(quad_segs), float(extra_clearance_mm))
 
 

@@ -61,10 +61,13 @@ def edge_costs(fs: PieceFreeSpace, a: np.ndarray, b: np.ndarray) -> tuple[np.nda
     if fs.soft and len(a):
         segs = shapely.linestrings(np.stack([a, b], axis=1))
         for zone in fs.soft:
+            hit = np.nonzero(shapely.intersects(segs, zone.grown))[0]
+            if not len(hit):
+                continue
             # driving along the zone's edge is outside it: count the interior only
-            inside = shapely.length(shapely.intersection(segs, zone.grown))
-            inside -= shapely.length(shapely.intersection(segs, zone.grown.boundary))
-            cost += (zone.cost_factor - 1.0) * np.maximum(inside, 0.0)
+            inside = shapely.length(shapely.intersection(segs[hit], zone.grown))
+            inside -= shapely.length(shapely.intersection(segs[hit], zone.grown.boundary))
+            cost[hit] += (zone.cost_factor - 1.0) * np.maximum(inside, 0.0)
     return length, cost
 
 

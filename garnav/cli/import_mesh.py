@@ -1,0 +1,73 @@
+"""``garnav import MESH -o SPEC.toml``: derive a garment spec from a UV-mapped drape mesh."""
+
+from __future__ import annotations
+
+import os
+from pathlib import Path
+
+from garnav.drape.import_mesh import garment_from_mesh
+from garnav.drape.meshio import load_uv_mesh
+from garnav.errors import QueryError
+
+__all__ = ["register", "run", "parse_uv_scale"]
+
+
+def register(subparsers) -> None:
+    p = subparsers.add_parser(
+        "import",
+        help="derive pieces, seams and open edges from a UV-mapped mesh and write a garment spec",
+        description=(
+            "Each UV island becomes a piece (outline = island boundary, mm); boundary edges that "
+            "meet in 3D become seams, the others open edges. UV = sheet position / sheet size."
+        ),
+    )
+    p.add_argument("mesh", help="UV-mapped triangle mesh (.obj, .gltf, .glb, .ply), mm")
+    p.add_argument(
+        "--uv-scale",
+        metavar="MM",
+        help="sheet size in mm: one number for a square sheet or W,H; "
+        "default: fitted so UV edges are as long as 3D edges",
+    )
+    p.add_argument("-o", "--output", required=True, metavar="SPEC.toml", help="spec file to write")
+    p.add_argument("--name", help="garment name (default: the mesh file's stem)")
+    p.set_defaults(func=run)
+
+
+def parse_uv_scale(text: str | None) -> tuple[float, float] | None:
+    """``"1200"`` → (1200, 1200); ``"1600,1200"`` → (1600, 1200); None → None (fit)."""
+    if text is None:
+        return None
+    parts = [t.strip() for t in text.split(",")]
+    try:
+        vals = [float(t) for t in parts]
+    except ValueError:
+        raise QueryError(f"--uv-scale: expected MM or W,H in mm, got '{text}'") from None
+    if len(vals) == 1:
+        vals = vals * 2
+    if len(vals) != 2 or not all(v > 0 and v < float("inf") for v in vals):
+        raise QueryError(f"--uv-scale: expected one or two positive numbers (mm), got '{text}'")
+    return vals[0], vals[1]
+
+
+def run(args) -> int:
+    from garnav.spec import save_garment
+
+    scale = parse_uv_scale(args.uv_scale)
+    mesh = load_uv_mesh(args.mesh)
+    out = Path(args.output)
+    drape = os.path.relpath(Path(args.mesh).resolve(), out.resolve().parent)
+    garment = garment_from_mesh(
+        mesh,
+        sheet_size_mm=scale,
+        name=args.name or Path(args.mesh).stem,
+        drape=Path(drape).as_posix(),
+    )
+    save_garment(garment, out)
+    w, h = garment.sheet_size_mm
+    print(
+        f"{out}: {len(garment.pieces)} pieces, {len(garment.seams)} seams, "
+        f"{len(garment.open_runs())} open edges; sheet {w:.1f} × {h:.1f} mm"
+    )
+    for note in mesh.notes:
+        print(f"  note: {note}")
+    return 0

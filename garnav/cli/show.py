@@ -1,0 +1,117 @@
+"""``garnav show``: look at a garment and its routes in 3D (window or off-screen PNG).
+
+    garnav show GARMENT [ROUTE.json ...] [--screenshot PNG] [--size W H] [--sheet FILE]
+
+The window shows the mannequin (the spec's ``body`` mesh), the draped garment (the spec's ``drape``
+mesh) coloured by piece, seams, open edges, keep-outs, landmarks and each route. ``--screenshot``
+renders off-screen to a PNG instead of opening a window. ``--sheet`` also writes the flat pattern
+sheet (``.svg`` or ``.png``) with the same routes.
+"""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+
+from garnav.errors import MeshError, QueryError
+
+__all__ = ["register", "run"]
+
+
+def register(subparsers) -> None:
+    parser = subparsers.add_parser(
+        "show",
+        help="show a garment and routes in 3D, or render them to a PNG",
+        description="Show the mannequin, the draped garment and routes in a 3D window, "
+        "or render them off-screen with --screenshot.",
+    )
+    parser.add_argument("garment", help="garment spec file (.toml), or a UV-mapped mesh whose UV islands are the pieces")
+    parser.add_argument("routes", nargs="*", metavar="ROUTE.json", help="route files written by 'garnav route --json'")
+    parser.add_argument("--screenshot", metavar="PNG", help="render off-screen to this PNG file instead of opening a window")
+    parser.add_argument("--size", nargs=2, type=int, metavar=("W", "H"), default=(1200, 900),
+                        help="window or image size in pixels (default 1200 900)")
+    parser.add_argument("--sheet", metavar="FILE", help="also write the flat pattern sheet (.svg or .png)")
+    parser.set_defaults(func=run)
+
+
+def _load_body(path: Path):
+    import numpy as np
+    import trimesh
+
+    if not path.is_file():
+        raise MeshError(f"{path}: body mesh not found")
+    try:
+        mesh = trimesh.load(path, force="mesh", process=False)
+    except Exception as exc:  # trimesh raises many kinds on bad files
+        raise MeshError(f"{path}: cannot read the body mesh: {exc}") from None
+    if len(mesh.faces) == 0:
+        raise MeshError(f"{path}: the body mesh has no triangles")
+    return np.asarray(mesh.vertices, dtype=float), np.asarray(mesh.faces, dtype=np.int64)
+
+
+def run(args: argparse.Namespace) -> int:
+    from garnav.export.waypoints import read_route_document
+    from garnav.preview.scene import SceneRoute, build_plotter, off_screen_environment, route_polyline, write_screenshot
+    from garnav.drape.drape import load_drape
+    from garnav.drape.sources import garment_and_drape
+
+    w, h = args.size
+    if w < 16 or h < 16 or w > 8192 or h > 8192:
+        raise QueryError(f"--size {w} {h}: width and height must be 16..8192 pixels")
+    if args.sheet and Path(args.sheet).suffix.lower() not in (".svg", ".png"):
+        raise QueryError(f"--sheet {args.sheet}: use a .svg or .png file name")
+    spec_path = Path(args.garment)
+    garment, drape = garment_and_drape(spec_path)  # a mesh file brings its drape along
+    docs = []
+    for name in args.routes:
+        doc = read_route_document(name)
+        planned_on = doc["garment"]["name"]
+        if planned_on != garment.name:
+            raise QueryError(f"{name}: the route was planned on garment '{planned_on}', not '{garment.name}'")
+        docs.append((name, doc))
+
+    if args.sheet:
+        _write_sheet(garment, docs, Path(args.sheet))
+
+    if not garment.drape and not garment.body:
+        if args.sheet:
+            return 0
+        raise MeshError(f"{spec_path}: the spec names no drape and no body mesh: nothing to show in 3D (try --sheet)")
+    base = spec_path.parent
+    if drape is None and garment.drape:
+        drape = load_drape(garment, None, str(base))
+    body = _load_body(base / garment.body) if garment.body else None
+    routes = []
+    for name, doc in docs:
+        pts, nrm = route_polyline(doc, drape, garment, source=name)
+        routes.append(SceneRoute(Path(name).stem, pts, nrm))
+
+    off = args.screenshot is not None
+    if off:
+        off_screen_environment()
+    plotter = build_plotter(garment, drape, body, routes, off_screen=off, size=(w, h))
+    try:
+        if off:
+            out = write_screenshot(args.screenshot, plotter)
+            print(f"wrote {out} ({w} x {h} px)")
+        else:
+            plotter.show(title=f"garnav — {garment.name}")
+    finally:
+        plotter.close()
+    return 0
+
+
+def _write_sheet(garment, docs, path: Path) -> None:
+    from garnav.export.waypoints import document_route
+    from garnav.plan import build_free_space
+    from garnav.preview.sheet import sheet_drawing, write_sheet_png, write_sheet_svg
+
+    routes = [document_route(doc) for _, doc in docs]
+    # free space only for the spec's own robot: another robot would need other margins
+    free = build_free_space(garment, garment.robot) if garment.robot is not None else None
+    drawing = sheet_drawing(garment, routes, free, route_names=[Path(n).stem for n, _ in docs])
+    if path.suffix.lower() == ".svg":
+        write_sheet_svg(path, drawing)
+    else:
+        write_sheet_png(path, drawing)
+    print(f"wrote {path}")

@@ -1,0 +1,379 @@
+"""Lift pattern-space polylines onto the draped 3D surface.
+
+A straight pattern segment is mapped affinely inside each triangle, so its image is a straight 3D
+segment per triangle, bending where it crosses a triangle edge. :func:`lift_polyline` walks the
+triangles of the piece along each segment ("straight walk"; Devillers, Pion, Teillaud, *Walking in
+a triangulation*, Int. J. Found. Comput. Sci. 13(2), 2002), inserting a point at every edge
+crossing, so that the 3D polyline lies on the surface. :func:`lift_route` lifts every leg of a
+planned route and joins legs at their seam crossings.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from functools import cached_property
+
+import numpy as np
+
+from garnav.drape.drape import Drape
+from garnav.errors import QueryError
+from garnav.model import Garment
+
+__all__ = ["LiftedPath", "LiftedRoute", "lift_polyline", "lift_route"]
+
+#: Barycentric slack when deciding that a point is inside a triangle (relative, unitless).
+_EPS = 1e-12
+
+
+@dataclass(frozen=True, eq=False)
+class LiftedPath:
+    """A pattern polyline on one piece, densified at triangle edges.
+
+    Attributes
+    ----------
+    piece : str
+    pattern : (M, 2) float array
+        Dense points, piece frame, mm.
+    face : (M,) int array
+        Drape triangle of each point.
+    bary : (M, 3) float array
+        Barycentric coordinates of each point in its triangle.
+    waypoint_index : (n,) int array
+        Index into the dense points of each input point.
+    snap : (n,) float array
+        How far (mm, pattern) each input point was moved onto the mesh (0 inside the mesh).
+    """
+
+    piece: str
+    pattern: np.ndarray
+    face: np.ndarray
+    bary: np.ndarray
+    waypoint_index: np.ndarray
+    snap: np.ndarray
+
+
+def _bary(tri: list, x: float, y: float) -> tuple[float, float, float]:
+    (ax, ay), (bx, by), (cx, cy) = tri
+    v0x, v0y, v1x, v1y = bx - ax, by - ay, cx - ax, cy - ay
+    den = v0x * v1y - v1x * v0y
+    px, py = x - ax, y - ay
+    l1 = (px * v1y - v1x * py) / den
+    l2 = (v0x * py - px * v0y) / den
+    return 1.0 - l1 - l2, l1, l2
+
+
+def _norm_bary(lam) -> list[float]:
+    lam = [max(v, 0.0) for v in lam]
+    s = sum(lam)
+    return [v / s for v in lam]
+
+
+def lift_polyline(
+    drape: Drape, piece: str, points: np.ndarray, snap_mm: float = 1.0
+) -> LiftedPath:
+    """Densify a piece-frame polyline at every triangle edge it crosses.
+
+    Parameters
+    ----------
+    drape : Drape
+    piece : str
+    points : (n, 2) float array
+        Piece frame, mm, n >= 1.
+    snap_mm : float
+        Points (and stretches of a segment) at most this far (mm) outside the mesh's UV island are
+        moved onto its boundary: a curved pattern outline is cut by the mesh's straight chords.
+
+    Returns
+    -------
+    LiftedPath
+
+    Raises
+    ------
+    QueryError
+        Unknown piece, or a point or segment stretch farther than ``snap_mm`` outside the mesh.
+    """
+    pts = np.asarray(points, dtype=float).reshape(-1, 2)
+    if len(pts) == 0:
+        raise QueryError(f"{drape.source}: nothing to lift on piece '{piece}' (no points)")
+    hits = drape.locate(piece, pts, snap_mm)
+    target = drape.to_pattern(hits.face, hits.bary)
+    cp = drape.corner_pattern
+    nb = drape.topology.neighbor
+    segs, seg_face, seg_k = drape.boundary_segments(piece)
+    max_steps = 4 * len(drape.faces) + 16
+
+    out_xy: list[tuple[float, float]] = [tuple(target[0])]
+    out_face: list[int] = [int(hits.face[0])]
+    out_bary: list[list[float]] = [hits.bary[0].tolist()]
+    wp = [0]
+    for i in range(len(pts) - 1):
+        f = int(hits.face[i])
+        px, py = target[i].tolist()
+        bx, by = target[i + 1].tolist()
+        entered = -1  # edge of f we came in through (not an exit candidate)
+        steps = 0
+        while True:
+            steps += 1
+            if steps > max_steps:
+                raise QueryError(
+                    f"{drape.source}: cannot walk from ({px:.2f}, {py:.2f}) to ({bx:.2f}, {by:.2f}) "
+                    f"mm on piece '{piece}' (the mesh's UV island is not a proper triangulation)"
+                )
+            tri = cp[f].tolist()
+            lb = _bary(tri, bx, by)
+            if min(lb) >= -1e-9:
+                break
+            lp = _bary(tri, px, py)
+            tau, k_exit = _exit_edge(lp, lb, entered)
+            if k_exit < 0:  # rounding at a vertex: allow leaving through the entry edge
+                tau, k_exit = _exit_edge(lp, lb, -1)
+            if k_exit < 0:
+                break
+            x, y = px + tau * (bx - px), py + tau * (by - py)
+            lam = [lp[j] + tau * (lb[j] - lp[j]) for j in range(3)]
+            lam[k_exit] = 0.0
+            out_xy.append((x, y))
+            out_face.append(f)
+            out_bary.append(_norm_bary(lam))
+            g = int(nb[f, k_exit])
+            if g >= 0:
+                back = nb[g].tolist()
+                entered = back.index(f) if back.count(f) == 1 else _entry_edge(cp[g].tolist(), x, y)
+                f, px, py = g, x, y
+                continue
+            # left the island: find where the rest of the segment comes back, if it does
+            f, px, py, entered = _reenter(
+                drape, piece, segs, seg_face, seg_k, (x, y), (bx, by), snap_mm, out_xy, out_face, out_bary
+            )
+            if f < 0:
+                break
+        # the segment's end point, exactly as located
+        out_xy.append((float(bx), float(by)))
+        out_face.append(int(hits.face[i + 1]))
+        out_bary.append(hits.bary[i + 1].tolist())
+        wp.append(len(out_xy) - 1)
+
+    xy = np.array(out_xy)
+    face = np.array(out_face, dtype=np.int64)
+    bary = np.array(out_bary)
+    # drop repeated points (a walk through a vertex), never a waypoint
+    is_wp = np.zeros(len(xy), dtype=bool)
+    is_wp[wp] = True
+    same_next = np.all(np.abs(np.diff(xy, axis=0)) <= 1e-12, axis=1)  # point j equals j + 1
+    keep = np.ones(len(xy), dtype=bool)
+    keep[1:] &= ~(same_next & ~is_wp[1:])
+    keep[:-1] &= ~(same_next & ~is_wp[:-1] & is_wp[1:])
+    new_index = np.cumsum(keep) - 1
+    return LiftedPath(
+        piece=piece,
+        pattern=xy[keep],
+        face=face[keep],
+        bary=bary[keep],
+        waypoint_index=new_index[np.array(wp)],
+        snap=np.asarray(hits.snap),
+    )
+
+
+def _exit_edge(lp, lb, skip: int) -> tuple[float, int]:
+    """Where the segment p → b leaves the triangle: (τ along p → b, edge k), or (2, -1).
+
+    ``lp``, ``lb`` are the barycentric coordinates of p and b; edge k is opposite corner k, and
+    the segment crosses it where the (linear) coordinate k reaches 0.
+    """
+    tau, k_exit = 2.0, -1
+    for k in range(3):
+        if k == skip or lb[k] >= 0.0 or lb[k] >= lp[k]:
+            continue
+        t = max(lp[k], 0.0) / (lp[k] - lb[k])
+        if t < tau:
+            tau, k_exit = t, k
+    return tau, k_exit
+
+
+def _entry_edge(tri: list, x: float, y: float) -> int:
+    lam = _bary(tri, x, y)
+    return int(np.argmin(np.abs(lam)))
+
+
+def _reenter(drape, piece, segs, seg_face, seg_k, xy, b, snap_mm, out_xy, out_face, out_bary):
+    """After the walk left the island at ``xy``, continue at the next boundary crossing towards b.
+
+    Returns (face, x, y, entered_edge), or face -1 when the rest of the segment stays outside (its
+    end was snapped onto the mesh already). Raises QueryError when the stretch outside is longer
+    than ``snap_mm``.
+    """
+    x0, y0 = xy
+    bx, by = b
+    dx, dy = bx - x0, by - y0
+    length = float(np.hypot(dx, dy))
+    if length <= snap_mm:
+        return -1, x0, y0, -1
+    # intersect the rest of the segment with all boundary segments of the piece
+    a = segs[:, 0]
+    e = segs[:, 1] - segs[:, 0]
+    den = dx * e[:, 1] - dy * e[:, 0]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        t = ((a[:, 0] - x0) * e[:, 1] - (a[:, 1] - y0) * e[:, 0]) / den
+        u = ((a[:, 0] - x0) * dy - (a[:, 1] - y0) * dx) / den
+    ok = np.isfinite(t) & (t > 1e-9) & (t <= 1.0) & (u >= -1e-9) & (u <= 1.0 + 1e-9)
+    if not np.any(ok):
+        gap = length
+    else:
+        j = int(np.flatnonzero(ok)[np.argmin(t[ok])])
+        gap = float(t[j]) * length
+    if gap > snap_mm:
+        raise QueryError(
+            f"{drape.source}: the path on piece '{piece}' leaves the drape's triangles at "
+            f"({x0:.1f}, {y0:.1f}) mm for {gap:.1f} mm (allowed: {snap_mm:g} mm)"
+        )
+    if not np.any(ok):
+        return -1, x0, y0, -1
+    x, y = x0 + float(t[j]) * dx, y0 + float(t[j]) * dy
+    f = int(seg_face[j])
+    lam = list(_bary(drape.corner_pattern[f].tolist(), x, y))
+    k = int(seg_k[j])
+    lam[k] = 0.0
+    out_xy.append((x, y))
+    out_face.append(f)
+    out_bary.append(_norm_bary(lam))
+    return f, x, y, k
+
+
+@dataclass(frozen=True, eq=False)
+class LiftedRoute:
+    """A route on the 3D surface.
+
+    Attributes
+    ----------
+    points : (M, 3) float array
+        World positions, mm, on the drape's surface.
+    normals : (M, 3) float array
+        Unit outside surface normals (interpolated vertex normals).
+    piece_index : (M,) int array
+        Index into ``piece_names`` of each point's piece.
+    piece_names : tuple of str
+    pattern : (M, 2) float array
+        Each point in its piece's frame, mm.
+    face : (M,) int array
+        Drape triangle of each point.
+    bary : (M, 3) float array
+        Barycentric coordinates in that triangle.
+    waypoint_index : (K,) int array
+        Dense index of every point of every leg, leg by leg (a crossing is the last point of one
+        leg and the first of the next; both map to the same dense point when the seam closes).
+    max_snap_mm : float
+        Largest distance a route point had to be moved onto the mesh (pattern mm).
+    """
+
+    points: np.ndarray
+    normals: np.ndarray
+    piece_index: np.ndarray
+    piece_names: tuple[str, ...]
+    pattern: np.ndarray
+    face: np.ndarray
+    bary: np.ndarray
+    waypoint_index: np.ndarray
+    max_snap_mm: float = 0.0
+
+    @cached_property
+    def segment_length(self) -> np.ndarray:
+        """(M-1,) 3D length of each segment, mm."""
+        return np.linalg.norm(np.diff(self.points, axis=0), axis=1)
+
+    @cached_property
+    def segment_climb(self) -> np.ndarray:
+        """(M-1,) rise of each segment along world +z, mm (negative going down)."""
+        return np.diff(self.points[:, 2])
+
+    @property
+    def length_3d_mm(self) -> float:
+        return float(self.segment_length.sum())
+
+    @property
+    def climb_up_mm(self) -> float:
+        return float(np.clip(self.segment_climb, 0.0, None).sum())
+
+    @property
+    def climb_down_mm(self) -> float:
+        return float(np.clip(-self.segment_climb, 0.0, None).sum())
+
+    @property
+    def pieces(self) -> tuple[str, ...]:
+        """Piece name of every point."""
+        return tuple(self.piece_names[i] for i in self.piece_index)
+
+    def lines(self) -> list[str]:
+        """A short summary in the style of the route table: 3D length, climbs, points."""
+        z = self.points[:, 2]
+        rows = [
+            ("3D length", f"{self.length_3d_mm:.1f} mm on the drape"),
+            ("climb", f"up {self.climb_up_mm:.1f} mm, down {self.climb_down_mm:.1f} mm "
+             f"(height {z.min():.0f}..{z.max():.0f} mm)"),
+            ("3D points", f"{len(self.points)}"),
+        ]
+        width = max(len(k) for k, _ in rows)
+        return [f"{k:<{width}}  {v}" for k, v in rows]
+
+
+def lift_route(
+    drape: Drape, garment: Garment, route, snap_mm: float = 1.0, seam_tol_mm: float = 0.01
+) -> LiftedRoute:
+    """Lift a planned route (``garnav.plan`` Route: legs joined by seam crossings) onto the drape.
+
+    Each leg is lifted with :func:`lift_polyline`. At a crossing the next leg starts at the
+    partner point on the other piece, which is the same 3D point when the drape's seam closes; it
+    becomes a separate dense point only when the two images are more than ``seam_tol_mm`` apart.
+
+    Parameters
+    ----------
+    drape : Drape
+    garment : Garment
+        The garment the drape was linked to.
+    route : Route
+        Anything with ``legs`` (each with ``piece`` and ``points`` (n, 2)).
+    snap_mm : float
+        See :func:`lift_polyline`.
+    seam_tol_mm : float
+        Crossing images closer than this (mm) are one point.
+
+    Returns
+    -------
+    LiftedRoute
+    """
+    names = tuple(p.name for p in garment.pieces)
+    if names != drape.piece_names:
+        raise QueryError(
+            f"{drape.source}: the drape was linked to pieces {list(drape.piece_names)}, "
+            f"not to this garment's {list(names)}"
+        )
+    if not route.legs:
+        raise QueryError("the route has no legs to lift")
+    pattern, face, bary, pidx, wps, snaps = [], [], [], [], [], []
+    count = 0
+    for leg in route.legs:
+        path = lift_polyline(drape, leg.piece, leg.points, snap_mm)
+        skip = 0
+        if count:
+            prev = drape.to_3d(np.array([face[-1][-1]]), bary[-1][-1:])
+            here = drape.to_3d(path.face[:1], path.bary[:1])
+            skip = 1 if float(np.linalg.norm(prev - here)) <= seam_tol_mm else 0
+        pattern.append(path.pattern[skip:])
+        face.append(path.face[skip:])
+        bary.append(path.bary[skip:])
+        pidx.append(np.full(len(path.face) - skip, names.index(leg.piece)))
+        wps.append(np.maximum(path.waypoint_index - skip, -1) + count)
+        snaps.append(path.snap)
+        count += len(path.face) - skip
+    face_all = np.concatenate(face)
+    bary_all = np.vstack(bary)
+    return LiftedRoute(
+        points=drape.to_3d(face_all, bary_all),
+        normals=drape.normals_at(face_all, bary_all),
+        piece_index=np.concatenate(pidx),
+        piece_names=names,
+        pattern=np.vstack(pattern),
+        face=face_all,
+        bary=bary_all,
+        waypoint_index=np.concatenate(wps),
+        max_snap_mm=float(max(np.max(s) for s in snaps)),
+    )

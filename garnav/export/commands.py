@@ -1,0 +1,534 @@
+"""A route as primitive motions for a two-wheeled robot, and the ``garnav-commands`` text format.
+
+The robot counts distance with wheel encoders and heading with a gyro about the surface normal, both
+intrinsic to the surface (DESIGN.md, "The one idea"), so the commands need no map on the robot:
+
+* :class:`Turn` — rotate in place by a signed angle, counter-clockwise positive as seen from the
+  side of the fabric the robot drives on. A robot on the inside sees every piece mirrored, so its
+  turns have the opposite sign of the piece-frame turns.
+* :class:`Go` — drive straight for a distance.
+* :class:`Cross` — a notice placed right before the :class:`Go` that drives over a seam: which seam,
+  how far into that go the ridge lies, the crossing angle, and which wheel meets the ridge first and
+  by how much travel it leads the other (``wheel_base × cot(angle)``, from the geometry of two wheel
+  contacts ``wheel_base`` apart crossing a straight ridge).
+
+Text syntax (documented in docs/commands.md)::
+
+    garnav-commands 1
+    # comment
+    side outside
+    start front 120 300 mm heading 45 deg
+    turn +30 deg
+    cross side_left_lower at 80 mm angle 72 deg lead left 11.04 mm
+    go 200 mm
+
+Numbers are written in Python's shortest round-trip form, so a parsed file gives back the very
+same floats.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from pathlib import Path
+from dataclasses import dataclass
+from typing import Literal, Union
+
+import numpy as np
+
+from garnav.atomic import write_text_atomic
+from garnav.errors import GarnavError, QueryError, did_you_mean
+from garnav.export.path import ZERO_STEP_MM
+from garnav.export.seams import run_side, seam_transfer
+from garnav.model import Garment, Robot
+
+__all__ = [
+    "Turn",
+    "Go",
+    "Cross",
+    "Start",
+    "CommandList",
+    "Command",
+    "CommandSyntaxError",
+    "route_commands",
+    "format_commands",
+    "parse_commands",
+    "write_commands",
+    "read_commands",
+    "commands_to_json",
+    "FORMAT_NAME",
+    "FORMAT_VERSION",
+]
+
+FORMAT_NAME = "garnav-commands"
+FORMAT_VERSION = 1
+
+# Turns smaller than this (degrees) are not emitted; 1e-9° over 10 m of driving moves the end by
+# 1.7e-7 mm.
+MIN_TURN_DEG = 1e-9
+
+
+class CommandSyntaxError(GarnavError):
+    """A command text is malformed; the message names the source, line, command and reason."""
+
+
+@dataclass(frozen=True)
+class Turn:
+    """Rotate in place by ``angle_deg`` (CCW positive, seen from the side the robot drives on)."""
+
+    angle_deg: float
+
+
+@dataclass(frozen=True)
+class Go:
+    """Drive straight for ``distance_mm`` (>= 0)."""
+
+    distance_mm: float
+
+
+@dataclass(frozen=True)
+class Cross:
+    """Notice: the next :class:`Go` drives over seam ``seam`` after ``at_mm`` of its distance.
+
+    Attributes
+    ----------
+    seam : str
+    at_mm : float
+        Distance from the start of the next go to the ridge, mm.
+    angle_deg : float
+        Angle between the travel direction and the seam, 0..90 degrees (90 = square on).
+    lead : {"left", "right", "both"}
+        The wheel that meets the ridge first, as the robot sees it ("both" when square on).
+    lead_mm : float
+        How much earlier (in travel) the leading wheel meets the ridge, mm.
+    """
+
+    seam: str
+    at_mm: float
+    angle_deg: float
+    lead: Literal["left", "right", "both"] = "both"
+    lead_mm: float = 0.0
+
+
+@dataclass(frozen=True)
+class Start:
+    """The pose the commands start from (informational for the robot; used by replay)."""
+
+    piece: str
+    x_mm: float
+    y_mm: float
+    heading_deg: float
+
+
+Command = Union[Turn, Go, Cross]
+
+
+@dataclass(frozen=True)
+class CommandList:
+    """A command sequence with the robot's side and (optionally) the start pose."""
+
+    commands: tuple[Command, ...]
+    side: Literal["outside", "inside"] = "outside"
+    start: Start | None = None
+
+    @property
+    def turn_total_deg(self) -> float:
+        """Sum of the signed turns, degrees (robot's view)."""
+        return float(sum(c.angle_deg for c in self.commands if isinstance(c, Turn)))
+
+    @property
+    def distance_mm(self) -> float:
+        """Sum of the go distances, mm."""
+        return float(sum(c.distance_mm for c in self.commands if isinstance(c, Go)))
+
+
+# --------------------------------------------------------------------------- route -> commands
+
+
+def _crossing_side(garment: Garment, crossing) -> str:
+    seam = garment.seam(crossing.seam)
+    try:
+        side, dist = run_side(garment, seam, crossing.from_piece, crossing.point_from)
+    except KeyError:
+        raise QueryError(
+            f"route crossing at seam '{crossing.seam}': piece '{crossing.from_piece}' is on "
+            f"neither run of the seam"
+        ) from None
+    return side
+
+
+def route_commands(route, garment: Garment, robot: Robot | None = None) -> CommandList:
+    """Turn-and-go commands that drive ``route``.
+
+    Parameters
+    ----------
+    route : garnav.plan.Route
+        Uses ``legs`` (piece, points (n, 2) mm) and ``crossings`` (seam, from_piece, to_piece,
+        point_from, point_to).
+    garment : Garment
+        For the seams' geometry.
+    robot : Robot, optional
+        Side and wheel base; defaults to ``garment.robot`` or ``Robot()``.
+
+    Returns
+    -------
+    CommandList
+        Starts facing the first step of the route (no initial turn).
+
+    Raises
+    ------
+    QueryError
+        When a crossing does not fit the garment's seams (unknown seam, wrong piece, or a
+        ``point_to`` more than 1e-6 mm from the partner of ``point_from``).
+    """
+    robot = robot or garment.robot or Robot()
+    sign = 1.0 if robot.side == "outside" else -1.0
+    legs, crossings = tuple(route.legs), tuple(route.crossings)
+    if len(crossings) != len(legs) - 1:
+        raise QueryError(f"route has {len(legs)} legs but {len(crossings)} crossings (need legs - 1)")
+
+    commands: list[Command] = []
+    notices: list[Cross] = []
+    go_len = 0.0
+    heading: float | None = None  # radians, frame of the current leg's piece
+    start: Start | None = None
+
+    def flush() -> None:
+        nonlocal go_len, notices
+        if go_len > 0.0 or notices:
+            commands.extend(notices)
+            commands.append(Go(go_len))
+        go_len, notices = 0.0, []
+
+    for i, leg in enumerate(legs):
+        pts = np.asarray(leg.points, dtype=float).reshape(-1, 2)
+        for k in range(len(pts) - 1):
+            dx, dy = pts[k + 1] - pts[k]
+            length = math.hypot(dx, dy)
+            if length <= ZERO_STEP_MM:
+                continue
+            new_heading = math.atan2(dy, dx)
+            if heading is None:
+                if start is None:
+                    start = Start(leg.piece, float(pts[0, 0]), float(pts[0, 1]), math.degrees(new_heading))
+            else:
+                turn = math.degrees(math.remainder(new_heading - heading, 2.0 * math.pi))
+                if abs(turn) > MIN_TURN_DEG:
+                    flush()
+                    commands.append(Turn(sign * turn))
+            heading = new_heading
+            go_len += length
+        if i == len(crossings):
+            break
+        c = crossings[i]
+        try:
+            seam = garment.seam(c.seam)
+        except KeyError:
+            raise QueryError(f"route crosses seam '{c.seam}', which the garment does not have") from None
+        side = _crossing_side(garment, c)
+        tr = seam_transfer(garment, seam, side, np.asarray(c.point_from, dtype=float))
+        gap = float(np.hypot(*(tr.point_to - np.asarray(c.point_to, dtype=float))))
+        if tr.to_piece != c.to_piece or gap > 1e-6:
+            raise QueryError(
+                f"route crossing at seam '{c.seam}': from {c.from_piece} "
+                f"({c.point_from[0]:.3f}, {c.point_from[1]:.3f}) mm the partner point is on "
+                f"'{tr.to_piece}' at ({tr.point_to[0]:.3f}, {tr.point_to[1]:.3f}) mm, but the route "
+                f"continues on '{c.to_piece}' at ({c.point_to[0]:.3f}, {c.point_to[1]:.3f}) mm"
+            )
+        if heading is None:  # crossing before any motion: take the next leg's direction
+            heading = _first_heading(legs[i + 1 :], default=0.0) - tr.rotation_rad
+        notices.append(_notice(c.seam, go_len, heading, tr.tangent_from, robot, sign))
+        heading = heading + tr.rotation_rad
+    flush()
+    if start is None:
+        first = legs[0]
+        p0 = np.asarray(first.points, dtype=float).reshape(-1, 2)[0]
+        start = Start(first.piece, float(p0[0]), float(p0[1]), 0.0)
+    return CommandList(tuple(commands), side=robot.side, start=start)
+
+
+def _first_heading(legs, default: float) -> float:
+    for leg in legs:
+        pts = np.asarray(leg.points, dtype=float).reshape(-1, 2)
+        steps = np.diff(pts, axis=0)
+        for dx, dy in steps:
+            if math.hypot(dx, dy) > ZERO_STEP_MM:
+                return math.atan2(dy, dx)
+    return default
+
+
+def _notice(seam: str, at_mm: float, heading: float, tangent: np.ndarray, robot: Robot, sign: float) -> Cross:
+    """The crossing notice for travel ``heading`` (rad) over a seam with unit ``tangent``."""
+    u = np.array([math.cos(heading), math.sin(heading)])
+    along = float(u @ tangent)  # cos of the angle to the seam
+    across = float(u[0] * tangent[1] - u[1] * tangent[0])  # sin of it (signed)
+    angle = math.degrees(math.atan2(abs(across), abs(along)))
+    if abs(along) <= 1e-12 or across == 0.0:
+        return Cross(seam, at_mm, angle, "both", 0.0)
+    # Left wheel (piece frame, outside view) sits at +90° from u; it meets the ridge first when
+    # its offset points along the ridge normal m chosen with u·m > 0; rot90(u)·rot90(t) = u·t.
+    left_first = along * math.copysign(1.0, -across) > 0
+    if sign < 0:  # inside: the robot's left is the piece frame's right
+        left_first = not left_first
+    lead_mm = robot.wheel_base_mm * abs(along) / abs(across)
+    return Cross(seam, at_mm, angle, "left" if left_first else "right", lead_mm)
+
+
+# --------------------------------------------------------------------------- text format
+
+_NAME_RE = re.compile(r"[A-Za-z0-9_.:/+\-]+")
+_NUMBER_RE = re.compile(r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?")
+_UNESCAPE = {"n": "\n", "r": "\r"}
+_TOKEN_RE = re.compile(r'\s*(?:(#.*)|("(?:[^"\\]|\\.)*")|([^\s"#]+))')
+
+
+def _num(value: float, signed: bool = False) -> str:
+    value = float(value)
+    if value == 0.0:
+        value = 0.0  # no "-0.0"
+    text = repr(value)
+    if text.endswith(".0"):
+        text = text[:-2]
+    if signed and value >= 0:
+        text = "+" + text
+    return text
+
+
+def _name(name: str) -> str:
+    if _NAME_RE.fullmatch(name) and not _NUMBER_RE.fullmatch(name):
+        return name
+    escaped = name.replace("\\", "\\\\").replace('"', '\\"').replace("\n", "\\n").replace("\r", "\\r")
+    return '"' + escaped + '"'
+
+
+def format_commands(commands: CommandList, comment: str | None = None) -> str:
+    """The ``garnav-commands`` text of a command list (one command per line, ``\\n`` line ends).
+
+    ``comment`` (optional, may span lines) is written as ``#`` lines after the header.
+    """
+    lines = [f"{FORMAT_NAME} {FORMAT_VERSION}"]
+    if comment:
+        lines += [f"# {line}".rstrip() for line in comment.splitlines()]
+    lines.append(f"side {commands.side}")
+    s = commands.start
+    if s is not None:
+        lines.append(
+            f"start {_name(s.piece)} {_num(s.x_mm)} {_num(s.y_mm)} mm heading {_num(s.heading_deg)} deg"
+        )
+    for c in commands.commands:
+        if isinstance(c, Turn):
+            lines.append(f"turn {_num(c.angle_deg, signed=True)} deg")
+        elif isinstance(c, Go):
+            lines.append(f"go {_num(c.distance_mm)} mm")
+        elif isinstance(c, Cross):
+            lines.append(
+                f"cross {_name(c.seam)} at {_num(c.at_mm)} mm angle {_num(c.angle_deg)} deg "
+                f"lead {c.lead} {_num(c.lead_mm)} mm"
+            )
+        else:  # pragma: no cover - CommandList is typed
+            raise TypeError(f"not a command: {c!r}")
+    return "\n".join(lines) + "\n"
+
+
+def _tokens(line: str, where: str) -> list[str]:
+    out: list[str] = []
+    pos = 0
+    while pos < len(line):
+        m = _TOKEN_RE.match(line, pos)
+        if m is None or m.end() == pos:
+            rest = line[pos:].strip()
+            if not rest:
+                break
+            raise CommandSyntaxError(f"{where}: cannot read {rest[:20]!r} (unbalanced quote?)")
+        pos = m.end()
+        if m.group(1) is not None:
+            break
+        if m.group(2) is not None:
+            raw = m.group(2)[1:-1]
+            text = re.sub(r"\\(.)", lambda m: _UNESCAPE.get(m.group(1), m.group(1)), raw)
+            out.append("\x00" + text)  # \x00 marks a quoted name
+        elif m.group(3) is not None:
+            out.append(m.group(3))
+    return out
+
+
+class _Line:
+    """Cursor over one line's tokens with typed reads that raise clear errors."""
+
+    def __init__(self, tokens: list[str], where: str, word: str):
+        self.tokens, self.where, self.word, self.i = tokens, where, word, 1
+
+    def fail(self, reason: str) -> CommandSyntaxError:
+        return CommandSyntaxError(f"{self.where}: '{self.word}': {reason}")
+
+    def _next(self, what: str) -> str:
+        if self.i >= len(self.tokens):
+            raise self.fail(f"missing {what}")
+        tok = self.tokens[self.i]
+        self.i += 1
+        return tok
+
+    def name(self, what: str) -> str:
+        tok = self._next(what)
+        return tok[1:] if tok.startswith("\x00") else tok
+
+    def number(self, what: str) -> float:
+        tok = self._next(what)
+        if not _NUMBER_RE.fullmatch(tok):
+            raise self.fail(f"{what} must be a number, got {tok.lstrip(chr(0))!r}")
+        return float(tok)
+
+    def keyword(self, *choices: str) -> str:
+        tok = self._next(" or ".join(repr(c) for c in choices))
+        if tok not in choices:
+            raise self.fail(f"expected {' or '.join(repr(c) for c in choices)}, got {tok.lstrip(chr(0))!r}")
+        return tok
+
+    def unit(self, unit: str) -> None:
+        tok = self._next(f"unit '{unit}'")
+        if tok != unit:
+            raise self.fail(f"expected unit '{unit}', got {tok.lstrip(chr(0))!r}")
+
+    def end(self) -> None:
+        if self.i < len(self.tokens):
+            raise self.fail(f"unexpected {self.tokens[self.i].lstrip(chr(0))!r} at the end of the line")
+
+
+def parse_commands(text: str, source: str = "<string>") -> CommandList:
+    """Read a ``garnav-commands`` text.
+
+    Raises
+    ------
+    CommandSyntaxError
+        Naming the source, the line number, the command and the reason.
+    """
+    commands: list[Command] = []
+    side: str = "outside"
+    start: Start | None = None
+    seen_header = seen_side = False
+    pending: list[tuple[int, Cross]] = []
+    # lines end at \n (and \r\n) only: other Unicode line breaks may sit inside quoted names
+    for lineno, line in enumerate(text.split("\n"), start=1):
+        line = line.removesuffix("\r")
+        where = f"{source}:{lineno}"
+        toks = _tokens(line, where)
+        if not toks:
+            continue
+        word = toks[0]
+        cur = _Line(toks, where, word)
+        if not seen_header:
+            if word != FORMAT_NAME:
+                raise CommandSyntaxError(
+                    f"{where}: the first statement must be '{FORMAT_NAME} {FORMAT_VERSION}', got {word.lstrip(chr(0))!r}"
+                )
+            version = cur.number("version")
+            if version != FORMAT_VERSION:
+                raise cur.fail(f"version {_num(version)} is not supported (this reader knows {FORMAT_VERSION})")
+            cur.end()
+            seen_header = True
+            continue
+        if word in ("side", "start") and (commands or pending):
+            raise cur.fail("must come before the first motion command")
+        if word == "side":
+            if seen_side:
+                raise cur.fail("given twice")
+            side = cur.keyword("outside", "inside")
+            seen_side = True
+        elif word == "start":
+            if start is not None:
+                raise cur.fail("given twice")
+            piece = cur.name("piece name")
+            x = cur.number("x")
+            y = cur.number("y")
+            cur.unit("mm")
+            cur.keyword("heading")
+            h = cur.number("heading")
+            cur.unit("deg")
+            start = Start(piece, x, y, h)
+        elif word == "turn":
+            if pending:
+                raise cur.fail(f"a 'cross' notice (line {pending[0][0]}) must be followed by the 'go' that crosses")
+            commands.append(Turn(cur.number("angle")))
+            cur.unit("deg")
+        elif word == "go":
+            d = cur.number("distance")
+            cur.unit("mm")
+            if d < 0:
+                raise cur.fail(f"distance must be >= 0 mm, got {_num(d)}")
+            for ln, notice in pending:
+                if notice.at_mm > d + 1e-9:
+                    raise cur.fail(f"the 'cross' notice on line {ln} puts the seam at {_num(notice.at_mm)} mm, beyond this go's {_num(d)} mm")
+            commands.extend(n for _, n in pending)
+            pending = []
+            commands.append(Go(d))
+        elif word == "cross":
+            seam = cur.name("seam name")
+            cur.keyword("at")
+            at = cur.number("distance")
+            cur.unit("mm")
+            cur.keyword("angle")
+            angle = cur.number("angle")
+            cur.unit("deg")
+            cur.keyword("lead")
+            lead = cur.keyword("left", "right", "both")
+            lead_mm = cur.number("lead distance")
+            cur.unit("mm")
+            if at < 0:
+                raise cur.fail(f"'at' must be >= 0 mm, got {_num(at)}")
+            if not 0.0 <= angle <= 90.0:
+                raise cur.fail(f"angle must be within 0..90 deg, got {_num(angle)}")
+            if lead_mm < 0:
+                raise cur.fail(f"lead must be >= 0 mm, got {_num(lead_mm)}")
+            pending.append((lineno, Cross(seam, at, angle, lead, lead_mm)))  # type: ignore[arg-type]
+        else:
+            known = ("turn", "go", "cross", "side", "start")
+            hint = did_you_mean(word.lstrip("\x00"), known)
+            raise CommandSyntaxError(
+                f"{where}: unknown command {word.lstrip(chr(0))!r}"
+                + (f"; {hint}" if hint else f" (known: {', '.join(known)})")
+            )
+        cur.end()
+    if not seen_header:
+        raise CommandSyntaxError(f"{source}: empty: no '{FORMAT_NAME} {FORMAT_VERSION}' header")
+    if pending:
+        raise CommandSyntaxError(f"{source}:{pending[0][0]}: 'cross': no 'go' follows this notice")
+    return CommandList(tuple(commands), side=side, start=start)  # type: ignore[arg-type]
+
+
+def write_commands(path, commands: CommandList, comment: str | None = None):
+    """Write the command text to ``path`` atomically. Returns the path."""
+    return write_text_atomic(path, format_commands(commands, comment))
+
+
+def read_commands(path) -> CommandList:
+    """Read a ``garnav-commands`` file."""
+    p = Path(path)
+    try:
+        text = p.read_text(encoding="utf-8")
+    except OSError as exc:
+        raise CommandSyntaxError(f"{p}: cannot read: {exc.strerror or exc}") from None
+    except UnicodeDecodeError as exc:
+        raise CommandSyntaxError(f"{p}: not UTF-8 text ({exc.reason} at byte {exc.start})") from None
+    return parse_commands(text, source=str(p))
+
+
+def commands_to_json(commands: CommandList) -> list[dict]:
+    """The commands as JSON-ready dicts (``op`` = "turn" | "go" | "cross"), units in the keys."""
+    out: list[dict] = []
+    for c in commands.commands:
+        if isinstance(c, Turn):
+            out.append({"op": "turn", "angle_deg": float(c.angle_deg)})
+        elif isinstance(c, Go):
+            out.append({"op": "go", "distance_mm": float(c.distance_mm)})
+        else:
+            out.append(
+                {
+                    "op": "cross",
+                    "seam": c.seam,
+                    "at_mm": float(c.at_mm),
+                    "angle_deg": float(c.angle_deg),
+                    "lead": c.lead,
+                    "lead_mm": float(c.lead_mm),
+                }
+            )
+    return out

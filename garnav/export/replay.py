@@ -1,0 +1,304 @@
+"""Replay a command list on the flat pattern: "what will my robot do?".
+
+The robot starts at a pose in a piece frame. A :class:`~garnav.export.commands.Turn` changes its
+heading (sign flipped for a robot on the inside, which sees the pieces mirrored); a
+:class:`~garnav.export.commands.Go` moves it straight. When a go reaches the piece outline where a
+seam run lies, the robot carries on from the partner point on the other run, its heading keeping its
+angle to the seam tangent (:func:`garnav.export.seams.seam_transfer`). Reaching an open edge (hem,
+cuff, neckline, opening) before the go is done is a fall: :class:`ReplayError`.
+
+A go that ends exactly on a seam crosses it only if a ``cross`` notice announced the seam there;
+otherwise the robot stops on this side (physically the same place, and a following turn is the same
+rotation in either frame).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+import shapely
+
+from garnav.errors import QueryError
+from garnav.export.path import wrap_deg
+from garnav.export.commands import CommandList, Cross, Go, Start, Turn
+from garnav.export.seams import locate_on_run, seam_transfer
+from garnav.model import Garment
+
+__all__ = ["Pose", "ReplayCrossing", "Replay", "ReplayError", "replay_commands"]
+
+# How close a seam hit must be to a go's end to count as "at the end" (mm).
+END_TOL_MM = 1e-6
+# How close a hit point must be to a seam run to lie on it (mm).
+ON_RUN_TOL_MM = 1e-6
+# How close a hit must be to a notice's announced distance to match it (mm).
+NOTICE_TOL_MM = 1e-6
+# A hit is an exit when the point EXIT_PROBE_MM beyond it lies more than EXIT_DEPTH_MM outside the
+# piece: a crossing at angle α puts it 0.01·sin α outside, so crossings steeper than 0.06° count,
+# while a robot running along a seam edge, a hair (well under 1e-5 mm) off it, does not cross.
+EXIT_PROBE_MM = 1e-2
+EXIT_DEPTH_MM = 1e-5
+# Crossings in a row without moving (a heading out of a corner where seams meet) before giving up.
+_MAX_STALLS = 16
+
+
+class ReplayError(QueryError):
+    """The commands drive the robot off the fabric, or the start pose is not on the garment."""
+
+
+@dataclass(frozen=True)
+class Pose:
+    """Where the robot is: piece, position (mm, piece frame), heading (deg CCW from piece +x)."""
+
+    piece: str
+    x_mm: float
+    y_mm: float
+    heading_deg: float
+
+
+@dataclass(frozen=True)
+class ReplayCrossing:
+    """A seam the robot drove over during the replay."""
+
+    seam: str
+    from_piece: str
+    to_piece: str
+    point_from: tuple[float, float]
+    point_to: tuple[float, float]
+    travelled_mm: float
+    announced: bool
+    crossable: bool
+
+
+@dataclass(frozen=True)
+class Replay:
+    """The result of a replay.
+
+    Attributes
+    ----------
+    poses : tuple of Pose
+        The start, then at every seam crossing the pose on each side, and the pose after every
+        go. A turn updates the heading of the latest pose (so a pose's heading is the direction the
+        robot leaves it in, as for route waypoints).
+    crossings : tuple of ReplayCrossing
+    distance_mm : float
+        Total distance driven.
+    unmatched_notices : tuple of Cross
+        Notices whose seam the robot did not meet where announced.
+    """
+
+    poses: tuple[Pose, ...]
+    crossings: tuple[ReplayCrossing, ...]
+    distance_mm: float
+    unmatched_notices: tuple[Cross, ...]
+
+    @property
+    def end(self) -> Pose:
+        return self.poses[-1]
+
+
+@dataclass(frozen=True)
+class _Boundary:
+    a: np.ndarray  # (m, 2) segment starts
+    e: np.ndarray  # (m, 2) segment vectors, oriented so the fabric lies on their left
+    label: tuple[str, ...]  # edge or opening name per segment
+    runs: tuple[tuple[str, str, np.ndarray], ...]  # (seam, side, run polyline) on this piece
+    polygon: shapely.Geometry  # the piece, openings as holes
+
+
+def _boundaries(garment: Garment) -> dict[str, _Boundary]:
+    out: dict[str, _Boundary] = {}
+    for piece in garment.pieces:
+        starts, vecs, labels = [], [], []
+        for edge in piece.edges:
+            pts = edge.array
+            starts.append(pts[:-1])
+            vecs.append(np.diff(pts, axis=0))
+            labels += [f"edge '{edge.name}'"] * (len(pts) - 1)
+        for opening in piece.openings:
+            ring = opening.array
+            x, y = ring[:, 0], ring[:, 1]
+            area2 = float(np.sum(x * np.roll(y, -1) - np.roll(x, -1) * y))
+            if area2 > 0:  # holes run clockwise so the fabric is on their left
+                ring = ring[::-1]
+            closed = np.vstack([ring, ring[:1]])
+            starts.append(closed[:-1])
+            vecs.append(np.diff(closed, axis=0))
+            labels += [f"opening '{opening.name}'"] * len(ring)
+        runs = []
+        for seam in garment.seams:
+            for side, run in (("a", seam.a), ("b", seam.b)):
+                if run.piece == piece.name:
+                    runs.append((seam.name, side, garment.run_polyline(run)))
+        out[piece.name] = _Boundary(np.vstack(starts), np.vstack(vecs), tuple(labels), tuple(runs), piece.polygon)
+    return out
+
+
+def _first_exit(bound: _Boundary, p: np.ndarray, u: np.ndarray, reach: float):
+    """Smallest t in [-END_TOL, reach] where p + t·u leaves the piece; (t, segment) or None.
+
+    A boundary segment only counts when the motion really goes outside there: the point
+    ``EXIT_PROBE_MM`` beyond the hit must lie more than ``EXIT_DEPTH_MM`` outside the piece. So a
+    route that touches an edge at a vertex, or runs along it, does not cross.
+    """
+    e = bound.e
+    w = bound.a - p
+    cross_ue = u[0] * e[:, 1] - u[1] * e[:, 0]
+    elen = np.hypot(e[:, 0], e[:, 1])
+    leaving = cross_ue > 1e-12 * np.maximum(elen, 1e-300)
+    safe = np.where(leaving, cross_ue, 1.0)
+    t = (w[:, 0] * e[:, 1] - w[:, 1] * e[:, 0]) / safe
+    s = (w[:, 0] * u[1] - w[:, 1] * u[0]) / safe
+    slack = END_TOL_MM / np.maximum(elen, 1e-300)  # segment ends get END_TOL_MM of slack (mm)
+    ok = leaving & (s >= -slack) & (s <= 1.0 + slack) & (t >= -END_TOL_MM) & (t <= reach)
+    idx = np.flatnonzero(ok)
+    for k in idx[np.argsort(t[idx], kind="stable")]:
+        probe = p + (max(float(t[k]), 0.0) + EXIT_PROBE_MM) * u
+        if shapely.distance(bound.polygon, shapely.Point(probe[0], probe[1])) > EXIT_DEPTH_MM:
+            return float(t[k]), int(k)
+    return None
+
+
+def _runs_under(bound: _Boundary, q: np.ndarray) -> list[tuple[float, str, str]]:
+    """Seam runs of the piece passing within ON_RUN_TOL_MM of q: (distance, seam, side), nearest first."""
+    out = []
+    for seam_name, side, pts in bound.runs:
+        _, dist = locate_on_run(pts, q)
+        if dist <= ON_RUN_TOL_MM:
+            out.append((dist, seam_name, side))
+    return sorted(out)
+
+
+def _announced(runs, notices: list[Cross], at_mm: float):
+    """The first of ``runs`` that a pending notice announces at ``at_mm``: (seam, side, notice)."""
+    for _, seam_name, side in runs:
+        for n in notices:
+            if n.seam == seam_name and abs(n.at_mm - at_mm) <= NOTICE_TOL_MM:
+                return seam_name, side, n
+    return None
+
+
+def replay_commands(garment: Garment, commands: CommandList, start: Start | None = None) -> Replay:
+    """Integrate ``commands`` on the pattern from ``start`` (default: ``commands.start``).
+
+    Parameters
+    ----------
+    garment : Garment
+    commands : CommandList
+        Its ``side`` sets the turn sign (inside: mirrored).
+    start : Start, optional
+
+    Returns
+    -------
+    Replay
+
+    Raises
+    ------
+    ReplayError
+        No start pose, an unknown start piece, or a go that runs off an open edge.
+    """
+    start = start or commands.start
+    if start is None:
+        raise ReplayError("replay needs a start pose: the command list has no 'start' line")
+    bounds = _boundaries(garment)
+    if start.piece not in bounds:
+        raise ReplayError(f"start piece '{start.piece}' is not in garment '{garment.name}'")
+    crossable = {s.name: s.crossable for s in garment.seams}
+    sign = 1.0 if commands.side == "outside" else -1.0
+
+    piece = start.piece
+    p = np.array([start.x_mm, start.y_mm], dtype=float)
+    heading = math.radians(start.heading_deg)
+    poses: list[Pose] = [_pose(piece, p, heading)]
+    crossings: list[ReplayCrossing] = []
+    unmatched: list[Cross] = []
+    notices: list[Cross] = []
+    travelled = 0.0
+
+    for cmd in commands.commands:
+        if isinstance(cmd, Turn):
+            heading += sign * math.radians(cmd.angle_deg)
+            last = poses[-1]
+            poses[-1] = Pose(last.piece, last.x_mm, last.y_mm, wrap_deg(heading))
+        elif isinstance(cmd, Cross):
+            notices.append(cmd)
+        elif isinstance(cmd, Go):
+            remaining = float(cmd.distance_mm)
+            done = 0.0
+            ended_on_transfer = False
+            stalls = 0
+
+            def cross(match) -> None:
+                nonlocal piece, p, heading
+                seam_name, side, notice = match
+                if notice is not None:
+                    notices.remove(notice)
+                tr = seam_transfer(garment, garment.seam(seam_name), side, p)
+                last = poses[-1]
+                if last.piece != piece or math.hypot(last.x_mm - p[0], last.y_mm - p[1]) > END_TOL_MM:
+                    poses.append(_pose(piece, p, heading))
+                crossings.append(
+                    ReplayCrossing(seam_name, piece, tr.to_piece, (float(p[0]), float(p[1])),
+                                   (float(tr.point_to[0]), float(tr.point_to[1])), travelled + done,
+                                   notice is not None, crossable.get(seam_name, True))
+                )
+                piece, p = tr.to_piece, tr.point_to.astype(float)
+                heading = heading + tr.rotation_rad
+                poses.append(_pose(piece, p, heading))
+
+            while True:
+                u = np.array([math.cos(heading), math.sin(heading)])
+                bound = bounds[piece]
+                hit = _first_exit(bound, p, u, remaining + END_TOL_MM)
+                if hit is None:
+                    break
+                t, seg = hit
+                q = p + max(t, 0.0) * u
+                at_end = t >= remaining - END_TOL_MM
+                runs = _runs_under(bound, q)
+                if not runs:
+                    if at_end:
+                        break
+                    raise ReplayError(
+                        f"after {travelled + done + t:.3f} mm the robot drives off piece '{piece}' "
+                        f"through open {bound.label[seg]} at ({q[0]:.3f}, {q[1]:.3f}) mm"
+                    )
+                step = min(max(t, 0.0), remaining)
+                match = _announced(runs, notices, done + step)
+                if match is None:
+                    if at_end:
+                        break
+                    match = (runs[0][1], runs[0][2], None)
+                done += step
+                remaining -= step
+                p = q
+                cross(match)
+                # further crossings announced at the same place: seams meeting at a corner
+                while (chained := _announced(_runs_under(bounds[piece], p), notices, done)) is not None:
+                    cross(chained)
+                if remaining <= END_TOL_MM:
+                    remaining, ended_on_transfer = 0.0, True
+                    break
+                stalls = stalls + 1 if step <= END_TOL_MM else 0
+                if stalls > _MAX_STALLS:
+                    raise ReplayError(
+                        f"after {travelled + done:.3f} mm the robot is at a point of piece '{piece}' "
+                        f"({p[0]:.3f}, {p[1]:.3f}) mm where several seams meet, and its heading leads "
+                        f"out across each of them in turn; no crossing there was announced"
+                    )
+            if not ended_on_transfer:
+                p = p + remaining * np.array([math.cos(heading), math.sin(heading)])
+                done += remaining
+                poses.append(_pose(piece, p, heading))
+            travelled += done
+            unmatched.extend(notices)
+            notices = []
+        else:  # pragma: no cover - CommandList is typed
+            raise TypeError(f"not a command: {cmd!r}")
+    unmatched.extend(notices)
+    return Replay(tuple(poses), tuple(crossings), travelled, tuple(unmatched))
+
+
+def _pose(piece: str, p: np.ndarray, heading: float) -> Pose:
+    return Pose(piece, float(p[0]), float(p[1]), wrap_deg(heading))

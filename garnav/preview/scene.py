@@ -1,0 +1,332 @@
+"""The 3D preview: mannequin, draped garment, seams, keep-outs, landmarks and routes (pyvista).
+
+Pure parts (testable without a screen): :func:`drape_edges` finds the seam and open-edge lines of a
+drape from its topology, :func:`keepout_face_mask` marks the triangles inside keep-outs,
+:func:`route_polyline` gets a route's 3D polyline. :func:`build_plotter` assembles a
+``pyvista.Plotter``; :func:`screenshot_png` renders it off-screen to PNG bytes and
+:func:`write_screenshot` writes them atomically.
+
+Seams and open edges come from the mesh itself: an edge of the welded mesh with one triangle is an
+open edge (hem, cuff, neckline); an edge with two triangles whose corner UVs differ across it is a
+seam (the UV map is cut there). Routes are drawn as tubes lifted off the surface by their radius
+along the surface normal (a line lying exactly on a surface flickers), flat-shaded in the route
+colours of the pattern sheet, with cones along them, a sphere at the start and a cube at the goal.
+"""
+
+from __future__ import annotations
+
+import io
+import math
+import os
+from dataclasses import dataclass
+from typing import Sequence
+
+import numpy as np
+import shapely
+
+from garnav.atomic import write_bytes_atomic
+from garnav.errors import GarnavError, MeshError
+from garnav.model import Garment
+from garnav.preview.sheet import ROUTE_COLOURS
+
+__all__ = [
+    "SceneStyle",
+    "SceneRoute",
+    "PIECE_COLOURS",
+    "drape_edges",
+    "keepout_face_mask",
+    "route_polyline",
+    "build_plotter",
+    "screenshot_png",
+    "write_screenshot",
+    "off_screen_environment",
+]
+
+# How far (mm) a route point may lie outside the drape's triangles when lifted for display only.
+DISPLAY_SNAP_MM = 5.0
+
+# Piece colours on the drape (our own muted palette), in garment piece order.
+PIECE_COLOURS = ("#9fb8ad", "#c9b79c", "#a9b4c2", "#d4a5a5", "#b5c99a", "#c3aed6", "#e3c88f", "#9cc5c9")
+
+
+@dataclass(frozen=True)
+class SceneStyle:
+    background: str = "#f4f1ec"
+    body: str = "#d9cbbd"
+    seam: str = "#24415f"
+    open_edge: str = "#6b4423"
+    keepout: str = "#c0392b"
+    landmark: str = "#1b1b3a"
+    line_width: float = 3.0
+
+
+@dataclass(frozen=True)
+class SceneRoute:
+    """A route to draw: points (M, 3) and unit normals (M, 3) on the surface, world mm."""
+
+    name: str
+    points: np.ndarray
+    normals: np.ndarray | None = None
+
+
+def off_screen_environment() -> None:
+    """Set the environment variables for headless rendering (EGL, no display)."""
+    os.environ.setdefault("PYVISTA_OFF_SCREEN", "true")
+    os.environ.setdefault("VTK_DEFAULT_OPENGL_WINDOW", "vtkEGLRenderWindow")
+
+
+# --------------------------------------------------------------------------- pure parts
+
+
+def drape_edges(faces: np.ndarray, corner_uv: np.ndarray, tol: float = 1e-9) -> tuple[np.ndarray, np.ndarray]:
+    """Seam edges and open edges of a welded, UV-mapped triangle mesh.
+
+    Parameters
+    ----------
+    faces : (F, 3) int array
+        Triangles over welded vertex positions.
+    corner_uv : (F, 3, 2) float array
+        UV of each corner.
+    tol : float
+        UV distance below which two corners count as the same UV vertex.
+
+    Returns
+    -------
+    seams : (S, 2) int array
+        Vertex pairs of edges shared by two triangles whose UVs differ across the edge.
+    open_edges : (O, 2) int array
+        Vertex pairs of edges used by one triangle only.
+    """
+    faces = np.asarray(faces, dtype=np.int64)
+    f_idx = np.repeat(np.arange(len(faces)), 3)
+    k = np.tile(np.arange(3), len(faces))
+    v0 = faces[f_idx, k]
+    v1 = faces[f_idx, (k + 1) % 3]
+    uv0 = corner_uv[f_idx, k]
+    uv1 = corner_uv[f_idx, (k + 1) % 3]
+    lo, hi = np.minimum(v0, v1), np.maximum(v0, v1)
+    swap = v0 > v1
+    uv_lo = np.where(swap[:, None], uv1, uv0)
+    uv_hi = np.where(swap[:, None], uv0, uv1)
+    order = np.lexsort((hi, lo))
+    lo, hi, uv_lo, uv_hi = lo[order], hi[order], uv_lo[order], uv_hi[order]
+    key = np.column_stack([lo, hi])
+    starts = np.flatnonzero(np.r_[True, np.any(key[1:] != key[:-1], axis=1)])
+    counts = np.diff(np.r_[starts, len(key)])
+    open_edges = key[starts[counts == 1]]
+    pairs = starts[counts == 2]
+    differ = (np.linalg.norm(uv_lo[pairs] - uv_lo[pairs + 1], axis=1) > tol) | (
+        np.linalg.norm(uv_hi[pairs] - uv_hi[pairs + 1], axis=1) > tol
+    )
+    seams = key[pairs[differ]]
+    return seams, open_edges
+
+
+def keepout_face_mask(garment: Garment, drape) -> np.ndarray:
+    """(F,) bool: triangles of the drape whose pattern centroid lies in a keep-out of their piece."""
+    centroids = np.asarray(drape.corner_pattern).mean(axis=1)
+    mask = np.zeros(len(centroids), dtype=bool)
+    for k in garment.keepouts:
+        if k.piece not in drape.piece_names:
+            continue
+        on_piece = np.asarray(drape.face_piece) == drape.piece_names.index(k.piece)
+        geom = k.shape.exact_geometry()
+        inside = shapely.contains_xy(geom, centroids[:, 0], centroids[:, 1])
+        mask |= on_piece & inside
+    return mask
+
+
+def route_polyline(document: dict, drape=None, garment: Garment | None = None, source: str = "route"):
+    """The 3D polyline of a ``garnav-route`` document.
+
+    Uses the document's ``path_3d`` when it has one; otherwise lifts its legs onto ``drape`` with
+    :func:`garnav.drape.lift_route`.
+
+    Returns
+    -------
+    points : (M, 3) array, normals : (M, 3) array or None
+    """
+    path = document.get("path_3d")
+    if path:
+        pts = np.asarray(path["points_mm"], dtype=float).reshape(-1, 3)
+        nrm = path.get("normals")
+        return pts, (np.asarray(nrm, dtype=float).reshape(-1, 3) if nrm else None)
+    if drape is None or garment is None:
+        raise MeshError(f"{source}: the route has no 3D path and the garment has no drape to lift it onto")
+    from garnav.drape import lift_route
+    from garnav.export.waypoints import document_route
+
+    # a route may hug a curved seam, which the mesh cuts by chords a few mm inside the pattern
+    lifted = lift_route(drape, garment, document_route(document), snap_mm=DISPLAY_SNAP_MM)
+    return np.asarray(lifted.points, dtype=float), np.asarray(lifted.normals, dtype=float)
+
+
+# --------------------------------------------------------------------------- plotting
+
+
+def _lines_polydata(positions: np.ndarray, edges: np.ndarray):
+    import pyvista as pv
+
+    if len(edges) == 0:
+        return None
+    cells = np.column_stack([np.full(len(edges), 2), edges]).ravel()
+    return pv.PolyData(np.asarray(positions, dtype=float), lines=cells)
+
+
+def build_plotter(
+    garment: Garment,
+    drape=None,
+    body=None,
+    routes: Sequence[SceneRoute] = (),
+    *,
+    off_screen: bool = False,
+    size: tuple[int, int] = (1200, 900),
+    style: SceneStyle = SceneStyle(),
+    labels: bool = True,
+):
+    """A pyvista Plotter showing the scene.
+
+    Parameters
+    ----------
+    garment : Garment
+    drape : garnav.drape.Drape, optional
+        Needs ``positions`` (V, 3), ``faces`` (F, 3), ``corner_uv`` (F, 3, 2), ``face_piece`` (F,),
+        ``piece_names``, ``corner_pattern`` (F, 3, 2) and ``pattern_to_3d(piece, pts)``.
+    body : (vertices (B, 3), faces (G, 3)), optional
+        The mannequin.
+    routes : sequence of SceneRoute
+    off_screen : bool
+    size : (width, height) in pixels
+    labels : bool
+        Draw landmark labels (text rendering).
+    """
+    import pyvista as pv
+
+    if off_screen:
+        off_screen_environment()
+    plotter = pv.Plotter(off_screen=off_screen, window_size=[int(size[0]), int(size[1])])
+    plotter.set_background(style.background)
+    scale = 100.0
+
+    if body is not None:
+        verts, faces = body
+        mesh = pv.PolyData(np.asarray(verts, dtype=float), np.column_stack([np.full(len(faces), 3), faces]).ravel())
+        plotter.add_mesh(mesh, color=style.body, smooth_shading=True, specular=0.1, name="body")
+        scale = float(np.linalg.norm(np.ptp(np.asarray(verts), axis=0)))
+
+    if drape is not None:
+        positions = np.asarray(drape.positions, dtype=float)
+        faces = np.asarray(drape.faces, dtype=np.int64)
+        scale = max(scale if body is not None else 0.0, float(np.linalg.norm(np.ptp(positions, axis=0))))
+        cloth = pv.PolyData(positions, np.column_stack([np.full(len(faces), 3), faces]).ravel())
+        colours = np.array([_rgb(PIECE_COLOURS[i % len(PIECE_COLOURS)]) for i in range(len(drape.piece_names))])
+        face_rgb = colours[np.asarray(drape.face_piece)]
+        mask = keepout_face_mask(garment, drape)
+        face_rgb[mask] = _rgb(style.keepout)
+        cloth.cell_data["colour"] = (face_rgb * 255).astype(np.uint8)
+        plotter.add_mesh(cloth, scalars="colour", rgb=True, show_edges=False, name="drape", specular=0.05)
+        seams, opens = drape_edges(faces, np.asarray(drape.corner_uv))
+        for name, edges, colour in (("seams", seams, style.seam), ("open-edges", opens, style.open_edge)):
+            lines = _lines_polydata(positions, edges)
+            if lines is not None:
+                plotter.add_mesh(lines.tube(radius=0.0015 * scale, n_sides=8), color=colour, name=name)
+        for k in garment.keepouts:
+            outline = _keepout_outline_3d(drape, k)
+            if outline is not None:
+                plotter.add_mesh(pv.lines_from_points(outline).tube(radius=0.0025 * scale, n_sides=8),
+                                 color=style.keepout, name=f"keepout-{k.name}")
+        marks, names = [], []
+        for lm in garment.landmarks:
+            if lm.on_pattern and lm.piece in drape.piece_names:
+                try:
+                    marks.append(drape.pattern_to_3d(lm.piece, np.array([[lm.x, lm.y]]), 1.0)[0])
+                except GarnavError:
+                    continue
+            elif lm.xyz is not None:
+                marks.append(np.asarray(lm.xyz, dtype=float))
+            else:
+                continue
+            names.append(lm.name)
+        if marks:
+            pts = pv.PolyData(np.array(marks))
+            plotter.add_mesh(pts.glyph(geom=pv.Sphere(radius=0.006 * scale), scale=False, orient=False),
+                             color=style.landmark, name="landmarks")
+            if labels:
+                plotter.add_point_labels(np.array(marks), names, font_size=12, text_color=style.landmark,
+                                         point_size=1, shape_opacity=0.6, shape_color="white",
+                                         always_visible=True, name="landmark-labels")
+
+    radius = 0.004 * scale
+    for ri, route in enumerate(routes):
+        colour = ROUTE_COLOURS[ri % len(ROUTE_COLOURS)]
+        pts = np.asarray(route.points, dtype=float)
+        if route.normals is not None:
+            pts = pts + 1.2 * radius * np.asarray(route.normals, dtype=float)
+        keep = np.r_[True, np.linalg.norm(np.diff(pts, axis=0), axis=1) > 1e-9]
+        pts = pts[keep]
+        if len(pts) < 2:
+            continue
+        line = pv.lines_from_points(pts)
+        plotter.add_mesh(line.tube(radius=radius, n_sides=12), color=colour, lighting=False, name=f"route-{ri}")
+        plotter.add_mesh(pv.Sphere(radius=2.2 * radius, center=pts[0]), color=colour, lighting=False,
+                         name=f"route-{ri}-start")
+        plotter.add_mesh(pv.Cube(center=pts[-1], x_length=4 * radius, y_length=4 * radius, z_length=4 * radius),
+                         color=colour, lighting=False, name=f"route-{ri}-goal")
+        # direction cones every ~8 % of the route length
+        seg = np.linalg.norm(np.diff(pts, axis=0), axis=1)
+        cum = np.r_[0.0, np.cumsum(seg)]
+        for s in np.arange(0.08, 0.95, 0.12) * cum[-1]:
+            k = int(np.clip(np.searchsorted(cum, s) - 1, 0, len(seg) - 1))
+            d = pts[k + 1] - pts[k]
+            c = pts[k] + d * ((s - cum[k]) / seg[k] if seg[k] > 0 else 0.0)
+            plotter.add_mesh(pv.Cone(center=c, direction=d, height=5 * radius, radius=2 * radius, resolution=16),
+                             color=colour, lighting=False)
+    _front_view(plotter)
+    return plotter
+
+
+def _keepout_outline_3d(drape, keepout, step_mm: float = 2.0) -> np.ndarray | None:
+    """The keep-out's outline (closed, sampled every ``step_mm``) on the drape, or None when it is
+    not on the drape's piece or leaves the mesh."""
+    if keepout.piece not in drape.piece_names:
+        return None
+    ring = np.asarray(keepout.shape.exact_geometry().exterior.coords, dtype=float)
+    dense = [ring[0]]
+    for a, b in zip(ring[:-1], ring[1:]):
+        n = max(1, int(math.ceil(np.hypot(*(b - a)) / step_mm)))
+        dense += list(a + (np.arange(1, n + 1) / n)[:, None] * (b - a))
+    try:
+        return np.asarray(drape.pattern_to_3d(keepout.piece, np.array(dense), 1.0), dtype=float)
+    except GarnavError:
+        return None
+
+
+def _front_view(plotter) -> None:
+    """Look at the wearer's front (from +y world towards −y), z up."""
+    plotter.reset_camera()
+    cam = plotter.camera
+    focal = np.array(cam.focal_point)
+    dist = float(np.linalg.norm(np.array(cam.position) - focal))
+    cam.position = tuple(focal + np.array([0.35, 1.0, 0.25]) / np.linalg.norm([0.35, 1.0, 0.25]) * dist)
+    cam.up = (0.0, 0.0, 1.0)
+    plotter.reset_camera()
+
+
+def _rgb(hex_colour: str) -> np.ndarray:
+    h = hex_colour.lstrip("#")
+    return np.array([int(h[i : i + 2], 16) for i in (0, 2, 4)], dtype=float) / 255.0
+
+
+def screenshot_png(plotter) -> bytes:
+    """Render an off-screen plotter and return PNG bytes of the window."""
+    from matplotlib.image import imsave
+
+    img = plotter.screenshot(None, return_img=True)
+    buf = io.BytesIO()
+    imsave(buf, img, format="png", metadata={"Software": None})
+    return buf.getvalue()
+
+
+def write_screenshot(path, plotter):
+    """Render an off-screen plotter to ``path`` (PNG) atomically. Returns the path."""
+    return write_bytes_atomic(path, screenshot_png(plotter))

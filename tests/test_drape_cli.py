@@ -1,0 +1,77 @@
+"""`garnav check --drape` and `garnav import` on the command line."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+
+import drape_meshes as dm
+from garnav.cli import main
+from garnav.drape.meshio import save_obj
+
+SPEC = Path(__file__).resolve().parent.parent / "meshes" / "sensing_top.toml"
+
+
+@pytest.mark.skipif(not SPEC.is_file(), reason="demo files not built")
+def test_check_with_the_specs_own_drape(capsys):
+    assert main(["check", str(SPEC), "--drape"]) == 0
+    out = capsys.readouterr().out
+    assert "coverage (island area / piece area)" in out
+    assert "seam closure in 3D" in out and "underarm_left" in out
+
+
+def test_check_with_a_drape_that_does_not_fit(tmp_path, capsys):
+    from garnav.spec import save_garment
+
+    g, m = dm.folded_panels()
+    spec = tmp_path / "panels.toml"
+    save_garment(g, spec)
+    assert main(["check", str(spec), "--drape"]) == 2
+    assert "names no drape mesh; give one (e.g. --drape MESH)" in capsys.readouterr().err
+    # a mesh for another garment: its single island matches neither piece
+    _, other = dm.flat_sheet(width=600.0, height=400.0)
+    mesh = save_obj(other, tmp_path / "other.obj")
+    assert main(["check", str(spec), "--drape", str(mesh)]) == 2
+    err = capsys.readouterr().err
+    assert "other.obj" in err and "matches no piece" in err and "Traceback" not in err
+    good = save_obj(m, tmp_path / "panels.obj")
+    assert main(["check", str(spec), "--drape", str(good)]) == 0
+    assert "middle" in capsys.readouterr().out
+
+
+def test_import_bad_mesh_is_a_clear_error(tmp_path, capsys):
+    p = tmp_path / "plain.obj"
+    p.write_text("v 0 0 0\nv 1 0 0\nv 0 1 0\nf 1 2 3\n")
+    assert main(["import", str(p), "-o", str(tmp_path / "x.toml")]) == 2
+    err = capsys.readouterr().err
+    assert "plain.obj: the mesh has no texture coordinates" in err
+    assert not (tmp_path / "x.toml").exists()
+
+
+@pytest.mark.skipif(not SPEC.is_file(), reason="demo files not built")
+def test_route_with_the_drape(capsys):
+    assert main(["route", str(SPEC), "--from", "cervicale", "--to", "wrist_left", "--drape"]) == 0
+    out = capsys.readouterr().out
+    assert "3D length" in out and "climb" in out
+
+
+@pytest.mark.skipif(not SPEC.is_file(), reason="demo files not built")
+def test_route_world_points_use_the_specs_drape(capsys):
+    assert main(["route", str(SPEC), "--from", "xyz:0,-92,1395", "--to", "omphalion"]) == 0
+    assert "seams crossed" in capsys.readouterr().out
+    assert main(["route", str(SPEC), "--from", "xyz:0,-95,1455", "--to", "omphalion"]) == 2
+    err = capsys.readouterr().err
+    assert "is 55 mm from the garment; the largest snap distance is 10 mm" in err
+
+
+def test_route_on_a_mesh_alone(tmp_path, capsys):
+    g, m = dm.folded_panels()  # left panel in the plane y = 0, right panel in x = 300
+    mesh = save_obj(m, tmp_path / "panels.obj")
+    args = ["route", str(mesh), "--from", "xyz:150,0,200", "--to", "xyz:300,150,200"]
+    assert main(args) == 0
+    out = capsys.readouterr().out
+    # the fold is an isometry: the pattern route and its 3D image are both 150 + 150 mm
+    assert "length         300.0 mm" in out and "3D length  300.0 mm on the drape" in out
+    assert main(["route", str(mesh), "--from", "xyz:150,-30,200", "--to", "xyz:300,150,200"]) == 2
+    assert "30 mm from the garment" in capsys.readouterr().err

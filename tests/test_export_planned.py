@@ -1,0 +1,185 @@
+"""Export of planned routes on the demo garment: schema, replay, turns, orientations.
+
+The demo routes and >= 50 random routes (seeded) come from the planner; with the drape they are
+lifted to 3D. Cross-checks between the planner's own numbers and the export's independent ones:
+waypoints and headings, the sum of turns (the planner carries headings over seams with its seam
+transform, the export with its own), crossing angles.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import replace
+
+import jsonschema
+import numpy as np
+import pytest
+from scipy.spatial.transform import Rotation
+
+pytest.importorskip("garnav.plan.planner")  # runs once the planner is part of the package
+
+import export_routes as er  # noqa: E402
+import garments  # noqa: E402
+from garnav.demo import demo_garment  # noqa: E402
+from garnav.errors import GarnavError  # noqa: E402
+from garnav.export.commands import Cross, Turn, format_commands, parse_commands, route_commands  # noqa: E402
+from garnav.export.path import ZERO_STEP_MM, route_waypoints  # noqa: E402
+from garnav.export.replay import replay_commands  # noqa: E402
+from garnav.export.waypoints import route_document, route_schema  # noqa: E402
+from garnav.plan import PiecePoint, Planner  # noqa: E402
+
+DEMO_PAIRS = (
+    ("wrist_left", "sternum_left"),
+    ("wrist_right", "dock"),
+    ("olecranon_left", "acromion_right"),
+    ("omphalion", "wrist_right"),
+    ("suprasternale", "dock"),
+    ("wrist_left", "wrist_right"),
+)
+
+# Reference: the jsonschema library's Draft 2020-12 validator.
+VALIDATOR = jsonschema.Draft202012Validator(route_schema())
+
+
+def _random_routes(garment, planner, rng, count, max_attempts):
+    """Routes between random free points (seeded), each end on a random piece."""
+    names = [p.name for p in garment.pieces]
+    out, attempts = [], 0
+    while len(out) < count and attempts < max_attempts:
+        attempts += 1
+        ends = []
+        for _ in range(2):
+            piece = names[int(rng.integers(len(names)))]
+            x0, y0, x1, y1 = planner.free[piece].region.bounds
+            p = np.array([rng.uniform(x0, x1), rng.uniform(y0, y1)])
+            if planner.free[piece].covers(p[None])[0]:
+                ends.append(PiecePoint(piece, float(p[0]), float(p[1])))
+        if len(ends) < 2:
+            continue
+        try:
+            out.append(planner.route(ends[0], ends[1]))
+        except GarnavError:
+            continue
+    return out
+
+
+@pytest.fixture(scope="module")
+def demo():
+    """(garment, routes): the demo landmark routes and random demo routes, one planner build."""
+    garment = demo_garment()
+    planner = Planner(garment)
+    routes = []
+    for a, b in DEMO_PAIRS:
+        try:
+            routes.append(planner.route(a, b))
+        except GarnavError:  # a pair the demo cannot join is not what this file tests
+            continue
+    routes += _random_routes(garment, planner, np.random.default_rng(2024), 10, 200)
+    return garment, routes
+
+
+@pytest.fixture(scope="module")
+def small():
+    """[(garment, route)]: >= 50 random planned routes on the small test garments (fast to plan)."""
+    out = []
+    for i, garment in enumerate((garments.two_panels(), er.turned_panels(), garments.tube())):
+        planner = Planner(garment)
+        out += [(garment, r) for r in _random_routes(garment, planner, np.random.default_rng(100 + i), 20, 400)]
+    return out
+
+
+def test_enough_routes_were_planned(demo, small):
+    garment, routes = demo
+    assert len(routes) >= 10
+    assert len(small) >= 50
+    assert sum(len(r.crossings) for _, r in small) >= 20  # many cross seams
+    assert sum(len(r.crossings) for r in routes) >= 5
+
+
+def _stub_legs(route) -> set[int]:
+    """Legs shorter than ZERO_STEP_MM: the stub a route leaves in a piece it only touches at a
+    corner where several seams meet."""
+    return {i for i, leg in enumerate(route.legs)
+            if np.linalg.norm(np.diff(leg.points, axis=0), axis=1).sum() < ZERO_STEP_MM}
+
+
+def _cases(demo, small):
+    garment, routes = demo
+    return [(garment, r) for r in routes] + list(small)
+
+
+def test_documents_validate(demo, small):
+    for garment, route in _cases(demo, small):
+        VALIDATOR.validate(route_document(route, garment))
+
+
+def test_waypoints_agree_with_the_planners(demo, small):
+    for garment, route in _cases(demo, small):
+        ours = route_waypoints(route)
+        theirs = route.waypoints()
+        assert len(ours) == len(theirs)
+        stubs = _stub_legs(route)
+        for w, (piece, x, y, h) in zip(ours, theirs):
+            assert (w.piece, w.x_mm, w.y_mm) == (piece, x, y)
+            if w.leg not in stubs:  # a stub leg has no direction of its own
+                assert abs(math.remainder(w.heading_deg - h, 360.0)) < 1e-6
+
+
+def test_replay_reproduces_every_waypoint(demo, small):
+    worst = 0.0
+    for i, (garment, route) in enumerate(_cases(demo, small)):
+        cl = route_commands(route, garment)
+        if i % 2:
+            cl = parse_commands(format_commands(cl))
+        rep = replay_commands(garment, cl)
+        assert [c.seam for c in rep.crossings] == [c.seam for c in route.crossings]
+        assert rep.unmatched_notices == ()
+        # every replayed pose is a route waypoint, in order, and every waypoint lies on the replay
+        wps = route_waypoints(route)
+        k = 0
+        for p in rep.poses:
+            while not (wps[k].piece == p.piece and math.hypot(wps[k].x_mm - p.x_mm, wps[k].y_mm - p.y_mm) <= 1e-6):
+                k += 1  # skipped waypoints are repeated or collinear points (no turn, no crossing)
+                assert k < len(wps), f"route {i}: replay pose {p} is not a waypoint"
+            worst = max(worst, math.hypot(wps[k].x_mm - p.x_mm, wps[k].y_mm - p.y_mm))
+        end = wps[-1]
+        assert (rep.end.piece, rep.end.x_mm, rep.end.y_mm) == (end.piece, pytest.approx(end.x_mm, abs=1e-6),
+                                                                pytest.approx(end.y_mm, abs=1e-6))
+    assert worst <= 1e-6
+
+
+def test_turns_sum_like_the_planners_and_crossing_angles_agree(demo, small):
+    for garment, route in _cases(demo, small):
+        for side, sign in (("outside", 1.0), ("inside", -1.0)):
+            robot = replace(garment.robot, side=side)
+            cl = route_commands(route, garment, robot)
+            total = sum(c.angle_deg for c in cl.commands if isinstance(c, Turn))
+            assert total == pytest.approx(sign * float(np.sum(route.turns_deg)), abs=1e-6)
+        notices = [c for c in route_commands(route, garment).commands if isinstance(c, Cross)]
+        assert [n.seam for n in notices] == [c.seam for c in route.crossings]
+        stubs = _stub_legs(route)
+        for i, (n, c) in enumerate(zip(notices, route.crossings)):
+            if i not in stubs and i + 1 not in stubs:  # the planner measures a stub's noise direction
+                assert n.angle_deg == pytest.approx(c.angle_deg, abs=1e-6)
+
+
+def test_lifted_documents_have_unit_quaternions_along_the_normal(demo):
+    drape_mod = pytest.importorskip("garnav.drape.lift")
+    from pathlib import Path
+
+    from garnav.drape import link_drape, load_uv_mesh
+
+    garment, routes = demo
+    mesh = Path(__file__).resolve().parents[1] / "meshes" / "sensing_top_drape.obj"
+    drape = link_drape(garment, load_uv_mesh(mesh))
+    for route in routes[:20]:
+        # routes may hug a curved seam, which the mesh cuts by chords a few mm inside: snap 5 mm
+        lifted = drape_mod.lift_route(drape, garment, route, snap_mm=5.0)
+        doc = route_document(route, garment, None, lifted)
+        VALIDATOR.validate(doc)
+        for w in doc["waypoints"]:
+            q = np.array(w["orientation_xyzw"])
+            assert abs(np.linalg.norm(q) - 1.0) < 1e-12
+            # reference: scipy Rotation, scalar-last quaternions
+            z = Rotation.from_quat(q).as_matrix()[:, 2]
+            assert np.degrees(np.arccos(np.clip(z @ np.array(w["normal"]), -1.0, 1.0))) < 1.0
