@@ -98,7 +98,7 @@ def evaluate_targets(res: dict[str, Any]) -> list[dict[str, Any]]:
     td = _get(lift, "delaunay_find_simplex", "query_s")
     if tl and td:
         r = td / tl
-        out.append(_t("locate_vs_find_simplex", "PASS" if r >= 5 else "MISS", r,
+        out.append(_t("locate_vs_find_simplex", "N/A" if quick else ("PASS" if r >= 5 else "MISS"), r,
                       f"{lift['query_points']} points: garnav {tl * 1e3:.1f} ms vs find_simplex {td * 1e3:.1f} ms: {r:.1f}x"))
     else:
         out.append(_t("locate_vs_find_simplex", "N/A", None, "garnav locator not available or case not run"))
@@ -166,7 +166,7 @@ def table_rows(res: dict[str, Any]) -> tuple[list[str], list[list[str]]]:
             ("≥" if pv.get("query_is_lower_bound") else "") + _ms(_get(pv, "query", "median")),
             _ms(_get(gr, "query", "median")),
             "—" if err is None else f"{err:.1e}",
-            "—" if not _get(gr, "length_ratio") else f"{gr['length_ratio']['median']:.4f}",
+            "—" if _get(gr, "length_ratio", "median") is None else f"{gr['length_ratio']['median']:.4f}",
             _mb(g.get("build_peak_bytes")),
         ])
     return head, rows

@@ -460,15 +460,24 @@ def _err(exc: BaseException) -> str:
     return f"{type(exc).__name__}: {exc}{where}"[:600]
 
 
-def run(opts: Options, which: tuple[str, ...], log=print) -> dict[str, Any]:
-    """Run the selected case families; returns the full results dictionary."""
+def run(opts: Options, which: tuple[str, ...], log=print, checkpoint=None) -> dict[str, Any]:
+    """Run the selected case families; returns the full results dictionary.
+
+    ``checkpoint(results)``, when given, is called after every case (partial results survive a
+    crash or an interrupt).
+    """
     results: dict[str, Any] = {"machine": machine_info(), "settings": opts.as_dict(), "cases": {}}
+    save = checkpoint or (lambda _res: None)
     t_all = time.perf_counter()
     if "single" in which:
         history: list[tuple[int, float]] = []
         for n in opts.sizes:
             log(f"case single_N{n} ...")
-            results["cases"][f"single_N{n}"] = run_single(n, opts, history, log)
+            try:
+                results["cases"][f"single_N{n}"] = run_single(n, opts, history, log)
+            except Exception as exc:
+                results["cases"][f"single_N{n}"] = {"kind": "single_piece", "n_keepouts": n, "error": _err(exc)}
+            save(results)
         sizes = [results["cases"][f"single_N{n}"] for n in opts.sizes]
         growth = {}
         for who in ("garnav", "pyvisgraph", "naive_allpairs"):
@@ -482,12 +491,20 @@ def run(opts: Options, which: tuple[str, ...], log=print) -> dict[str, Any]:
             results["cases"]["demo_buttons"] = run_demo(opts, log)
         except Exception as exc:
             results["cases"]["demo_buttons"] = {"kind": "demo_garment", "error": _err(exc)}
+        save(results)
     if "lift" in which:
         log("case lift ...")
-        results["cases"]["lift"] = run_lift(opts, log)
+        try:
+            results["cases"]["lift"] = run_lift(opts, log)
+        except Exception as exc:
+            results["cases"]["lift"] = {"kind": "lift", "error": _err(exc)}
+        save(results)
     if "cli" in which:
         log("case garnav demo (subprocess) ...")
-        results["cases"]["demo_cli"] = run_cli(opts, log)
+        try:
+            results["cases"]["demo_cli"] = run_cli(opts, log)
+        except Exception as exc:
+            results["cases"]["demo_cli"] = {"kind": "cli", "available": False, "error": _err(exc)}
     results["targets"] = evaluate_targets(results)
     results["total_s"] = time.perf_counter() - t_all
     try:
@@ -528,6 +545,7 @@ def main(argv: list[str] | None = None) -> int:
     ap.add_argument("--ref-budget", type=float,
                     help="skip a pyvisgraph build predicted to take longer (s) and report the estimate")
     ap.add_argument("--seed", type=int, default=0)
+    ap.add_argument("--from-json", metavar="JSON", help="do not run: report (and --write-md) from a results file")
     ap.add_argument("--note", help="free text recorded with the results (e.g. what changed)")
     ap.add_argument("--update", metavar="JSON",
                     help="merge this run's cases into an earlier results file (re-run part of the suite); "
@@ -539,19 +557,28 @@ def main(argv: list[str] | None = None) -> int:
     bad = [c for c in which if c not in ALL_CASES]
     if bad:
         ap.error(f"unknown case(s) {bad}; choose from {list(ALL_CASES)}")
-    opts = Options(args)
-    results = run(opts, which, log=lambda m: print(m, file=sys.stderr, flush=True))
+    from garnav.atomic import write_text_atomic
+
+    def dump(res):
+        return json.dumps(res, indent=1, default=_jsonable) + "\n"
+
+    if args.from_json:
+        results = json.loads(Path(args.from_json).read_text(encoding="utf-8"))
+        results["targets"] = evaluate_targets(results)
+    else:
+        opts = Options(args)
+        ckpt = (lambda res: write_text_atomic(args.json + ".partial", dump(res))) if args.json else None
+        results = run(opts, which, log=lambda m: print(m, file=sys.stderr, flush=True), checkpoint=ckpt)
     if args.update:
         results = merge_results(json.loads(Path(args.update).read_text(encoding="utf-8")), results)
     if args.note:
         results["note"] = args.note
-    print(format_report(results))
-    from garnav.atomic import write_text_atomic
-
     if args.json:
-        write_text_atomic(args.json, json.dumps(results, indent=1, default=_jsonable) + "\n")
+        write_text_atomic(args.json, dump(results))
+        Path(args.json + ".partial").unlink(missing_ok=True)
     if args.write_md:
         write_text_atomic(args.write_md, markdown_report(results))
+    print(format_report(results))
     return 0
 
 
