@@ -48,7 +48,14 @@ def evaluate_targets(res: dict[str, Any]) -> list[dict[str, Any]]:
     else:
         worst = max(e for _, e in errs if e is not None)
         bad = [k for k, e in errs if e is not None and abs(e) > 1e-9] + [k for k, ok in valid if ok is False]
-        detail = f"worst relative error {worst:.3g}"
+        n_all = sum(len(v.get("optimum_mm", [])) for v in single.values())
+        n_ok = sum(sum(o is not None for o in v.get("optimum_mm", [])) for v in single.values())
+        detail = f"worst relative error {worst:.3g} over {n_ok} of {n_all} queries with a verified optimum"
+        unverified = [f"{k}: {sum(o is None for o in v.get('optimum_mm', []))}" for k, v in single.items()
+                      if any(o is None for o in v.get("optimum_mm", []))]
+        if unverified:
+            detail += (" (no valid exact reference path for " + ", ".join(unverified)
+                       + "; garnav's own paths there are valid but unverified)")
         if missing:
             detail += f"; not checked: {', '.join(missing)}"
         if bad:
@@ -292,7 +299,13 @@ def markdown_report(res: dict[str, Any]) -> str:
                 notes.append(f"- {name}: free space from {fs['source']}, {fs['components']} component(s), "
                              f"{100 * fs['area_fraction']:.1f} % of the piece; pyvisgraph on the query component "
                              f"({_get(c, 'pyvisgraph', 'vertices')} vertices incl. its outside frame)"
-                             + (f"; {c['pyvisgraph']['note']}" if _get(c, 'pyvisgraph', 'note') else ""))
+                             + (f"; {c['pyvisgraph']['note']}" if _get(c, 'pyvisgraph', 'note') else "")
+                             + (f"; grid A* found no path for {c['grid_astar']['no_path']} of {len(c.get('pairs', []))} pairs "
+                                "(passages narrower than its cells), its query time covers the rest"
+                                if _get(c, 'grid_astar', 'no_path') else "")
+                             + (f"; {sum(o is None for o in c.get('optimum_mm', []))} pair(s) without a valid exact "
+                                "reference path (pyvisgraph's path left the free polygon)"
+                                if any(o is None for o in c.get('optimum_mm', [])) else ""))
             if c.get("kind") == "demo_garment" and "garnav" in c:
                 notes.append(f"- {name}: {c['buttons']} buttons added; routes by seam crossings "
                              f"{c['garnav'].get('crossings')}; failed queries {c['garnav'].get('failed_queries')}")
