@@ -62,7 +62,7 @@ def test_route_world_points_use_the_specs_drape(capsys):
     assert "seams crossed" in capsys.readouterr().out
     assert main(["route", str(SPEC), "--from", "xyz:0,-95,1455", "--to", "omphalion"]) == 2
     err = capsys.readouterr().err
-    assert "is 55 mm from the garment; the largest snap distance is 10 mm" in err
+    assert "is 55.0 mm from the garment; the largest snap distance is 10 mm" in err
 
 
 def test_route_on_a_mesh_alone(tmp_path, capsys):
@@ -74,4 +74,4 @@ def test_route_on_a_mesh_alone(tmp_path, capsys):
     # the fold is an isometry: the pattern route and its 3D image are both 150 + 150 mm
     assert "length         300.0 mm" in out and "3D length  300.0 mm on the drape" in out
     assert main(["route", str(mesh), "--from", "xyz:150,-30,200", "--to", "xyz:300,150,200"]) == 2
-    assert "30 mm from the garment" in capsys.readouterr().err
+    assert "30.0 mm from the garment" in capsys.readouterr().err

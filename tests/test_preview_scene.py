@@ -67,7 +67,7 @@ def test_keepout_faces_are_those_inside_the_zone():
     assert np.array_equal(mask, expect) and mask.sum() > 0
 
 
-def test_route_polyline_uses_path_3d():
+def test_route_polyline_uses_path3d():
     g = garments.two_panels()
     route = er.two_panel_route(np.random.default_rng(3))
     lifted = er.cylinder_lift(route)

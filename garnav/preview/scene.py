@@ -42,9 +42,6 @@ __all__ = [
     "off_screen_environment",
 ]
 
-# How far (mm) a route point may lie outside the drape's triangles when lifted for display only.
-DISPLAY_SNAP_MM = 5.0
-
 # Piece colours on the drape (our own muted palette), in garment piece order.
 PIECE_COLOURS = ("#9fb8ad", "#c9b79c", "#a9b4c2", "#d4a5a5", "#b5c99a", "#c3aed6", "#e3c88f", "#9cc5c9")
 
@@ -139,25 +136,25 @@ def keepout_face_mask(garment: Garment, drape) -> np.ndarray:
 def route_polyline(document: dict, drape=None, garment: Garment | None = None, source: str = "route"):
     """The 3D polyline of a ``garnav-route`` document.
 
-    Uses the document's ``path_3d`` when it has one; otherwise lifts its legs onto ``drape`` with
-    :func:`garnav.drape.lift_route`.
+    Uses the document's ``path3d`` (with the normals of ``path3d_detail``) when it has one;
+    otherwise lifts its legs onto ``drape`` with :func:`garnav.drape.lift_route`.
 
     Returns
     -------
     points : (M, 3) array, normals : (M, 3) array or None
     """
-    path = document.get("path_3d")
+    path = document.get("path3d")
     if path:
-        pts = np.asarray(path["points_mm"], dtype=float).reshape(-1, 3)
-        nrm = path.get("normals")
+        pts = np.asarray(path, dtype=float).reshape(-1, 3)
+        detail = document.get("path3d_detail") or {}
+        nrm = detail.get("normals")
         return pts, (np.asarray(nrm, dtype=float).reshape(-1, 3) if nrm else None)
     if drape is None or garment is None:
         raise MeshError(f"{source}: the route has no 3D path and the garment has no drape to lift it onto")
     from garnav.drape import lift_route
     from garnav.export.waypoints import document_route
 
-    # a route may hug a curved seam, which the mesh cuts by chords a few mm inside the pattern
-    lifted = lift_route(drape, garment, document_route(document), snap_mm=DISPLAY_SNAP_MM)
+    lifted = lift_route(drape, garment, document_route(document))
     return np.asarray(lifted.points, dtype=float), np.asarray(lifted.normals, dtype=float)
 
 
