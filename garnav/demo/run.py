@@ -29,6 +29,8 @@ from garnav.model import Garment, Robot
 __all__ = [
     "DemoRoute",
     "DemoResult",
+    "DemoScene",
+    "demo_scene",
     "DEMO_ROUTES",
     "DEMO_STEPS",
     "SCREENSHOT_NAME",
@@ -48,8 +50,7 @@ DEMO_ROUTES: tuple[tuple[str, str, str], ...] = (
 
 #: Labels passed to ``progress`` (one call after each step), in order.
 DEMO_STEPS: tuple[str, ...] = (
-    "garment",
-    "drape",
+    "garment and drape",
     "planner",
     *(f"route {s} → {g}" for s, g, _ in DEMO_ROUTES),
     "demo files",
@@ -120,6 +121,47 @@ class DemoResult:
     notes: tuple[str, ...] = ()
 
 
+@dataclass(frozen=True, eq=False)
+class DemoScene:
+    """The demo garment with its drape and mannequin, built in memory.
+
+    Attributes
+    ----------
+    garment : Garment
+        Checked; equal to the garment of ``meshes/sensing_top.toml``.
+    drape : garnav.drape.Drape
+        The drape mesh linked to the garment's pieces.
+    body : (vertices (B, 3), faces (G, 3))
+        The mannequin, world mm.
+    drape_mesh, body_mesh : garnav.demo.mesh.DrapeMesh, BodyMesh
+        The raw meshes (what ``garnav demo --rebuild`` writes as OBJ).
+    """
+
+    garment: Garment
+    drape: object
+    body: tuple
+    drape_mesh: object
+    body_mesh: object
+
+
+def demo_scene() -> DemoScene:
+    """Build the demo garment, its drape and its mannequin in memory (about a second, no files)."""
+    from garnav.demo.mesh import build_body, build_drape
+    from garnav.demo.pattern import build_design
+    from garnav.drape import link_drape
+    from garnav.drape.meshio import uv_mesh_from_arrays
+    from garnav.spec import check_garment
+
+    design = build_design()
+    garment = check_garment(design.garment, "<demo>")
+    mesh = build_drape(design)
+    body = build_body(design)
+    drape = link_drape(
+        garment, uv_mesh_from_arrays(mesh.vertices, mesh.faces, mesh.uv[mesh.face_uv], source="<demo drape>")
+    )
+    return DemoScene(garment, drape, (body.vertices, body.faces), mesh, body)
+
+
 def run_demo(
     out_dir: str | os.PathLike,
     progress: Callable[[str], None] | None = None,
@@ -143,15 +185,13 @@ def run_demo(
     """
     from garnav.atomic import write_text_atomic
     from garnav.demo.build import BODY_NAME, DRAPE_NAME, SPEC_NAME
-    from garnav.demo.mesh import body_obj_text, build_body, build_drape, drape_obj_text
-    from garnav.demo.pattern import build_design
-    from garnav.drape import lift_route, link_drape
+    from garnav.demo.mesh import body_obj_text, drape_obj_text
+    from garnav.drape import lift_route
     from garnav.drape.inverse import pattern_locator
-    from garnav.drape.meshio import uv_mesh_from_arrays
     from garnav.export.commands import route_commands, write_commands
     from garnav.export.waypoints import route_document, write_route_csv, write_route_json
     from garnav.plan import Planner
-    from garnav.spec import check_garment, save_garment
+    from garnav.spec import save_garment
 
     from garnav.errors import GarnavError
 
@@ -170,16 +210,10 @@ def run_demo(
         clock[0] = now
         step(label)
 
-    design = build_design()
-    garment = check_garment(design.garment, "<demo>")
+    scene = demo_scene()
+    garment, drape, mesh, body = scene.garment, scene.drape, scene.drape_mesh, scene.body_mesh
     robot = garment.robot or Robot()
-    done("garment")
-    mesh = build_drape(design)
-    body = build_body(design)
-    drape = link_drape(
-        garment, uv_mesh_from_arrays(mesh.vertices, mesh.faces, mesh.uv[mesh.face_uv], source="<demo drape>")
-    )
-    done("drape")
+    done("garment and drape")
     planner = Planner(garment, robot, locate_3d=pattern_locator(drape, garment))
     done("planner")
 
