@@ -16,7 +16,7 @@ from scipy.spatial.transform import Rotation
 import export_routes as er
 import garments
 from garnav import Robot
-from garnav.errors import GarnavError
+from garnav.errors import GarnavError, QueryError
 from garnav.export.commands import route_commands, write_commands
 from garnav.export.waypoints import (
     CSV_COLUMNS,
@@ -24,6 +24,7 @@ from garnav.export.waypoints import (
     document_csv,
     document_json,
     quaternion_xyzw,
+    read_route_document,
     route_document,
     route_schema,
     write_route_csv,
@@ -208,3 +209,17 @@ def test_a_failed_write_leaves_no_partial_file(tmp_path, monkeypatch, name):
     assert os.listdir(tmp_path) == [name]
     write(target)
     assert target.read_text() != "old content"
+
+
+def test_reading_a_document_with_the_early_key_names_says_so(tmp_path):
+    route = er.two_panel_route(np.random.default_rng(5))
+    doc = json.loads(document_json(route_document(route, garments.two_panels())))
+    for w in doc["waypoints"]:
+        w["x_mm"], w["y_mm"] = w.pop("x"), w.pop("y")
+    path = tmp_path / "old.json"
+    path.write_text(json.dumps(doc))
+    with pytest.raises(QueryError, match=r"old\.json: written with the early key names.*plan the route again"):
+        read_route_document(path)
+    good = tmp_path / "new.json"
+    write_route_json(good, route_document(route, garments.two_panels()))
+    assert read_route_document(good)["length_mm"] == pytest.approx(route.length_mm)

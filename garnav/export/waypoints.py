@@ -417,6 +417,11 @@ def read_route_document(path) -> dict:
     wps = doc.get("waypoints")
     if not isinstance(wps, list) or len(wps) < 2:
         raise QueryError(f"{p}: 'waypoints' must be a list of at least two waypoints")
+    if isinstance(wps[0], dict) and "x_mm" in wps[0] and "x" not in wps[0]:
+        raise QueryError(
+            f"{p}: written with the early key names (waypoint x_mm, y_mm, world_mm; summary "
+            f"pattern_length_mm; path_3d); plan the route again to write length_mm, x, y, xyz, path3d"
+        )
     for i, w in enumerate(wps):
         for key, kind in (("leg", int), ("piece", str), ("x", (int, float)), ("y", (int, float))):
             if not isinstance(w, dict) or not isinstance(w.get(key), kind) or isinstance(w.get(key), bool):
