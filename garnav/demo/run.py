@@ -191,9 +191,8 @@ def run_demo(
     from garnav.export.commands import route_commands, write_commands
     from garnav.export.waypoints import route_document, write_route_csv, write_route_json
     from garnav.plan import Planner
-    from garnav.spec import save_garment
-
     from garnav.errors import GarnavError
+    from garnav.spec import save_garment
 
     step = progress or (lambda label: None)
     out = Path(out_dir)
@@ -235,7 +234,7 @@ def run_demo(
                 )
             ),
         }
-        for kind, path in rfiles.items():
+        for path in rfiles.values():
             files[path.name] = path
         routes.append(DemoRoute(name, start, goal, about, route, lifted, doc, rfiles))
         done(f"route {start} → {goal}")
