@@ -24,6 +24,8 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Callable
 
+import numpy as np
+
 from garnav.model import Garment, Robot
 
 __all__ = [
@@ -280,7 +282,8 @@ def run_demo(
 
 def summary_table(result: DemoResult) -> str:
     """The demo routes as a text table: length on the pattern and on the drape, seams crossed,
-    turns, climb up and down (world z) and the estimated driving time."""
+    turns (as ``garnav route`` counts them: more than 0.5°, and their total), climb up and down
+    (world z) and the estimated time (driving plus turning in place)."""
     head = ("route", "length", "3D length", "seams crossed", "turns", "climb up/down", "time")
     rows = [head]
     for r in result.routes:
@@ -293,7 +296,7 @@ def summary_table(result: DemoResult) -> str:
                 f"{doc['length_mm']:.1f} mm",
                 f"{doc['length_3d_mm']:.1f} mm",
                 f"{s['crossing_count']} ({seams})",
-                f"{s['turn_count']} ({s['turn_total_deg']:.0f}°)",
+                f"{r.route.turn_count()} ({float(np.sum(np.abs(r.route.turns_deg))):.0f}°)",
                 f"{s['climb_up_mm']:.0f}/{s['climb_down_mm']:.0f} mm",
                 f"{s['estimated_time_s']:.1f} s",
             )
