@@ -25,7 +25,6 @@ QUERIES = (
     ("wrist_left", "omphalion"),
     ("olecranon_right", "dock"),
     ("acromion_left", "acromion_right"),
-    ("suprasternale", "dock"),
 )
 
 

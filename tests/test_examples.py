@@ -38,11 +38,8 @@ def test_route_between_landmarks(tmp_path, capsys):
     first = results[0]
     assert (first["start"], first["goal"]) == ("wrist_left", "sternum_left")
     assert first["seams_crossed"] == ["armhole_left_front"]
-    # one planner answering many queries gives what a fresh planner gives for each query alone
-    from garnav.demo import demo_garment
-    from garnav.plan import plan_route
-
-    assert plan_route(demo_garment(), "wrist_left", "sternum_left").length_mm == pytest.approx(first["length_mm"], abs=1e-3)
+    # around the neck opening: the yoke alone, no seam
+    assert results[3]["seams_crossed"] == [] and results[3]["turns"] > 0
 
 
 def test_preview_route(tmp_path, capsys):
