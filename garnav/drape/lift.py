@@ -1,11 +1,13 @@
 """Lift pattern-space polylines onto the draped 3D surface.
 
 A straight pattern segment is mapped affinely inside each triangle, so its image is a straight 3D
-segment per triangle, bending where it crosses a triangle edge. :func:`lift_polyline` walks the
-triangles of the piece along each segment ("straight walk"; Devillers, Pion, Teillaud, *Walking in
-a triangulation*, Int. J. Found. Comput. Sci. 13(2), 2002), inserting a point at every edge
-crossing, so that the 3D polyline lies on the surface. :func:`lift_route` lifts every leg of a
-planned route and joins legs at their seam crossings.
+segment per triangle, bending where it crosses a triangle edge. :func:`lift_polyline` inserts a
+point at every edge crossing, so that the 3D polyline lies on the surface: all segments of the
+polyline are split at once (:mod:`garnav.drape.split`: crossings with the edges of the triangles
+in the grid buckets each segment passes through). Should a piece between split points not lie in
+its triangle, the polyline is walked triangle by triangle instead ("straight walk"; Devillers,
+Pion, Teillaud, *Walking in a triangulation*, Int. J. Found. Comput. Sci. 13(2), 2002).
+:func:`lift_route` lifts every leg of a planned route and joins legs at their seam crossings.
 """
 
 from __future__ import annotations
@@ -16,6 +18,8 @@ from functools import cached_property
 import numpy as np
 
 from garnav.drape.drape import Drape
+from garnav.drape.locate import barycentric_2d
+from garnav.drape.split import split_segments
 from garnav.errors import QueryError
 from garnav.model import Garment
 
@@ -23,6 +27,11 @@ __all__ = ["LiftedPath", "LiftedRoute", "lift_polyline", "lift_route"]
 
 #: Barycentric slack when deciding that a point is inside a triangle (relative, unitless).
 _EPS = 1e-12
+#: A piece between split points lies in a triangle when no barycentric coordinate of its ends
+#: is below -_TOL (unitless); otherwise it runs outside the island (a hair outside its boundary).
+_TOL = 1e-9
+#: Split points closer than this (mm) along a segment are one point.
+_MERGE_MM = 1e-10
 
 
 @dataclass(frozen=True, eq=False)
@@ -73,6 +82,12 @@ def lift_polyline(
 ) -> LiftedPath:
     """Densify a piece-frame polyline at every triangle edge it crosses.
 
+    All segments are split at once (:func:`garnav.drape.split.split_segments`: the crossings of
+    each segment with the edges of the triangles in the grid buckets it passes through). A
+    stretch outside the piece's triangles is moved onto the island's boundary; should a piece
+    between split points not lie in its triangle (a mesh that is not a proper triangulation),
+    the polyline is walked triangle by triangle instead.
+
     Parameters
     ----------
     drape : Drape
@@ -97,6 +112,125 @@ def lift_polyline(
         raise QueryError(f"{drape.source}: nothing to lift on piece '{piece}' (no points)")
     hits = drape.locate(piece, pts, snap_mm)
     target = drape.to_pattern(hits.face, hits.bary)
+    if len(pts) == 1:
+        xy, face, bary, wp = target, hits.face, hits.bary, np.array([0])
+    else:
+        try:
+            dense = _lift_split(drape, piece, hits, target, snap_mm)
+        except QueryError:  # confirmed (or not) by the walk, which raises the same message
+            dense = None
+        if dense is None:
+            dense = _lift_walk(drape, piece, hits, target, snap_mm)
+        xy, face, bary, wp = dense
+    # drop repeated points (a walk through a vertex), never a waypoint
+    is_wp = np.zeros(len(xy), dtype=bool)
+    is_wp[wp] = True
+    same_next = np.all(np.abs(np.diff(xy, axis=0)) <= 1e-12, axis=1)  # point j equals j + 1
+    keep = np.ones(len(xy), dtype=bool)
+    keep[1:] &= ~(same_next & ~is_wp[1:])
+    keep[:-1] &= ~(same_next & ~is_wp[:-1] & is_wp[1:])
+    new_index = np.cumsum(keep) - 1
+    return LiftedPath(
+        piece=piece,
+        pattern=xy[keep],
+        face=np.asarray(face, dtype=np.int64)[keep],
+        bary=bary[keep],
+        waypoint_index=new_index[np.asarray(wp)],
+        snap=np.asarray(hits.snap),
+    )
+
+
+def _clipped_bary(drape: Drape, face: np.ndarray, xy: np.ndarray) -> np.ndarray:
+    """(n, 3) barycentric coordinates of xy (n, 2) in faces (n,), clipped to >= 0, summing to 1."""
+    lam = np.clip(barycentric_2d(drape.corner_pattern[face], xy), 0.0, None)
+    return lam / lam.sum(axis=1, keepdims=True)
+
+
+def _lift_split(drape: Drape, piece: str, hits, target: np.ndarray, snap_mm: float):
+    """Dense points of the polyline through ``target`` (n >= 2, on the mesh) by splitting all its
+    segments at once. Returns (xy (M, 2), face (M,), bary (M, 3), waypoint rows (n,)), or None
+    when a piece between split points does not lie in its triangle (then walk)."""
+    ids, loc = drape._locator(piece)
+    local = np.searchsorted(ids, hits.face)
+    sp = split_segments(loc, target[:-1], target[1:], local[:-1], local[1:], _TOL, _MERGE_MM)
+    n_g = len(sp.seg)
+    is_piece = sp.is_piece
+    face = sp.piece_face
+    length = np.linalg.norm(sp.xy[np.minimum(np.arange(n_g) + 1, n_g - 1)] - sp.xy, axis=1)
+    inside = (sp.piece_score >= -_TOL) | (length <= 2.0 * _MERGE_MM)
+    outside = is_piece & ~inside
+    if np.any(outside):
+        # a piece off its best triangle must lie off every triangle: if its midpoint is in one
+        # (beyond rounding), the split missed a crossing
+        out = np.flatnonzero(outside)
+        hit, _ = loc.locate(0.5 * (sp.xy[out] + sp.xy[out + 1]), tol=-_TOL)
+        if np.any(hit >= 0):
+            return None
+    gface = np.where(outside, -1, ids[np.maximum(face, 0)])
+
+    last = ~is_piece
+    first = np.ones(n_g, dtype=bool)
+    first[1:] = last[:-1]
+    prev = np.maximum(np.arange(n_g) - 1, 0)
+    # a split point between two outside pieces is replaced by the boundary; the first point of a
+    # segment after the first is the previous segment's last point
+    keep = ~(first & (sp.seg > 0)) & ~(~first & ~last & outside & outside[prev])
+    pt_face = np.where(outside[prev], gface, gface[prev])
+    wp_group = np.flatnonzero((first & (sp.seg == 0)) | last)  # waypoint j is group wp_group[j]
+    mid = np.flatnonzero(keep & ~first & ~last)
+    xy = sp.xy
+    face_out = np.empty(n_g, dtype=np.int64)
+    bary = np.empty((n_g, 3))
+    face_out[wp_group] = hits.face
+    bary[wp_group] = hits.bary
+    face_out[mid] = pt_face[mid]
+    bary[mid] = _clipped_bary(drape, pt_face[mid], xy[mid])
+
+    kept = np.flatnonzero(keep)
+    pos_of = np.cumsum(keep) - 1  # row in the kept arrays of each kept group
+    xy_k, face_k, bary_k = xy[kept], face_out[kept], bary[kept]
+    wp_rows = pos_of[wp_group]
+    runs = np.flatnonzero(outside & ~(outside[prev] & ~first))  # first outside piece of each run
+    if len(runs):
+        segs, seg_face, seg_k = drape.boundary_segments(piece)
+        at, add_xy, add_face = [], [], []
+        for ga in runs.tolist():
+            gb = ga + 1
+            while outside[gb]:
+                gb += 1
+            start, end = xy[ga], xy[gb]
+            _check_stretch(drape, piece, segs, start, end, snap_mm)
+            for x, y, f in _boundary_vertices_along(segs, seg_face, seg_k, start, end, snap_mm):
+                at.append(int(pos_of[ga]) + 1)
+                add_xy.append((x, y))
+                add_face.append(f)
+        if at:
+            add_xy_a = np.array(add_xy)
+            add_face_a = np.array(add_face, dtype=np.int64)
+            xy_k = np.insert(xy_k, at, add_xy_a, axis=0)
+            face_k = np.insert(face_k, at, add_face_a)
+            bary_k = np.insert(bary_k, at, _clipped_bary(drape, add_face_a, add_xy_a), axis=0)
+            wp_rows = wp_rows + np.searchsorted(np.array(at), wp_rows, side="right")
+    return xy_k, face_k, bary_k, wp_rows
+
+
+def _check_stretch(drape: Drape, piece: str, segs, start, end, snap_mm: float) -> None:
+    """Refuse a straight stretch outside the island that comes farther than snap_mm from it."""
+    deviation = _stretch_deviation(segs, start, end, snap_mm)
+    if deviation > snap_mm:
+        raise QueryError(
+            f"{drape.source}: the path on piece '{piece}' leaves the drape's triangles at "
+            f"({start[0]:.1f}, {start[1]:.1f}) mm for {float(np.linalg.norm(end - start)):.1f} mm, "
+            f"up to {deviation:.1f} mm away (allowed: {snap_mm:g} mm)"
+        )
+
+
+def _lift_walk(drape: Drape, piece: str, hits, target: np.ndarray, snap_mm: float):
+    """Dense points by walking the triangles along each segment, one triangle at a time.
+
+    The fallback of :func:`_lift_split` (same result on a proper triangulation, about 9 µs per
+    dense point). Returns (xy, face, bary, waypoint rows) like it.
+    """
     cp = drape.corner_pattern
     nb = drape.topology.neighbor
     segs, seg_face, seg_k = drape.boundary_segments(piece)
@@ -106,7 +240,7 @@ def lift_polyline(
     out_face: list[int] = [int(hits.face[0])]
     out_bary: list[list[float]] = [hits.bary[0].tolist()]
     wp = [0]
-    for i in range(len(pts) - 1):
+    for i in range(len(target) - 1):
         f = int(hits.face[i])
         px, py = target[i].tolist()
         bx, by = target[i + 1].tolist()
@@ -152,26 +286,7 @@ def lift_polyline(
         out_face.append(int(hits.face[i + 1]))
         out_bary.append(hits.bary[i + 1].tolist())
         wp.append(len(out_xy) - 1)
-
-    xy = np.array(out_xy)
-    face = np.array(out_face, dtype=np.int64)
-    bary = np.array(out_bary)
-    # drop repeated points (a walk through a vertex), never a waypoint
-    is_wp = np.zeros(len(xy), dtype=bool)
-    is_wp[wp] = True
-    same_next = np.all(np.abs(np.diff(xy, axis=0)) <= 1e-12, axis=1)  # point j equals j + 1
-    keep = np.ones(len(xy), dtype=bool)
-    keep[1:] &= ~(same_next & ~is_wp[1:])
-    keep[:-1] &= ~(same_next & ~is_wp[:-1] & is_wp[1:])
-    new_index = np.cumsum(keep) - 1
-    return LiftedPath(
-        piece=piece,
-        pattern=xy[keep],
-        face=face[keep],
-        bary=bary[keep],
-        waypoint_index=new_index[np.array(wp)],
-        snap=np.asarray(hits.snap),
-    )
+    return np.array(out_xy), np.array(out_face, dtype=np.int64), np.array(out_bary), np.array(wp)
 
 
 def _exit_edge(lp, lb, skip: int) -> tuple[float, int]:
@@ -226,13 +341,7 @@ def _reenter(drape, piece, segs, seg_face, seg_k, xy, b, snap_mm, out_xy, out_fa
     t_end = float(t[j]) if j >= 0 else 1.0
     end = np.array([x0 + t_end * dx, y0 + t_end * dy])
     start = np.array([x0, y0])
-    deviation = _stretch_deviation(segs, start, end, snap_mm)
-    if deviation > snap_mm:
-        raise QueryError(
-            f"{drape.source}: the path on piece '{piece}' leaves the drape's triangles at "
-            f"({x0:.1f}, {y0:.1f}) mm for {t_end * length:.1f} mm, up to {deviation:.1f} mm away "
-            f"(allowed: {snap_mm:g} mm)"
-        )
+    _check_stretch(drape, piece, segs, start, end, snap_mm)
     for x, y, f in _boundary_vertices_along(segs, seg_face, seg_k, start, end, snap_mm):
         out_xy.append((x, y))
         out_face.append(f)

@@ -114,6 +114,13 @@ class TriangleLocator:
             ) / det[:, None, None]
         return np.ascontiguousarray(tri[:, 0]), inv
 
+    @cached_property
+    def affine_rows(self) -> np.ndarray:
+        """(T, 6) per triangle: first corner (x, y) and its inverse edge matrix row by row
+        (i00, i01, i10, i11): barycentric (l1, l2) of a point = inverse @ (point - corner)."""
+        origin, inv = self._affine
+        return np.ascontiguousarray(np.column_stack([origin, inv.reshape(-1, 4)]))
+
     def locate(
         self, points: np.ndarray, tol: float = 1e-9, chunk: int = 1 << 16
     ) -> tuple[np.ndarray, np.ndarray]:
