@@ -63,6 +63,8 @@ class BoundaryIndex:
         keep = np.any(p != q, axis=1)
         self.p, self.q = p[keep], q[keep]
         self.len_pq = np.hypot(*(self.q - self.p).T)
+        self.px, self.py = self.p[:, 0].copy(), self.p[:, 1].copy()
+        self.qx, self.qy = self.q[:, 0].copy(), self.q[:, 1].copy()
         e = len(self.p)
         if e:
             lo = np.minimum(self.p.min(0), self.q.min(0))
@@ -147,46 +149,46 @@ class BoundaryIndex:
     def _pair_flags(self, a, b, lab, s, e):
         """Flags of candidate pairs (segment s[i] of a → b, edge e[i]): (proper crossing,
         unsure contact, segment equals the edge), each (len(s),) bool."""
-        A, B = a[s], b[s]
-        P, Q = self.p[e], self.q[e]
-        ab = B - A
+        ax, ay = a[s, 0], a[s, 1]
+        ux, uy = b[s, 0] - ax, b[s, 1] - ay
+        px, py, qx, qy = self.px[e], self.py[e], self.qx[e], self.qy[e]
         L = lab[s]
+        dtol = self.dtol
 
-        def orient(u, base, w, length):
-            d = w - base
-            left = u[:, 0] * d[:, 1]
-            right = u[:, 1] * d[:, 0]
+        def sign(left, right, length):
             o = left - right
-            tol = _REL * (np.abs(left) + np.abs(right)) + self.dtol * length
-            return np.where(np.abs(o) <= tol, 0, np.sign(o)).astype(np.int8)
+            tol = _REL * (np.abs(left) + np.abs(right)) + dtol * length
+            return (o > tol).astype(np.int8) - (o < -tol).astype(np.int8)
 
-        s1 = orient(ab, A, P, L)
-        s2 = orient(ab, A, Q, L)
+        s1 = sign(ux * (py - ay), uy * (px - ax), L)
+        s2 = sign(ux * (qy - ay), uy * (qx - ax), L)
         # the edge wholly on one side of the segment's line: no contact (most pairs)
-        live = s1 * s2 <= 0
         n = len(s)
         proper = np.zeros(n, dtype=bool)
         unsure = np.zeros(n, dtype=bool)
         same = np.zeros(n, dtype=bool)
-        if not live.any():
+        idx = np.nonzero(s1 * s2 <= 0)[0]
+        if not len(idx):
             return proper, unsure, same
-        idx = np.nonzero(live)[0]
-        A, B, P, Q, ab, L, s1, s2 = A[idx], B[idx], P[idx], Q[idx], ab[idx], L[idx], s1[idx], s2[idx]
-        pq = Q - P
-        lpq = self.len_pq[e[idx]]
-        s3 = orient(pq, P, A, lpq)
-        s4 = orient(pq, P, B, lpq)
-        pa = np.all(P == A, axis=1)
-        qa = np.all(Q == A, axis=1)
-        pb = np.all(P == B, axis=1)
-        qb = np.all(Q == B, axis=1)
+        ax, ay, ux, uy, L, s1, s2 = ax[idx], ay[idx], ux[idx], uy[idx], L[idx], s1[idx], s2[idx]
+        ee = e[idx]
+        px, py, qx, qy = px[idx], py[idx], qx[idx], qy[idx]
+        sb = s[idx]
+        bx, by = b[sb, 0], b[sb, 1]
+        vx, vy, lpq = qx - px, qy - py, self.len_pq[ee]
+        s3 = sign(vx * (ay - py), vy * (ax - px), lpq)
+        s4 = sign(vx * (by - py), vy * (bx - px), lpq)
+        pa = (px == ax) & (py == ay)
+        qa = (qx == ax) & (qy == ay)
+        pb = (px == bx) & (py == by)
+        qb = (qx == bx) & (qy == by)
         shared = pa | qa | pb | qb
         eq = (pa & qb) | (qa & pb)
         # projections of the edge ends on the segment (separated collinear-ish pairs)
         dd = np.maximum(L * L, 1e-300)
-        tp = ((P - A) * ab).sum(1) / dd
-        tq = ((Q - A) * ab).sum(1) / dd
-        margin = 1e-9 + self.dtol / np.maximum(L, 1e-300)
+        tp = ((px - ax) * ux + (py - ay) * uy) / dd
+        tq = ((qx - ax) * ux + (qy - ay) * uy) / dd
+        margin = 1e-9 + dtol / np.maximum(L, 1e-300)
         apart = (np.maximum(tp, tq) < -margin) | (np.minimum(tp, tq) > 1.0 + margin)
         pr = (s1 * s2 < 0) & (s3 * s4 < 0) & ~shared
         clear = (s3 * s4 > 0) | apart
@@ -199,12 +201,14 @@ class BoundaryIndex:
         same[idx] = eq
         return proper, unsure, same
 
-    def classify(self, a: np.ndarray, b: np.ndarray, step_cells: float = 4.0) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    def classify(self, a: np.ndarray, b: np.ndarray, step_cells: float | None = None) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         """Per segment (m,): ``crossing`` (certainly leaves the region), ``delicate`` (needs the
         exact test), ``on_edge`` (is a boundary edge, so lies in the closed region).
 
         Segments are walked from ``a`` in stretches of ``step_cells`` cells; a segment found
-        crossing or delicate is not walked further (most blocked segments end early)."""
+        crossing or delicate is not walked further (most blocked segments end early). By default
+        large batches take 4-cell stretches and small ones (under 2,000 segments, where the
+        per-stretch overhead weighs more) 8-cell stretches (measured best on the benchmark cases)."""
         a = np.asarray(a, dtype=float).reshape(-1, 2)
         b = np.asarray(b, dtype=float).reshape(-1, 2)
         m = len(a)
@@ -215,6 +219,8 @@ class BoundaryIndex:
             return crossing, delicate, on_edge
         d = b - a
         lab = np.hypot(d[:, 0], d[:, 1])
+        if step_cells is None:
+            step_cells = 4.0 if m >= 2000 else 8.0
         nstep = np.maximum(np.ceil(lab / (step_cells * self.cell)), 1.0)
         rounds = int(nstep.max())
         live = np.arange(m)
