@@ -33,6 +33,7 @@ __all__ = ["BoundaryIndex", "boundary_index", "segments_in_region"]
 _REL = 1e-12  # relative orientation bound (see module docstring)
 _ABS = 1e-11  # distance bound, as a fraction of the coordinate scale
 _MAX_CELLS = 1 << 20
+SMALL_BATCH = 8  # up to this many segments, shapely.covers alone is cheaper than the numpy walk
 
 
 class BoundaryIndex:
@@ -262,14 +263,16 @@ def boundary_index(region: shapely.Geometry) -> BoundaryIndex | None:
 def segments_in_region(region: shapely.Geometry, a: np.ndarray, b: np.ndarray, chunk: int = 4096) -> np.ndarray:
     """Whether each segment a[i] → b[i] (each (m, 2), mm) lies in the closed ``region``; (m,) bool.
 
-    Same answer as ``shapely.covers(region, LineString([a[i], b[i]]))`` (see module docstring).
+    Same answer as ``shapely.covers(region, LineString([a[i], b[i]]))`` (see module docstring);
+    batches of up to ``SMALL_BATCH`` segments are handed to ``covers`` directly (the numpy walk
+    has a fixed cost of a few hundred microseconds).
     """
     a = np.asarray(a, dtype=float).reshape(-1, 2)
     b = np.asarray(b, dtype=float).reshape(-1, 2)
     out = np.zeros(len(a), dtype=bool)
     if not len(a) or region.is_empty:
         return out
-    index = boundary_index(region)
+    index = boundary_index(region) if len(a) > SMALL_BATCH else None
     if index is None:
         return shapely.covers(region, shapely.linestrings(np.stack([a, b], axis=1)))
     for s0 in range(0, len(a), chunk):
