@@ -25,6 +25,8 @@ def write_bytes_atomic(path: str | os.PathLike, data: bytes) -> Path:
     except OSError as exc:
         raise GarnavError(f"{target}: cannot write: {exc.strerror or exc}") from None
     try:
+        # mkstemp makes the file private (0600); give it the mode a plain open() would.
+        os.chmod(tmp, 0o666 & ~_umask())
         with os.fdopen(fd, "wb") as fh:
             fh.write(data)
             fh.flush()
@@ -39,6 +41,13 @@ def write_bytes_atomic(path: str | os.PathLike, data: bytes) -> Path:
             raise GarnavError(f"{target}: cannot write: {exc.strerror or exc}") from None
         raise
     return target
+
+
+def _umask() -> int:
+    """The process's file-creation mask (read by setting and restoring it)."""
+    mask = os.umask(0o022)
+    os.umask(mask)
+    return mask
 
 
 def write_text_atomic(path: str | os.PathLike, text: str) -> Path:

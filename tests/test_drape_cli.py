@@ -62,7 +62,7 @@ def test_route_world_points_use_the_specs_drape(capsys):
     assert "seams crossed" in capsys.readouterr().out
     assert main(["route", str(SPEC), "--from", "xyz:0,-95,1455", "--to", "omphalion"]) == 2
     err = capsys.readouterr().err
-    assert "is 55 mm from the garment; the largest snap distance is 10 mm" in err
+    assert "is 55.0 mm from the garment; the largest snap distance is 10 mm" in err
 
 
 def test_route_on_a_mesh_alone(tmp_path, capsys):
@@ -74,4 +74,28 @@ def test_route_on_a_mesh_alone(tmp_path, capsys):
     # the fold is an isometry: the pattern route and its 3D image are both 150 + 150 mm
     assert "length         300.0 mm" in out and "3D length  300.0 mm on the drape" in out
     assert main(["route", str(mesh), "--from", "xyz:150,-30,200", "--to", "xyz:300,150,200"]) == 2
-    assert "30 mm from the garment" in capsys.readouterr().err
+    assert "30.0 mm from the garment" in capsys.readouterr().err
+
+
+def test_route_json_on_a_mesh_alone_carries_the_3d_path(tmp_path, capsys):
+    import json
+
+    import jsonschema
+
+    from garnav.export.waypoints import route_schema
+
+    g, m = dm.folded_panels()
+    mesh = save_obj(m, tmp_path / "panels.obj")
+    out = tmp_path / "r.json"
+    assert main(["route", str(mesh), "--from", "xyz:150,0,200", "--to", "xyz:300,150,200", "--json", str(out)]) == 0
+    doc = json.loads(out.read_text())
+    # reference: jsonschema's Draft 2020-12 validator against the shipped schema
+    jsonschema.Draft202012Validator(route_schema()).validate(doc)
+    # the fold is an isometry: 150 mm to the fold on y = 0, 150 mm beyond it on x = 300
+    assert doc["length_mm"] == pytest.approx(300.0, abs=1e-6) and doc["length_3d_mm"] == pytest.approx(300.0, abs=1e-6)
+    assert doc["path3d"][0] == pytest.approx([150.0, 0.0, 200.0], abs=1e-6)
+    assert doc["path3d"][-1] == pytest.approx([300.0, 150.0, 200.0], abs=1e-6)
+    assert [w["piece"] for w in doc["waypoints"]][0] != doc["waypoints"][-1]["piece"]
+    capsys.readouterr()
+    assert main(["route", str(mesh), "--from", "xyz:150,0,200", "--to", "xyz:300,150,200", "--no-drape"]) == 2
+    assert "is a mesh, which is its own drape" in capsys.readouterr().err

@@ -183,5 +183,5 @@ def test_demo_world_point_through_the_planner(demo_planner):
 
     # the body landmark snaps through the drape (3 mm off the garment in the demo)
     assert demo_planner.point("cervicale").piece == "yoke"
-    with pytest.raises(QueryError, match=r"is 55 mm from the garment; the largest snap distance is 10 mm"):
+    with pytest.raises(QueryError, match=r"is 55\.0 mm from the garment; the largest snap distance is 10 mm"):
         demo_planner.point("xyz:0,-95,1455")

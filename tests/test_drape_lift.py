@@ -168,12 +168,33 @@ def test_segment_over_a_gap_in_the_mesh():
     cut = uv_mesh_from_arrays(m.positions, m.faces[~notch], m.corner_uv[~notch])
     d = link_drape(g, cut)
     seg = np.array([[50.0, 5.0], [150.0, 5.0]])
-    with pytest.raises(QueryError, match=r"leaves the drape's triangles at \(100\.0, 5\.0\) mm for 10\.0 mm"):
+    with pytest.raises(QueryError, match=r"leaves the drape's triangles at \(100\.0, 5\.0\) mm for 10\.0 mm, up to 5\.0 mm away"):
         lift_polyline(d, "panel", seg, snap_mm=1.0)
     path = lift_polyline(d, "panel", seg, snap_mm=12.0)
     pts = d.to_3d(path.face, path.bary)
     assert np.linalg.norm(np.diff(pts, axis=0), axis=1).sum() == pytest.approx(100.0)
     np.testing.assert_allclose(pts[:, :2], path.pattern, atol=1e-9)
+
+
+def test_segment_hugging_the_boundary_follows_it_in_3d(cyl):
+    # a route that hugs an edge lies a few µm outside the mesh after file rounding; it may do so for
+    # its whole length (the snap distance bounds how far out, not how long) and is lifted onto
+    # the boundary vertex by vertex: here the tube's bottom edge, a circle of radius 50 in z = 0
+    g, d = cyl
+    r = 50.0
+    a, b = np.array([5.0, -0.002]), np.array([5.0 + 0.5 * math.pi * r, -0.002])
+    path = lift_polyline(d, "tube", np.array([a, b]))
+    pts = d.to_3d(path.face, path.bary)
+    assert len(pts) > 30  # every boundary vertex passed (128 around the full circle)
+    np.testing.assert_allclose(pts[:, 2], 0.0, atol=1e-9)
+    # reference: arc length r·Δθ of a circle; the facets' chords are shorter by at most a factor
+    # sin(π/128)/(π/128) (chord 2r·sin(Δθ/2) of each facet)
+    chord = math.sin(math.pi / 128) / (math.pi / 128)
+    assert _length(pts) <= 0.5 * math.pi * r + 1e-6
+    assert _length(pts) >= 0.5 * math.pi * r * chord - 1e-6
+    # half a millimetre outside is within the default 1 mm too (a gap is refused: see below)
+    far = lift_polyline(d, "tube", np.array([[5.0, -0.5], [80.0, -0.5]]))
+    assert np.all(np.abs(d.to_3d(far.face, far.bary)[:, 2]) < 1e-9) and len(far.pattern) > 10
 
 
 def test_many_segments_including_ones_along_mesh_edges(cyl):

@@ -12,7 +12,7 @@ import drape_meshes as dm
 import garments
 from garnav import Garment, Landmark, Placement
 from garnav.drape import drape_report, link_drape, locate_3d, surface_to_pattern
-from garnav.drape.inverse import closest_surface_points
+from garnav.drape.inverse import closest_surface_points, distance_text
 from garnav.drape.meshio import uv_mesh_from_arrays
 from garnav.errors import MeshError, QueryError
 
@@ -170,7 +170,7 @@ def test_locate_3d_too_far(cyl):
     g, d = cyl
     with pytest.raises(
         QueryError,
-        match=r"landmark 'cervicale' \(0\.0, 0\.0, 150\.0\) is 50 mm from the garment; "
+        match=r"landmark 'cervicale' \(0\.0, 0\.0, 150\.0\) is 49\.9 mm from the garment; "  # the facets lie inside r = 50
         r"the largest snap distance is 10 mm",
     ):
         locate_3d(d, g, (0.0, 0.0, 150.0), what="landmark 'cervicale'")
@@ -215,3 +215,11 @@ def test_report_snaps_body_landmarks(cyl):
     assert snaps["far"].too_far
     text = rep.text()
     assert "near             tube" in text and "TOO FAR (largest snap distance 10 mm)" in text
+
+
+def test_distance_text_shows_which_side_of_the_limit():
+    # a distance just beyond the limit must not print as the limit itself
+    assert distance_text(10.04, 10.0) == "10.04"
+    assert distance_text(9.96, 10.0) == "9.96"
+    assert distance_text(55.0, 10.0) == "55.0"
+    assert distance_text(3.04, 10.0) == "3.0"

@@ -16,7 +16,7 @@ from scipy.spatial.transform import Rotation
 import export_routes as er
 import garments
 from garnav import Robot
-from garnav.errors import GarnavError
+from garnav.errors import GarnavError, QueryError
 from garnav.export.commands import route_commands, write_commands
 from garnav.export.waypoints import (
     CSV_COLUMNS,
@@ -24,6 +24,7 @@ from garnav.export.waypoints import (
     document_csv,
     document_json,
     quaternion_xyzw,
+    read_route_document,
     route_document,
     route_schema,
     write_route_csv,
@@ -72,6 +73,8 @@ def test_bad_documents_fail_the_schema():
         lambda d: d["commands"].append({"op": "go", "distance_mm": -1.0}),
         lambda d: d["robot"].update(side="underneath"),
         lambda d: d.pop("summary"),
+        lambda d: d.pop("length_mm"),
+        lambda d: d["waypoints"][0].update(x_mm=1.0),
     ):
         bad = json.loads(document_json(doc))
         mutate(bad)
@@ -86,10 +89,10 @@ def test_csv_parses_with_stdlib_and_matches_json(lifted):
         assert len(rows) == len(doc["waypoints"])
         for row, w in zip(rows, doc["waypoints"]):
             assert int(row["index"]) == w["index"] and int(row["leg"]) == w["leg"] and row["piece"] == w["piece"]
-            assert [float(row[k]) for k in ("x_mm", "y_mm", "heading_deg")] == [w["x_mm"], w["y_mm"], w["heading_deg"]]
+            assert [float(row[k]) for k in ("x_mm", "y_mm", "heading_deg")] == [w["x"], w["y"], w["heading_deg"]]
             tail = [row[k] for k in CSV_COLUMNS[6:]]
             if lifted:
-                assert [float(v) for v in tail] == w["world_mm"] + w["normal"] + w["orientation_xyzw"]
+                assert [float(v) for v in tail] == w["xyz"] + w["normal"] + w["orientation_xyzw"]
             else:
                 assert tail == [""] * 10
 
@@ -103,12 +106,12 @@ def test_quaternions_are_unit_and_their_axes_match_normal_and_travel():
             assert abs(np.linalg.norm(q) - 1.0) < 1e-12
             # reference: scipy's Rotation (scalar-last quaternions, the default of from_quat)
             m = Rotation.from_quat(q).as_matrix()
-            normal = er.cylinder_normal(w["piece"], w["x_mm"])  # analytic outward normal
+            normal = er.cylinder_normal(w["piece"], w["x"])  # analytic outward normal
             assert np.degrees(np.arccos(np.clip(m[:, 2] @ (up * normal), -1, 1))) < 1.0
             assert np.allclose(w["normal"], normal, atol=1e-12)
-            travel = er.cylinder_direction(w["piece"], w["x_mm"], w["heading_deg"])
+            travel = er.cylinder_direction(w["piece"], w["x"], w["heading_deg"])
             assert np.degrees(np.arccos(np.clip(m[:, 0] @ travel, -1, 1))) < 1.0
-            assert np.allclose(w["world_mm"], er.cylinder_point(w["piece"], w["x_mm"], w["y_mm"]), atol=1e-9)
+            assert np.allclose(w["xyz"], er.cylinder_point(w["piece"], w["x"], w["y"]), atol=1e-9)
             checked += 1
     assert checked > 100
 
@@ -139,25 +142,28 @@ def test_summary_by_hand():
     g = garments.single_panel()
     route = er.build_route([("panel", np.array([[100.0, 100.0], [300.0, 100.0], [300.0, 200.0]]))], [])
     robot = Robot(wheel_base_mm=30.0, speed_mm_s=20.0)
-    s = route_document(route, g, robot)["summary"]
+    doc = route_document(route, g, robot)
+    s = doc["summary"]
     assert s["drive_time_s"] == pytest.approx(15.0)
     assert s["turn_time_s"] == pytest.approx(math.pi / 2 * 15.0 / 20.0)
     assert s["estimated_time_s"] == pytest.approx(15.0 + math.pi / 2 * 15.0 / 20.0)
     assert s["turn_count"] == 1 and s["turn_total_deg"] == pytest.approx(90.0)
-    assert s["length_3d_mm"] is None and s["climb_up_mm"] is None
+    assert doc["length_mm"] == pytest.approx(300.0)
+    assert doc["length_3d_mm"] is None and s["climb_up_mm"] is None and doc["path3d"] is None
 
 
 def test_lifted_summary_and_dense_path():
     route = er.two_panel_route(np.random.default_rng(8), back=True)
     lift = er.cylinder_lift(route)
     doc = route_document(route, garments.two_panels(), None, lift)
-    assert doc["summary"]["length_3d_mm"] == pytest.approx(lift.length_3d_mm)
+    assert doc["length_3d_mm"] == pytest.approx(lift.length_3d_mm)
     assert doc["summary"]["climb_up_mm"] == lift.climb_up_mm
     assert doc["summary"]["seams_crossed"] == ["middle", "middle"]
     # an isometric lift: the 3D length (chords on a cylinder) is a little under the pattern length
     assert lift.length_3d_mm <= route.length_mm + 1e-9
     assert lift.length_3d_mm == pytest.approx(route.length_mm, rel=1e-3)
-    assert len(doc["path_3d"]["points_mm"]) == len(lift.points)
+    assert len(doc["path3d"]) == len(doc["path3d_detail"]["normals"]) == len(lift.points)
+    assert [doc["path3d"][j] for j in doc["path3d_detail"]["waypoint_index"]] == [w["xyz"] for w in doc["waypoints"]]
     assert doc["commands"][0]["op"] in ("go", "turn", "cross")
 
 
@@ -203,3 +209,17 @@ def test_a_failed_write_leaves_no_partial_file(tmp_path, monkeypatch, name):
     assert os.listdir(tmp_path) == [name]
     write(target)
     assert target.read_text() != "old content"
+
+
+def test_reading_a_document_with_the_early_key_names_says_so(tmp_path):
+    route = er.two_panel_route(np.random.default_rng(5))
+    doc = json.loads(document_json(route_document(route, garments.two_panels())))
+    for w in doc["waypoints"]:
+        w["x_mm"], w["y_mm"] = w.pop("x"), w.pop("y")
+    path = tmp_path / "old.json"
+    path.write_text(json.dumps(doc))
+    with pytest.raises(QueryError, match=r"old\.json: written with the early key names.*plan the route again"):
+        read_route_document(path)
+    good = tmp_path / "new.json"
+    write_route_json(good, route_document(route, garments.two_panels()))
+    assert read_route_document(good)["length_mm"] == pytest.approx(route.length_mm)

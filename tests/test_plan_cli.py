@@ -45,8 +45,8 @@ def test_cli_route_writes_json_and_csv(tmp_path, capsys):
     text = capsys.readouterr().out
     assert "length" in text and "seams crossed  1 (middle)" in text
     data = json.loads(out_json.read_text())
-    assert data["summary"]["pattern_length_mm"] == pytest.approx(plan_route(garments.two_panels(), "left_centre", "right:250,300").length_mm)
-    assert {"piece", "x_mm", "y_mm", "heading_deg"} <= set(data["waypoints"][0])
+    assert data["length_mm"] == pytest.approx(plan_route(garments.two_panels(), "left_centre", "right:250,300").length_mm)
+    assert {"piece", "x", "y", "heading_deg"} <= set(data["waypoints"][0])
     rows = list(csv.DictReader(out_csv.open()))
     assert len(rows) == len(data["waypoints"])
 

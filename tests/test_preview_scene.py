@@ -67,7 +67,7 @@ def test_keepout_faces_are_those_inside_the_zone():
     assert np.array_equal(mask, expect) and mask.sum() > 0
 
 
-def test_route_polyline_uses_path_3d():
+def test_route_polyline_uses_path3d():
     g = garments.two_panels()
     route = er.two_panel_route(np.random.default_rng(3))
     lifted = er.cylinder_lift(route)
@@ -151,5 +151,30 @@ def test_a_failed_screenshot_write_leaves_the_old_file(tmp_path, monkeypatch):
             with pytest.raises(GarnavError, match="simulated failure"):
                 write_screenshot(target, plotter)
         assert target.read_bytes() == b"old" and os.listdir(tmp_path) == ["shot.png"]
+    finally:
+        plotter.close()
+
+
+def test_views_side_by_side_and_labels_of_the_side_in_view():
+    from garnav.preview.scene import VIEW_DIRECTIONS, set_view, views_png
+
+    g = garments.two_panels()
+    d = cylinder_drape(g)
+    plotter = build_plotter(g, d, None, [], off_screen=True, size=(160, 120))
+    try:
+        img = matplotlib.image.imread(io.BytesIO(views_png(plotter, ("front", "back"))), format="png")
+        assert img.shape[:2] == (120, 320)
+        normals = {lm.name: CylinderDrape.normal(lm.piece, [lm.x])[0] for lm in g.landmarks}
+        for view, direction in VIEW_DIRECTIONS.items():
+            set_view(plotter, view)
+            cam = np.array(plotter.camera.position) - np.array(plotter.camera.focal_point)
+            assert cam @ np.asarray(direction) > 0.99 * np.linalg.norm(cam) * np.linalg.norm(direction)
+            # labels only for the landmarks whose outward normal faces this view
+            expect = sum(float(n @ np.asarray(direction)) > 0 for n in normals.values())
+            actor = plotter.actors.get("landmark-labels-points")
+            shown = 0 if actor is None else actor.mapper.dataset.n_points
+            assert shown == expect
+        with pytest.raises(ValueError, match="unknown view 'side'"):
+            set_view(plotter, "side")
     finally:
         plotter.close()

@@ -61,7 +61,9 @@ def star_piece(draw, name: str, index: int):
     openings = ()
     if draw(st.booleans()):
         s = draw(st.floats(3.0, 6.0))
-        openings = (Opening(draw(NAMES), ((-s, -s), (s, -s), (s, s), (-s, s))),)
+        # edge and opening names share one namespace (a spec rule)
+        name_ = draw(NAMES.filter(lambda t: t not in edge_names))
+        openings = (Opening(name_, ((-s, -s), (s, -s), (s, s), (-s, s))),)
     angle = draw(st.floats(-180.0, 180.0))
     placement = Placement(110.0 + SPAN * index, 110.0, angle)
     return Piece(name, edges, openings, placement)

@@ -1,12 +1,17 @@
-"""``garnav demo``: the built-in sensing-top demo.
+"""``garnav demo``: the whole job on the built-in sensing-top demo.
 
-``garnav demo`` builds the demo garment in memory, checks it and prints a summary.
+``garnav demo [--out DIR]`` builds the demo garment in memory, plans routes between body landmarks,
+lifts them onto the drape and writes route files, a 3D picture and the pattern sheet into DIR
+(default ``garnav-demo/`` in the current folder), then prints a summary table and the safety
+cautions (:func:`garnav.demo.run.run_demo`).
 ``garnav demo --rebuild [--out DIR]`` writes the demo files (spec, drape mesh, mannequin mesh).
 """
 
 from __future__ import annotations
 
 import argparse
+import os
+import time
 from pathlib import Path
 
 from garnav.errors import GarnavError
@@ -16,23 +21,31 @@ __all__ = ["register", "run", "CAUTIONS"]
 CAUTIONS = (
     "Safety cautions:",
     "  - Holding magnets can disturb implanted medical devices (pacemakers, defibrillators, pumps,",
-    "    shunt valves); keep them away from such a device and its wearer's instructions.",
+    "    shunt valves); keep them away from such a device and follow its wearer's instructions.",
     "  - Keep robots off the neck and face; the demo's neckline margin is not a safety zone.",
     "  - Charge and store batteries as their maker says; stop on heat, swelling or smell.",
     "  - Applicable standards and qualified professionals decide what is safe on a person;",
     "    garnav plans routes and certifies nothing.",
 )
 
+DEFAULT_OUT = "garnav-demo"
+
 
 def register(subparsers) -> None:
     parser = subparsers.add_parser(
         "demo",
-        help="build the demo sensing top and print a summary; --rebuild writes its files",
-        description="The built-in demo: a long-sleeved sensing top on a stylised mannequin.",
+        help="run the whole job on the built-in demo garment; --rebuild writes its spec and meshes",
+        description="The built-in demo: a long-sleeved sensing top on a stylised mannequin. Plans "
+        "routes between body landmarks, lifts them onto the drape and writes per route the JSON, "
+        "CSV and robot commands, a 3D picture (front and back, rendered off-screen) and the "
+        "pattern sheet (SVG and PNG) into --out, then prints a summary and safety cautions.",
     )
-    parser.add_argument("--rebuild", action="store_true", help="write the demo spec and meshes")
+    parser.add_argument("--rebuild", action="store_true", help="write the demo spec and meshes instead")
     parser.add_argument(
-        "--out", metavar="DIR", help="folder for --rebuild (default: meshes/ of this checkout)"
+        "--out",
+        metavar="DIR",
+        help=f"output folder (default: {DEFAULT_OUT}/ in the current folder; with --rebuild: "
+        "meshes/ of this checkout)",
     )
     parser.set_defaults(func=run)
 
@@ -64,28 +77,39 @@ def _rebuild(out: Path) -> int:
     return 0
 
 
-def _summary() -> int:
-    from garnav.demo import demo_garment
-    from garnav.spec import garment_problems
+def _demo(out: Path) -> int:
+    from tqdm import tqdm
 
-    garment = demo_garment()
-    print(f"demo garment '{garment.name}': {garment.description}")
-    for piece in garment.pieces:
-        edges = ", ".join(piece.edge_names)
-        print(f"  piece {piece.name:<13} {piece.area / 100.0:8.0f} cm²  edges: {edges}")
-    counts = (len(garment.seams), len(garment.keepouts), len(garment.landmarks))
-    print("  %d seams, %d keep-outs, %d landmarks" % counts)
-    problems = garment_problems(garment, "<demo>")
-    print(f"  check: {len(problems)} problem(s)")
-    for problem in problems:
-        print(f"    - {problem}")
+    from garnav.demo.run import DEMO_STEPS, run_demo, summary_table
+
+    os.environ.setdefault("PYVISTA_OFF_SCREEN", "true")
+    began = time.perf_counter()
+    with tqdm(total=len(DEMO_STEPS), desc="garnav demo", unit="step", leave=False, disable=None) as bar:
+        result = run_demo(out, progress=lambda label: (bar.set_postfix_str(label), bar.update(1)))
+    seconds = time.perf_counter() - began
+    garment = result.garment
+    print(f"demo garment '{garment.name}': {len(garment.pieces)} pieces, {len(garment.seams)} seams, "
+          f"{len(garment.keepouts)} keep-outs; robot '{result.robot.name}' "
+          f"(radius {result.robot.radius_mm:g} mm, {result.robot.speed_mm_s:g} mm/s)")
+    print()
+    print(summary_table(result))
+    print()
+    print(f"wrote {len(result.files)} files to {result.out_dir} in {seconds:.1f} s:")
+    for r in result.routes:
+        print(f"  {r.name}.json / .csv / .cmd  — {r.about}")
+    for role in ("screenshot", "sheet_svg", "sheet_png", "spec", "drape", "body"):
+        if role in result.files:
+            print(f"  {result.files[role].name}")
+    for note in result.notes:
+        print(f"note: {note}")
+    spec = result.files["spec"]
+    print(f"next: garnav route {spec} --from wrist_left --to omphalion --json route.json")
+    print()
     print("\n".join(CAUTIONS))
-    return 1 if problems else 0
+    return 0
 
 
 def run(args: argparse.Namespace) -> int:
     if args.rebuild:
         return _rebuild(Path(args.out) if args.out else _default_out())
-    if args.out:
-        raise GarnavError("demo: --out is only used with --rebuild")
-    return _summary()
+    return _demo(Path(args.out) if args.out else Path(DEFAULT_OUT))

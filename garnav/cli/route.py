@@ -1,9 +1,11 @@
 """``garnav route GARMENT --from POINT --to POINT``: plan a route and print a short summary.
 
 Points are landmark names, ``PIECE:X,Y`` (pattern mm) or ``xyz:X,Y,Z`` (world mm; needs a drape).
-``--json`` writes the route document (``garnav-route``, docs/route-format.md; with world positions,
-orientations and the 3D path when ``--drape`` lifts the route), ``--csv`` its waypoint table and
-``--commands`` the robot's turn-and-go commands (docs/commands.md). All are written atomically.
+With a drape — the spec's own ``drape`` file, or ``--drape MESH`` — the route is lifted onto it
+(3D length and climb; ``--no-drape`` skips this). ``--json`` writes the route document
+(``garnav-route``, docs/route-format.md; with ``length_3d_mm``, per-waypoint ``xyz`` and ``path3d``
+when lifted), ``--csv`` its waypoint table and ``--commands`` the robot's turn-and-go commands
+(docs/commands.md). All are written atomically.
 """
 
 from __future__ import annotations
@@ -14,8 +16,8 @@ from pathlib import Path
 
 from garnav.drape.inverse import pattern_locator
 from garnav.drape.lift import lift_route
-from garnav.drape.sources import garment_and_drape, spec_drape_locator
-from garnav.errors import QueryError
+from garnav.drape.sources import garment_and_drape, is_mesh_path, spec_drape_locator
+from garnav.errors import MeshError, QueryError
 from garnav.export.commands import route_commands, write_commands
 from garnav.export.waypoints import route_document, write_route_csv, write_route_json
 from garnav.model import Robot
@@ -30,7 +32,10 @@ def register(subparsers: argparse._SubParsersAction) -> None:
         help="plan the shortest safe route between two points of a garment",
         description="Plan the shortest route for the garment's robot between two points, around "
         "keep-outs and across seams, and print its length, seams crossed, turns and driving time. "
-        "POINT is a landmark name, PIECE:X,Y (pattern mm) or xyz:X,Y,Z (world mm, needs a drape).",
+        "POINT is a landmark name, PIECE:X,Y (pattern mm) or xyz:X,Y,Z (world mm, needs a drape). "
+        "When the spec names its own drape (drape = ... in the TOML), or with --drape MESH, the "
+        "route is also lifted onto the drape: the summary adds its 3D length and climb, and the "
+        "--json document adds length_3d_mm, per-waypoint xyz and path3d. --no-drape skips the lift.",
     )
     parser.add_argument(
         "garment",
@@ -44,13 +49,20 @@ def register(subparsers: argparse._SubParsersAction) -> None:
     parser.add_argument("--radius", type=float, metavar="MM", help="robot radius in mm (default: the spec's robot)")
     parser.add_argument("--clearance", type=float, default=0.0, metavar="MM", help="extra clearance added to every keep-out, mm")
     parser.add_argument("--snap", action="store_true", help="move points the robot cannot stand on to the nearest free point")
-    parser.add_argument(
+    drape = parser.add_mutually_exclusive_group()
+    drape.add_argument(
         "--drape",
         metavar="MESH",
         nargs="?",
         const="",
-        help="lift the route onto a UV-mapped drape mesh (default: the spec's drape) and print its "
-        "3D length and climb",
+        help="lift the route onto this UV-mapped drape mesh (without MESH: the spec's own drape, "
+        "which is used anyway when the spec names one) and print its 3D length and climb",
+    )
+    drape.add_argument(
+        "--no-drape",
+        action="store_true",
+        help="do not lift the route onto the spec's own drape (world points xyz:... still snap "
+        "through it)",
     )
     parser.add_argument("--json", metavar="FILE", help="write the route document as JSON (docs/route-format.md)")
     parser.add_argument("--csv", metavar="FILE", help="write the waypoints as CSV")
@@ -59,7 +71,7 @@ def register(subparsers: argparse._SubParsersAction) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    garment, drape = garment_and_drape(args.garment, getattr(args, "drape", None))
+    garment, drape = _garment_and_drape(args)
     if drape is not None:
         locate = pattern_locator(drape, garment)
     else:
@@ -93,6 +105,24 @@ def run(args: argparse.Namespace) -> int:
         comment = f"{args.start} to {args.goal} on garment '{garment.name}', robot '{robot.name}'"
         write_commands(args.commands, route_commands(route, garment, robot), comment=comment)
     return 0
+
+
+def _garment_and_drape(args: argparse.Namespace):
+    """The garment and the drape to lift onto: --drape MESH, else the spec's own drape (when it
+    names one and --no-drape is not given), else none; a mesh GARMENT is its own drape."""
+    given = getattr(args, "drape", None)  # None: not given; "": the spec's own; else a mesh file
+    if is_mesh_path(args.garment):
+        if getattr(args, "no_drape", False):
+            raise QueryError(f"--no-drape: {args.garment} is a mesh, which is its own drape")
+        return garment_and_drape(args.garment)
+    if getattr(args, "no_drape", False):
+        return garment_and_drape(args.garment, None)
+    if given is not None:
+        return garment_and_drape(args.garment, given)
+    try:
+        return garment_and_drape(args.garment, "", optional=True)
+    except MeshError as exc:
+        raise MeshError(f"{exc} (the spec names this drape; --no-drape plans without it)") from None
 
 
 def route_summary(route: Route, start: str, goal: str) -> str:

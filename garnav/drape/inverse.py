@@ -18,10 +18,21 @@ from garnav.drape.drape import Drape
 from garnav.errors import QueryError
 from garnav.model import Garment
 
-__all__ = ["SurfaceHits", "closest_surface_points", "surface_to_pattern", "locate_3d", "pattern_locator"]
+__all__ = ["SurfaceHits", "closest_surface_points", "surface_to_pattern", "locate_3d", "pattern_locator", "distance_text"]
 
 #: Default largest snap distance from a 3D point to the garment surface, mm.
 DEFAULT_MAX_SNAP_MM = 10.0
+
+
+def distance_text(distance_mm: float, limit_mm: float) -> str:
+    """A distance in mm with one decimal, or more when one decimal would hide which side of
+    ``limit_mm`` it lies on (10.04 beyond a 10 mm limit prints as "10.04", not "10.0")."""
+    for digits in range(1, 5):
+        text = f"{distance_mm:.{digits}f}"
+        if np.sign(float(text) - limit_mm) == np.sign(distance_mm - limit_mm):
+            return text
+    return f"{distance_mm:.6g}"
+
 
 
 @dataclass(frozen=True)
@@ -159,7 +170,7 @@ def locate_3d(
     d = float(hits.distance[0])
     if d > max_snap_mm:
         raise QueryError(
-            f"{what} ({p[0]:.1f}, {p[1]:.1f}, {p[2]:.1f}) is {d:.0f} mm from the garment; "
+            f"{what} ({p[0]:.1f}, {p[1]:.1f}, {p[2]:.1f}) is {distance_text(d, max_snap_mm)} mm from the garment; "
             f"the largest snap distance is {max_snap_mm:g} mm"
         )
     return hits.piece[0], float(hits.pattern[0, 0]), float(hits.pattern[0, 1]), d

@@ -198,9 +198,15 @@ def _entry_edge(tri: list, x: float, y: float) -> int:
 def _reenter(drape, piece, segs, seg_face, seg_k, xy, b, snap_mm, out_xy, out_face, out_bary):
     """After the walk left the island at ``xy``, continue at the next boundary crossing towards b.
 
+    The stretch outside (up to that crossing, or up to b) is allowed when no point of it lies
+    farther than ``snap_mm`` from the island; it is then moved onto the island's boundary: the
+    boundary vertices that are the nearest boundary points of the stretch are inserted, so that a
+    path running along the boundary (a route hugging a seam edge, a few µm outside after the
+    mesh file's rounding) follows the boundary's bends in 3D instead of cutting across.
+
     Returns (face, x, y, entered_edge), or face -1 when the rest of the segment stays outside (its
-    end was snapped onto the mesh already). Raises QueryError when the stretch outside is longer
-    than ``snap_mm``.
+    end was snapped onto the mesh already). Raises QueryError when the stretch lies farther than
+    ``snap_mm`` from the island.
     """
     x0, y0 = xy
     bx, by = b
@@ -216,19 +222,24 @@ def _reenter(drape, piece, segs, seg_face, seg_k, xy, b, snap_mm, out_xy, out_fa
         t = ((a[:, 0] - x0) * e[:, 1] - (a[:, 1] - y0) * e[:, 0]) / den
         u = ((a[:, 0] - x0) * dy - (a[:, 1] - y0) * dx) / den
     ok = np.isfinite(t) & (t > 1e-9) & (t <= 1.0) & (u >= -1e-9) & (u <= 1.0 + 1e-9)
-    if not np.any(ok):
-        gap = length
-    else:
-        j = int(np.flatnonzero(ok)[np.argmin(t[ok])])
-        gap = float(t[j]) * length
-    if gap > snap_mm:
+    j = int(np.flatnonzero(ok)[np.argmin(t[ok])]) if np.any(ok) else -1
+    t_end = float(t[j]) if j >= 0 else 1.0
+    end = np.array([x0 + t_end * dx, y0 + t_end * dy])
+    start = np.array([x0, y0])
+    deviation = _stretch_deviation(segs, start, end, snap_mm)
+    if deviation > snap_mm:
         raise QueryError(
             f"{drape.source}: the path on piece '{piece}' leaves the drape's triangles at "
-            f"({x0:.1f}, {y0:.1f}) mm for {gap:.1f} mm (allowed: {snap_mm:g} mm)"
+            f"({x0:.1f}, {y0:.1f}) mm for {t_end * length:.1f} mm, up to {deviation:.1f} mm away "
+            f"(allowed: {snap_mm:g} mm)"
         )
-    if not np.any(ok):
+    for x, y, f in _boundary_vertices_along(segs, seg_face, seg_k, start, end, snap_mm):
+        out_xy.append((x, y))
+        out_face.append(f)
+        out_bary.append(_norm_bary(_bary(drape.corner_pattern[f].tolist(), x, y)))
+    if j < 0:
         return -1, x0, y0, -1
-    x, y = x0 + float(t[j]) * dx, y0 + float(t[j]) * dy
+    x, y = float(end[0]), float(end[1])
     f = int(seg_face[j])
     lam = list(_bary(drape.corner_pattern[f].tolist(), x, y))
     k = int(seg_k[j])
@@ -237,6 +248,70 @@ def _reenter(drape, piece, segs, seg_face, seg_k, xy, b, snap_mm, out_xy, out_fa
     out_face.append(f)
     out_bary.append(_norm_bary(lam))
     return f, x, y, k
+
+
+def _point_segment_distance(p: np.ndarray, segs: np.ndarray) -> np.ndarray:
+    """(n, B) distances from points p (n, 2) to segments segs (B, 2, 2), mm."""
+    a = segs[None, :, 0]
+    e = segs[None, :, 1] - a
+    ee = np.maximum(np.einsum("...i,...i->...", e, e), 1e-300)
+    w = p[:, None, :] - a
+    s = np.clip(np.einsum("...i,...i->...", w, e) / ee, 0.0, 1.0)
+    return np.linalg.norm(w - s[..., None] * e, axis=-1)
+
+
+def _near(segs: np.ndarray, start: np.ndarray, end: np.ndarray, reach: float) -> np.ndarray:
+    """Boundary segments whose bounding box comes within ``reach`` of the stretch's box."""
+    lo = np.minimum(start, end) - reach
+    hi = np.maximum(start, end) + reach
+    smin = segs.min(axis=1)
+    smax = segs.max(axis=1)
+    return np.all((smax >= lo) & (smin <= hi), axis=1)
+
+
+def _stretch_deviation(segs: np.ndarray, start: np.ndarray, end: np.ndarray, snap_mm: float) -> float:
+    """Largest distance (mm) from a straight stretch outside the island to the island's boundary.
+
+    The distance to a set is 1-Lipschitz along the stretch, so sampling it every h mm finds the
+    largest value to within h/2; h = snap_mm / 8 (at most 4000 samples; a longer stretch is
+    sampled more coarsely).
+    """
+    length = float(np.linalg.norm(end - start))
+    h = max(snap_mm / 8.0, length / 4000.0, 1e-9)
+    n = int(np.ceil(length / h)) + 1
+    near = _near(segs, start, end, snap_mm + h)
+    if not np.any(near):
+        return float("inf")
+    tt = np.linspace(0.0, 1.0, n)[:, None]
+    samples = start + tt * (end - start)
+    return float(_point_segment_distance(samples, segs[near]).min(axis=1).max())
+
+
+def _boundary_vertices_along(segs, seg_face, seg_k, start, end, snap_mm):
+    """Boundary vertices (x, y, face) that are the nearest boundary points of a stretch outside
+    the island, in order along it: the stretch moved onto the boundary, bend by bend."""
+    near = np.flatnonzero(_near(segs, start, end, snap_mm))
+    if len(near) == 0:
+        return []
+    d = end - start
+    dd = float(d @ d)
+    if dd <= 0.0:
+        return []
+    v = segs[near, 0]  # every boundary vertex starts one boundary segment
+    t = (v - start) @ d / dd
+    q = start + t[:, None] * d  # foot of each vertex on the stretch
+    dist = np.linalg.norm(v - q, axis=1)
+    inside = (t > 1e-9) & (t < 1.0 - 1e-9) & (dist <= snap_mm)
+    if not np.any(inside):
+        return []
+    idx = np.flatnonzero(inside)
+    nearest = _point_segment_distance(q[idx], segs[near]).min(axis=1)
+    keep = idx[dist[idx] <= nearest + 1e-9]
+    out = []
+    for i in keep[np.argsort(t[keep], kind="stable")]:
+        j = int(near[i])
+        out.append((float(v[i, 0]), float(v[i, 1]), int(seg_face[j])))
+    return out
 
 
 @dataclass(frozen=True, eq=False)

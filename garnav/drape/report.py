@@ -12,7 +12,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from garnav.drape.drape import Drape
-from garnav.drape.inverse import DEFAULT_MAX_SNAP_MM, surface_to_pattern
+from garnav.drape.inverse import DEFAULT_MAX_SNAP_MM, distance_text, surface_to_pattern
 from garnav.errors import QueryError
 from garnav.model import Garment
 from garnav.polyline import cumulative_length, point_at_length
@@ -142,7 +142,7 @@ class DrapeReport:
                 )
                 out.append(
                     f"    {b.landmark:<16} {b.piece} ({b.x:.1f}, {b.y:.1f}) mm, "
-                    f"{b.distance_mm:.1f} mm off the surface: {state}"
+                    f"{distance_text(b.distance_mm, b.max_snap_mm)} mm off the surface: {state}"
                 )
         return out
 

@@ -24,7 +24,9 @@ def is_mesh_path(path: str | os.PathLike) -> bool:
     return Path(path).suffix.lower() in MESH_SUFFIXES
 
 
-def garment_and_drape(path: str | os.PathLike, drape: str | None = None) -> tuple[Garment, Drape | None]:
+def garment_and_drape(
+    path: str | os.PathLike, drape: str | None = None, optional: bool = False
+) -> tuple[Garment, Drape | None]:
     """Read a garment and, when asked, its drape.
 
     Parameters
@@ -34,6 +36,9 @@ def garment_and_drape(path: str | os.PathLike, drape: str | None = None) -> tupl
         UV islands (:func:`~garnav.drape.import_mesh.garment_from_mesh`) and linked to it.
     drape : str, optional
         For a spec: None = no drape; "" = the spec's own drape; else a mesh file.
+    optional : bool
+        With ``drape=""``: a spec that names no drape gives ``(garment, None)`` instead of an error.
+        (A drape the spec names but that cannot be read is still an error.)
 
     Returns
     -------
@@ -46,7 +51,7 @@ def garment_and_drape(path: str | os.PathLike, drape: str | None = None) -> tupl
     from garnav.spec import load_garment
 
     garment = load_garment(path)
-    if drape is None:
+    if drape is None or (optional and not drape and garment.drape is None):
         return garment, None
     return garment, load_drape(garment, drape, str(Path(path).parent))
 

@@ -211,10 +211,10 @@ def route_document(route, garment: Garment, robot: Robot | None = None, lifted: 
             "index": w.index,
             "leg": w.leg,
             "piece": w.piece,
-            "x_mm": w.x_mm,
-            "y_mm": w.y_mm,
+            "x": w.x_mm,
+            "y": w.y_mm,
             "heading_deg": w.heading_deg,
-            "world_mm": None if world is None else _vec(world[w.index]),
+            "xyz": None if world is None else _vec(world[w.index]),
             "normal": None if normals is None else _vec(normals[w.index]),
             "orientation_xyzw": None if quats is None else _vec(quats[w.index]),
         }
@@ -239,11 +239,14 @@ def route_document(route, garment: Garment, robot: Robot | None = None, lifted: 
         "quaternion_order": "xyzw",
         "garment": {"name": garment.name, "sheet_size_mm": _vec(garment.sheet_size_mm)},
         "robot": _robot_dict(robot),
+        "length_mm": float(route.length_mm),
+        "length_3d_mm": None if lifted is None else float(lifted.length_3d_mm),
         "summary": _summary(route, commands, robot, lifted),
         "waypoints": wp_list,
         "crossings": crossings,
         "commands": commands_to_json(commands),
-        "path_3d": None if lifted is None else _path3d(lifted),
+        "path3d": None if lifted is None else _vecs(lifted.points),
+        "path3d_detail": None if lifted is None else _path3d_detail(lifted),
     }
 
 
@@ -259,8 +262,6 @@ def _summary(route, commands: CommandList, robot: Robot, lifted) -> dict:
         if leg.piece not in pieces:
             pieces.append(leg.piece)
     return {
-        "pattern_length_mm": float(route.length_mm),
-        "length_3d_mm": None if lifted is None else float(lifted.length_3d_mm),
         "cost": float(route.cost),
         "pieces": pieces,
         "seams_crossed": [c.seam for c in route.crossings],
@@ -300,10 +301,14 @@ def _lifted_waypoints(lifted, waypoints: Sequence[Waypoint], last_of_leg: set[in
     return world, wn, quats
 
 
-def _path3d(lifted) -> dict:
+def _vecs(rows) -> list[list[float]]:
+    return [_vec(r) for r in np.asarray(rows, dtype=float)]
+
+
+def _path3d_detail(lifted) -> dict:
+    """What belongs to each point of ``path3d``: normals, waypoint positions, pieces, pattern."""
     out = {
-        "points_mm": [_vec(p) for p in np.asarray(lifted.points, dtype=float)],
-        "normals": [_vec(n) for n in np.asarray(lifted.normals, dtype=float)],
+        "normals": _vecs(lifted.normals),
         "waypoint_index": [int(i) for i in np.asarray(lifted.waypoint_index)],
     }
     pieces = getattr(lifted, "pieces", None)
@@ -311,7 +316,7 @@ def _path3d(lifted) -> dict:
         out["pieces"] = [str(p) for p in pieces]
     pattern = getattr(lifted, "pattern", None)
     if pattern is not None:
-        out["pattern_mm"] = [_vec(p) for p in np.asarray(pattern, dtype=float)]
+        out["pattern"] = _vecs(pattern)
     return out
 
 
@@ -357,10 +362,10 @@ def document_csv(document: dict) -> str:
     writer = csv.writer(buf, lineterminator="\n")
     writer.writerow(CSV_COLUMNS)
     for w in document["waypoints"]:
-        world = w["world_mm"] or [None] * 3
+        world = w["xyz"] or [None] * 3
         normal = w["normal"] or [None] * 3
         quat = w["orientation_xyzw"] or [None] * 4
-        row = [w["index"], w["leg"], w["piece"], w["x_mm"], w["y_mm"], w["heading_deg"], *world, *normal, *quat]
+        row = [w["index"], w["leg"], w["piece"], w["x"], w["y"], w["heading_deg"], *world, *normal, *quat]
         writer.writerow([_cell(v) for v in row])
     return buf.getvalue()
 
@@ -412,15 +417,23 @@ def read_route_document(path) -> dict:
     wps = doc.get("waypoints")
     if not isinstance(wps, list) or len(wps) < 2:
         raise QueryError(f"{p}: 'waypoints' must be a list of at least two waypoints")
+    if isinstance(wps[0], dict) and "x_mm" in wps[0] and "x" not in wps[0]:
+        raise QueryError(
+            f"{p}: written with the early key names (waypoint x_mm, y_mm, world_mm; summary "
+            f"pattern_length_mm; path_3d); plan the route again to write length_mm, x, y, xyz, path3d"
+        )
     for i, w in enumerate(wps):
-        for key, kind in (("leg", int), ("piece", str), ("x_mm", (int, float)), ("y_mm", (int, float))):
+        for key, kind in (("leg", int), ("piece", str), ("x", (int, float)), ("y", (int, float))):
             if not isinstance(w, dict) or not isinstance(w.get(key), kind) or isinstance(w.get(key), bool):
-                raise QueryError(f"{p}: waypoint {i}: '{key}' is missing or not {'a number' if key.endswith('_mm') else kind.__name__}")
-    path3d = doc.get("path_3d")
+                raise QueryError(f"{p}: waypoint {i}: '{key}' is missing or not {'a number' if key in ('x', 'y') else kind.__name__}")
+    path3d = doc.get("path3d")
     if path3d is not None:
-        pts = path3d.get("points_mm") if isinstance(path3d, dict) else None
-        if not isinstance(pts, list) or not all(isinstance(q, list) and len(q) == 3 for q in pts):
-            raise QueryError(f"{p}: 'path_3d.points_mm' must be a list of [x, y, z] points")
+        if not isinstance(path3d, list) or not all(isinstance(q, list) and len(q) == 3 for q in path3d):
+            raise QueryError(f"{p}: 'path3d' must be a list of [x, y, z] points")
+    detail = doc.get("path3d_detail")
+    normals = detail.get("normals") if isinstance(detail, dict) else None
+    if normals is not None and (not isinstance(normals, list) or len(normals) != len(path3d or [])):
+        raise QueryError(f"{p}: 'path3d_detail.normals' must have one normal per 'path3d' point")
     return doc
 
 
@@ -434,7 +447,7 @@ def document_route(document: dict):
     for w in document["waypoints"]:
         legs.setdefault(int(w["leg"]), []).append(w)
     leg_objs = tuple(
-        SimpleNamespace(piece=ws[0]["piece"], points=np.array([[w["x_mm"], w["y_mm"]] for w in ws], dtype=float))
+        SimpleNamespace(piece=ws[0]["piece"], points=np.array([[w["x"], w["y"]] for w in ws], dtype=float))
         for _, ws in sorted(legs.items())
     )
     crossings = tuple(

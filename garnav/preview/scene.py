@@ -38,12 +38,12 @@ __all__ = [
     "route_polyline",
     "build_plotter",
     "screenshot_png",
+    "views_png",
+    "set_view",
+    "VIEW_DIRECTIONS",
     "write_screenshot",
     "off_screen_environment",
 ]
-
-# How far (mm) a route point may lie outside the drape's triangles when lifted for display only.
-DISPLAY_SNAP_MM = 5.0
 
 # Piece colours on the drape (our own muted palette), in garment piece order.
 PIECE_COLOURS = ("#9fb8ad", "#c9b79c", "#a9b4c2", "#d4a5a5", "#b5c99a", "#c3aed6", "#e3c88f", "#9cc5c9")
@@ -139,25 +139,25 @@ def keepout_face_mask(garment: Garment, drape) -> np.ndarray:
 def route_polyline(document: dict, drape=None, garment: Garment | None = None, source: str = "route"):
     """The 3D polyline of a ``garnav-route`` document.
 
-    Uses the document's ``path_3d`` when it has one; otherwise lifts its legs onto ``drape`` with
-    :func:`garnav.drape.lift_route`.
+    Uses the document's ``path3d`` (with the normals of ``path3d_detail``) when it has one;
+    otherwise lifts its legs onto ``drape`` with :func:`garnav.drape.lift_route`.
 
     Returns
     -------
     points : (M, 3) array, normals : (M, 3) array or None
     """
-    path = document.get("path_3d")
+    path = document.get("path3d")
     if path:
-        pts = np.asarray(path["points_mm"], dtype=float).reshape(-1, 3)
-        nrm = path.get("normals")
+        pts = np.asarray(path, dtype=float).reshape(-1, 3)
+        detail = document.get("path3d_detail") or {}
+        nrm = detail.get("normals")
         return pts, (np.asarray(nrm, dtype=float).reshape(-1, 3) if nrm else None)
     if drape is None or garment is None:
         raise MeshError(f"{source}: the route has no 3D path and the garment has no drape to lift it onto")
     from garnav.drape import lift_route
     from garnav.export.waypoints import document_route
 
-    # a route may hug a curved seam, which the mesh cuts by chords a few mm inside the pattern
-    lifted = lift_route(drape, garment, document_route(document), snap_mm=DISPLAY_SNAP_MM)
+    lifted = lift_route(drape, garment, document_route(document))
     return np.asarray(lifted.points, dtype=float), np.asarray(lifted.normals, dtype=float)
 
 
@@ -235,15 +235,18 @@ def build_plotter(
             if outline is not None:
                 plotter.add_mesh(pv.lines_from_points(outline).tube(radius=0.0025 * scale, n_sides=8),
                                  color=style.keepout, name=f"keepout-{k.name}")
-        marks, names = [], []
+        marks, names, normals = [], [], []
         for lm in garment.landmarks:
             if lm.on_pattern and lm.piece in drape.piece_names:
                 try:
-                    marks.append(drape.pattern_to_3d(lm.piece, np.array([[lm.x, lm.y]]), 1.0)[0])
+                    hits = drape.locate(lm.piece, np.array([[lm.x, lm.y]]), 1.0)
                 except GarnavError:
                     continue
+                marks.append(drape.to_3d(hits.face, hits.bary)[0])
+                normals.append(drape.normals_at(hits.face, hits.bary)[0] if hasattr(drape, "normals_at") else None)
             elif lm.xyz is not None:
                 marks.append(np.asarray(lm.xyz, dtype=float))
+                normals.append(_surface_normal(drape, marks[-1]))
             else:
                 continue
             names.append(lm.name)
@@ -252,9 +255,10 @@ def build_plotter(
             plotter.add_mesh(pts.glyph(geom=pv.Sphere(radius=0.006 * scale), scale=False, orient=False),
                              color=style.landmark, name="landmarks")
             if labels:
-                plotter.add_point_labels(np.array(marks), names, font_size=12, text_color=style.landmark,
-                                         point_size=1, shape_opacity=0.6, shape_color="white",
-                                         always_visible=True, name="landmark-labels")
+                # with normals known, set_view labels only the landmarks on the side of the garment
+                # it looks at (labels are drawn on top of everything)
+                known = all(n is not None for n in normals)
+                plotter._garnav_labels = (np.array(marks), names, np.array(normals) if known else None, style)
 
     radius = 0.004 * scale
     for ri, route in enumerate(routes):
@@ -281,8 +285,20 @@ def build_plotter(
             c = pts[k] + d * ((s - cum[k]) / seg[k] if seg[k] > 0 else 0.0)
             plotter.add_mesh(pv.Cone(center=c, direction=d, height=5 * radius, radius=2 * radius, resolution=16),
                              color=colour, lighting=False)
-    _front_view(plotter)
+    set_view(plotter, "front")
     return plotter
+
+
+def _surface_normal(drape, xyz: np.ndarray) -> np.ndarray | None:
+    """Outward normal of the drape at the surface point closest to ``xyz``, or None when the drape
+    cannot tell (a stand-in without a mesh)."""
+    try:
+        from garnav.drape.inverse import surface_to_pattern
+
+        hits = surface_to_pattern(drape, np.asarray(xyz, dtype=float)[None])
+        return drape.normals_at(hits.face, hits.bary)[0]
+    except (AttributeError, TypeError, ValueError, GarnavError):
+        return None
 
 
 def _keepout_outline_3d(drape, keepout, step_mm: float = 2.0) -> np.ndarray | None:
@@ -301,15 +317,44 @@ def _keepout_outline_3d(drape, keepout, step_mm: float = 2.0) -> np.ndarray | No
         return None
 
 
-def _front_view(plotter) -> None:
-    """Look at the wearer's front (from +y world towards −y), z up."""
+#: Where the camera looks from (world direction from the scene's centre), z up: the wearer's
+#: front seen from a little to their right and above, and their back seen from their left.
+VIEW_DIRECTIONS = {"front": (0.35, 1.0, 0.25), "back": (-0.35, -1.0, 0.25)}
+
+
+def set_view(plotter, view: str = "front") -> None:
+    """Point the camera at the scene from one of :data:`VIEW_DIRECTIONS`, z up, all in view."""
+    if view not in VIEW_DIRECTIONS:
+        raise ValueError(f"unknown view {view!r}; known: {', '.join(VIEW_DIRECTIONS)}")
     plotter.reset_camera()
     cam = plotter.camera
     focal = np.array(cam.focal_point)
     dist = float(np.linalg.norm(np.array(cam.position) - focal))
-    cam.position = tuple(focal + np.array([0.35, 1.0, 0.25]) / np.linalg.norm([0.35, 1.0, 0.25]) * dist)
+    direction = np.array(VIEW_DIRECTIONS[view], dtype=float)
+    cam.position = tuple(focal + direction / np.linalg.norm(direction) * dist)
     cam.up = (0.0, 0.0, 1.0)
     plotter.reset_camera()
+    _view_labels(plotter, direction)
+
+
+def _view_labels(plotter, direction: np.ndarray) -> None:
+    """(Re)draw the landmark labels facing ``direction`` (all of them when normals are unknown).
+
+    The label set is replaced, not hidden: VTK's label placement keeps what it placed at the first
+    render even when its actor is switched off.
+    """
+    data = getattr(plotter, "_garnav_labels", None)
+    if data is None:
+        return
+    marks, names, normals, style = data
+    for part in ("points", "labels"):  # pyvista names the two actors of a label set so
+        plotter.remove_actor(f"landmark-labels-{part}", render=False)
+    sel = np.ones(len(marks), dtype=bool) if normals is None else normals @ direction > 0.0
+    if np.any(sel):
+        plotter.add_point_labels(marks[sel], [n for n, k in zip(names, sel) if k], font_size=12,
+                                 text_color=style.landmark, point_size=1, shape_opacity=0.6,
+                                 shape_color="white", always_visible=True, name="landmark-labels",
+                                 render=False)
 
 
 def _rgb(hex_colour: str) -> np.ndarray:
@@ -324,6 +369,21 @@ def screenshot_png(plotter) -> bytes:
     img = plotter.screenshot(None, return_img=True)
     buf = io.BytesIO()
     imsave(buf, img, format="png", metadata={"Software": None})
+    return buf.getvalue()
+
+
+def views_png(plotter, views: Sequence[str] = ("front", "back")) -> bytes:
+    """Render an off-screen plotter from several views and return one PNG, the views side by side
+    (each the plotter's window size)."""
+    from matplotlib.image import imsave
+
+    images = []
+    for view in views:
+        set_view(plotter, view)
+        plotter.render()  # VTK places labels one frame late: render once before the picture
+        images.append(plotter.screenshot(None, return_img=True))
+    buf = io.BytesIO()
+    imsave(buf, np.concatenate(images, axis=1), format="png", metadata={"Software": None})
     return buf.getvalue()
 
 

@@ -1,0 +1,307 @@
+"""The whole job on the demo garment: plan routes, lift them, export them and draw them.
+
+:func:`run_demo` builds the demo sensing top in memory (pattern, drape mesh, mannequin — about a
+second; no files needed, so it works from an installed package), plans :data:`DEMO_ROUTES` between
+body landmarks with one :class:`~garnav.plan.Planner`, lifts each route onto the drape and writes
+into one folder:
+
+* per route ``NAME.json`` (route document, docs/route-format.md), ``NAME.csv`` (waypoints) and
+  ``NAME.cmd`` (robot commands, docs/commands.md);
+* ``routes_3d.png``: all routes on the drape and mannequin, front and back views side by side
+  (rendered off-screen);
+* ``routes_sheet.svg`` and ``routes_sheet.png``: all routes on the flat pattern sheet;
+* the demo spec and meshes (``sensing_top.toml``, ``sensing_top_drape.obj``, ``mannequin.obj``), so
+  that ``garnav route`` and ``garnav show`` can work on the folder afterwards.
+
+:func:`summary_table` formats the results as a text table.
+"""
+
+from __future__ import annotations
+
+import os
+import time
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Callable
+
+import numpy as np
+
+from garnav.model import Garment, Robot
+
+__all__ = [
+    "DemoRoute",
+    "DemoResult",
+    "DemoScene",
+    "demo_scene",
+    "DEMO_ROUTES",
+    "DEMO_STEPS",
+    "SCREENSHOT_NAME",
+    "SCREENSHOT_SIZE",
+    "SHEET_NAME",
+    "run_demo",
+    "summary_table",
+]
+
+#: The demo's queries: (start, goal, what the route shows). ``cervicale`` is a body landmark (xyz)
+#: that snaps onto the garment through the drape.
+DEMO_ROUTES: tuple[tuple[str, str, str], ...] = (
+    ("wrist_left", "sternum_left", "sleeve to chest across the left armhole seam"),
+    ("olecranon_right", "dock", "elbow back to the charging dock on the lower back"),
+    ("wrist_right", "cervicale", "over the right shoulder to the neck base, a body landmark"),
+)
+
+#: Labels passed to ``progress`` (one call after each step), in order.
+DEMO_STEPS: tuple[str, ...] = (
+    "garment and drape",
+    "planner",
+    *(f"route {s} → {g}" for s, g, _ in DEMO_ROUTES),
+    "demo files",
+    "3D view",
+    "sheet",
+)
+
+SCREENSHOT_NAME = "routes_3d.png"
+#: Size of each of the two views in the 3D screenshot, pixels; the PNG is twice as wide.
+SCREENSHOT_SIZE = (900, 900)
+SHEET_NAME = "routes_sheet"
+
+
+@dataclass(frozen=True, eq=False)
+class DemoRoute:
+    """One planned, lifted and exported demo route.
+
+    Attributes
+    ----------
+    name : str
+        File stem, ``START_to_GOAL``.
+    start, goal, about : str
+    route : garnav.plan.Route
+    lifted : garnav.drape.LiftedRoute
+    document : dict
+        The ``garnav-route`` document written to ``files["json"]``.
+    files : dict
+        ``json``, ``csv``, ``commands`` → Path.
+    """
+
+    name: str
+    start: str
+    goal: str
+    about: str
+    route: object
+    lifted: object
+    document: dict
+    files: dict[str, Path]
+
+
+@dataclass(frozen=True, eq=False)
+class DemoResult:
+    """What :func:`run_demo` did.
+
+    Attributes
+    ----------
+    out_dir : Path
+    garment : Garment
+    robot : Robot
+    routes : tuple of DemoRoute
+    files : dict
+        Every file written, by role: ``screenshot``, ``sheet_svg``, ``sheet_png``, ``spec``,
+        ``drape``, ``body``, and ``NAME.json`` / ``NAME.csv`` / ``NAME.cmd`` per route.
+    screenshot_px : (width, height)
+    seconds : dict
+        Wall time of each step, s.
+    notes : tuple of str
+        What could not be done (the 3D picture when off-screen rendering is not available).
+    """
+
+    out_dir: Path
+    garment: Garment
+    robot: Robot
+    routes: tuple[DemoRoute, ...]
+    files: dict[str, Path]
+    screenshot_px: tuple[int, int]
+    seconds: dict[str, float] = field(default_factory=dict)
+    notes: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True, eq=False)
+class DemoScene:
+    """The demo garment with its drape and mannequin, built in memory.
+
+    Attributes
+    ----------
+    garment : Garment
+        Checked; equal to the garment of ``meshes/sensing_top.toml``.
+    drape : garnav.drape.Drape
+        The drape mesh linked to the garment's pieces.
+    body : (vertices (B, 3), faces (G, 3))
+        The mannequin, world mm.
+    drape_mesh, body_mesh : garnav.demo.mesh.DrapeMesh, BodyMesh
+        The raw meshes (what ``garnav demo --rebuild`` writes as OBJ).
+    """
+
+    garment: Garment
+    drape: object
+    body: tuple
+    drape_mesh: object
+    body_mesh: object
+
+
+def demo_scene() -> DemoScene:
+    """Build the demo garment, its drape and its mannequin in memory (about a second, no files)."""
+    from garnav.demo.mesh import build_body, build_drape
+    from garnav.demo.pattern import build_design
+    from garnav.drape import link_drape
+    from garnav.drape.meshio import uv_mesh_from_arrays
+    from garnav.spec import check_garment
+
+    design = build_design()
+    garment = check_garment(design.garment, "<demo>")
+    mesh = build_drape(design)
+    body = build_body(design)
+    drape = link_drape(
+        garment, uv_mesh_from_arrays(mesh.vertices, mesh.faces, mesh.uv[mesh.face_uv], source="<demo drape>")
+    )
+    return DemoScene(garment, drape, (body.vertices, body.faces), mesh, body)
+
+
+def run_demo(
+    out_dir: str | os.PathLike,
+    progress: Callable[[str], None] | None = None,
+    *,
+    screenshot: bool = True,
+) -> DemoResult:
+    """Run the whole job on the demo garment and write its outputs into ``out_dir``.
+
+    Parameters
+    ----------
+    out_dir : path
+        Output folder, created if missing; files of the same names are replaced atomically.
+    progress : callable, optional
+        Called with each label of :data:`DEMO_STEPS` after that step.
+    screenshot : bool
+        Render the 3D view (off-screen, no display needed). False skips it (no pyvista/VTK work).
+
+    Returns
+    -------
+    DemoResult
+    """
+    from garnav.atomic import write_text_atomic
+    from garnav.demo.build import BODY_NAME, DRAPE_NAME, SPEC_NAME
+    from garnav.demo.mesh import body_obj_text, drape_obj_text
+    from garnav.drape import lift_route
+    from garnav.drape.inverse import pattern_locator
+    from garnav.export.commands import route_commands, write_commands
+    from garnav.export.waypoints import route_document, write_route_csv, write_route_json
+    from garnav.plan import Planner
+    from garnav.errors import GarnavError
+    from garnav.spec import save_garment
+
+    step = progress or (lambda label: None)
+    out = Path(out_dir)
+    try:  # fail before the work, not after it
+        out.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise GarnavError(f"{out}: cannot write: {exc.strerror or exc}") from None
+    seconds: dict[str, float] = {}
+    clock = [time.perf_counter()]
+
+    def done(label: str) -> None:
+        now = time.perf_counter()
+        seconds[label] = now - clock[0]
+        clock[0] = now
+        step(label)
+
+    scene = demo_scene()
+    garment, drape, mesh, body = scene.garment, scene.drape, scene.drape_mesh, scene.body_mesh
+    robot = garment.robot or Robot()
+    done("garment and drape")
+    planner = Planner(garment, robot, locate_3d=pattern_locator(drape, garment))
+    done("planner")
+
+    files: dict[str, Path] = {}
+    routes = []
+    for start, goal, about in DEMO_ROUTES:
+        route = planner.route(start, goal)
+        lifted = lift_route(drape, garment, route)
+        doc = route_document(route, garment, robot, lifted)
+        name = f"{start}_to_{goal}"
+        rfiles = {
+            "json": Path(write_route_json(out / f"{name}.json", doc)),
+            "csv": Path(write_route_csv(out / f"{name}.csv", doc)),
+            "commands": Path(
+                write_commands(
+                    out / f"{name}.cmd",
+                    route_commands(route, garment, robot),
+                    comment=f"{start} to {goal} on garment '{garment.name}', robot '{robot.name}'",
+                )
+            ),
+        }
+        for path in rfiles.values():
+            files[path.name] = path
+        routes.append(DemoRoute(name, start, goal, about, route, lifted, doc, rfiles))
+        done(f"route {start} → {goal}")
+
+    files["spec"] = Path(save_garment(garment, out / SPEC_NAME))
+    files["drape"] = Path(write_text_atomic(out / DRAPE_NAME, drape_obj_text(mesh, garment.name)))
+    files["body"] = Path(write_text_atomic(out / BODY_NAME, body_obj_text(body)))
+    done("demo files")
+
+    px = (0, 0)
+    notes: list[str] = []
+    if screenshot:
+        from garnav.atomic import write_bytes_atomic
+        from garnav.preview.scene import SceneRoute, build_plotter, off_screen_environment, views_png
+
+        off_screen_environment()
+        scene_routes = [SceneRoute(r.name, r.lifted.points, r.lifted.normals) for r in routes]
+        try:
+            plotter = build_plotter(
+                garment, drape, (body.vertices, body.faces), scene_routes, off_screen=True, size=SCREENSHOT_SIZE
+            )
+            try:
+                png = views_png(plotter, ("front", "back"))
+            finally:
+                plotter.close()
+        except Exception as exc:  # VTK raises many kinds when no off-screen OpenGL is available
+            notes.append(f"3D picture skipped: off-screen rendering failed ({type(exc).__name__}: {exc})")
+        else:
+            files["screenshot"] = Path(write_bytes_atomic(out / SCREENSHOT_NAME, png))
+            px = (2 * SCREENSHOT_SIZE[0], SCREENSHOT_SIZE[1])
+    done("3D view")
+
+    from garnav.preview.sheet import sheet_drawing, write_sheet_png, write_sheet_svg
+
+    drawing = sheet_drawing(
+        garment, [r.route for r in routes], planner.free, robot, route_names=[r.name for r in routes]
+    )
+    files["sheet_svg"] = Path(write_sheet_svg(out / f"{SHEET_NAME}.svg", drawing))
+    files["sheet_png"] = Path(write_sheet_png(out / f"{SHEET_NAME}.png", drawing))
+    done("sheet")
+    return DemoResult(out, garment, robot, tuple(routes), files, px, seconds, tuple(notes))
+
+
+def summary_table(result: DemoResult) -> str:
+    """The demo routes as a text table: length on the pattern and on the drape, seams crossed,
+    turns (as ``garnav route`` counts them: more than 0.5°, and their total), climb up and down
+    (world z) and the estimated time (driving plus turning in place)."""
+    head = ("route", "length", "3D length", "seams crossed", "turns", "climb up/down", "time")
+    rows = [head]
+    for r in result.routes:
+        doc = r.document
+        s = doc["summary"]
+        seams = ", ".join(s["seams_crossed"]) or "none"
+        rows.append(
+            (
+                f"{r.start} → {r.goal}",
+                f"{doc['length_mm']:.1f} mm",
+                f"{doc['length_3d_mm']:.1f} mm",
+                f"{s['crossing_count']} ({seams})",
+                f"{r.route.turn_count()} ({float(np.sum(np.abs(r.route.turns_deg))):.0f}°)",
+                f"{s['climb_up_mm']:.0f}/{s['climb_down_mm']:.0f} mm",
+                f"{s['estimated_time_s']:.1f} s",
+            )
+        )
+    widths = [max(len(row[i]) for row in rows) for i in range(len(head))]
+    lines = ["  ".join(cell.ljust(w) for cell, w in zip(row, widths)).rstrip() for row in rows]
+    lines.insert(1, "  ".join("-" * w for w in widths))
+    return "\n".join(lines)

@@ -1,0 +1,72 @@
+"""The scripts in examples/ run and produce what they promise."""
+
+from __future__ import annotations
+
+import csv
+import json
+import os
+import runpy
+from pathlib import Path
+from xml.etree import ElementTree
+
+import jsonschema
+import pytest
+
+from garnav.export.waypoints import route_schema
+
+EXAMPLES = Path(__file__).resolve().parents[1] / "examples"
+
+
+def _main(name: str):
+    """The example's ``main(argv)``, loaded without running it as a script."""
+    return runpy.run_path(str(EXAMPLES / name), run_name="garnav_example")["main"]
+
+
+def _png_size(data: bytes) -> tuple[int, int]:
+    # PNG signature and IHDR chunk (PNG specification, ISO/IEC 15948, §11.2.2)
+    assert data[:8] == b"\x89PNG\r\n\x1a\n" and data[12:16] == b"IHDR"
+    return int.from_bytes(data[16:20], "big"), int.from_bytes(data[20:24], "big")
+
+
+def test_route_between_landmarks(tmp_path, capsys):
+    results = _main("route_between_landmarks.py")([str(tmp_path)])
+    text = capsys.readouterr().out
+    saved = json.loads((tmp_path / "routes.json").read_text())
+    assert saved == results and len(results) >= 4
+    for r in results:
+        assert r["length_mm"] > 0 and f"{r['start']:>15} → {r['goal']}" in text
+    first = results[0]
+    assert (first["start"], first["goal"]) == ("wrist_left", "sternum_left")
+    assert first["seams_crossed"] == ["armhole_left_front"]
+    # around the neck opening: the yoke alone, no seam
+    assert results[3]["seams_crossed"] == [] and results[3]["turns"] > 0
+
+
+def test_preview_route(tmp_path, capsys):
+    os.environ.setdefault("PYVISTA_OFF_SCREEN", "true")
+    os.environ.setdefault("VTK_DEFAULT_OPENGL_WINDOW", "vtkEGLRenderWindow")
+    result = _main("preview_route.py")([str(tmp_path), "--size", "400", "300"])
+    assert "on the drape" in capsys.readouterr().out
+    assert _png_size((tmp_path / "route_3d.png").read_bytes()) == (400, 300)
+    assert _png_size((tmp_path / "route_sheet.png").read_bytes())[0] == 1200
+    # reference: the standard library's XML parser
+    assert ElementTree.parse(tmp_path / "route_sheet.svg").getroot().tag.endswith("svg")
+    lifted, route = result["lifted"], result["route"]
+    # the demo drape is an isometric image of its pattern up to mesh chords (docs/demo.md)
+    assert lifted.length_3d_mm == pytest.approx(route.length_mm, rel=5e-3)
+
+
+def test_export_for_robot(tmp_path, capsys):
+    result = _main("export_for_robot.py")([str(tmp_path)])
+    text = capsys.readouterr().out
+    stem = "wrist_right_to_cervicale"
+    doc = json.loads((tmp_path / f"{stem}.json").read_text())
+    # reference: jsonschema's Draft 2020-12 validator against the shipped schema
+    jsonschema.Draft202012Validator(route_schema()).validate(doc)
+    rows = list(csv.DictReader((tmp_path / f"{stem}.csv").open(encoding="utf-8")))
+    assert len(rows) == len(doc["waypoints"])
+    assert (tmp_path / f"{stem}.cmd").read_text().startswith("garnav-commands 1\n")
+    # the replayed commands end where the route ends, having crossed the same seams
+    assert result["miss_mm"] < 1e-3
+    assert [c.seam for c in result["replay"].crossings] == doc["summary"]["seams_crossed"]
+    assert "replay: ends on yoke" in text and "crossed armhole_right_back" in text
