@@ -124,9 +124,27 @@ class DistanceField:
             ok &= lower < best[:, None]  # only pairs that could beat the best so far
             q, n = np.nonzero(ok)
             if len(q):
-                vis = segments_free(self.fs.region, c.xy[ci[n]], x[q])
-                q, n = q[vis], n[vis]
-                np.minimum.at(best, q, self.dist[ci[n]] + edge_costs(self.fs, c.xy[ci[n]], x[q])[1])
+                # test the candidates of each point in order of their lower bound, a few at a time:
+                # a candidate whose lower bound is not below the best found cannot improve it
+                # (the cost of a segment is at least its length), so the minimum is unchanged
+                lb = lower[q, n]
+                order = np.lexsort((lb, q))
+                q, n, lb = q[order], n[order], lb[order]
+                rank = np.arange(len(q)) - np.searchsorted(q, q, side="left")
+                remaining = np.ones(len(q), dtype=bool)
+                k = 8
+                while True:
+                    remaining &= lb < best[q]
+                    if not remaining.any():
+                        break
+                    sel = remaining & (rank < k)
+                    if sel.any():
+                        qs, ns = q[sel], n[sel]
+                        vis = segments_free(self.fs.region, c.xy[ci[ns]], x[qs])
+                        qs, ns = qs[vis], ns[vis]
+                        np.minimum.at(best, qs, self.dist[ci[ns]] + edge_costs(self.fs, c.xy[ci[ns]], x[qs])[1])
+                        remaining &= ~sel
+                    k *= 4
         return best
 
     def __call__(self, x: np.ndarray, tangent: np.ndarray, inward: np.ndarray, min_angle: float) -> np.ndarray:

@@ -14,9 +14,10 @@ Construction (no Python loop over vertex pairs):
 2. candidate pairs: tangency at both ends is evaluated for all pairs with numpy cross products,
    in row blocks;
 3. visibility: segments that pass through a disc lying strictly inside a hole are dropped by a
-   numpy distance test (cheap, certain); the rest are tested in batches with
-   ``shapely.covers(region, segments)`` on the prepared region (exact predicates, boundary contact
-   allowed).
+   numpy distance test (cheap, certain); the rest are tested in batches against a grid index of
+   the region's boundary edges (:mod:`garnav.plan.segtest`: certain proper crossings reject,
+   segments touching nothing are decided by their midpoint, the few delicate ones by
+   ``shapely.covers`` on the prepared region; exact, boundary contact allowed).
 
 Query points (start, goal, seam portals) join the nodes they see, with tangency required at the
 node end only.
@@ -28,6 +29,8 @@ from dataclasses import dataclass
 
 import numpy as np
 import shapely
+
+from garnav.plan.segtest import segments_in_region
 
 __all__ = [
     "Corners",
@@ -142,24 +145,15 @@ def tangent_mask(v: np.ndarray, u: np.ndarray, w: np.ndarray, p: np.ndarray, tol
     return s1 * s2 >= 0
 
 
-def segments_free(region: shapely.Geometry, a: np.ndarray, b: np.ndarray, chunk: int = 20000) -> np.ndarray:
+def segments_free(region: shapely.Geometry, a: np.ndarray, b: np.ndarray, chunk: int = 4096) -> np.ndarray:
     """Whether each segment a[i] → b[i] lies in the (closed) region; (m,) bool.
 
-    ``region`` should be prepared (``shapely.prepare``) for speed.
+    Exact: the same answer as ``shapely.covers(region, LineString)``, computed by a numpy crossing
+    test against a bucket index of the region's boundary edges with ``covers`` kept for the few
+    delicate segments (see :mod:`garnav.plan.segtest`). ``region`` should be prepared
+    (``shapely.prepare``) for speed.
     """
-    a = np.asarray(a, dtype=float).reshape(-1, 2)
-    b = np.asarray(b, dtype=float).reshape(-1, 2)
-    out = np.zeros(len(a), dtype=bool)
-    for s in range(0, len(a), chunk):
-        e = min(s + chunk, len(a))
-        coords = np.stack([a[s:e], b[s:e]], axis=1)
-        lines = shapely.linestrings(coords)
-        out[s:e] = shapely.covers(region, lines)
-    if len(a):
-        same = np.all(a == b, axis=1)
-        if same.any():
-            out[same] = shapely.covers(region, shapely.points(a[same]))
-    return out
+    return segments_in_region(region, a, b, chunk)
 
 
 def _side_terms(corners: Corners) -> tuple[np.ndarray, ...]:
