@@ -281,6 +281,12 @@ def markdown_report(res: dict[str, Any]) -> str:
     ]
     for t in res.get("targets", []):
         out.append(f"| {t['status']} | {t['target']} | {t['detail']} |")
+    if any(t["status"] == "MISS" for t in res.get("targets", [])):
+        out += [
+            "",
+            "Each miss is explained, with its profile and what would close it, under "
+            "\"Known misses\" in `benchmarks/README.md`.",
+        ]
     head, rows = table_rows(res)
     if rows:
         out += ["", "## Planning", "", "| " + " | ".join(head) + " |", "|" + "---|" * len(head)]
