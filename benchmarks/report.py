@@ -204,6 +204,11 @@ def _lift_lines(res) -> list[str]:
         lines.append(f"  FlipOut geodesic     {fo['query_s'] * 1e3:9.1f} ms  (solver build {fo['build_s'] * 1e3:.1f} ms); "
                      f"length {fo['length_mm']:.6f} mm"
                      + ("" if rel is None else f"; lifted vs FlipOut {rel:+.2e}"))
+    tp, tc = g.get("to_pattern"), c.get("trimesh_closest_point")
+    if tp and tc:
+        lines.append(f"  garnav 3D -> pattern {tp['points_per_s']:9.3g} points/s; trimesh closest_point "
+                     f"{tc['points_per_s']:.3g} points/s: {tp['points_per_s'] / tc['points_per_s']:.1f}x; "
+                     f"largest distance difference {tp['max_distance_diff_mm']:.1e} mm")
     if g.get("error"):
         lines.append(f"  garnav error: {g['error']}")
     return lines

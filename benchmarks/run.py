@@ -388,9 +388,34 @@ def run_lift(opts: Options, log) -> dict[str, Any]:
         fo = out["flipout_geodesic"]
         if "length_mm" in fo:
             gar["lift"]["rel_diff_3d_vs_flipout"] = (length3 - fo["length_mm"]) / fo["length_mm"]
+        gar["to_pattern"], out["trimesh_closest_point"] = _to_pattern(drape, case, rng)
     except Exception as exc:
         gar["error"] = _err(exc)
     return out
+
+
+def _to_pattern(drape, case: C.LiftCase, rng) -> tuple[dict[str, Any], dict[str, Any]]:
+    """3D → pattern: garnav's closest-point search against trimesh's ``closest_point``.
+
+    Points are the drape's vertices pushed off the surface by ~1 mm noise; both must report the
+    same distances (the largest difference is recorded).
+    """
+    import trimesh
+
+    from garnav.drape import surface_to_pattern
+    from garnav.drape.inverse import closest_surface_points
+
+    n = min(20_000, len(case.vertices))
+    pick = rng.choice(len(case.vertices), n, replace=False)
+    xyz = case.vertices[pick] + rng.normal(0.0, 1.0, (n, 3))
+    _, t_ours = timed(lambda: surface_to_pattern(drape, xyz))
+    m = min(2_000, n)
+    mesh = trimesh.Trimesh(case.vertices, case.faces, process=False)
+    (_, d_ref, _), t_ref = timed(lambda: trimesh.proximity.closest_point(mesh, xyz[:m]))
+    _, d_ours, _ = closest_surface_points(drape, xyz[:m])
+    ours = {"points": n, "query_s": t_ours, "points_per_s": n / t_ours,
+            "max_distance_diff_mm": float(np.abs(d_ours - d_ref).max())}
+    return ours, {"points": m, "query_s": t_ref, "points_per_s": m / t_ref}
 
 
 def _isometry_defect(case: C.LiftCase) -> float:
