@@ -38,7 +38,7 @@ def open_torso():
     return garment, drape, planner
 
 
-def _vertices_of(drape, piece: str, garment) -> tuple[np.ndarray, np.ndarray]:
+def _vertices_of(drape, piece: str) -> tuple[np.ndarray, np.ndarray]:
     """Mesh vertices used only by ``piece``'s faces, and their pattern positions (k, 2)."""
     pid = drape.piece_names.index(piece)
     sel = drape.face_piece == pid
@@ -61,8 +61,8 @@ def test_routes_across_side_seams_match_exact_geodesics(open_torso):
     garment, drape, planner = open_torso
     used, sub_pos, sub_faces = _welded_submesh(drape, ("front", "back"))
 
-    front_v, front_xy = _vertices_of(drape, "front", garment)
-    back_v, back_xy = _vertices_of(drape, "back", garment)
+    front_v, front_xy = _vertices_of(drape, "front")
+    back_v, back_xy = _vertices_of(drape, "back")
     width = garment.piece("front").edge("hem").length
     rng = np.random.default_rng(5)
 
@@ -110,8 +110,8 @@ def test_routes_across_an_armhole_match_exact_geodesics(open_torso):
     up to 0.11 %; the bound below is 0.2 %."""
     garment, drape, planner = open_torso
     used, sub_pos, sub_faces = _welded_submesh(drape, ("front", "back", "sleeve_left"))
-    front_v, front_xy = _vertices_of(drape, "front", garment)
-    sleeve_v, sleeve_xy = _vertices_of(drape, "sleeve_left", garment)
+    front_v, front_xy = _vertices_of(drape, "front")
+    sleeve_v, sleeve_xy = _vertices_of(drape, "sleeve_left")
     width = garment.piece("front").edge("hem").length
     rng = np.random.default_rng(8)
     # front points beside the left armhole (the wearer's left is at larger x on the front);
