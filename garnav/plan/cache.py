@@ -21,7 +21,7 @@ import shapely
 from garnav.atomic import write_bytes_atomic
 from garnav.model import Garment, Robot
 from garnav.plan.freespace import FreeSpace
-from garnav.plan.navgraph import NavGraph
+from garnav.plan.navgraph import NavGraph, seam_run_points
 from garnav.plan.visgraph import Corners
 
 __all__ = ["cache_key", "save_nav_graph", "load_nav_graph", "cache_path"]
@@ -127,6 +127,7 @@ def load_nav_graph(path: str | Path, garment: Garment, free: FreeSpace, key: str
         intervals={k: [tuple(iv) for iv in v] for k, v in meta["intervals"].items()},
         spacing_mm=float(meta["spacing_mm"]),
         approach_mm=float(meta["approach_mm"]),
+        run_points=seam_run_points(garment, seams),
         stats=dict(meta["stats"], cached=True),
         **arrays,
     )

@@ -7,7 +7,8 @@
 
 A query runs A* (:mod:`garnav.plan.search`) on the navigation graph plus temporary links from the
 start and goal points, then refines the crossings (:mod:`garnav.plan.refine`) and assembles a
-:class:`~garnav.plan.route.Route`.
+:class:`~garnav.plan.route.Route`. With ``exact_seams=True`` the seam sequence and crossings come
+from the certified branch-and-bound search of :mod:`garnav.plan.exact` instead.
 """
 
 from __future__ import annotations
@@ -31,6 +32,7 @@ from garnav.plan.navgraph import (
     point_pairs,
 )
 from garnav.plan.points import PiecePoint, PointLike, resolve_point
+from garnav.plan.exact import ExactResult, SeamSearch
 from garnav.plan.refine import refine
 from garnav.plan.route import Leg, Route, join_routes, make_route
 from garnav.plan.search import PortalGraph, astar, heuristic_values
@@ -62,6 +64,12 @@ class Planner:
         radius).
     cache_dir : path, optional
         Folder for the on-disk graph cache (:mod:`garnav.plan.cache`); None = no cache.
+    exact_seams : bool
+        Choose seam sequences and crossings by the branch-and-bound search of
+        :mod:`garnav.plan.exact` (certified within ``rel_tol``; slow on large garments, see
+        docs/planning.md) instead of A* on the portals followed by crossing refinement.
+    rel_tol : float
+        Relative optimality tolerance of the exact cross-seam search.
     """
 
     def __init__(
@@ -75,6 +83,8 @@ class Planner:
         locate_3d: Callable | None = None,
         approach_mm: float | None = None,
         cache_dir: str | Path | None = None,
+        exact_seams: bool = False,
+        rel_tol: float = 1e-4,
     ):
         self.garment = garment
         self.robot = robot or garment.robot or Robot()
@@ -97,9 +107,12 @@ class Planner:
             if self.cache_file is not None:
                 save_nav_graph(self.nav, self.cache_file, key)
         self.portal_graph = PortalGraph(self.nav)
-        g = self.nav.graph
-        self._adj = [[(m, d["weight"]) for m, d in g.adj[n].items()] for n in range(g.number_of_nodes())]
         self._corner_mats: dict = {}
+        self.exact_seams = bool(exact_seams)
+        self._spacing_mm = float(portal_spacing_mm)
+        self._rel_tol = float(rel_tol)
+        self._seam_search: SeamSearch | None = None
+        self.last_search: ExactResult | None = None
 
     def corner_matrix(self, piece: str):
         """(k, k) sparse matrix of the corner–corner edge costs of one piece (upper triangle)."""
@@ -109,7 +122,7 @@ class Planner:
             k = len(corners)
             rows, cols, vals = [], [], []
             for n in range(off, off + k):
-                for m, w in self._adj[n]:
+                for m, w in self.nav.neighbours(n):
                     if n < m < off + k:
                         rows.append(n - off)
                         cols.append(m - off)
@@ -208,7 +221,7 @@ class Planner:
         h[n0 + 1 :] = 0.0
 
         def neighbors(n: int):
-            base = self._adj[n] if n < n0 else []
+            base = ng.neighbours(n) if n < n0 else []
             return base + sorted(extra.get(n, []))
 
         found = astar(neighbors, {n0: 0.0}, set(range(n0 + 1, n0 + 1 + len(goals))), lambda n: h[n])
@@ -235,10 +248,24 @@ class Planner:
         gs = [self.point(g, snap=snap, role="goal") for g in goals]
         return self._route_between(s, gs)
 
+    @property
+    def seam_search(self) -> SeamSearch:
+        """The exact cross-seam searcher of this planner (built on first use)."""
+        if self._seam_search is None:
+            self._seam_search = SeamSearch(self, spacing_mm=self._spacing_mm, rel_tol=self._rel_tol)
+        return self._seam_search
+
     def _route_between(self, start: PiecePoint, goals: list[PiecePoint]) -> tuple[int, Route]:
-        path, cost, k = self.search(start, goals)
-        legs, crossings = self._split(path, start, goals[k])
-        legs, crossings, cost = refine(self, legs, crossings)
+        if self.exact_seams:
+            found = self.seam_search.search(start, goals)
+            if found is None:
+                raise NoRouteError(explain_no_route(self, start, goals))
+            self.last_search = found
+            legs, crossings, cost, k = found.legs, found.crossings, found.cost_mm, found.goal
+        else:
+            path, _, k = self.search(start, goals)
+            legs, crossings = self._split(path, start, goals[k])
+            legs, crossings, cost = refine(self, legs, crossings)
         route = make_route(
             self.garment,
             self.robot,

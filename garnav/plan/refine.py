@@ -34,11 +34,11 @@ from scipy.sparse.csgraph import dijkstra
 
 from garnav.plan.navgraph import edge_costs, point_pairs
 from garnav.plan.points import PiecePoint
-from garnav.plan.portals import angle_ok, approach_points, seam_sides
+from garnav.plan.portals import angle_ok, approach_points
 from garnav.plan.search import astar
 from garnav.plan.visgraph import segments_free, tangent_mask
 
-__all__ = ["refine", "piece_path", "DistanceField", "Anchor"]
+__all__ = ["refine", "plan_legs", "piece_path", "DistanceField", "Anchor"]
 
 _MAX_ROUNDS = 30
 
@@ -201,7 +201,7 @@ def piece_path(planner, piece: str, start: Anchor, end: Anchor):
         link(u, v, c)
 
     def neighbors(n: int):
-        base = [(m, w) for m, w in planner._adj[n] if lo <= m < hi] if n < n0 else []
+        base = [(m, w) for m, w in ng.neighbours(n) if lo <= m < hi] if n < n0 else []
         return base + sorted(extra.get(n, []))
 
     def pos(n: int) -> np.ndarray:
@@ -217,11 +217,14 @@ def piece_path(planner, piece: str, start: Anchor, end: Anchor):
 def _seam_geometry(planner, seam_index: int, t, from_side: int):
     """Crossing points, tangents and inward normals on the leaving (from) and arriving side."""
     seam = planner.nav.seams[seam_index]
-    sides = seam_sides(planner.garment, seam, np.atleast_1d(np.asarray(t, dtype=float)))
+    sides = planner.nav.seam_sides(seam_index, np.atleast_1d(np.asarray(t, dtype=float)))
     return sides.side(from_side), sides.side(1 - from_side), seam.min_crossing_angle_deg
 
 
-def _move_crossing(planner, seam_index: int, t0: float, from_side: int, field_in: DistanceField, field_out: DistanceField) -> float:
+def _move_crossing(
+    planner, seam_index: int, t0: float, from_side: int, field_in: DistanceField, field_out: DistanceField
+) -> tuple[float, float]:
+    """Best fraction for one crossing with the others fixed, and the cost it gains: (t, gain)."""
     ng = planner.nav
     seam = ng.seams[seam_index]
     lo, hi = next(((a, b) for a, b in ng.intervals[seam.name] if a - 1e-12 <= t0 <= b + 1e-12), (t0, t0))
@@ -300,3 +303,27 @@ def refine(planner, legs: list[tuple[str, np.ndarray]], crossings: list[tuple[in
                 new_pts = np.vstack([a0.xy, pts[1:-1], a1.xy])
             legs[i] = (piece, new_pts)
     return legs, crossings, _total(planner, legs, crossings)
+
+
+def plan_legs(planner, start: PiecePoint, goal: PiecePoint, crossings: list[tuple[int, float, int]]):
+    """Legs of the least-cost route from ``start`` to ``goal`` that crosses exactly at
+    ``crossings`` [(seam index, t, from side)], each leg planned inside its piece with the angle
+    rules (:func:`piece_path`). Returns (legs [(piece, (n, 2))], cost); cost is inf when a leg has
+    no path."""
+    ng = planner.nav
+    pieces = [start.piece]
+    for s, _, side in crossings:
+        seam = ng.seams[s]
+        pieces.append((seam.b if side == 0 else seam.a).piece)
+    stub = [(p, np.zeros((2, 2))) for p in pieces]
+    stub[0] = (start.piece, np.array([start.xy, start.xy]))
+    stub[-1] = (pieces[-1], np.array([goal.xy, goal.xy]))
+    legs = []
+    for i, piece in enumerate(pieces):
+        a0 = _anchor(planner, stub, crossings, i, "start") if i else Anchor(start.xy)
+        a1 = _anchor(planner, stub, crossings, i, "end") if i < len(pieces) - 1 else Anchor(goal.xy)
+        pts, _ = piece_path(planner, piece, a0, a1)
+        if pts is None:
+            return [], math.inf
+        legs.append((piece, pts))
+    return legs, _total(planner, legs, crossings)

@@ -41,7 +41,7 @@ from scipy.sparse.csgraph import dijkstra
 
 from garnav.plan.navgraph import NavGraph
 
-__all__ = ["astar", "portal_lower_bounds", "heuristic_values", "PortalGraph"]
+__all__ = ["astar", "portal_lower_bounds", "heuristic_values", "PortalGraph", "min_matrix"]
 
 
 class PortalGraph:
@@ -76,10 +76,10 @@ class PortalGraph:
         # zero weights are dropped by csgraph: store a tiny positive stand-in (still a lower bound
         # after subtracting, see portal_lower_bounds)
         self._eps = 1e-12
-        self.matrix = _min_matrix(r, c, v + self._eps, p + 1)
+        self.matrix = min_matrix(r, c, v + self._eps, p + 1)
 
 
-def _min_matrix(r: np.ndarray, c: np.ndarray, v: np.ndarray, size: int) -> sp.csr_matrix:
+def min_matrix(r: np.ndarray, c: np.ndarray, v: np.ndarray, size: int) -> sp.csr_matrix:
     """Sparse (size, size) matrix keeping the SMALLEST value of duplicate (r, c) entries (scipy
     would add them), stored in the upper triangle."""
     lo, hi = np.minimum(r, c), np.maximum(r, c)
