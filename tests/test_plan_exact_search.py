@@ -62,6 +62,7 @@ def _scalar_intervals(garment, seam, free, step_mm=0.5):
     return out
 
 
+@pytest.mark.slow
 def test_batched_bisection_gives_identical_free_intervals():
     from garnav.demo import demo_garment
 
@@ -85,3 +86,28 @@ def test_exact_search_is_certified_on_two_unfolded_panels(s, e):
     found = planner.last_search
     assert found.lower_mm <= route.cost + 1e-9
     assert route.cost - found.lower_mm <= 1e-3 * route.cost + 1e-9
+
+
+def test_cli_route_uses_the_graph_cache_by_default_and_not_with_no_cache(tmp_path, monkeypatch, capsys):
+    from garnav.cli import main
+    from garnav.spec import save_garment
+
+    folder = tmp_path / "cache"
+    monkeypatch.setenv("GARNAV_CACHE_DIR", str(folder))
+    spec = tmp_path / "two.toml"
+    save_garment(garments.two_panels(), spec)
+    args = ["route", str(spec), "--from", "left_centre", "--to", "right:250,300"]
+    assert main(args + ["--no-cache"]) == 0
+    assert not folder.exists()
+    first = capsys.readouterr().out
+    assert main(args) == 0
+    files = sorted(folder.glob("navgraph-*.npz"))
+    assert len(files) == 1
+    assert capsys.readouterr().out == first
+    stamp = files[0].stat().st_mtime_ns
+    assert main(args) == 0  # warm: the same file is read, not rewritten
+    assert files[0].stat().st_mtime_ns == stamp
+    assert capsys.readouterr().out == first
+    # a changed robot is another key
+    assert main(args + ["--radius", "12"]) == 0
+    assert len(sorted(folder.glob("navgraph-*.npz"))) == 2

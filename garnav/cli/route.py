@@ -6,24 +6,41 @@ With a drape — the spec's own ``drape`` file, or ``--drape MESH`` — the rout
 (``garnav-route``, docs/route-format.md; with ``length_3d_mm``, per-waypoint ``xyz`` and ``path3d``
 when lifted), ``--csv`` its waypoint table and ``--commands`` the robot's turn-and-go commands
 (docs/commands.md). All are written atomically.
+
+The navigation graph is kept in a per-user cache folder (``platformdirs.user_cache_dir``, or
+``GARNAV_CACHE_DIR`` when set, or ``--cache-dir``) under a key of the content of spec, robot and
+options, so a repeated call on the same garment skips the build; ``--no-cache`` builds afresh and
+writes nothing. Heavy modules are imported inside :func:`run` so that ``garnav --help`` and the
+parser stay quick.
 """
 
 from __future__ import annotations
 
 import argparse
 import dataclasses
+import os
 from pathlib import Path
+from typing import TYPE_CHECKING
 
-from garnav.drape.inverse import pattern_locator
-from garnav.drape.lift import lift_route
-from garnav.drape.sources import garment_and_drape, is_mesh_path, spec_drape_locator
 from garnav.errors import MeshError, QueryError
-from garnav.export.commands import route_commands, write_commands
-from garnav.export.waypoints import route_document, write_route_csv, write_route_json
-from garnav.model import Robot
-from garnav.plan import Planner, Route
 
-__all__ = ["register", "run", "route_summary"]
+if TYPE_CHECKING:
+    from garnav.plan import Route
+
+__all__ = ["register", "run", "route_summary", "default_cache_dir"]
+
+CACHE_ENV = "GARNAV_CACHE_DIR"
+
+
+def default_cache_dir() -> Path:
+    """Folder of the on-disk graph cache: ``$GARNAV_CACHE_DIR`` if set, else the per-user cache
+    folder of the platform (``platformdirs.user_cache_dir("garnav")``) / ``navgraph``."""
+    env = os.environ.get(CACHE_ENV)
+    if env:
+        return Path(env)
+    import platformdirs
+
+    return Path(platformdirs.user_cache_dir("garnav")) / "navgraph"
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:
@@ -67,10 +84,30 @@ def register(subparsers: argparse._SubParsersAction) -> None:
     parser.add_argument("--json", metavar="FILE", help="write the route document as JSON (docs/route-format.md)")
     parser.add_argument("--csv", metavar="FILE", help="write the waypoints as CSV")
     parser.add_argument("--commands", metavar="FILE", help="write the robot commands as text (docs/commands.md)")
+    cache = parser.add_mutually_exclusive_group()
+    cache.add_argument(
+        "--cache-dir",
+        metavar="DIR",
+        help=f"folder of the navigation-graph cache (default: ${CACHE_ENV}, else the per-user cache folder)",
+    )
+    cache.add_argument("--no-cache", action="store_true", help="build the navigation graph afresh; read and write no cache")
+    parser.add_argument(
+        "--exact-seams",
+        action="store_true",
+        help="choose seams and crossings by the certified (slower) branch-and-bound search (docs/planning.md)",
+    )
     parser.set_defaults(func=run)
 
 
 def run(args: argparse.Namespace) -> int:
+    from garnav.drape.inverse import pattern_locator
+    from garnav.drape.lift import lift_route
+    from garnav.drape.sources import spec_drape_locator
+    from garnav.export.commands import route_commands, write_commands
+    from garnav.export.waypoints import route_document, write_route_csv, write_route_json
+    from garnav.model import Robot
+    from garnav.plan import Planner
+
     garment, drape = _garment_and_drape(args)
     if drape is not None:
         locate = pattern_locator(drape, garment)
@@ -83,7 +120,17 @@ def run(args: argparse.Namespace) -> int:
         robot = dataclasses.replace(robot, radius_mm=float(args.radius))
     if not args.clearance >= 0:
         raise QueryError(f"--clearance must be zero or more mm, got {args.clearance:g}")
-    planner = Planner(garment, robot, extra_clearance_mm=args.clearance, locate_3d=locate)
+    cache_dir = None
+    if not getattr(args, "no_cache", False):
+        cache_dir = Path(args.cache_dir) if getattr(args, "cache_dir", None) else default_cache_dir()
+    planner = Planner(
+        garment,
+        robot,
+        extra_clearance_mm=args.clearance,
+        locate_3d=locate,
+        cache_dir=cache_dir,
+        exact_seams=getattr(args, "exact_seams", False),
+    )
     texts = [args.start, *args.via, args.goal]
     roles = ["start"] + ["via point"] * len(args.via) + ["goal"]
     stops = [planner.point(t, snap=args.snap, role=r) for t, r in zip(texts, roles)]
@@ -110,6 +157,8 @@ def run(args: argparse.Namespace) -> int:
 def _garment_and_drape(args: argparse.Namespace):
     """The garment and the drape to lift onto: --drape MESH, else the spec's own drape (when it
     names one and --no-drape is not given), else none; a mesh GARMENT is its own drape."""
+    from garnav.drape.sources import garment_and_drape, is_mesh_path
+
     given = getattr(args, "drape", None)  # None: not given; "": the spec's own; else a mesh file
     if is_mesh_path(args.garment):
         if getattr(args, "no_drape", False):
@@ -125,7 +174,7 @@ def _garment_and_drape(args: argparse.Namespace):
         raise MeshError(f"{exc} (the spec names this drape; --no-drape plans without it)") from None
 
 
-def route_summary(route: Route, start: str, goal: str) -> str:
+def route_summary(route: "Route", start: str, goal: str) -> str:
     """A short table: length, cost, seams crossed, turns, driving time."""
     seams = ", ".join(route.seams_crossed) if route.crossings else "none"
     rows = [

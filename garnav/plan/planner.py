@@ -19,7 +19,7 @@ from typing import Callable, Sequence
 import numpy as np
 import scipy.sparse as sp
 
-from garnav.errors import NoRouteError, QueryError
+from garnav.errors import GarnavError, NoRouteError, QueryError
 from garnav.model import Garment, Robot
 from garnav.plan.cache import cache_key, cache_path, load_nav_graph, save_nav_graph
 from garnav.plan.explain import check_free, explain_no_route
@@ -105,7 +105,10 @@ class Planner:
         if self.nav is None:
             self.nav = build_nav_graph(garment, self.free, portal_spacing_mm, approach_mm)
             if self.cache_file is not None:
-                save_nav_graph(self.nav, self.cache_file, key)
+                try:
+                    save_nav_graph(self.nav, self.cache_file, key)
+                except GarnavError:
+                    self.cache_file = None  # a cache that cannot be written only costs time
         self.portal_graph = PortalGraph(self.nav)
         self._corner_mats: dict = {}
         self.exact_seams = bool(exact_seams)
