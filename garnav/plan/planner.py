@@ -42,6 +42,10 @@ __all__ = ["Planner", "plan_route", "PLANNER_VERSION"]
 
 PLANNER_VERSION = "1"
 
+#: Alternative seam sequences are refined when their graph cost is at most this fraction above the
+#: best graph path's (the refinement of one crossing gains at most about a portal spacing).
+ALTERNATIVE_MARGIN = 0.03
+
 
 class Planner:
     """Route planner for one garment and one robot.
@@ -210,7 +214,8 @@ class Planner:
                 edges.append((n0, gid, d))
         return edges
 
-    def _search(self, start: PiecePoint, goals: Sequence[PiecePoint]):
+    def _search(self, start: PiecePoint, goals: Sequence[PiecePoint], banned: frozenset[int] = frozenset()):
+        """A* as in :meth:`search`; crossings of the seams (indices) in ``banned`` are left out."""
         ng = self.nav
         n0 = ng.graph.number_of_nodes()
         extra: dict[int, list[tuple[int, float]]] = {}
@@ -225,6 +230,9 @@ class Planner:
 
         def neighbors(n: int):
             base = ng.neighbours(n) if n < n0 else []
+            if banned and n < n0 and int(ng.portal_seam[n]) in banned:
+                s = ng.portal_seam[n]
+                base = [(m, w) for m, w in base if not (m < n0 and ng.portal_seam[m] == s and ng.graph[n][m]["crossing"])]
             return base + sorted(extra.get(n, []))
 
         found = astar(neighbors, {n0: 0.0}, set(range(n0 + 1, n0 + 1 + len(goals))), lambda n: h[n])
@@ -266,9 +274,7 @@ class Planner:
             self.last_search = found
             legs, crossings, cost, k = found.legs, found.crossings, found.cost_mm, found.goal
         else:
-            path, _, k = self.search(start, goals)
-            legs, crossings = self._split(path, start, goals[k])
-            legs, crossings, cost = refine(self, legs, crossings)
+            legs, crossings, cost, k = self._portal_route(start, goals)
         route = make_route(
             self.garment,
             self.robot,
@@ -277,6 +283,30 @@ class Planner:
             cost,
         )
         return k, route
+
+    def _portal_route(self, start: PiecePoint, goals: list[PiecePoint]):
+        """A* on the portals, refinement, then the same for the seam sequences found with each
+        crossed seam left out in turn, when their graph cost is within ``ALTERNATIVE_MARGIN`` of
+        the first: the seam sequence is chosen on sampled portals, so a sequence that wins only
+        after refinement may rank second on the graph (e.g. round a corner where several seams
+        meet). Returns the cheapest (legs, crossings, cost, goal index)."""
+        path, first_cost, k = self.search(start, goals)
+        legs, crossings = self._split(path, start, goals[k])
+        best = (*refine(self, legs, crossings), k)
+        tried = {tuple((s, side) for s, _, side in best[1])}
+        for seam in sorted({s for s, _, _ in best[1]}):
+            alt, alt_cost, ak = self._search(start, goals, frozenset([seam]))
+            if alt is None or alt_cost > first_cost * (1.0 + ALTERNATIVE_MARGIN):
+                continue
+            a_legs, a_cross = self._split(alt, start, goals[ak])
+            key = tuple((s, side) for s, _, side in a_cross)
+            if key in tried:
+                continue
+            tried.add(key)
+            cand = refine(self, a_legs, a_cross)
+            if cand[2] < best[2] - 1e-12:
+                best = (*cand, ak)
+        return best
 
     def _split(self, path: list[int], start: PiecePoint, goal: PiecePoint):
         """Node path → legs [(piece, (n, 2) points)] and crossings [(seam index, t, from side)]."""
