@@ -127,6 +127,9 @@ def evaluate_targets(res: dict[str, Any]) -> list[dict[str, Any]]:
         out.append(_t("demo_end_to_end", "MISS", None, f"`{cli['command']}` failed (exit {cli['returncode']})"))
     else:
         out.append(_t("demo_end_to_end", "N/A", None, cli.get("error", "not run")))
+    from benchmarks.seams import seam_targets
+
+    out.extend(seam_targets(res))
     return out
 
 

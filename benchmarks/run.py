@@ -37,7 +37,7 @@ from benchmarks import refs as R
 from benchmarks.measure import growth_exponent, machine_info, peak_memory, summary, timed
 from benchmarks.report import evaluate_targets, format_report, markdown_report
 
-ALL_CASES = ("single", "demo", "lift", "cli")
+ALL_CASES = ("single", "demo", "lift", "cli", "seams")
 FULL_N = (10, 50, 200, 500)
 QUICK_N = (2, 4)
 
@@ -530,6 +530,16 @@ def run(opts: Options, which: tuple[str, ...], log=print, checkpoint=None) -> di
             results["cases"]["demo_cli"] = run_cli(opts, log)
         except Exception as exc:
             results["cases"]["demo_cli"] = {"kind": "cli", "available": False, "error": _err(exc)}
+    if "seams" in which:
+        from benchmarks.seams import run_cli_cache, run_seam_optimality
+
+        for key, fn in (("seams_optimality", run_seam_optimality), ("cli_cache", run_cli_cache)):
+            log(f"case {key} ...")
+            try:
+                results["cases"][key] = fn(opts, log)
+            except Exception as exc:
+                results["cases"][key] = {"kind": key, "error": _err(exc)}
+            save(results)
     results["targets"] = evaluate_targets(results)
     results["total_s"] = time.perf_counter() - t_all
     try:
