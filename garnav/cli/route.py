@@ -133,17 +133,17 @@ def run(args: argparse.Namespace) -> int:
     )
     texts = [args.start, *args.via, args.goal]
     roles = ["start"] + ["via point"] * len(args.via) + ["goal"]
-    stops = [planner.point(t, snap=args.snap, role=r) for t, r in zip(texts, roles)]
+    stops = [planner.point(t, snap=args.snap, role=r) for t, r in zip(texts, roles, strict=False)]
     route = planner.route(stops[0], stops[-1], via=stops[1:-1])
     print(route_summary(route, args.start, args.goal))
-    for text, pp in zip(texts, stops):
+    for text, pp in zip(texts, stops, strict=False):
         if pp.label.endswith("(snapped)"):
             print(f"note: {text} moved to the nearest free point {pp.piece}:{pp.x:.1f},{pp.y:.1f}")
     lifted = lift_route(drape, garment, route) if drape is not None else None
     if lifted is not None:
         print("\n".join(lifted.lines()))
     if args.json or args.csv:
-        doc = route_document(route, garment, robot, lifted)
+        doc = route_document(route, garment, robot, lifted)  # type: ignore[arg-type]  # LiftedRoute has the fields LiftedLike names
         if args.json:
             write_route_json(args.json, doc)
         if args.csv:

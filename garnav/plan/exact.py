@@ -137,7 +137,7 @@ class SeamSearch:
             for lo, hi in ng.intervals[seam.name]:
                 n = max(int(math.ceil((hi - lo) * la / spacing_mm)), 1)
                 edges = np.linspace(lo, hi, n + 1)
-                for t0, t1 in zip(edges[:-1], edges[1:]):
+                for t0, t1 in zip(edges[:-1], edges[1:], strict=False):
                     self._add_window(self.base, _Window(si, float(t0), float(t1)))
         self.n_base_points = len(self.base.points)
         self._linked: set[int] = set()  # pieces whose base links are computed
@@ -377,7 +377,7 @@ class _Query:
         corners, off = ng.corners[name]
         mp = _moving(self.points, new)
         q, n, w = corner_links(fs, corners, mp)
-        for qi, ni, wi in zip(q.tolist(), n.tolist(), w.tolist()):
+        for qi, ni, wi in zip(q.tolist(), n.tolist(), w.tolist(), strict=False):
             a = new[qi]
             self.over.pc.setdefault(a, {})[ni + off] = wi
             self.over.cp.setdefault(ni + off, {})[a] = wi
@@ -512,7 +512,7 @@ class _Query:
         """Crossings (seam index, t, from side), windows crossed, and goal index of a bound path."""
         ss = self.ss
         out, wins = [], []
-        for u, v in zip(path[:-1], path[1:]):
+        for u, v in zip(path[:-1], path[1:], strict=False):
             if u >= ss.n0 and v >= ss.n0:
                 pu, su = divmod(u - ss.n0, 2)
                 pv, sv = divmod(v - ss.n0, 2)

@@ -227,7 +227,7 @@ def place_nodes(
     offset = 0
 
     def add(xy, pi, seam=-1, side=-1, t=np.nan, tan=(0.0, 0.0), inward=(0.0, 0.0), of=-1):
-        for key, val in zip(cols, (xy, pi, seam, side, t, tan, inward, of)):
+        for key, val in zip(cols, (xy, pi, seam, side, t, tan, inward, of), strict=False):
             cols[key].append(val)
 
     for pi, name in enumerate(pieces):
@@ -253,7 +253,7 @@ def place_nodes(
             want = np.stack([amin > 0, (amin > 0) & (amin < 90.0)], axis=1)  # at 90° the two coincide
             k, e = np.nonzero(want)
             ok = segments_free(fs.region, pxy[k], ends[k, e])
-            for kk, ee in zip(k[ok].tolist(), e[ok].tolist()):
+            for kk, ee in zip(k[ok].tolist(), e[ok].tolist(), strict=False):
                 add(ends[kk, ee], pi, of=first_portal + kk)
                 app.append(nxt)
                 nxt += 1
@@ -361,22 +361,22 @@ def _piece_edges(ng: NavGraph, name: str) -> list[tuple[int, int, float, float, 
     fs = ng.free[name]
     c, off = ng.corners[name]
     i, j = bitangent_pairs(fs.region, c)
-    ia, ib = [i + off], [j + off]
+    la, lb = [i + off], [j + off]
     # free points: portals (angle limit at them) and approach points (none)
     fp = np.concatenate([ng.portal_nodes[name], ng.approach_nodes[name]]).astype(int)
     if len(fp):
         xy, tan, amin = ng.xy[fp], ng.portal_tan[fp], ng.min_angles(fp)
         q, n = free_point_links(ng, name, xy, tan, amin)
-        ia.append(fp[q])
-        ib.append(n)
+        la.append(fp[q])
+        lb.append(n)
         pa, pb = point_pairs(fs, xy, tan, amin)
-        ia.append(fp[pa])
-        ib.append(fp[pb])
+        la.append(fp[pa])
+        lb.append(fp[pb])
         # each approach point to its own portal (exactly at the angle limit)
         own = ng.approach_nodes[name]
-        ia.append(ng.approach_of[own])
-        ib.append(own)
-    ia, ib = np.concatenate(ia).astype(int), np.concatenate(ib).astype(int)
+        la.append(ng.approach_of[own])
+        lb.append(own)
+    ia, ib = np.concatenate(la).astype(int), np.concatenate(lb).astype(int)
     length, cost = edge_costs(fs, ng.xy[ia], ng.xy[ib])
     lo, hi = np.minimum(ia, ib), np.maximum(ia, ib)
-    return [(i, j, ln, w, False) for i, j, ln, w in zip(lo.tolist(), hi.tolist(), length.tolist(), cost.tolist())]
+    return [(i, j, ln, w, False) for i, j, ln, w in zip(lo.tolist(), hi.tolist(), length.tolist(), cost.tolist(), strict=False)]

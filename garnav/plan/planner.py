@@ -26,6 +26,7 @@ from garnav.plan.explain import check_free, explain_no_route
 from garnav.plan.freespace import DEFAULT_QUAD_SEGS, build_free_space
 from garnav.plan.navgraph import (
     DEFAULT_PORTAL_SPACING_MM,
+    NavGraph,
     build_nav_graph,
     edge_costs,
     free_point_links,
@@ -94,8 +95,8 @@ class Planner:
         self.robot = robot or garment.robot or Robot()
         self.locate_3d = locate_3d
         self.free = build_free_space(garment, self.robot, quad_segs=quad_segs, extra_clearance_mm=extra_clearance_mm)
-        self.nav = None
-        self.cache_file = None
+        nav: NavGraph | None = None
+        self.cache_file: Path | None = None
         if cache_dir is not None:
             options = {
                 "quad_segs": quad_segs,
@@ -105,14 +106,15 @@ class Planner:
             }
             key = cache_key(garment, self.robot, options, PLANNER_VERSION)
             self.cache_file = cache_path(cache_dir, key)
-            self.nav = load_nav_graph(self.cache_file, garment, self.free, key)
-        if self.nav is None:
-            self.nav = build_nav_graph(garment, self.free, portal_spacing_mm, approach_mm)
+            nav = load_nav_graph(self.cache_file, garment, self.free, key)
+        if nav is None:
+            nav = build_nav_graph(garment, self.free, portal_spacing_mm, approach_mm)
             if self.cache_file is not None:
                 try:
-                    save_nav_graph(self.nav, self.cache_file, key)
+                    save_nav_graph(nav, self.cache_file, key)
                 except GarnavError:
                     self.cache_file = None  # a cache that cannot be written only costs time
+        self.nav: NavGraph = nav
         self.portal_graph = PortalGraph(self.nav)
         self._corner_mats: dict = {}
         self.exact_seams = bool(exact_seams)
@@ -178,7 +180,7 @@ class Planner:
         if not nodes:
             return []
         _, cost = edge_costs(fs, np.repeat(xy, len(nodes), axis=0), ng.xy[nodes])
-        return list(zip(nodes, cost.tolist()))
+        return list(zip(nodes, cost.tolist(), strict=False))
 
     def direct(self, p: PiecePoint, q: PiecePoint) -> float | None:
         """Cost of the straight segment p → q when both lie on one piece and it is free, else None."""
@@ -248,7 +250,7 @@ class Planner:
         stops = [self.point(start, snap=snap, role="start")]
         stops += [self.point(v, snap=snap, role="via point") for v in via]
         stops.append(self.point(goal, snap=snap, role="goal"))
-        parts = [self._route_between(a, [b])[1] for a, b in zip(stops[:-1], stops[1:])]
+        parts = [self._route_between(a, [b])[1] for a, b in zip(stops[:-1], stops[1:], strict=False)]
         return parts[0] if len(parts) == 1 else join_routes(self.garment, self.robot, parts)
 
     def nearest(self, start: PointLike, goals: Sequence[PointLike], *, snap: bool = False) -> tuple[int, Route]:
@@ -318,7 +320,7 @@ class Planner:
 
         legs: list[tuple[str, list[np.ndarray]]] = [(start.piece, [start.xy])]
         crossings = []
-        for u, v in zip(path[:-1], path[1:]):
+        for u, v in zip(path[:-1], path[1:], strict=False):
             if u < n0 and v < n0 and ng.graph[u][v]["crossing"]:
                 crossings.append((int(ng.portal_seam[u]), float(ng.portal_t[u]), int(ng.portal_side[u])))
                 legs.append((ng.pieces[ng.node_piece[v]], [ng.xy[v]]))

@@ -83,7 +83,7 @@ def seam_sides(
     out = []
     if runs is None:
         runs = (garment.run_polyline(seam.a), garment.run_polyline(seam.b))
-    for run, pts in zip((seam.a, seam.b), runs):
+    for run, pts in zip((seam.a, seam.b), runs, strict=False):
         length = cumulative_length(pts)[-1]
         tan = _tangents(pts, t)
         inward = np.stack([-tan[:, 1], tan[:, 0]], axis=1) * (-1.0 if run.reverse else 1.0)
@@ -93,7 +93,9 @@ def seam_sides(
     return SeamSides(seam, t, a_xy, b_xy, a_tan, b_tan, a_in, b_in, la)
 
 
-def approach_points(xy: np.ndarray, tangent: np.ndarray, inward: np.ndarray, min_angle_deg: float, length_mm: float) -> np.ndarray:
+def approach_points(
+    xy: np.ndarray, tangent: np.ndarray, inward: np.ndarray, min_angle_deg: float | np.ndarray, length_mm: float
+) -> np.ndarray:
     """The two ends of the straight approach to a crossing at the smallest allowed angle.
 
     A robot crossing a seam drives straight over it at an angle of at least ``min_angle_deg`` to
@@ -141,7 +143,7 @@ def free_intervals(
         fit = _fits(garment, seam, free, mid, runs)
         good = np.where(fit, mid, good)
         bad = np.where(fit, bad, mid)
-    ends = dict(zip(change.tolist(), good.tolist()))
+    ends = dict(zip(change.tolist(), good.tolist(), strict=False))
     out = []
     k = 0
     while k < m:

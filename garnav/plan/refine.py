@@ -55,7 +55,7 @@ class Anchor:
 
     def approaches(self, approach_mm: float) -> np.ndarray:
         """(0..2, 2) ends of the straight approach at the angle limit (none without a limit)."""
-        if self.min_angle <= 0 or approach_mm <= 0:
+        if self.min_angle <= 0 or approach_mm <= 0 or self.tangent is None or self.inward is None:
             return np.zeros((0, 2))
         ends = approach_points(self.xy[None], self.tangent[None], self.inward[None], self.min_angle, approach_mm)[0]
         return ends[:1] if self.min_angle >= 90.0 else ends
@@ -71,7 +71,7 @@ def _sources(planner, piece: str, anchor: Anchor) -> list[tuple[np.ndarray, floa
         a = np.repeat(anchor.xy[None], len(ends), axis=0)
         ok = segments_free(fs.region, a, ends)
         cost = edge_costs(fs, a, ends)[1]
-        out += [(e, float(c), Anchor(e)) for e, c, k in zip(ends, cost, ok) if k]
+        out += [(e, float(c), Anchor(e)) for e, c, k in zip(ends, cost, ok, strict=False) if k]
     return out
 
 
@@ -195,7 +195,7 @@ def piece_path(planner, piece: str, start: Anchor, end: Anchor):
     pa, pb = point_pairs(fs, xy, tans, amin)
     if len(pa):
         w = edge_costs(fs, xy[pa], xy[pb])[1]
-        for i, j, c in zip(pa.tolist(), pb.tolist(), w.tolist()):
+        for i, j, c in zip(pa.tolist(), pb.tolist(), w.tolist(), strict=False):
             link(n0 + i, n0 + j, c)
     for u, v, c in own:
         link(u, v, c)

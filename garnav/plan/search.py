@@ -51,7 +51,7 @@ class PortalGraph:
         self.ng = ng
         self.portals = np.nonzero(ng.portal_seam >= 0)[0]
         rows, cols, vals = [], [], []
-        for piece, nodes in ng.portal_nodes.items():
+        for _piece, nodes in ng.portal_nodes.items():
             if len(nodes) < 2:
                 continue
             a, b = np.triu_indices(len(nodes), 1)
@@ -61,7 +61,7 @@ class PortalGraph:
             vals.append(d)
         crossing = [(n, m, d["weight"]) for n, m, d in ng.graph.edges(data=True) if d["crossing"]]
         if crossing:
-            n, m, w = (np.array(x) for x in zip(*crossing))
+            n, m, w = (np.array(x) for x in zip(*crossing, strict=False))
             rows.append(np.searchsorted(self.portals, n))
             cols.append(np.searchsorted(self.portals, m))
             vals.append(w.astype(float))
@@ -160,8 +160,8 @@ def astar(
             continue
         if n in goals:
             path = [n]
-            while parent[path[-1]] is not None:
-                path.append(parent[path[-1]])
+            while (up := parent[path[-1]]) is not None:
+                path.append(up)
             return path[::-1], g
         closed.add(n)
         for m, w in neighbors(n):

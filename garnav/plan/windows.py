@@ -141,8 +141,8 @@ def pair_links(
     Returns (index into a, index into b, lower-bound cost).
     """
     if pairs is None:
-        ia, ib = np.meshgrid(np.arange(len(a)), np.arange(len(b)), indexing="ij")
-        ia, ib = ia.ravel(), ib.ravel()
+        ga, gb = np.meshgrid(np.arange(len(a)), np.arange(len(b)), indexing="ij")
+        ia, ib = ga.ravel(), gb.ravel()
     else:
         ia, ib = pairs
     if not len(ia):
