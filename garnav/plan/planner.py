@@ -43,9 +43,9 @@ __all__ = ["Planner", "plan_route", "PLANNER_VERSION"]
 
 PLANNER_VERSION = "1"
 
-#: Alternative seam sequences are refined when their graph cost is at most this fraction above the
-#: best graph path's (the refinement of one crossing gains at most about a portal spacing).
-ALTERNATIVE_MARGIN = 0.03
+#: An alternative seam sequence is refined when its graph cost is at most the refined cost of the
+#: first route plus twice what refining that route gained plus this fraction of its graph cost.
+ALTERNATIVE_MARGIN = 0.002
 
 
 class Planner:
@@ -288,8 +288,8 @@ class Planner:
 
     def _portal_route(self, start: PiecePoint, goals: list[PiecePoint]):
         """A* on the portals, refinement, then the same for the seam sequences found with each
-        crossed seam left out in turn, when their graph cost is within ``ALTERNATIVE_MARGIN`` of
-        the first: the seam sequence is chosen on sampled portals, so a sequence that wins only
+        crossed seam left out in turn, when their graph cost is close enough to the first's (see
+        ``ALTERNATIVE_MARGIN``): the seam sequence is chosen on sampled portals, so a sequence that wins only
         after refinement may rank second on the graph (e.g. round a corner where several seams
         meet). Returns the cheapest (legs, crossings, cost, goal index)."""
         path, first_cost, k = self.search(start, goals)
@@ -298,7 +298,10 @@ class Planner:
         tried = {tuple((s, side) for s, _, side in best[1])}
         for seam in sorted({s for s, _, _ in best[1]}):
             alt, alt_cost, ak = self._search(start, goals, frozenset([seam]))
-            if alt is None or alt_cost > first_cost * (1.0 + ALTERNATIVE_MARGIN):
+            # worth refining only if it could win after gaining as much as the first route did
+            # (twice over, plus ALTERNATIVE_MARGIN of its cost)
+            reach = best[2] + 2.0 * max(first_cost - best[2], 0.0) + ALTERNATIVE_MARGIN * first_cost
+            if alt is None or alt_cost > reach:
                 continue
             a_legs, a_cross = self._split(alt, start, goals[ak])
             key = tuple((s, side) for s, _, side in a_cross)
