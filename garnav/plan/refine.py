@@ -16,7 +16,8 @@ the seam that holds t: a coarse sampling, a finer sampling around the best sampl
 bounded Brent method between its neighbours. Where the seam has a smallest crossing angle, a path
 may also reach x over its straight approach (:func:`garnav.plan.portals.approach_points`), and
 leave an anchor over the anchor's. The move is kept only if it lowers the cost, so the
-loop ends; it stops when a full round gains less than 1e-9 mm. The legs are then re-planned
+loop ends; it stops when a full round gains less than 1e-9 mm. A crossing is placed again only when
+one of its neighbours moved since it was last placed (otherwise its cost function is unchanged). The legs are then re-planned
 (A* inside the piece) between their new ends.
 
 On a straight seam with no obstacle or angle limit in the way, the optimum keeps the route's angle
@@ -282,15 +283,26 @@ def refine(planner, legs: list[tuple[str, np.ndarray]], crossings: list[tuple[in
     legs = [(p, np.array(pts, dtype=float)) for p, pts in legs]
     crossings = list(crossings)
     if crossings:
+        # stale[i]: an anchor of crossing i (crossing i - 1 or i + 1) moved since i was last placed;
+        # a crossing whose neighbours did not move has the same cost function as when it was
+        # placed, so placing it again cannot gain (skipped: the result is unchanged)
+        stale = [True] * len(crossings)
         for _ in range(_MAX_ROUNDS):
             gain = 0.0
             for i, (s, t, side) in enumerate(crossings):
+                if not stale[i]:
+                    continue
+                stale[i] = False
                 f_in = DistanceField(planner, legs[i][0], _anchor(planner, legs, crossings, i, "start"))
                 f_out = DistanceField(planner, legs[i + 1][0], _anchor(planner, legs, crossings, i + 1, "end"))
                 t_new, g = _move_crossing(planner, s, t, side, f_in, f_out)
                 gain += g
+                if t_new != t:
+                    for j in (i - 1, i + 1):
+                        if 0 <= j < len(crossings):
+                            stale[j] = True
                 crossings[i] = (s, t_new, side)
-            if gain < 1e-9:
+            if gain < 1e-9 or not any(stale):
                 break
         # re-plan every leg between its (new) ends
         for i, (piece, pts) in enumerate(legs):
