@@ -4,6 +4,8 @@ from __future__ import annotations
 
 from typing import Any
 
+from benchmarks.seams import SEAM_TARGETS, seam_targets
+
 __all__ = ["TARGETS", "evaluate_targets", "format_report", "markdown_report"]
 
 # (key, description); thresholds live in evaluate_targets
@@ -17,7 +19,7 @@ TARGETS = (
     ("locate_vs_find_simplex", "point location at least 5x faster than random-order find_simplex"),
     ("lift_time", "lift of ~5,000 points on ~100k triangles under 15 ms (median)"),
     ("demo_end_to_end", "`garnav demo` end to end under 20 s"),
-)
+) + SEAM_TARGETS
 
 
 def _get(d: dict, *keys, default=None):
@@ -127,8 +129,6 @@ def evaluate_targets(res: dict[str, Any]) -> list[dict[str, Any]]:
         out.append(_t("demo_end_to_end", "MISS", None, f"`{cli['command']}` failed (exit {cli['returncode']})"))
     else:
         out.append(_t("demo_end_to_end", "N/A", None, cli.get("error", "not run")))
-    from benchmarks.seams import seam_targets
-
     out.extend(seam_targets(res))
     return out
 
