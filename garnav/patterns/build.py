@@ -409,13 +409,13 @@ def build_garment(raw: RawPattern, options: BuildOptions = BuildOptions()) -> Bu
     placed = pieces + mirrored
     bounds = np.array([_sheet_polygon(p).bounds for p in placed])
     lo, hi = bounds[:, :2].min(axis=0), bounds[:, 2:].max(axis=0)
-    shift = np.where(lo < 0, options.gap_mm - lo, 0.0)
+    shift = np.where(lo < -1e-7, options.gap_mm - lo, 0.0)
     if np.any(shift):
         placed = [Piece(p.name, p.edges, p.openings,
                         Placement(p.placement.x + float(shift[0]), p.placement.y + float(shift[1]),
                                   p.placement.angle_deg)) for p in placed]
         hi = hi + shift
-    if raw.sheet_size_mm is not None and np.all(hi <= np.asarray(raw.sheet_size_mm) + 1e-9) \
+    if raw.sheet_size_mm is not None and np.all(hi <= np.asarray(raw.sheet_size_mm) + 1e-7) \
             and not np.any(shift):
         sheet = (float(raw.sheet_size_mm[0]), float(raw.sheet_size_mm[1]))
     else:
