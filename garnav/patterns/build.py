@@ -102,8 +102,8 @@ def _check_outline(file: str, raw: RawPiece, opt: BuildOptions) -> tuple[np.ndar
         raise _piece_problem(file, raw, f"outline point {bad} is not a finite number (NaN or inf)")
     kinds = np.asarray(raw.vertex_kind, dtype=bool).reshape(-1)
     ring, kinds = drop_repeats(ring, kinds, 1e-9)
-    if len(ring) < 3 or abs(signed_area(ring)) < 1e-6:
-        raise _piece_problem(file, raw, "outline has no area (fewer than 3 distinct points or all on one line)")
+    if len(ring) < 3:
+        raise _piece_problem(file, raw, "outline has fewer than 3 distinct points")
     lr = shapely.LinearRing(ring)
     if not lr.is_simple:
         reason = shapely.is_valid_reason(shapely.Polygon(ring))
@@ -114,6 +114,8 @@ def _check_outline(file: str, raw: RawPiece, opt: BuildOptions) -> tuple[np.ndar
             except ValueError:
                 where = None
         raise _piece_problem(file, raw, "outline crosses or touches itself", where)
+    if abs(signed_area(ring)) < 1e-6:
+        raise _piece_problem(file, raw, "outline has no area (all its points on one line)")
     if signed_area(ring) < 0:
         ring, kinds = ring[::-1].copy(), kinds[::-1].copy()
     return ring, kinds

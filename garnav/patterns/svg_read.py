@@ -1,6 +1,6 @@
 """Read an SVG pattern into a RawPattern (garnav's own SVG convention, docs/pattern-files.md).
 
-The bytes are parsed by ``defusedxml`` first (no DTDs, entities or external references — the
+The bytes are parsed by ``defusedxml`` first (no entity declarations or external references — the
 billion-laughs and external-entity attacks), then by ``svgelements``, which applies the root's
 units and viewBox and every nested transform (SVG 1.1 §7; CSS: 96 px per inch). Classes say what
 an element is: ``piece`` (or any closed shape without a role), ``notch``, ``grain``, ``keepout``
@@ -53,27 +53,52 @@ class SvgOptions:
 
 
 def check_xml(file: str, data: bytes):
-    """Parse ``data`` with defusedxml (DTDs, entities and external references forbidden) and return
-    the root element, or raise a SpecError that says why the file is refused."""
+    """Parse ``data`` with defusedxml and return the root element, or raise a SpecError that says
+    why the file is refused.
+
+    Entity declarations (the "billion laughs" bomb, external entities such as
+    ``SYSTEM "file:///etc/passwd"``) and external references are refused; a plain document type
+    declaration without entities (drawing programs write SVG 1.1's) is allowed — the standard
+    library's parser never fetches it.
+    """
     defused = require("defusedxml")
     from defusedxml import ElementTree as DET  # noqa: N814
 
     try:
-        return DET.fromstring(data, forbid_dtd=True, forbid_entities=True, forbid_external=True)
-    except defused.DTDForbidden:
-        raise pattern_error(file, "XML document type declaration",
-                            "refused: DTDs can define entities (the 'billion laughs' attack) or "
-                            "pull in external files; SVG patterns need none") from None
+        return DET.fromstring(data, forbid_dtd=False, forbid_entities=True, forbid_external=True)
     except defused.EntitiesForbidden as exc:
+        sysid = getattr(exc, "sysid", None)
+        if sysid:
+            raise pattern_error(file, f"XML external entity '{exc.name}' (SYSTEM '{sysid}')",
+                                "refused: garnav does not read external entities (they can "
+                                "expose local files or reach the network)") from None
         raise pattern_error(file, f"XML entity '{exc.name}'",
-                            "refused: entity declarations are not read (XML bombs)") from None
-    except defused.ExternalReferenceForbidden:
-        raise pattern_error(file, "XML external reference", "refused: external entities are "
-                            "not read") from None
+                            "refused: entity declarations are not read (nested entities make "
+                            "XML bombs such as 'billion laughs')") from None
+    except defused.ExternalReferenceForbidden as exc:
+        raise pattern_error(file, "XML external reference",
+                            f"refused: garnav does not read external references ({exc})") from None
     except defused.DefusedXmlException as exc:
         raise pattern_error(file, "XML", f"refused: {exc}") from None
     except DET.ParseError as exc:
         raise pattern_error(file, "XML", f"not well-formed XML ({exc})") from None
+
+
+_GEOMETRY_ATTRS = ("d", "points", "x", "y", "width", "height", "cx", "cy", "r", "rx", "ry", "x1",
+                   "y1", "x2", "y2", "transform", "viewBox")
+_NOT_FINITE = re.compile(r"(?i)(?<![a-z])(nan|inf(inity)?)(?![a-z])")
+
+
+def _check_finite(file: str, root) -> None:
+    """Refuse NaN or infinite numbers in geometry attributes (svgelements would drop them)."""
+    for el in root.iter():
+        for key in _GEOMETRY_ATTRS:
+            value = el.get(key)
+            if value is not None and _NOT_FINITE.search(value):
+                tag = str(el.tag).rsplit("}", 1)[-1]
+                ident = f" id='{el.get('id')}'" if el.get("id") else ""
+                raise pattern_error(file, f"<{tag}{ident}>", f"attribute '{key}' holds a number "
+                                    "that is not finite (NaN or inf)")
 
 
 def _root_length(file: str, root, key: str) -> float | None:
@@ -200,6 +225,7 @@ def parse_svg_bytes(file: str, data: bytes, options: SvgOptions = SvgOptions()) 
     root = check_xml(file, data)
     if not str(root.tag).endswith("svg"):
         raise pattern_error(file, f"<{root.tag}>", "the root element is not <svg>")
+    _check_finite(file, root)
     width = _root_length(file, root, "width")
     height = _root_length(file, root, "height")
     se = require("svgelements")
