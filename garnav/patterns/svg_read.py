@@ -297,19 +297,24 @@ def _pieces(file: str, pieces, marks, options: SvgOptions) -> list[RawPiece]:
         return min(hits, key=lambda i: polys[i].area)
 
     for e, role, subs in marks:
+        if not polys:
+            raise pattern_error(file, _describe(e), "lies on no piece (the file has no pieces)")
         if not subs:
             raise pattern_error(file, _describe(e), "the mark has no points")
         pts, _, closed = subs[0]
         attrs = e.values.get("attributes", {})
         if role == "notch":
-            best = None
-            for q in pts:
-                for i, poly in enumerate(polys):
-                    d = poly.exterior.distance(shapely.Point(q))
-                    if best is None or d < best[0]:
-                        best = (d, i, q)
-            assert best is not None
-            buckets[best[1]]["notches"].append((float(best[2][0]), float(best[2][1])))
+            # the piece the mark points into (its middle lies inside), else the nearest outline;
+            # the notch is the mark's point nearest that outline
+            mid = shapely.Point(pts.mean(axis=0))
+            inside = [i for i, poly in enumerate(polys) if poly.contains(mid)]
+            if inside:
+                i = min(inside, key=lambda k: polys[k].area)
+            else:
+                i = min(range(len(polys)), key=lambda k: polys[k].exterior.distance(mid))
+            ring = polys[i].exterior
+            q = min(pts, key=lambda v: ring.distance(shapely.Point(v)))
+            buckets[i]["notches"].append((float(q[0]), float(q[1])))
         elif role == "grain":
             mid = 0.5 * (pts[0] + pts[-1])
             i = owner(e, mid)
