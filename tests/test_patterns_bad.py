@@ -17,7 +17,7 @@ import ezdxf  # noqa: E402
 
 from garnav.cli import main  # noqa: E402
 from garnav.errors import GarnavError, SpecError  # noqa: E402
-from garnav.patterns import DxfOptions, SvgOptions, read_pattern  # noqa: E402
+from garnav.patterns import SvgOptions, read_pattern  # noqa: E402
 from garnav.patterns.conventions import MAX_DXF_BYTES, MAX_SVG_BYTES  # noqa: E402
 
 SVG_NS = 'xmlns="http://www.w3.org/2000/svg"'

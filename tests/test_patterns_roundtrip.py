@@ -44,12 +44,12 @@ def _angle_diff(a: float, b: float) -> float:
 def assert_same_pieces(g, h, tol=TOL_MM, names=True):
     assert [p.name for p in h.pieces] == [p.name for p in g.pieces]
     assert h.sheet_size_mm == pytest.approx(g.sheet_size_mm, abs=tol)
-    for p, q in zip(g.pieces, h.pieces):
+    for p, q in zip(g.pieces, h.pieces, strict=True):
         if names:
             assert q.edge_names == p.edge_names
         assert len(q.edges) == len(p.edges)
         # same edges, point by point, in the sheet frame
-        for e, f in zip(p.edges, q.edges):
+        for e, f in zip(p.edges, q.edges, strict=True):
             a = p.placement.to_sheet(np.array(e.points))
             b = q.placement.to_sheet(np.array(f.points))
             assert a.shape == b.shape
@@ -57,7 +57,7 @@ def assert_same_pieces(g, h, tol=TOL_MM, names=True):
         # grain line kept: the piece frame's +y points the same way on the sheet
         assert _angle_diff(p.placement.angle_deg, q.placement.angle_deg) <= 1e-6
         assert [o.name for o in q.openings] == [o.name for o in p.openings]
-        for o, r in zip(p.openings, q.openings):
+        for o, r in zip(p.openings, q.openings, strict=True):
             assert np.abs(p.placement.to_sheet(o.array) - q.placement.to_sheet(r.array)).max() <= tol
 
 
@@ -105,7 +105,7 @@ def test_demo_round_trip(tmp_path, fmt):
         assert [p.placement for p in h.pieces] == [p.placement for p in g.pieces]
         assert [p.edges for p in h.pieces] == [p.edges for p in g.pieces]
     # notches: every smooth edge boundary is written as a notch and read back as one
-    for p, pp in zip(g.pieces, built.points):
+    for p, pp in zip(g.pieces, built.points, strict=True):
         assert list(pp.is_notch) == boundary_kinds(p)
     assert sum(n for pp in built.points for n in pp.is_notch) == 4  # sleeves 1 each, yoke 2
     # the seams come back through a seams file
@@ -133,7 +133,7 @@ def test_dxf_without_garnav_data_keeps_edges_by_layers(tmp_path):
     plain = tmp_path / "plain.dxf"
     doc.saveas(plain)
     h = read_pattern(plain).garment
-    for p, q in zip(g.pieces, h.pieces):
+    for p, q in zip(g.pieces, h.pieces, strict=True):
         assert q.name == p.name  # from the "Piece Name:" text
         assert len(q.edges) == len(p.edges)
         starts_g = {tuple(np.round(p.placement.to_sheet(np.array(e.points[0])), 6)) for e in p.edges}
@@ -151,7 +151,7 @@ def test_svg_without_garnav_data_keeps_edges_by_corners_and_notches(tmp_path):
     plain = tmp_path / "plain.svg"
     plain.write_text(re.sub(r" data-edges='[^']*'", "", out.read_text()))
     h = read_pattern(plain).garment
-    for p, q in zip(g.pieces, h.pieces):
+    for p, q in zip(g.pieces, h.pieces, strict=True):
         starts_g = {tuple(np.round(p.placement.to_sheet(np.array(e.points[0])), 6)) for e in p.edges}
         starts_h = {tuple(np.round(q.placement.to_sheet(np.array(e.points[0])), 6)) for e in q.edges}
         assert starts_g == starts_h

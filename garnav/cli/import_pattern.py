@@ -45,6 +45,7 @@ def run_pattern(args) -> int:
         raise QueryError(f"--tolerance: expected a chord tolerance in mm > 0, got {args.tolerance}")
     if not (0 < args.corner_angle < 180):
         raise QueryError(f"--corner-angle: expected degrees in (0, 180), got {args.corner_angle}")
+    options: DxfOptions | SvgOptions
     if Path(args.mesh).suffix.lower() == ".dxf":
         options = DxfOptions(tolerance_mm=args.tolerance, units=args.units, internal=args.internal,
                              drill=args.drill)
@@ -67,7 +68,8 @@ def run_pattern(args) -> int:
           f"sheet {w:.1f} × {h:.1f} mm")
     for pp in built.points:
         piece = garment.piece(pp.piece)
-        parts = ", ".join(f"{pt}→{e.name} {e.length:.1f} mm" for pt, e in zip(pp.points, piece.edges))
+        parts = ", ".join(f"{pt}→{e.name} {e.length:.1f} mm"
+                          for pt, e in zip(pp.points, piece.edges, strict=True))
         print(f"  {pp.piece}: {parts}")
     for note in built.notes:
         print(f"  note: {note}")

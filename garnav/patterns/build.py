@@ -200,7 +200,7 @@ def _shape_piece(file: str, raw: RawPiece, opt: BuildOptions) -> _Shaped:
         notch_idx.append(idx)
     names: tuple[str, ...] | None = None
     if raw.edge_names:
-        starts = []
+        starts: list[tuple[int, str]] = []
         for nm, p in raw.edge_names:
             ring_before = len(ring)
             ring, kinds, idx, dist = insert_on_ring(ring, kinds, local(p)[0], opt.snap_mm)
@@ -249,7 +249,7 @@ def _shape_piece(file: str, raw: RawPiece, opt: BuildOptions) -> _Shaped:
 def _edges(ring: np.ndarray, breaks: tuple[int, ...], names: tuple[str, ...]) -> tuple[Edge, ...]:
     n = len(ring)
     out = []
-    for k, (b0, nm) in enumerate(zip(breaks, names)):
+    for k, (b0, nm) in enumerate(zip(breaks, names, strict=True)):
         b1 = breaks[(k + 1) % len(breaks)]
         stop = b1 if b1 > b0 else b1 + n
         if len(breaks) == 1:
@@ -297,7 +297,8 @@ def _marks(file: str, raw: RawPiece, shaped: _Shaped, piece: str, sign: float):
             arr = np.asarray(pts) * [sign, 1.0]
             if not _finite(arr):
                 raise pattern_error(file, ko.source, "a coordinate is not a finite number")
-            shape = PolygonShape(tuple(_pt(p) for p in (arr if sign > 0 else arr[::-1])))
+            shape: PolygonShape | Circle = PolygonShape(
+                tuple(_pt(p) for p in (arr if sign > 0 else arr[::-1])))
         else:
             c = np.asarray(centre) * [sign, 1.0]
             if not (_finite(c) and ko.radius is not None and math.isfinite(ko.radius)):
@@ -334,7 +335,8 @@ def _layout_row(pieces: list[Piece], y0: float, gap: float) -> list[Piece]:
 def _overlapping(pieces: list[Piece]) -> bool:
     polys = [_sheet_polygon(p) for p in pieces]
     tree = shapely.STRtree(polys)
-    for i, j in zip(*tree.query(polys, predicate="intersects")):
+    left, right = tree.query(polys, predicate="intersects")
+    for i, j in zip(left, right, strict=True):
         if i < j and polys[i].intersection(polys[j]).area > 1e-6:
             return True
     return False
@@ -376,7 +378,7 @@ def build_garment(raw: RawPattern, options: BuildOptions = BuildOptions()) -> Bu
         edges = _edges(shaped.ring, shaped.breaks, enames)
         onames = r.opening_names or tuple(f"cutout{k + 1}" for k in range(len(shaped.openings)))
         openings = tuple(Opening(nm, tuple(_pt(q) for q in o))
-                         for nm, o in zip(onames, shaped.openings))
+                         for nm, o in zip(onames, shaped.openings, strict=True))
         base = Piece(r.name, edges, openings, shaped.placement)
         copies = [(base, 1.0)]
         if r.mirror_pair and r.quantity >= 2:

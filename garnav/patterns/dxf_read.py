@@ -26,6 +26,7 @@ import numpy as np
 from garnav.model import Placement
 from garnav.patterns import conventions as cv
 from garnav.patterns.extra import require
+from garnav.patterns.flatten import arc_steps
 from garnav.patterns.raw import RawKeepOut, RawLandmark, RawPattern, RawPiece, pattern_error
 
 __all__ = ["DxfOptions", "read_dxf", "arc_points"]
@@ -69,12 +70,11 @@ UNIT_OVERRIDE_MM = {"mm": 1.0, "cm": 10.0, "in": 25.4}
 def arc_points(center, radius: float, a0: float, a1: float, tol: float) -> np.ndarray:
     """Points on a counter-clockwise arc from angle ``a0`` to ``a1`` (rad), chords within ``tol``.
 
-    The sagitta of a chord spanning Δθ is r (1 − cos(Δθ/2)); n = ⌈sweep / Δθ_max⌉ chords keep it
-    below ``tol``. Returns (n + 1, 2).
+    The sagitta of a chord spanning Δθ is r (1 − cos(Δθ/2)); :func:`~garnav.patterns.flatten.
+    arc_steps` picks the number of chords that keeps it below ``tol``. Returns (n + 1, 2).
     """
     sweep = (a1 - a0) % (2 * math.pi) or 2 * math.pi
-    step = 2 * math.acos(max(-1.0, 1.0 - tol / radius)) if tol < radius else math.pi / 2
-    n = max(1, int(math.ceil(sweep / min(step, math.pi / 2))))
+    n = arc_steps(sweep, radius, tol)
     t = a0 + sweep * np.arange(n + 1) / n
     return np.column_stack([center[0] + radius * np.cos(t), center[1] + radius * np.sin(t)])
 
@@ -194,7 +194,7 @@ def _chain(ents: _Entities, curves: list, join: float) -> tuple[np.ndarray, np.n
     end = pts[-1]
     while todo:
         best = None
-        for k, (e, p, kd, _) in enumerate(todo):
+        for k, (_e, p, _kd, _) in enumerate(todo):
             for rev in (False, True):
                 q = p[-1] if rev else p[0]
                 d = float(np.hypot(*(q - end)))

@@ -78,11 +78,12 @@ def _piece_block(doc, garment: Garment, index: int, piece: Piece, corner_angle_d
     ring = piece.outline
     boundary = block.add_lwpolyline([tuple(p) for p in ring], close=True,
                                     dxfattribs={"layer": cv.LAYER_BOUNDARY})
-    tags = [(1000, "edges")]
+    tags: list[tuple[int, object]] = [(1000, "edges")]
     for e in piece.edges:
         tags += [(1000, e.name), (1010, (e.points[0][0], e.points[0][1], 0.0))]
     _xdata(boundary, *tags)
-    for is_notch, start in zip(boundary_kinds(piece, corner_angle_deg), piece.edge_starts):
+    for is_notch, start in zip(boundary_kinds(piece, corner_angle_deg), piece.edge_starts,
+                               strict=True):
         p = ring[start]
         if is_notch:
             q = p + NOTCH_LENGTH_MM * _inward(ring, start)
@@ -97,10 +98,10 @@ def _piece_block(doc, garment: Garment, index: int, piece: Piece, corner_angle_d
     for o in piece.openings:
         ent = block.add_lwpolyline(list(o.points), close=True, dxfattribs={"layer": cv.LAYER_CUTOUTS})
         _xdata(ent, (1000, "opening"), (1000, o.name))
-    for k in garment.keepouts_on(piece.name):
-        _keepout_entity(block, k)
+    for zone in garment.keepouts_on(piece.name):
+        _keepout_entity(block, zone)
     for m in garment.landmarks:
-        if m.piece == piece.name:
+        if m.piece == piece.name and m.x is not None and m.y is not None:
             ent = block.add_point((m.x, m.y), dxfattribs={"layer": cv.LAYER_LANDMARKS})
             _xdata(ent, (1000, "landmark"), (1000, m.name), (1000, m.description))
     text_h = max(2.0, min(10.0, 0.03 * float(hi[1] - lo[1])))

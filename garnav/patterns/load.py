@@ -14,7 +14,7 @@ PATTERN_SUFFIXES = (".dxf", ".svg")
 
 
 def read_pattern(path: str | os.PathLike, options=None,
-                 build: BuildOptions = BuildOptions()) -> BuiltPattern:
+                 build: BuildOptions | None = None) -> BuiltPattern:
     """Read a ``.dxf`` or ``.svg`` pattern into a garment without seams.
 
     Parameters
@@ -36,4 +36,4 @@ def read_pattern(path: str | os.PathLike, options=None,
     else:
         raise pattern_error(str(path), "file", f"unknown pattern file type '{suffix}'",
                             hint="pattern files are .dxf or .svg")
-    return build_garment(raw, build)
+    return build_garment(raw, build or BuildOptions())

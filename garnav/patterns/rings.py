@@ -32,7 +32,7 @@ def drop_repeats(ring: np.ndarray, kinds: np.ndarray, tol: float) -> tuple[np.nd
     """
     keep_pts: list[np.ndarray] = []
     keep_kind: list[bool] = []
-    for p, k in zip(ring, kinds):
+    for p, k in zip(ring, kinds, strict=True):
         if keep_pts and float(np.hypot(*(p - keep_pts[-1]))) <= tol:
             keep_kind[-1] = keep_kind[-1] or bool(k)
             continue

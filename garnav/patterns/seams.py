@@ -143,7 +143,7 @@ def apply_seams(built: BuiltPattern, tables: list[dict[str, Any]], source: str) 
             continue
         rest = {k: v for k, v in t.items() if k not in ("a", "b", "name")}
         name = t.get("name")
-        for j, (a, b) in enumerate(zip(ra, rb)):
+        for j, (a, b) in enumerate(zip(ra, rb, strict=True)):
             nm = name if len(ra) == 1 or not isinstance(name, str) else f"{name}_{j + 1}"
             seams.append({"name": nm, "a": a, "b": b, **rest})
     if problems:
@@ -200,7 +200,7 @@ def _sides(garment: Garment, pp: PiecePoints) -> list[_Side]:
         return [_Side(pp.piece, i, 1, pp.points[i], pp.points[(i + 1) % k], (lengths[i],))
                 for i in range(k)]
     out = []
-    for c0, c1 in zip(corners, corners[1:] + [corners[0] + k]):
+    for c0, c1 in zip(corners, corners[1:] + [corners[0] + k], strict=True):
         idx = [i % k for i in range(c0, c1)]
         out.append(_Side(pp.piece, c0, len(idx), pp.points[c0], pp.points[c1 % k],
                          tuple(lengths[i] for i in idx)))
@@ -219,8 +219,8 @@ def propose_seams(built: BuiltPattern, tolerance: float = 0.03,
     garment = built.garment
     used: set[tuple[str, str]] = set()
     if taken is not None:
-        for s in taken.seams:
-            used |= {(s.a.piece, s.a.edge), (s.b.piece, s.b.edge)}
+        for seam in taken.seams:
+            used |= {(seam.a.piece, seam.a.edge), (seam.b.piece, seam.b.edge)}
     sides = []
     for pp in built.points:
         names = garment.piece(pp.piece).edge_names
@@ -239,7 +239,7 @@ def propose_seams(built: BuiltPattern, tolerance: float = 0.03,
             if min(la, lb) <= 0:
                 continue
             mismatch = abs(la - lb) / max(la, lb)
-            parts = [abs(x - y) / max(x, y) for x, y in zip(sa.lengths, reversed(sb.lengths))]
+            parts = [abs(x - y) / max(x, y) for x, y in zip(sa.lengths, reversed(sb.lengths), strict=True)]
             if mismatch <= tolerance and max(parts) <= 2 * tolerance:
                 gap = float(np.hypot(*(_midpoint(garment, sa) - _midpoint(garment, sb))))
                 # other pieces first, then closer length (to 0.1 %), then nearer on the sheet

@@ -337,8 +337,8 @@ def _pieces(file: str, pieces, marks, options: SvgOptions) -> list[RawPiece]:
                 buckets[i]["cutout_names"].append(_name(e) or f"cutout{len(buckets[i]['cutouts'])}")
             else:
                 buckets[i]["keepouts"].append(_keepout(file, e, pts))
-    out = []
-    for (e, subs), b in zip(pieces, buckets):
+    out: list[RawPiece] = []
+    for (e, subs), b in zip(pieces, buckets, strict=True):
         cls = _classes(e)
         name = _name(e) or f"piece{len(out) + 1}"
         ring, kinds, _ = subs[0]
@@ -388,9 +388,9 @@ def _keepout(file: str, e, pts: np.ndarray) -> RawKeepOut:
             raise pattern_error(file, _describe(e), f"{key}=\"{text}\" is not a finite number")
         return v
 
-    common = dict(kind=kind, hard="soft" not in cls,
-                  clearance_mm=number("data-clearance-mm", 0.0),
-                  cost_factor=number("data-cost-factor", 1.0))
+    hard = "soft" not in cls
+    clearance = number("data-clearance-mm", 0.0)
+    cost = number("data-cost-factor", 1.0)
     if isinstance(e, (se.Circle, se.Ellipse)):
         lo, hi = pts.min(axis=0), pts.max(axis=0)
         r = 0.5 * (hi - lo)
@@ -398,10 +398,11 @@ def _keepout(file: str, e, pts: np.ndarray) -> RawKeepOut:
             c = 0.5 * (lo + hi)
             # the polygon is inscribed in the circle; the true radius is the distance to a vertex
             rr = float(np.max(np.hypot(*(pts - c).T)))
-            return RawKeepOut(_describe(e), _name(e), center=(float(c[0]), float(c[1])), radius=rr,
-                              **common)
-    return RawKeepOut(_describe(e), _name(e), points=tuple((float(x), float(y)) for x, y in pts),
-                      **common)
+            return RawKeepOut(_describe(e), _name(e), kind, center=(float(c[0]), float(c[1])),
+                              radius=rr, hard=hard, clearance_mm=clearance, cost_factor=cost)
+    return RawKeepOut(_describe(e), _name(e), kind,
+                      points=tuple((float(x), float(y)) for x, y in pts), hard=hard,
+                      clearance_mm=clearance, cost_factor=cost)
 
 
 def read_svg(path: str | os.PathLike, options: SvgOptions = SvgOptions()) -> RawPattern:

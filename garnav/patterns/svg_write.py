@@ -54,12 +54,13 @@ def _piece_group(garment: Garment, piece: Piece, index: int, sheet_h: float,
     name = _attr(piece.name, f"piece '{piece.name}'")
     out.append(f"    <title>{name[1:-1]}</title>")
     ring = piece.outline
-    edges = json.dumps([[e.name, int(k)] for e, k in zip(piece.edges, piece.edge_starts)],
+    edges = json.dumps([[e.name, int(k)] for e, k in zip(piece.edges, piece.edge_starts, strict=True)],
                        ensure_ascii=False)
     d = "M " + " L ".join(f"{_num(x)} {_num(y)}" for x, y in ring) + " Z"
     out.append(f'    <path class="piece" data-name={name} data-edges={_attr(edges, "edges")} '
                f'fill="none" stroke="black" stroke-width="0.5" d="{d}"/>')
-    for is_notch, start in zip(boundary_kinds(piece, corner_angle_deg), piece.edge_starts):
+    for is_notch, start in zip(boundary_kinds(piece, corner_angle_deg), piece.edge_starts,
+                               strict=True):
         if not is_notch:
             continue
         p = ring[start]
@@ -91,7 +92,7 @@ def _piece_group(garment: Garment, piece: Piece, index: int, sheet_h: float,
                 list(sh.exact_geometry().exterior.coords)[:-1]
             out.append(f'    <polygon {common} points="{_pts(pts)}"/>')
     for m in garment.landmarks:
-        if m.piece == piece.name:
+        if m.piece == piece.name and m.x is not None and m.y is not None:
             desc = f" data-description={_attr(m.description, 'landmark')}" if m.description else ""
             out.append(f'    <circle class="landmark" data-name={_attr(m.name, "landmark")}{desc} '
                        f'cx="{_num(m.x)}" cy="{_num(m.y)}" r="1.5" fill="green"/>')
