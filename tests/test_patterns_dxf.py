@@ -190,3 +190,37 @@ def test_drill_holes_as_landmarks_and_internal_lines_ignored(tmp_path):
     assert g.keepouts_on("FRONT") == ()
     (lm,) = [m for m in g.landmarks if m.piece == "FRONT"]
     assert (lm.x, lm.y) == pytest.approx((5 * IN, 3 * IN)) and lm.description == "drill hole"
+
+
+def test_ellipse_negative_bulge_and_old_polyline(tmp_path):
+    """A full ELLIPSE (area π a b), an LWPOLYLINE whose top edge bulges inwards (bulge −1: a half
+    disc cut out, area w h − π r² / 2) and an old-style 2D POLYLINE with a bulge."""
+    doc = ezdxf.new("R2000")
+    doc.header["$INSUNITS"] = 4  # mm
+    e = doc.blocks.new("ELL")
+    e.add_ellipse((0, 0), major_axis=(100, 0), ratio=0.5, dxfattribs={"layer": "1"})
+    b = doc.blocks.new("BITE")
+    b.add_lwpolyline([(0, 0, 0), (80, 0, 0), (80, 60, -1), (0, 60, 0)], format="xyb",
+                     close=True, dxfattribs={"layer": "1"})
+    p = doc.blocks.new("OLD")
+    p.add_polyline2d([(0, 0), (80, 0), (80, 30), (0, 30)], close=True,
+                     dxfattribs={"layer": "1"})
+    p.query("POLYLINE")[0].vertices[2].dxf.bulge = 1.0  # (80, 30) → (0, 30) over the top
+    msp = doc.modelspace()
+    for name, x in (("ELL", 150), ("BITE", 300), ("OLD", 450)):
+        msp.add_blockref(name, (x, 150))
+    path = tmp_path / "p.dxf"
+    doc.saveas(path)
+    g = read_pattern(path, DxfOptions(tolerance_mm=0.01)).garment
+    # each chord's sliver between chord and curve has an area of at most tolerance × chord, so
+    # the area is off by at most tolerance × curved length (Ramanujan's approximation for the
+    # ellipse's perimeter, far closer than needed here)
+    tol = 0.01
+    ell_perimeter = math.pi * (3 * 150 - math.sqrt((3 * 100 + 50) * (100 + 3 * 50)))
+    assert abs(g.piece("ELL").area - math.pi * 100 * 50) <= tol * ell_perimeter
+    assert abs(g.piece("BITE").area - (80 * 60 - math.pi * 40**2 / 2)) <= tol * math.pi * 40
+    assert abs(g.piece("OLD").area - (80 * 30 + math.pi * 40**2 / 2)) <= tol * math.pi * 40
+    # the concave cut-out's chords cut off less: the piece comes out larger (observed +0.82 mm²)
+    assert g.piece("BITE").area > 80 * 60 - math.pi * 40**2 / 2
+    # a smooth ellipse has no corner: one closed edge
+    assert len(g.piece("ELL").edges) == 1

@@ -17,7 +17,7 @@ from dataclasses import dataclass
 import numpy as np
 import shapely
 
-from garnav.errors import Problem, SpecError
+from garnav.errors import SpecError
 from garnav.model import (
     Circle,
     Edge,
@@ -434,8 +434,3 @@ def build_garment(raw: RawPattern, options: BuildOptions = BuildOptions()) -> Bu
     if problems:
         raise SpecError(problems)
     return BuiltPattern(garment, tuple(points), tuple(notes))
-
-
-def problems_text(problems: list[Problem]) -> str:
-    """The problems one per line (for notes)."""
-    return "\n".join(str(p) for p in problems)

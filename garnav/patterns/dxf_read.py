@@ -304,6 +304,7 @@ def _read_block(file, doc, ins, f, opt: DxfOptions, notes: list[str]) -> RawPiec
 
     boundary, turn, notches, grain, cutouts, keepouts, landmarks, texts = [], [], [], None, [], [], [], []
     opening_names: list[str] = []
+    skipped_open = mirror_lines = 0
     edge_names = None
     display = None
     for e in block:
@@ -346,6 +347,10 @@ def _read_block(file, doc, ins, f, opt: DxfOptions, notes: list[str]) -> RawPiec
                 opening_names.append(str(xd[1]) if len(xd) > 1 and xd[0] == "opening" else "")
             elif closed and opt.internal == "keepout":
                 keepouts.append(_keepout(ents.item(e), e, mm(pts), xd, lin, f))
+            elif not closed:
+                skipped_open += 1
+        elif layer == cv.LAYER_MIRROR:
+            mirror_lines += 1
         elif layer == cv.LAYER_DRILL and opt.drill != "ignore":
             if kind == "POINT":
                 c = mm([e.dxf.location.x, e.dxf.location.y])[0]
@@ -372,6 +377,12 @@ def _read_block(file, doc, ins, f, opt: DxfOptions, notes: list[str]) -> RawPiec
                             f"no boundary: nothing on layer {cv.LAYER_BOUNDARY}")
     ring, kinds = _chain(ents, boundary, max(10 * opt.tolerance_mm, 0.01))
     piece_name = display or _label(texts, "Piece Name") or name
+    if skipped_open:
+        notes.append(f"piece '{piece_name}': {skipped_open} open internal line(s) on layer "
+                     f"{cv.LAYER_INTERNAL} skipped (only closed ones become keep-outs)")
+    if mirror_lines:
+        notes.append(f"piece '{piece_name}': mirror line on layer {cv.LAYER_MIRROR} ignored; "
+                     "unfold a cut-on-fold piece before importing it")
     size = _label(texts, "Size") or ""
     qty_text = _label(texts, "Quantity")
     quantity = 1
