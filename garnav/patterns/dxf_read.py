@@ -65,6 +65,7 @@ class DxfOptions:
 
 
 UNIT_OVERRIDE_MM = {"mm": 1.0, "cm": 10.0, "in": 25.4}
+CURVES = ("LINE", "ARC", "CIRCLE", "ELLIPSE", "LWPOLYLINE", "POLYLINE", "SPLINE")
 
 
 def arc_points(center, radius: float, a0: float, a1: float, tol: float) -> np.ndarray:
@@ -334,10 +335,10 @@ def _read_block(file, doc, ins, f, opt: DxfOptions, notes: list[str]) -> RawPiec
             elif kind == "LINE":
                 notches.append(("line", mm([[e.dxf.start.x, e.dxf.start.y],
                                             [e.dxf.end.x, e.dxf.end.y]]), e))
-        elif layer == cv.LAYER_GRAIN:
+        elif layer == cv.LAYER_GRAIN and kind in CURVES:
             pts, _, _ = ents.curve(e)
             grain = (tuple(mm(pts[0])[0]), tuple(mm(pts[-1])[0]))
-        elif layer in (cv.LAYER_INTERNAL, cv.LAYER_CUTOUTS):
+        elif layer in (cv.LAYER_INTERNAL, cv.LAYER_CUTOUTS) and kind in CURVES:
             pts, _, closed = ents.curve(e)
             xd = _xdata(e) or []
             if layer == cv.LAYER_CUTOUTS:
