@@ -157,3 +157,34 @@ def test_route_across_imported_seam(tmp_path, pattern):
     # straight across the side seam: 100 mm (landmarks at the same height), + 5 mm crossing cost
     assert route.length_mm == pytest.approx(100.0, abs=1e-6)
     assert [c.seam for c in route.crossings] == ["side_2"]
+
+
+# a front and a back with concave armholes (45° arcs of radius 60 mm) and a sleeve whose convex
+# cap (a 90° arc of radius 60 mm) a notch splits into halves as long as each armhole
+ARMHOLES = """<svg xmlns="http://www.w3.org/2000/svg" width="700mm" height="300mm" viewBox="0 0 700 300">
+<path data-name="front" d="M 0 300 L 200 300 L 200 60 A 60 60 0 0 1 157.574 42.426 L 157.574 0 L 0 0 Z"/>
+<path data-name="back" d="M 250 300 L 450 300 L 450 0 L 292.426 0 L 292.426 42.426 A 60 60 0 0 1 250 60 Z"/>
+<path data-name="sleeve" d="M 517.574 300 L 602.426 300 L 602.426 150 A 60 60 0 0 0 517.574 150 Z"/>
+<line class="notch" x1="560" y1="132.426" x2="560" y2="137"/>
+</svg>
+"""
+
+
+def test_proposals_split_a_sleeve_cap_at_its_notch(tmp_path):
+    """Each armhole is proposed with one half of the cap (corner to notch), not with the other
+    armhole of the same length: the armhole turns by −45°, the cap half by +45°, and curvatures
+    that cancel rank first (a smooth seam; geodesic curvature is intrinsic, do Carmo §4-4)."""
+    path = tmp_path / "arm.svg"
+    path.write_text(ARMHOLES)
+    built = read_pattern(path)
+    sleeve = {pp.piece: pp for pp in built.points}["sleeve"]
+    notch = sleeve.points[sleeve.is_notch.index(True)]
+    arm = [p for p in propose_seams(built)
+           if {p.table["a"]["piece"], p.table["b"]["piece"]} & {"sleeve"}
+           and p.length_a == pytest.approx(60 * np.pi / 4, rel=1e-3)]
+    assert {p.table["a"]["piece"] for p in arm} | {p.table["b"]["piece"] for p in arm} == \
+        {"front", "back", "sleeve"}
+    assert len(arm) == 2
+    for p in arm:
+        run = p.table["a"] if p.table["a"]["piece"] == "sleeve" else p.table["b"]
+        assert notch in (run["from"], run["to"])  # a half cap, corner to notch

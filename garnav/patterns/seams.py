@@ -179,6 +179,17 @@ class _Side:
     start: str
     end: str
     lengths: tuple[float, ...]
+    turn_deg: float = 0.0  # total signed turning along the side (left turns positive)
+
+
+def _turning_deg(points: np.ndarray) -> float:
+    """Total signed turning (degrees) of a polyline (n, 2): the integral of its curvature."""
+    d = np.diff(np.asarray(points, dtype=float), axis=0)
+    d = d[np.hypot(d[:, 0], d[:, 1]) > 0]
+    if len(d) < 2:
+        return 0.0
+    a = np.arctan2(d[:, 1], d[:, 0])
+    return float(np.degrees(((np.diff(a) + np.pi) % (2 * np.pi) - np.pi).sum()))
 
 
 def _midpoint(garment: Garment, side: _Side):
@@ -191,70 +202,94 @@ def _midpoint(garment: Garment, side: _Side):
     return piece.placement.to_sheet(mid[None])[0]
 
 
-def _sides(garment: Garment, pp: PiecePoints) -> list[_Side]:
+def _stretches(garment: Garment, pp: PiecePoints) -> list[_Side]:
+    """Every run of consecutive edges of a piece that stays within one side (corner to corner):
+    whole sides, and parts of sides that begin or end at a notch."""
     piece = garment.piece(pp.piece)
     k = len(piece.edges)
     lengths = [e.length for e in piece.edges]
     corners = [i for i, n in enumerate(pp.is_notch) if not n]
-    if not corners:
-        return [_Side(pp.piece, i, 1, pp.points[i], pp.points[(i + 1) % k], (lengths[i],))
-                for i in range(k)]
+    bounds = list(zip(corners, corners[1:] + [corners[0] + k], strict=True)) if corners else \
+        [(i, i + 1) for i in range(k)]
     out = []
-    for c0, c1 in zip(corners, corners[1:] + [corners[0] + k], strict=True):
-        idx = [i % k for i in range(c0, c1)]
-        out.append(_Side(pp.piece, c0, len(idx), pp.points[c0], pp.points[c1 % k],
-                         tuple(lengths[i] for i in idx)))
+    for c0, c1 in bounds:
+        for a in range(c0, c1):
+            for b in range(a + 1, c1 + 1):
+                idx = [i % k for i in range(a, b)]
+                pts = np.array([p for i in idx for p in piece.edges[i].points], dtype=float)
+                out.append(_Side(pp.piece, a % k, len(idx), pp.points[a % k], pp.points[b % k],
+                                 tuple(lengths[i] for i in idx), _turning_deg(pts)))
     return out
+
+
+def _edges_of(side: _Side, k: int) -> frozenset[tuple[str, int]]:
+    return frozenset((side.piece, (side.first + j) % k) for j in range(side.count))
 
 
 def propose_seams(built: BuiltPattern, tolerance: float = 0.03,
                   taken: Garment | None = None) -> list[Proposal]:
-    """Propose seams by matching sides of equal length (within ``tolerance``, relative) and equal
-    notch count, the notches on one side matching those on the other run backwards.
+    """Propose seams by matching outline stretches of equal length and equal notch count.
 
-    Each side is used once, best matches first (a tolerance of 3 % allows for ease: common
-    practice, no source). Sides that a seam of ``taken`` already touches are left out. These are
+    A stretch is a run of edges within one side of a piece (corner to corner): a whole side, or a
+    part of it that begins or ends at a notch (a sleeve cap's notch splits it between the front
+    and the back armhole). Two stretches match when their lengths agree within ``tolerance``
+    (relative; 3 % allows for ease: common practice, no source), they hold the same number of
+    notches, and the pieces between the notches agree within twice that, the notches of one
+    matching those of the other run backwards. Better matches first: closer lengths (to 0.1 %),
+    then curvatures that cancel — a seam that joins two pieces smoothly has boundary curvatures
+    of opposite sign, since both boundaries are isometric images of the same curve on the body
+    and geodesic curvature is intrinsic (do Carmo, *Differential Geometry of Curves and
+    Surfaces*, §4-4) — to 15°, then more notches, then stretches nearer each other on the sheet.
+    Each edge is proposed once; edges that a seam of ``taken`` covers are left out. These are
     proposals only: nothing is sewn until the user puts them in a seams file.
     """
     garment = built.garment
-    used: set[tuple[str, str]] = set()
+    used_names: set[tuple[str, str]] = set()
     if taken is not None:
         for seam in taken.seams:
-            used |= {(seam.a.piece, seam.a.edge), (seam.b.piece, seam.b.edge)}
+            used_names |= {(seam.a.piece, seam.a.edge), (seam.b.piece, seam.b.edge)}
+    sizes = {p.name: len(p.edges) for p in garment.pieces}
     sides = []
     for pp in built.points:
         names = garment.piece(pp.piece).edge_names
-        for s in _sides(garment, pp):
-            k = len(names)
-            if not any((s.piece, names[(s.first + j) % k]) in used for j in range(s.count)):
-                sides.append(s)
+        for st in _stretches(garment, pp):
+            if not any((st.piece, names[i]) in used_names for _, i in _edges_of(st, sizes[st.piece])):
+                sides.append(st)
+    edge_sets = [_edges_of(st, sizes[st.piece]) for st in sides]
     candidates = []
     for i, sa in enumerate(sides):
         for j in range(i + 1, len(sides)):
             sb = sides[j]
-            if sa.count != sb.count or (sa.piece == sb.piece and (sa.end == sb.start
-                                                                   or sb.end == sa.start)):
-                continue  # different notch counts, or neighbouring sides of one piece
+            if sa.count != sb.count:
+                continue
+            if sa.piece == sb.piece and (edge_sets[i] & edge_sets[j] or sa.end == sb.start
+                                         or sb.end == sa.start):
+                continue  # overlapping or neighbouring stretches of one piece
             la, lb = sum(sa.lengths), sum(sb.lengths)
             if min(la, lb) <= 0:
                 continue
             mismatch = abs(la - lb) / max(la, lb)
-            parts = [abs(x - y) / max(x, y) for x, y in zip(sa.lengths, reversed(sb.lengths), strict=True)]
-            if mismatch <= tolerance and max(parts) <= 2 * tolerance:
-                gap = float(np.hypot(*(_midpoint(garment, sa) - _midpoint(garment, sb))))
-                # other pieces first, then closer length (to 0.1 %), then nearer on the sheet
-                key = (sa.piece == sb.piece, round(mismatch, 3), round(gap, 6), i, j)
-                candidates.append((key, mismatch, i, j, la, lb))
+            if mismatch > tolerance:
+                continue
+            parts = [abs(x - y) / max(x, y)
+                     for x, y in zip(sa.lengths, reversed(sb.lengths), strict=True)]
+            if max(parts) > 2 * tolerance:
+                continue
+            gap = float(np.hypot(*(_midpoint(garment, sa) - _midpoint(garment, sb))))
+            bend = abs(sa.turn_deg + sb.turn_deg)
+            key = (round(mismatch, 3), round(bend / 15.0), -sa.count, round(gap, 6), i, j)
+            candidates.append((key, mismatch, i, j, la, lb))
     candidates.sort()
-    done: set[int] = set()
+    used: set[tuple[str, int]] = set()
     out = []
     for _, mismatch, i, j, la, lb in candidates:
-        if i in done or j in done:
+        if edge_sets[i] & used or edge_sets[j] & used:
             continue
-        done |= {i, j}
+        used |= edge_sets[i] | edge_sets[j]
         sa, sb = sides[i], sides[j]
         alts = tuple(f"{sides[y].piece} {sides[y].start}-{sides[y].end}"
-                     for _, _, x, y, _, _ in candidates if x == i and y != j)
+                     for _, _, x, y, _, _ in candidates
+                     if x == i and y != j and not edge_sets[y] & used)[:5]
         table = {
             "name": f"{sa.piece}_{sa.start}_{sb.piece}_{sb.start}",
             "a": {"piece": sa.piece, "from": sa.start, "to": sa.end},
