@@ -242,3 +242,17 @@ def test_svg_names_xml_cannot_hold(tmp_path):
     with pytest.raises(GarnavError, match="characters XML cannot hold"):
         write_svg(Garment("g", (tri,), sheet_size_mm=(20, 20)), tmp_path / "x.svg")
     assert not os.path.exists(tmp_path / "x.svg")
+
+
+def test_dxf_graded_sizes_hint(tmp_path):
+    doc = ezdxf.new("R2000")
+    doc.header["$INSUNITS"] = 4
+    for i, size in ((1, "M"), (2, "L")):
+        b = doc.blocks.new(f"B{i}")
+        _square(b)
+        b.add_text("Piece Name: FRONT", dxfattribs={"layer": "1"})
+        b.add_text(f"Size: {size}", dxfattribs={"layer": "1"})
+        doc.modelspace().add_blockref(f"B{i}", (200 * i, 0))
+    path = tmp_path / "graded.dxf"
+    doc.saveas(path)
+    assert "the file holds several sizes (L, M): export one size" in _message(path)

@@ -65,6 +65,9 @@ def run(args) -> int:
 
     if is_pattern_file(args.mesh):
         return run_pattern(args)
+    if args.seams or args.propose_seams:
+        raise QueryError("--seams and --propose-seams are for pattern files (.dxf, .svg); a "
+                         "mesh's seams come from its 3D edges")
     scale = parse_uv_scale(args.uv_scale)
     mesh = load_uv_mesh(args.mesh)
     out = Path(args.output)

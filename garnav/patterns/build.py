@@ -359,10 +359,14 @@ def build_garment(raw: RawPattern, options: BuildOptions = BuildOptions()) -> Bu
     counts = Counter(p.name for p in raw.pieces)
     for p in raw.pieces:
         if counts[p.name] > 1:
-            others = [q.source for q in raw.pieces if q.name == p.name]
+            same = [q for q in raw.pieces if q.name == p.name]
+            sizes = sorted({q.size for q in same if q.size})
+            hint = (f"the file holds several sizes ({', '.join(sizes)}): export one size"
+                    if len(sizes) > 1 else None)
             raise pattern_error(file, f"piece '{p.name}'",
-                                f"the name is used by {counts[p.name]} pieces ({', '.join(others)}); "
-                                "piece names must be unique")
+                                f"the name is used by {counts[p.name]} pieces "
+                                f"({', '.join(q.source for q in same)}); piece names must be unique",
+                                hint=hint)
     notes = list(raw.notes)
     pieces: list[Piece] = []
     mirrored: list[Piece] = []
