@@ -98,6 +98,11 @@ def test_bad_svg_geometry(tmp_path, body, expected):
     assert expected in _message(path)
 
 
+def test_svg_unknown_units_in_an_element(tmp_path):
+    path = _svg(tmp_path, f'{ROOT}<rect id="a" x="0" y="0" width="3furlong" height="10"/></svg>')
+    assert "<rect id='a' width=\"3furlong\">: unknown units" in _message(path)
+
+
 @pytest.mark.parametrize("root", ['width="10furlong" height="10mm"', 'width="50%" height="10mm"',
                                   'width="10em" height="10mm"'])
 def test_svg_unknown_units(tmp_path, root):

@@ -89,16 +89,30 @@ _GEOMETRY_ATTRS = ("d", "points", "x", "y", "width", "height", "cx", "cy", "r", 
 _NOT_FINITE = re.compile(r"(?i)(?<![a-z])(nan|inf(inity)?)(?![a-z])")
 
 
+_LENGTH_ATTRS = ("x", "y", "width", "height", "cx", "cy", "r", "rx", "ry", "x1", "y1", "x2", "y2")
+
+
 def _check_finite(file: str, root) -> None:
-    """Refuse NaN or infinite numbers in geometry attributes (svgelements would drop them)."""
+    """Refuse NaN or infinite numbers in geometry attributes (svgelements would drop them) and
+    lengths in units CSS does not define (svgelements would read them as px)."""
     for el in root.iter():
+        tag = str(el.tag).rsplit("}", 1)[-1]
+        ident = f" id='{el.get('id')}'" if el.get("id") else ""
         for key in _GEOMETRY_ATTRS:
             value = el.get(key)
             if value is not None and _NOT_FINITE.search(value):
-                tag = str(el.tag).rsplit("}", 1)[-1]
-                ident = f" id='{el.get('id')}'" if el.get("id") else ""
                 raise pattern_error(file, f"<{tag}{ident}>", f"attribute '{key}' holds a number "
                                     "that is not finite (NaN or inf)")
+        if tag == "svg":
+            continue  # the root's width and height are checked on their own
+        for key in _LENGTH_ATTRS:
+            value = el.get(key)
+            if value is None or value.strip() in ("", "auto"):
+                continue
+            m = _LENGTH.match(value)
+            if m is None or (m.group(2).lower() not in cv.CSS_MM and m.group(2) != "%"):
+                raise pattern_error(file, f"<{tag}{ident} {key}=\"{value}\">", "unknown units",
+                                    hint="use a number with mm, cm, in, px, pt, pc, Q or %")
 
 
 def _root_length(file: str, root, key: str) -> float | None:
