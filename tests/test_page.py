@@ -125,7 +125,7 @@ def test_quantisation_error_is_at_most_half_a_step():
 
 def test_table_has_the_route_figures(cylinder_page):
     _, docs, page = cylinder_page
-    for name, doc in docs:
+    for _, doc in docs:
         assert f"{doc['length_mm']:.1f} mm" in page.html
         assert f"{doc['summary']['estimated_time_s']:.1f} s" in page.html
     for text in ("implanted", "clinician", "Neck and face", "Batteries", "Emergency stop", "certifies nothing"):

@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import base64
 from dataclasses import dataclass
-from typing import Sequence
+from typing import Mapping, Sequence
 
 import numpy as np
 
@@ -64,7 +64,7 @@ def b64(array: np.ndarray) -> str:
     return base64.b64encode(np.ascontiguousarray(array).tobytes()).decode("ascii")
 
 
-def pack_scene(content: SceneContent, views: dict[str, Sequence[float]]) -> dict:
+def pack_scene(content: SceneContent, views: Mapping[str, Sequence[float]]) -> dict:
     """The JSON-ready scene of a page.
 
     Parameters

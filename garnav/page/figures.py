@@ -133,8 +133,8 @@ def route_figures(name: str, document: dict, index: int = 0, source: str = "rout
         unsafe = physics.get("unsafe_segments")
         if isinstance(unsafe, list):
             fig["unsafe_segments"] = len(unsafe)
-        elif _number(unsafe) is not None:
-            fig["unsafe_segments"] = int(unsafe)
+        elif (count := _number(unsafe)) is not None:
+            fig["unsafe_segments"] = int(count)
         more += [(f"physics.{k}", _fmt(v)) for k, v in physics.items()
                  if k not in PHYSICS_KEYS and not isinstance(v, (dict, list)) and v is not None]
     for key in RISK_OBJECTS:

@@ -180,6 +180,11 @@ def _edge_tubes(positions: np.ndarray, edges: np.ndarray, radius: float, sides: 
     return _triangles(lines.tube(radius=radius, n_sides=sides, capping=False))
 
 
+def _xyz(v) -> tuple[float, float, float]:
+    a = np.asarray(v, dtype=float).reshape(3)
+    return (float(a[0]), float(a[1]), float(a[2]))
+
+
 def scene_scale(drape=None, body=None) -> float:
     """Diagonal of the scene's bounding box, mm (100 when there is nothing)."""
     boxes = [np.asarray(m, dtype=float) for m in (getattr(drape, "positions", None), body[0] if body else None)
@@ -260,7 +265,7 @@ def scene_content(
     body=None,
     routes: Sequence[tuple[str, np.ndarray, np.ndarray | None]] = (),
     zones: Sequence[BodyZone] = (),
-    style: SceneStyle = SceneStyle(),
+    style: SceneStyle | None = None,
 ) -> SceneContent:
     """All parts of the page's 3D view.
 
@@ -273,8 +278,8 @@ def scene_content(
     routes : sequence of (name, points (M, 3), normals (M, 3) or None)
         Lifted routes, in route-colour order.
     zones : sequence of BodyZone
-    style : SceneStyle
-        Colours shared with the desktop preview.
+    style : SceneStyle, optional
+        Colours shared with the desktop preview (its defaults when not given).
 
     Returns
     -------
@@ -282,6 +287,7 @@ def scene_content(
     """
     import pyvista as pv
 
+    style = style or SceneStyle()
     scale = scene_scale(drape, body)
     parts: list[ScenePart] = []
     if body is not None:
@@ -297,9 +303,8 @@ def scene_content(
                        for m in marks]
             p, f = _merge(spheres)
             parts.append(ScenePart("landmarks", "landmarks", style.landmark, p, f))
-            for m, n, nrm in zip(marks, names, normals):
-                labels.append(PageLandmark(n, tuple(float(v) for v in m),
-                                           None if nrm is None else tuple(float(v) for v in nrm)))
+            for m, n, nrm in zip(marks, names, normals, strict=True):
+                labels.append(PageLandmark(n, _xyz(m), None if nrm is None else _xyz(nrm)))
     for ri, (name, pts, nrm) in enumerate(routes):
         parts += route_parts(ri, name, pts, nrm, scale)
     if zones:

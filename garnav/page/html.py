@@ -163,7 +163,8 @@ def _table(routes: Sequence[RouteFigures]) -> str:
             if key == "name":
                 cells.append(f'<th scope="row">{_swatch(r.colour)}{value}</th>')
             else:
-                cells.append(f'<td class="{"wide" if key in ("seams", "more") else "num"}">{value}</td>')
+                label = escape(dict(cols)[key])
+                cells.append(f'<td class="{"wide" if key in ("seams", "more") else "num"}" data-label="{label}">{value}</td>')
         body.append("<tr>" + "".join(cells) + "</tr>")
     return f'<div class="table-wrap"><table><thead><tr>{head}</tr></thead><tbody>{"".join(body)}</tbody></table></div>'
 

@@ -130,16 +130,29 @@
     });
     var v = new T.Vector3(), toCam = new T.Vector3();
 
+    // Labels of landmarks facing the camera, nearest first; a label that would overlap one
+    // already placed is left out (move the view to see it).
     function placeLabels() {
       var w = host.clientWidth, h = host.clientHeight;
       var show = !groups.landmarks || groups.landmarks.visible;
+      var todo = [];
       labels.forEach(function (L) {
         var visible = show;
         if (visible && L.n) { toCam.copy(camera.position).sub(L.p); visible = toCam.dot(L.n) > 0; }
         v.copy(L.p).project(camera);
         if (!visible || v.z > 1 || Math.abs(v.x) > 1 || Math.abs(v.y) > 1) { L.el.style.display = "none"; return; }
-        L.el.style.display = "";
-        L.el.style.transform = "translate(" + ((v.x + 1) / 2 * w).toFixed(1) + "px," + ((1 - v.y) / 2 * h).toFixed(1) + "px)";
+        todo.push({ L: L, x: (v.x + 1) / 2 * w, y: (1 - v.y) / 2 * h, z: v.z });
+      });
+      todo.sort(function (a, b) { return a.z - b.z; });
+      var placed = [];
+      todo.forEach(function (t) {
+        t.L.el.style.display = "";
+        var bw = t.L.el.offsetWidth, bh = t.L.el.offsetHeight;
+        var box = { x0: t.x + 8, y0: t.y - 9, x1: t.x + 8 + bw, y1: t.y - 9 + bh };
+        var clash = placed.some(function (b) { return box.x0 < b.x1 && b.x0 < box.x1 && box.y0 < b.y1 && b.y0 < box.y1; });
+        if (clash) { t.L.el.style.display = "none"; return; }
+        placed.push(box);
+        t.L.el.style.transform = "translate(" + t.x.toFixed(1) + "px," + t.y.toFixed(1) + "px)";
       });
     }
 
