@@ -43,12 +43,15 @@ def demo_page(tmp_path_factory):
     return result.files["page"]
 
 
-def test_demo_page_is_under_15_mb(demo_page):
+def test_demo_page_is_under_15_mb_and_well_formed(demo_page):
     from garnav.demo.run import PAGE_NAME
 
     assert demo_page.name == PAGE_NAME
     size = demo_page.stat().st_size
     assert size < 15e6  # observed 2.4 MB
+    html5lib = pytest.importorskip("html5lib", reason="html5lib (test extra) is needed to check the HTML")
+    # reference: html5lib's strict parser (WHATWG algorithm) raises on any parse error
+    html5lib.HTMLParser(strict=True).parse(demo_page.read_text(encoding="utf-8"))
 
 
 @pytest.fixture(scope="module")
@@ -69,26 +72,33 @@ def _pixels(png: bytes) -> np.ndarray:
     return imread(io.BytesIO(png), format="png")[..., :3]
 
 
-def _open(browser, path: Path, device: dict):
+def _open(browser, path: Path, device: dict, wait_for: str | None = "#viewer[data-state=drawn], #viewer[data-state=no-webgl]"):
     context = browser.new_context(offline=True, **device)
     page = context.new_page()
     url = path.resolve().as_uri()
     requests: list[str] = []
     errors: list[str] = []
 
+    def record(request_url: str) -> None:
+        if request_url != url and request_url not in requests:
+            requests.append(request_url)
+
     def block(route):  # every request but the page's own file is recorded and refused
+        record(route.request.url)
         if route.request.url == url:
             route.continue_()
         else:
-            requests.append(route.request.url)
             route.abort()
 
     context.route("**/*", block)
-    page.on("request", lambda r: r.url == url or r.url in requests or requests.append(r.url))
+    page.on("request", lambda r: record(r.url))  # also what the router does not see
     page.on("console", lambda m: m.type == "error" and errors.append(m.text))
     page.on("pageerror", lambda e: errors.append(str(e)))
     page.goto(url)
-    page.wait_for_selector("#viewer[data-state=drawn], #viewer[data-state=no-webgl]", timeout=60_000)
+    if wait_for:
+        page.wait_for_selector(wait_for, timeout=60_000)
+    else:
+        page.wait_for_load_state("load")
     return context, page, url, requests, errors
 
 
@@ -136,3 +146,17 @@ def test_page_draws_offline_without_errors(browser, demo_page, device, tmp_path)
         context.close()
     assert requests == [], f"the page asked the network for {requests}"
     assert errors == [], f"console errors: {errors}"
+
+
+def test_the_checks_catch_a_request_and_a_console_error(browser, tmp_path):
+    # the same request log and console watch on a page that breaks both rules (the request is
+    # refused before it leaves the browser; the .invalid name never resolves anyway)
+    bad = tmp_path / "bad.html"
+    bad.write_text('<!DOCTYPE html><html><head><meta charset="utf-8"><title>t</title></head><body>'
+                   '<img src="http://garnav.invalid/x.png" alt="">'
+                   '<script>console.error("boom")</script></body></html>', encoding="utf-8")
+    context, page, _, requests, errors = _open(browser, bad, DESKTOP, wait_for=None)
+    page.wait_for_timeout(200)
+    context.close()
+    assert requests == ["http://garnav.invalid/x.png"]
+    assert "boom" in errors
