@@ -202,3 +202,21 @@ def test_cli_refuses_a_route_of_another_garment_and_a_bad_out_name(page_files, t
     assert "planned on garment 'other_top'" in capsys.readouterr().err
     assert main(["page", str(spec), str(route), "--out", str(tmp_path / "p.pdf")]) == 2
     assert "use a .html file name" in capsys.readouterr().err
+
+
+def test_a_fine_mannequin_is_decimated_and_the_page_says_by_how_much():
+    import pyvista as pv
+
+    from garnav.page.geometry import decimate_body
+
+    sphere = pv.Sphere(radius=150.0, center=(0.0, 0.0, 200.0), theta_resolution=120, phi_resolution=120)
+    verts = np.asarray(sphere.points, dtype=float)
+    faces = np.asarray(sphere.faces).reshape(-1, 4)[:, 1:]
+    v2, f2 = decimate_body(verts, faces, 2000)
+    assert 1500 <= len(f2) <= 2000 < len(faces)
+    # the simplified surface stays on the sphere (reference: its radius, analytic)
+    r = np.linalg.norm(v2 - [0.0, 0.0, 200.0], axis=1)
+    assert np.all(np.abs(r - 150.0) < 3.0)  # observed 0.31 mm
+    g = garments.two_panels()
+    page = plan_page(g, [], cylinder_drape(g), (verts, faces), max_body_triangles=2000)
+    assert f"from {len(faces):,} to {len(f2):,} triangles" in page.html

@@ -1,6 +1,7 @@
 """``garnav page``: share a plan as one self-contained web page.
 
-    garnav page SPEC ROUTE.json [ROUTE.json ...] --out PLAN.html [--title TEXT]
+    garnav page SPEC ROUTE.json [ROUTE.json ...] --out PLAN.html [--title TEXT] [--no-body]
+                [--max-body-triangles N]
 
 Writes one HTML file that opens offline in any current browser: the draped garment, the mannequin
 and the routes in 3D (turn, zoom, show and hide routes, keep-outs, seams, landmarks), the pattern
@@ -29,6 +30,8 @@ def register(subparsers) -> None:
     parser.add_argument("--out", required=True, metavar="PLAN.html", help="the page to write (.html)")
     parser.add_argument("--title", help="the page's title (default: 'Robot routes on GARMENT')")
     parser.add_argument("--no-body", action="store_true", help="leave the mannequin out of the 3D view")
+    parser.add_argument("--max-body-triangles", type=int, default=200_000, metavar="N",
+                        help="simplify a finer mannequin to about N triangles for the page (default 200000)")
     parser.set_defaults(func=run)
 
 
@@ -39,6 +42,8 @@ def run(args: argparse.Namespace) -> int:
     from garnav.page import plan_page, read_routes, write_plan_page
     from garnav.plan import build_free_space
 
+    if args.max_body_triangles < 100:
+        raise QueryError(f"--max-body-triangles {args.max_body_triangles}: give at least 100")
     out = Path(args.out)
     if out.suffix.lower() not in (".html", ".htm"):
         raise QueryError(f"--out {args.out}: use a .html file name")
@@ -52,7 +57,7 @@ def run(args: argparse.Namespace) -> int:
     # free space only for the spec's own robot: another robot would need other margins
     free = build_free_space(garment, garment.robot) if garment.robot is not None else None
     page = plan_page(garment, docs, drape, body, free_space=free, title=args.title,
-                     sources=[str(r) for r in args.routes])
+                     sources=[str(r) for r in args.routes], max_body_triangles=args.max_body_triangles)
     write_plan_page(out, page)
     print(f"wrote {out} ({page.size_bytes / 1e6:.1f} MB; {len(docs)} route{'s' if len(docs) != 1 else ''}, "
           f"{page.triangles:,} triangles in 3D)")

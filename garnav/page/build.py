@@ -18,10 +18,14 @@ from garnav.errors import QueryError
 from garnav.model import Garment, Robot
 from garnav.page.encode import pack_scene, quantisation
 from garnav.page.figures import RouteFigures, route_figures
-from garnav.page.geometry import BodyZone, scene_content
+from garnav.page.geometry import BodyZone, decimate_body, scene_content
 from garnav.page.html import PageText, page_html
 
-__all__ = ["PlanPage", "plan_page", "write_plan_page", "read_routes", "PAGE_VIEWS"]
+__all__ = ["PlanPage", "plan_page", "write_plan_page", "read_routes", "PAGE_VIEWS", "MAX_BODY_TRIANGLES"]
+
+#: Mannequins with more triangles are decimated for the page (about 14 bytes per triangle: a
+#: 200,000-triangle body adds about 3 MB).
+MAX_BODY_TRIANGLES = 200_000
 
 #: Camera directions of the page's view buttons (world, z up): the front and back views of the
 #: desktop preview (garnav.preview.scene.VIEW_DIRECTIONS) and one from above the shoulders.
@@ -103,6 +107,7 @@ def plan_page(
     zones: Sequence[BodyZone] = (),
     title: str | None = None,
     sources: Sequence[str] | None = None,
+    max_body_triangles: int = MAX_BODY_TRIANGLES,
 ) -> PlanPage:
     """The plan page of a garment and its routes.
 
@@ -123,6 +128,9 @@ def plan_page(
         Defaults to "Robot routes on <garment>".
     sources : sequence of str, optional
         File names of the documents, for messages (defaults to the names).
+    max_body_triangles : int
+        A mannequin with more triangles is decimated to about this many (the page says by how
+        much); the garment is never decimated.
 
     Raises
     ------
@@ -142,6 +150,7 @@ def plan_page(
     svg = sheet_svg(drawing)
 
     scene = None
+    body_note = None
     parts = triangles = vertices = 0
     q_err = 0.0
     if drape is not None or body is not None:
@@ -151,6 +160,12 @@ def plan_page(
                 continue  # drawn on the sheet only
             pts, nrm = route_polyline(d, drape, garment, source=srcs[i])
             lifted.append((n, pts, nrm))
+        if body is not None:
+            before = len(body[1])
+            body = decimate_body(body[0], body[1], max_body_triangles)
+            if len(body[1]) < before:
+                body_note = (f"The mannequin was simplified for this page from {before:,} to {len(body[1]):,} "
+                             f"triangles ({100 * (1 - len(body[1]) / before):.0f} % fewer); the garment is as planned.")
         content = scene_content(garment, drape, body, lifted, zones)
         scene = pack_scene(content, PAGE_VIEWS)
         parts = len(scene["parts"])
@@ -168,6 +183,8 @@ def plan_page(
             f"3D view: {parts} meshes, {triangles:,} triangles, {vertices:,} vertices; positions stored on a "
             f"16-bit grid (at most {q_err:.3f} mm from the computed ones). Drawn with three.js in the browser."
         )
+    if scene is not None and body_note:
+        notes.append(body_note)
     notes.append(f"Made with garnav {__version__}. garnav plans routes; it certifies nothing.")
     text = PageText(
         title=title or f"Robot routes on {garment.name}",

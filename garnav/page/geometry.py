@@ -39,6 +39,8 @@ __all__ = [
     "route_parts",
     "tube",
     "scene_scale",
+    "decimate_body",
+    "ZONE_COLOUR",
 ]
 
 #: Colour of body zones in the page (our own choice).
@@ -257,6 +259,27 @@ def route_parts(index: int, name: str, points: np.ndarray, normals: np.ndarray |
         meshes.append(_triangles(pv.Cone(center=c, direction=d, height=5 * radius, radius=2 * radius, resolution=12)))
     p, f = _merge(meshes)
     return [ScenePart(f"route {name}", f"route-{index}", colour, p, f, shading="unlit")]
+
+
+def decimate_body(vertices: np.ndarray, faces: np.ndarray, max_triangles: int) -> tuple[np.ndarray, np.ndarray]:
+    """The mannequin with at most about ``max_triangles`` triangles (unchanged when it has fewer).
+
+    Quadric error decimation (Garland & Heckbert, "Surface simplification using quadric error
+    metrics", SIGGRAPH 1997) through VTK's ``vtkQuadricDecimation`` (pyvista ``decimate``). Only
+    the mannequin is decimated: the garment stays as it is, because the routes lie on it.
+
+    Returns
+    -------
+    vertices (B', 3), faces (G', 3)
+    """
+    import pyvista as pv
+
+    faces = np.asarray(faces, dtype=np.int64)
+    if len(faces) <= max_triangles:
+        return np.asarray(vertices, dtype=float), faces
+    poly = pv.PolyData(np.asarray(vertices, dtype=float), np.column_stack([np.full(len(faces), 3), faces]).ravel())
+    reduced = poly.decimate(1.0 - max_triangles / len(faces))
+    return _triangles(reduced)
 
 
 def scene_content(

@@ -18,6 +18,7 @@ from importlib import resources
 from typing import Sequence
 
 from garnav.page.figures import RouteFigures, cell_text, table_columns
+from garnav.page.geometry import ZONE_COLOUR
 from garnav.preview.scene import PIECE_COLOURS, SceneStyle
 from garnav.preview.sheet import SheetStyle
 
@@ -139,7 +140,7 @@ def _legend(text: PageText) -> str:
             rows.append(_toggle("landmarks", f"Landmarks ({text.landmarks}) and their labels",
                                 _swatch(scene.landmark, "dot"), ("layer-landmarks",)))
     if text.zones:
-        rows.append(_toggle("zones", f"Body zones ({text.zones})", _swatch("#8e44ad")))
+        rows.append(_toggle("zones", f"Body zones ({text.zones})", _swatch(ZONE_COLOUR)))
     if text.has_body:
         rows.append(_toggle("body", "Mannequin", _swatch(scene.body)))
     marks = (
