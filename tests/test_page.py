@@ -220,3 +220,23 @@ def test_a_fine_mannequin_is_decimated_and_the_page_says_by_how_much():
     g = garments.two_panels()
     page = plan_page(g, [], cylinder_drape(g), (verts, faces), max_body_triangles=2000)
     assert f"from {len(faces):,} to {len(f2):,} triangles" in page.html
+
+
+@pytest.mark.slow
+def test_cli_page_of_the_committed_demo_spec_with_drape_and_mannequin(tmp_path, capsys):
+    from pathlib import Path
+
+    spec = Path(__file__).resolve().parents[1] / "meshes" / "sensing_top.toml"
+    route = tmp_path / "r1.json"
+    assert main(["route", str(spec), "--from", "wrist_left", "--to", "sternum_left", "--json", str(route)]) == 0
+    out = tmp_path / "plan.html"
+    assert main(["page", str(spec), str(route), "--out", str(out), "--max-body-triangles", "10000"]) == 0
+    printed = capsys.readouterr().out
+    assert f"wrote {out}" in printed and "MB; 1 route," in printed
+    text = out.read_text(encoding="utf-8")
+    html5lib.HTMLParser(strict=True).parse(text)
+    scene = _scene(text)
+    groups = {p["group"] for p in scene["parts"]}
+    assert {"garment", "body", "keepouts", "edges", "landmarks", "route-0"} <= groups
+    body = next(p for p in scene["parts"] if p["group"] == "body")
+    assert body["triangle_count"] <= 10000 and "The mannequin was simplified for this page from 23,424" in text
