@@ -139,7 +139,11 @@ def test_page_draws_offline_without_errors(browser, demo_page, device, tmp_path)
             "() => Math.min(...Array.from(document.querySelectorAll('p, li, td, th, label, button, .lm'))"
             ".filter(e => e.offsetParent !== null).map(e => parseFloat(getComputedStyle(e).fontSize)))")
         assert smallest >= 12
-        # on a phone the page does not scroll sideways (wide parts scroll inside their own box)
+        # the sheet enlarges inside its own box; the page never scrolls sideways
+        wrap = page.locator(".sheet-wrap").bounding_box()
+        page.locator('button[data-zoom="4"]').click()
+        svg = page.locator(".sheet-wrap svg").bounding_box()
+        assert wrap and svg and svg["width"] >= 3.9 * max(wrap["width"], 760)
         width = page.evaluate("() => document.documentElement.scrollWidth")
         assert width <= device["viewport"]["width"] + 1
     finally:

@@ -255,7 +255,11 @@ the garment, not measurements.</p>
 </section>
 <section class="sheet" aria-labelledby="sheet-h">
 <h2 id="sheet-h">Pattern sheet</h2>
-<p class="hint">Every piece laid flat, seen from the outside, to scale (mm). Zoom in to read the labels.</p>
+<p class="hint">Every piece laid flat, seen from the outside, to scale (mm). Enlarge it to read the labels;
+it scrolls inside its box.</p>
+<div class="views zoom"><button type="button" data-zoom="1" aria-pressed="true">Whole sheet</button>
+<button type="button" data-zoom="2" aria-pressed="false">Enlarge ×2</button>
+<button type="button" data-zoom="4" aria-pressed="false">Enlarge ×4</button></div>
 <div class="sheet-wrap">
 {svg}
 </div>

@@ -83,6 +83,9 @@
     head.target.position.set(0, 0, -1);
 
     var triangles = 0;
+    var allVertices = data.parts.reduce(function (n, p) { return n + p.vertex_count; }, 0);
+    var every = Math.max(1, Math.ceil(allVertices / 6000));
+    var sample = [];  // about 6000 vertices, for fitting the view
     data.parts.forEach(function (p) {
       var q = new Uint16Array(bytes(p.positions).buffer);
       var pos = new Float32Array(q.length);
@@ -90,6 +93,7 @@
         pos[i] = o[0] + q[i] * st[0];
         pos[i + 1] = o[1] + q[i + 1] * st[1];
         pos[i + 2] = o[2] + q[i + 2] * st[2];
+        if ((i / 3) % every === 0) { sample.push(new T.Vector3(pos[i], pos[i + 1], pos[i + 2])); }
       }
       var raw = bytes(p.indices).buffer;
       var idx = p.index_bytes === 2 ? new Uint16Array(raw) : new Uint32Array(raw);
@@ -116,8 +120,6 @@
     });
 
     var centre = new T.Vector3(o[0] + st[0] * 32767.5, o[1] + st[1] * 32767.5, o[2] + st[2] * 32767.5);
-    var lo = [o[0], o[1], o[2]];
-    var hi = [o[0] + st[0] * 65535, o[1] + st[1] * 65535, o[2] + st[2] * 65535];
     var radius = 0.5 * Math.sqrt(Math.pow(st[0] * 65535, 2) + Math.pow(st[1] * 65535, 2) + Math.pow(st[2] * 65535, 2));
 
     var labelHost = document.getElementById("viewer-labels");
@@ -182,19 +184,29 @@
       var dir = new T.Vector3().fromArray(data.views[name] || data.views.front).normalize();
       var vfov = camera.fov * Math.PI / 180;
       var hfov = 2 * Math.atan(Math.tan(vfov / 2) * camera.aspect);
-      // the nearest distance at which all eight corners of the scene's box are in the frustum
+      // aim at the middle of the sampled vertices as seen from dir, then back off to the nearest
+      // distance at which all of them are in the frustum
       var up = new T.Vector3().fromArray(data.up);
       var right = new T.Vector3().crossVectors(up, dir).normalize();
       var upv = new T.Vector3().crossVectors(dir, right);
-      var tv = Math.tan(vfov / 2), th = Math.tan(hfov / 2), dist = 0, c = new T.Vector3();
-      for (var k = 0; k < 8; k++) {
-        c.set(k & 1 ? lo[0] : hi[0], k & 2 ? lo[1] : hi[1], k & 4 ? lo[2] : hi[2]).sub(centre);
+      var tv = Math.tan(vfov / 2), th = Math.tan(hfov / 2), c = new T.Vector3();
+      var xr = [Infinity, -Infinity], yr = [Infinity, -Infinity];
+      sample.forEach(function (p) {
+        c.copy(p).sub(centre);
+        var x = c.dot(right), y = c.dot(upv);
+        xr = [Math.min(xr[0], x), Math.max(xr[1], x)];
+        yr = [Math.min(yr[0], y), Math.max(yr[1], y)];
+      });
+      var aim = centre.clone().addScaledVector(right, (xr[0] + xr[1]) / 2).addScaledVector(upv, (yr[0] + yr[1]) / 2);
+      var dist = radius * 0.2;
+      sample.forEach(function (p) {
+        c.copy(p).sub(aim);
         var z = c.dot(dir);
         dist = Math.max(dist, z + Math.abs(c.dot(right)) / th, z + Math.abs(c.dot(upv)) / tv);
-      }
-      dist = Math.max(dist * 1.04, radius * 0.2);
-      camera.position.copy(centre).addScaledVector(dir, dist);
-      controls.target.copy(centre);
+      });
+      dist *= 1.06;
+      camera.position.copy(aim).addScaledVector(dir, dist);
+      controls.target.copy(aim);
       controls.update();
       redraw();
     }
@@ -216,6 +228,19 @@
     render();
   }
 
+  function wireSheetZoom() {
+    var wrap = document.querySelector(".sheet-wrap");
+    Array.prototype.forEach.call(document.querySelectorAll("button[data-zoom]"), function (b) {
+      b.addEventListener("click", function () {
+        wrap.style.setProperty("--zoom", b.getAttribute("data-zoom"));
+        Array.prototype.forEach.call(document.querySelectorAll("button[data-zoom]"), function (o) {
+          o.setAttribute("aria-pressed", o === b ? "true" : "false");
+        });
+      });
+    });
+  }
+
   wireToggles();
+  wireSheetZoom();
   start();
 })();
