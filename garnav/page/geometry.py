@@ -14,7 +14,7 @@ on a surface flickers).
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Sequence
 
 import numpy as np
@@ -210,22 +210,23 @@ def _garment_parts(garment: Garment, drape, scale: float, style: SceneStyle) -> 
         if len(sel):
             p, f = _sub_mesh(positions, sel)
             parts.append(ScenePart(f"piece {name}", "garment", PIECE_COLOURS[i % len(PIECE_COLOURS)], p, f))
-    mask = keepout_face_mask(garment, drape)
-    hard = {k.name for k in garment.keepouts if k.hard}
-    if np.any(mask):
-        p, f = _sub_mesh(positions, faces[mask])
-        parts.append(ScenePart("keep-out areas", "keepouts", style.keepout, p, f, overlay=True))
+    sheet = SheetStyle()
+    for kind, hard, colour in (("hard", True, style.keepout), ("soft", False, sheet.soft_fill)):
+        only = replace(garment, keepouts=tuple(k for k in garment.keepouts if k.hard == hard))
+        mask = keepout_face_mask(only, drape) if only.keepouts else np.zeros(len(faces), dtype=bool)
+        if np.any(mask):
+            p, f = _sub_mesh(positions, faces[mask])
+            parts.append(ScenePart(f"keep-out areas ({kind})", "keepouts", colour, p, f, overlay=True))
     seams, opens = drape_edges(faces, np.asarray(drape.corner_uv))
     for label, edges, colour in (("seams", seams, style.seam), ("open edges", opens, style.open_edge)):
         p, f = _edge_tubes(positions, edges, 0.0015 * scale)
         if len(f):
             parts.append(ScenePart(label, "edges", colour, p, f))
-    sheet = SheetStyle()
     outlines: dict[str, list] = {"hard": [], "soft": []}
     for k in garment.keepouts:
         ring = keepout_outline_3d(drape, k)
         if ring is not None:
-            outlines["hard" if k.name in hard else "soft"].append(tube(ring, 0.0025 * scale, 8))
+            outlines["hard" if k.hard else "soft"].append(tube(ring, 0.0025 * scale, 8))
     for kind, colour in (("hard", style.keepout), ("soft", sheet.soft_fill)):
         if outlines[kind]:
             p, f = _merge(outlines[kind])
