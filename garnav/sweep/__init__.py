@@ -6,7 +6,8 @@ Public API: :func:`plan_sweep` → :class:`Sweep`; regions (:mod:`garnav.sweep.r
 See docs/sweeps.md.
 """
 
-from garnav.sweep.coverage import covered_area, footprint
+from garnav.sweep.coverage import coverage_face_mask, covered_area, footprint
+from garnav.sweep.document import figures_lines, sweep_document
 from garnav.sweep.plan import DEFAULT_COVERAGE_TARGET, Sweep, plan_sweep
 from garnav.sweep.region import (
     NearPointRegion,
@@ -28,7 +29,10 @@ __all__ = [
     "Sweep",
     "UnionRegion",
     "ZoneRegion",
+    "coverage_face_mask",
     "covered_area",
+    "figures_lines",
+    "sweep_document",
     "footprint",
     "parse_region",
     "plan_sweep",

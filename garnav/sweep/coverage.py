@@ -10,7 +10,7 @@ from __future__ import annotations
 import numpy as np
 import shapely
 
-__all__ = ["footprint", "covered_area"]
+__all__ = ["footprint", "covered_area", "coverage_face_mask"]
 
 
 def footprint(points: np.ndarray, swath_mm: float) -> shapely.Geometry:
@@ -30,3 +30,18 @@ def covered_area(route, swath_mm: float) -> dict[str, shapely.Geometry]:
     for leg in route.legs:
         by_piece.setdefault(leg.piece, []).append(footprint(leg.points, swath_mm))
     return {p: shapely.union_all(parts) for p, parts in by_piece.items()}
+
+
+def coverage_face_mask(drape, covered: dict[str, shapely.Geometry]) -> np.ndarray:
+    """(F,) bool: drape triangles whose pattern centroid lies in the covered ground of its piece
+    (for drawing the coverage in 3D)."""
+    cent = np.asarray(drape.corner_pattern, dtype=float).mean(axis=1)
+    face_piece = np.asarray(drape.face_piece)
+    out = np.zeros(len(cent), dtype=bool)
+    for pid, name in enumerate(drape.piece_names):
+        geom = covered.get(name)
+        if geom is None or geom.is_empty:
+            continue
+        sel = np.flatnonzero(face_piece == pid)
+        out[sel] = shapely.covers(geom, shapely.points(cent[sel]))
+    return out
