@@ -19,7 +19,7 @@ from garnav.export.replay import replay_commands
 from garnav.export.waypoints import route_schema
 from garnav.plan import Planner
 from garnav.spec import load_garment
-from garnav.sweep import NearPointRegion, parse_region, plan_sweep
+from garnav.sweep import NearPointRegion, coverage_face_mask, parse_region, plan_sweep
 from test_sweep import measured_coverage
 
 MESHES = Path(__file__).resolve().parent.parent / "meshes"
@@ -30,14 +30,21 @@ pytestmark = pytest.mark.skipif(not (SPEC.is_file() and DRAPE.is_file()), reason
 
 
 @pytest.fixture(scope="module")
+def flat():
+    """The demo garment and its planner, without the drape (fast)."""
+    g = load_garment(SPEC)
+    return g, Planner(g)
+
+
+@pytest.fixture(scope="module")
 def demo():
     g = load_garment(SPEC)
     d = link_drape(g, load_uv_mesh(DRAPE))
     return g, d, Planner(g, locate_3d=pattern_locator(d, g))
 
 
-def test_back_panel_coverage_at_least_99_percent(demo):
-    g, _, planner = demo
+def test_back_panel_coverage_at_least_99_percent(flat):
+    g, planner = flat
     s = plan_sweep(g, parse_region("pieces:back"), swath_mm=10.0, planner=planner)
     cov = measured_coverage(s.route, s.reachable, 10.0)
     assert cov >= 0.99  # observed 0.9997
@@ -87,13 +94,21 @@ def test_region_across_the_side_seam_covered_on_the_drape_in_3d(demo):
         dist, _ = tree.query(xyz[sel])
         covered += int(np.sum(dist <= w / 2 + 0.25))
         total += int(sel.sum())
+    # the drape triangles drawn as covered in 3D lie where the footprint is
+    mask = coverage_face_mask(d, s.covered)
+    for piece in s.region:
+        faces = d.piece_faces(piece)
+        cent = d.corner_pattern[faces].mean(axis=1)
+        assert np.array_equal(mask[faces], shapely.covers(s.covered.get(piece, shapely.Polygon()), shapely.points(cent)))
+    assert mask.sum() > 100
     assert agree / near >= 0.999  # observed 0.99996 (triangles cut where d is linear)
     assert total > 500
     assert covered / total >= 0.98  # observed 0.9993
 
 
-def test_cli_sweep_writes_document_commands_and_sheet(demo, tmp_path, capsys):
-    g, _, _ = demo
+@pytest.mark.slow
+def test_cli_sweep_writes_document_commands_and_sheet(flat, tmp_path, capsys):
+    g, _ = flat
     out = tmp_path / "sweep.json"
     cmds = tmp_path / "sweep.txt"
     sheet = tmp_path / "sweep.svg"
@@ -112,7 +127,9 @@ def test_cli_sweep_writes_document_commands_and_sheet(demo, tmp_path, capsys):
     end = doc["waypoints"][-1]
     assert last.piece == end["piece"]
     assert np.hypot(last.x_mm - end["x"], last.y_mm - end["y"]) < 1e-6  # observed ~1e-12
-    assert 'data-kind="coverage"' in sheet.read_text() or "coverage" in sheet.read_text()
+    from garnav.preview.sheet import SheetStyle
+
+    assert SheetStyle().coverage_fill in sheet.read_text()  # the covered ground is shaded
 
 
 def test_cli_sweep_bad_region_is_one_message(capsys):
@@ -120,3 +137,33 @@ def test_cli_sweep_bad_region_is_one_message(capsys):
     assert rc == 2
     err = capsys.readouterr().err
     assert "unknown piece 'bak'" in err and "Traceback" not in err
+
+
+def test_coverage_on_the_sheet(flat):
+    from garnav.preview.sheet import sheet_drawing
+
+    g, planner = flat
+    s = plan_sweep(g, parse_region("pieces:back"), swath_mm=10.0, planner=planner, start="dock")
+    drawing = sheet_drawing(g, [s.route], planner.free, coverage=s.covered)
+    shaded = drawing.items("coverage")
+    assert shaded and all(a.kind == "coverage" for a in shaded)
+    # the shaded area is the covered ground (sheet placement is a rigid motion: areas agree)
+    area = sum(shapely.Polygon(a.rings[0], a.rings[1:]).area for a in shaded)
+    # (a join between cells may pass over a neighbouring piece: its ground is drawn there)
+    want = sum(geom.intersection(g.piece(p).polygon).area for p, geom in s.covered.items())
+    assert area == pytest.approx(want, rel=1e-9)
+    # the sweep starts at the dock landmark
+    dock = g.landmark("dock")
+    first = s.route.legs[0].points[0]
+    assert s.route.legs[0].piece == dock.piece and np.hypot(first[0] - dock.x, first[1] - dock.y) < 1e-3
+
+
+@pytest.mark.slow
+def test_cli_sweep_pictures(tmp_path):
+    rc = main(["sweep", str(SPEC), "--region", "polygon:back:60,60;260,60;260,200;60,200", "--swath", "20",
+               "--json", str(tmp_path / "s.json"), "--screenshot", str(tmp_path / "s.png"),
+               "--sheet", str(tmp_path / "s.png.svg")])
+    assert rc == 0
+    assert (tmp_path / "s.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    doc = json.loads((tmp_path / "s.json").read_text())
+    assert doc["path3d"] is not None and doc["length_3d_mm"] > 0

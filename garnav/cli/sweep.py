@@ -21,7 +21,8 @@ from garnav.export.commands import route_commands, write_commands
 from garnav.export.waypoints import write_route_csv, write_route_json
 from garnav.model import Robot
 from garnav.plan import Planner
-from garnav.sweep import coverage_face_mask, figures_lines, parse_region, plan_sweep, sweep_document
+from garnav.sweep import coverage_face_mask, figures_lines, parse_region, plan_sweep, resolve_region, sweep_document
+from garnav.sweep.plan import swath_of
 
 __all__ = ["register", "run"]
 
@@ -81,8 +82,10 @@ def run(args: argparse.Namespace) -> int:
         raise QueryError(f"--clearance must be zero or more mm, got {args.clearance:g}")
     if args.screenshot and drape is None:
         raise QueryError("--screenshot needs a drape (the spec's own drape, or --drape MESH)")
+    swath_of(robot, args.swath)  # a missing or bad swath fails before the planner is built
+    areas = resolve_region(garment, region, drape=drape)  # bad regions fail before the planner is built
     planner = Planner(garment, robot, extra_clearance_mm=args.clearance, locate_3d=locate)
-    sweep = plan_sweep(garment, region, swath_mm=args.swath, headland=args.headland, planner=planner,
+    sweep = plan_sweep(garment, areas, swath_mm=args.swath, headland=args.headland, planner=planner,
                        drape=drape, start=args.start)
     lifted = lift_route(drape, garment, sweep.route) if drape is not None else None
     doc = sweep_document(sweep, garment, robot, lifted, region_text=args.region)

@@ -44,7 +44,7 @@ from garnav.sweep.cells import boustrophedon_cells, cell_path, from_frame, min_w
 from garnav.sweep.coverage import covered_area, footprint
 from garnav.sweep.region import resolve_region
 
-__all__ = ["Sweep", "SweepItem", "plan_sweep", "DEFAULT_COVERAGE_TARGET"]
+__all__ = ["Sweep", "SweepItem", "plan_sweep", "swath_of", "DEFAULT_COVERAGE_TARGET"]
 
 DEFAULT_COVERAGE_TARGET = 0.99
 
@@ -247,6 +247,22 @@ def _segment_free(region: shapely.Geometry, p: np.ndarray, q: np.ndarray) -> boo
     return bool(region.covers(line) or region.buffer(1e-6).covers(line))
 
 
+def swath_of(robot: Robot, swath_mm: float | None = None) -> float:
+    """The swath to use (mm): ``swath_mm`` when given, else the robot's ``sensor_swath_mm``.
+
+    Raises QueryError when neither is given or the value is not a positive number.
+    """
+    w = swath_mm if swath_mm is not None else robot.sensor_swath_mm
+    if w is None:
+        raise QueryError(
+            f"robot '{robot.name}' has no sensor_swath_mm: give the swath (--swath MM) or add "
+            f"sensor_swath_mm to the spec's [robot] table"
+        )
+    if not (math.isfinite(w) and w > 0):
+        raise QueryError(f"the sensor swath must be a positive number of mm, got {w:g}")
+    return float(w)
+
+
 def plan_sweep(
     garment: Garment,
     region: Any,
@@ -265,8 +281,9 @@ def plan_sweep(
     Parameters
     ----------
     garment : Garment
-    region : region object
-        Anything with ``resolve(context)``; e.g. ``parse_region("pieces:back")``.
+    region : region object or dict
+        Anything with ``resolve(context)``, e.g. ``parse_region("pieces:back")``; or its areas
+        already resolved (piece → polygon, :func:`garnav.sweep.resolve_region`).
     robot : Robot, optional
         Defaults to the planner's, ``garment.robot`` or ``Robot()``.
     swath_mm : float, optional
@@ -293,16 +310,8 @@ def plan_sweep(
         robot = robot or garment.robot or Robot()
         planner = Planner(garment, robot)
     robot = planner.robot
-    w = swath_mm if swath_mm is not None else robot.sensor_swath_mm
-    if w is None:
-        raise QueryError(
-            f"robot '{robot.name}' has no sensor_swath_mm: give the swath (--swath MM) or add "
-            f"sensor_swath_mm to the spec's [robot] table"
-        )
-    if not (math.isfinite(w) and w > 0):
-        raise QueryError(f"the sensor swath must be a positive number of mm, got {w:g}")
-    w = float(w)
-    areas = resolve_region(garment, region, drape=drape, zones=zones)
+    w = swath_of(robot, swath_mm)
+    areas = dict(region) if isinstance(region, Mapping) else resolve_region(garment, region, drape=drape, zones=zones)
     if not areas:
         raise QueryError("the region covers no fabric")
     free = planner.free
