@@ -167,3 +167,19 @@ def test_cli_sweep_pictures(tmp_path):
     assert (tmp_path / "s.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
     doc = json.loads((tmp_path / "s.json").read_text())
     assert doc["path3d"] is not None and doc["length_3d_mm"] > 0
+
+
+@pytest.mark.slow
+def test_example_sweep_region(tmp_path, capsys):
+    import runpy
+
+    main_fn = runpy.run_path(str(Path(__file__).resolve().parents[1] / "examples" / "sweep_region.py"),
+                             run_name="garnav_example")["main"]
+    figures = main_fn([str(tmp_path)])
+    assert figures["covered_fraction"] >= 0.99  # observed 0.997
+    assert set(figures["pieces"]) == {"front", "back"}
+    doc = json.loads((tmp_path / "sweep.json").read_text())
+    jsonschema.Draft202012Validator(route_schema()).validate(doc)
+    assert len(doc["crossings"]) >= 1  # the two parts are joined across a seam
+    assert (tmp_path / "sweep_sheet.svg").read_text().startswith("<?xml")
+    assert "caution" in capsys.readouterr().out

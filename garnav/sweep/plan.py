@@ -240,13 +240,6 @@ def _piece_items(piece: str, domain: shapely.Geometry, reach: shapely.Geometry, 
 # --------------------------------------------------------------------------- ordering and joins
 
 
-def _segment_free(region: shapely.Geometry, p: np.ndarray, q: np.ndarray) -> bool:
-    if np.hypot(*(q - p)) < 1e-9:
-        return True
-    line = shapely.LineString([p, q])
-    return bool(region.covers(line) or region.buffer(1e-6).covers(line))
-
-
 def swath_of(robot: Robot, swath_mm: float | None = None) -> float:
     """The swath to use (mm): ``swath_mm`` when given, else the robot's ``sensor_swath_mm``.
 
@@ -342,22 +335,33 @@ def _single(garment: Garment, robot: Robot, piece: str, pts: np.ndarray) -> Rout
     return make_route(garment, robot, [Leg(piece, np.asarray(pts, dtype=float))], [], length)
 
 
-class _Nudge:
-    """Moves points that miss a piece's free space by rounding (a lane end computed on its border)
-    up to 1e-5 mm inside it, so the planner accepts them; the inner regions are built once."""
+class _Free:
+    """Free-space tests for the joins, with the slightly grown and shrunk regions built once per
+    piece: a straight step is free when it lies in the free space grown by 1e-6 mm (lane ends are
+    computed on its border), and a point that misses it by rounding is moved up to 1e-5 mm inside
+    so that the planner accepts it."""
 
     def __init__(self, free):
         self.free = free
+        self.grown: dict[str, shapely.Geometry] = {}
         self.inner: dict[str, shapely.Geometry] = {}
 
-    def __call__(self, piece: str, xy: np.ndarray, label: str = "sweep") -> PiecePoint:
-        region = self.free[piece].region
+    def _cached(self, cache: dict, piece: str, distance: float) -> shapely.Geometry:
+        if piece not in cache:
+            cache[piece] = self.free[piece].region.buffer(distance)
+            shapely.prepare(cache[piece])
+        return cache[piece]
+
+    def segment(self, piece: str, p: np.ndarray, q: np.ndarray) -> bool:
+        if np.hypot(*(q - p)) < 1e-9:
+            return True
+        line = shapely.LineString([p, q])
+        return bool(self.free[piece].region.covers(line) or self._cached(self.grown, piece, 1e-6).covers(line))
+
+    def point(self, piece: str, xy: np.ndarray, label: str = "sweep") -> PiecePoint:
         p = shapely.Point(float(xy[0]), float(xy[1]))
-        if not region.covers(p):
-            if piece not in self.inner:
-                self.inner[piece] = region.buffer(-1e-5)
-                shapely.prepare(self.inner[piece])
-            inner = self.inner[piece]
+        if not self.free[piece].region.covers(p):
+            inner = self._cached(self.inner, piece, -1e-5)
             if not inner.is_empty and inner.distance(p) < 1e-3:
                 q = shapely.ops.nearest_points(inner, p)[0]
                 return PiecePoint(piece, float(q.x), float(q.y), label=label)
@@ -366,8 +370,7 @@ class _Nudge:
 
 def _order_and_join(garment: Garment, planner: Planner, items: list[SweepItem], start: Any) -> list[Route]:
     robot = planner.robot
-    free = planner.free
-    nudge = _Nudge(free)
+    free = _Free(planner.free)
     remaining = list(range(len(items)))
     parts: list[Route] = []
     here: PiecePoint | None = None
@@ -388,8 +391,8 @@ def _order_and_join(garment: Garment, planner: Planner, items: list[SweepItem], 
                 pick = best[1:]
             else:
                 cands = [(i, v, s) for i in remaining for v, s in items[i].entries()]
-                goals = [nudge(items[i].piece, items[i].path(v, s)[0], "sweep item") for i, v, s in cands]
-                k, _ = planner.nearest(nudge(here.piece, here.xy), goals, snap=True)
+                goals = [free.point(items[i].piece, items[i].path(v, s)[0], "sweep item") for i, v, s in cands]
+                k, _ = planner.nearest(free.point(here.piece, here.xy), goals, snap=True)
                 pick = cands[k]
         else:
             pick = (remaining[0], 0, 0)
@@ -398,31 +401,30 @@ def _order_and_join(garment: Garment, planner: Planner, items: list[SweepItem], 
         path = items[i].path(v, s)
         if here is not None:
             p0 = path[0]
-            if here.piece == items[i].piece and _segment_free(free[here.piece].region, here.xy, p0):
+            if here.piece == items[i].piece and free.segment(here.piece, here.xy, p0):
                 if np.hypot(*(p0 - here.xy)) > 1e-9:
                     parts.append(_single(garment, robot, here.piece, np.vstack([here.xy, p0])))
             else:
-                parts.append(planner.route(nudge(here.piece, here.xy), nudge(items[i].piece, p0, "sweep item"), snap=True))
-        parts.append(_joined_item(garment, planner, nudge, items[i].piece, path))
+                parts.append(planner.route(free.point(here.piece, here.xy), free.point(items[i].piece, p0, "sweep item"), snap=True))
+        parts.append(_joined_item(garment, planner, free, items[i].piece, path))
         end = path[-1]
         here = PiecePoint(items[i].piece, float(end[0]), float(end[1]), label="sweep")
     return parts
 
 
-def _joined_item(garment: Garment, planner: Planner, nudge: _Nudge, piece: str, path: np.ndarray) -> Route:
+def _joined_item(garment: Garment, planner: Planner, free: _Free, piece: str, path: np.ndarray) -> Route:
     """An item's polyline as a route; a step that leaves the free space (a lane change past a
     concave corner) is replaced by a planner route."""
-    region = planner.free[piece].region
     robot = planner.robot
     chunks: list[Route] = []
     run = [path[0]]
     for a, b in zip(path[:-1], path[1:], strict=True):
-        if _segment_free(region, a, b):
+        if free.segment(piece, a, b):
             run.append(b)
             continue
         if len(run) >= 2:
             chunks.append(_single(garment, robot, piece, np.array(run)))
-        chunks.append(planner.route(nudge(piece, a), nudge(piece, b), snap=True))
+        chunks.append(planner.route(free.point(piece, a), free.point(piece, b), snap=True))
         run = [b]
     if len(run) >= 2:
         chunks.append(_single(garment, robot, piece, np.array(run)))
