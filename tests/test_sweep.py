@@ -114,6 +114,22 @@ def test_width_across_rotated_rectangle():
     assert width_across(box, angle + math.pi / 2) == pytest.approx(300.0, abs=1e-9)
 
 
+def test_l_shape_is_swept_along_an_arm_not_across_the_hull():
+    # An L of two 400 x 60 mm arms: its hull's least width (325 mm) is across the diagonal, which
+    # cuts the L into 3 cells and 28 lanes; along either arm it is one cell of 21 lanes
+    # (hand-worked: 400 / 20 + 1). The planner counts the lanes of all cells.
+    from garnav.sweep.cells import best_direction
+    from garnav.sweep.plan import _cell_items
+
+    ell = shapely.union_all([shapely.box(0, 0, 400, 60), shapely.box(0, 0, 60, 400)])
+    angle, width = min_width_direction(ell)
+    assert math.degrees(angle) == pytest.approx(135.0) and width == pytest.approx(460 / math.sqrt(2))
+    diagonal = boustrophedon_cells(ell, 20.0, angle)
+    assert len(diagonal) == 3 and sum(len(c.lanes) for c in diagonal) == 28
+    assert best_direction(ell, 20.0) in (0.0, pytest.approx(math.pi / 2))
+    assert sum(it.lanes for it in _cell_items("p", ell, 20.0)) == 21
+
+
 def test_boustrophedon_cells_around_a_hole():
     # Choset (2000): a rectangle with one rectangular hole in the middle splits into four cells:
     # below the hole, left of it, right of it, above it.

@@ -27,7 +27,7 @@ import numpy as np
 import shapely
 from shapely import affinity
 
-__all__ = ["Cell", "min_width_direction", "lane_offsets", "slice_lanes", "boustrophedon_cells", "cell_path", "to_frame", "from_frame"]
+__all__ = ["Cell", "min_width_direction", "best_direction", "lane_offsets", "slice_lanes", "boustrophedon_cells", "cell_path", "to_frame", "from_frame"]
 
 # Segments shorter than this (mm) where a lane only grazes the domain are dropped.
 MIN_SEGMENT_MM = 1e-3
@@ -93,6 +93,38 @@ def min_width_direction(geom: shapely.Geometry, spacing: float | None = None) ->
             best = (key, a, w)
     assert best is not None
     return best[1], best[2]
+
+
+def best_direction(domain: shapely.Geometry, spacing: float, inset: float = 0.0, max_edges: int = 8) -> float:
+    """Lane direction (rad, in [0, π)) that needs the fewest lanes over the whole domain.
+
+    For a convex domain this is the least-width direction (Huang 2001). A non-convex domain is cut
+    into cells, and the lanes of all cells count: an L-shaped domain is best swept along one arm,
+    not across its hull's diagonal. Candidates are the ``max_edges`` hull edge directions of least
+    width and the directions of the domain's ``max_edges`` longest edges; each is decomposed and its lanes counted; ties go to
+    fewer cells, then to the smaller width across, then to the smaller angle.
+    """
+    hull = shapely.convex_hull(domain)
+    if hull.geom_type != "Polygon" or hull.area <= 0:
+        return 0.0
+    d = np.diff(np.asarray(hull.exterior.coords), axis=0)
+    hull_dirs = sorted({round(math.atan2(v[1], v[0]) % math.pi, 12) % math.pi for v in d if math.hypot(*v) > 1e-9})
+    # the hull directions of least width (a curved outline has many nearly equal ones)
+    cands = set(sorted(hull_dirs, key=lambda a: (round(width_across(hull, a), 9), a))[:max_edges])
+    edges = []
+    for poly in shapely.get_parts(domain):
+        for ring in [poly.exterior, *poly.interiors]:
+            d = np.diff(np.asarray(ring.coords), axis=0)
+            edges += [(math.hypot(*v), round(math.atan2(v[1], v[0]) % math.pi, 12) % math.pi) for v in d]
+    cands |= {a for _, a in sorted(edges, key=lambda e: (-e[0], e[1]))[:max_edges]}
+    best: tuple | None = None
+    for a in sorted(cands):
+        cells = boustrophedon_cells(domain, spacing, a, inset)
+        key = (sum(len(c.lanes) for c in cells), len(cells), round(width_across(hull, a), 9), a)
+        if best is None or key < best:
+            best = key
+    assert best is not None
+    return float(best[3])
 
 
 def lane_offsets(low: float, high: float, spacing: float) -> np.ndarray:

@@ -13,8 +13,9 @@ Steps, per piece the region touches (piece frame, mm; ``w`` = swath, sensor cent
    outermost lanes lie ``w/2`` inside the part's extremes, where the lap covers the tips.
    ``headland="auto"`` laps a part only when its plain lanes would cover less than
    ``coverage_target`` of it.
-4. **Cells and lanes**: boustrophedon cells (Choset 2000) in the part's least-width direction, each
-   cell re-aimed to its own least-width direction when that needs fewer lanes (Huang 2001); see
+4. **Cells and lanes**: boustrophedon cells (Choset 2000) in the direction that needs the fewest
+   lanes over the part (for a convex part the least-width direction, Huang 2001), each cell
+   re-aimed to its own least-width direction when that needs fewer lanes; see
    :mod:`garnav.sweep.cells`.
 5. **Order and joins**: greedy nearest next item (cell, from any of its four corners, or lap,
    from its nearest vertex), by straight-line distance on the current piece and by the route
@@ -40,7 +41,7 @@ from garnav.errors import QueryError
 from garnav.model import Garment, Robot
 from garnav.plan import PiecePoint, Planner, Route
 from garnav.plan.route import Leg, join_routes, make_route
-from garnav.sweep.cells import boustrophedon_cells, cell_path, from_frame, min_width_direction, to_frame
+from garnav.sweep.cells import best_direction, boustrophedon_cells, cell_path, from_frame, min_width_direction, to_frame
 from garnav.sweep.coverage import covered_area, footprint
 from garnav.sweep.region import resolve_region
 
@@ -166,7 +167,7 @@ def _parts(geom: shapely.Geometry) -> list[shapely.Polygon]:
 
 def _cell_items(piece: str, domain: shapely.Polygon, w: float, inset: float = 0.0) -> list[SweepItem]:
     """Boustrophedon items of one connected domain (extreme lanes ``inset`` inside it)."""
-    angle, _ = min_width_direction(domain, w)
+    angle = best_direction(domain, w, inset)
     items = []
     for cell in boustrophedon_cells(domain, w, angle, inset):
         cell = _reaim(domain, cell, w, inset)
