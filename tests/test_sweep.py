@@ -68,6 +68,7 @@ def test_rectangle_hand_worked_lanes_turns_length():
     summary = route_document(s.route, g)["summary"]
     assert summary["turn_count"] == 18
     assert summary["turn_total_deg"] == pytest.approx(18 * 90.0, abs=1e-6)
+    assert s.figures(summary)["sharp_turn_count"] == 18
     # the lanes run along the long side (x): every lane waypoint pair is horizontal
     pts = s.route.legs[0].points
     steps = np.diff(pts, axis=0)

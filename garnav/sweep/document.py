@@ -58,7 +58,7 @@ def figures_lines(figures: dict) -> list[str]:
                     f"({figures['reachable_area_mm2'] / 100:.0f} of {figures['region_area_mm2'] / 100:.0f} cm² reachable)"),
         ("cells / lanes / laps", f"{figures['cells']} / {figures['lanes']} / {figures['headland_laps']}"),
         ("length", f"{figures['length_mm']:.0f} mm ({ratio:.2f} × area / swath)" if ratio else f"{figures['length_mm']:.0f} mm"),
-        ("turns", f"{figures['turn_count']} (total {figures['turn_total_deg']:.0f}°)"),
+        ("turns", f"{figures['turn_count']}, {figures['sharp_turn_count']} of them over 45° (total {figures['turn_total_deg']:.0f}°)"),
         ("time", f"{figures['time_s']:.0f} s (turning in place included)"),
         ("energy", "not known (no physics profile)" if figures["energy_J"] is None else f"{figures['energy_J']:.1f} J"),
     ]

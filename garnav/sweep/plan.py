@@ -49,6 +49,10 @@ __all__ = ["Sweep", "SweepItem", "plan_sweep", "swath_of", "DEFAULT_COVERAGE_TAR
 
 DEFAULT_COVERAGE_TARGET = 0.99
 
+# Turns above this (degrees) are counted apart: the lane ends' turns, not the small ones along a
+# curved border.
+SHARP_TURN_DEG = 45.0
+
 Headland = Literal["auto", "on", "off"]
 
 
@@ -151,6 +155,7 @@ class Sweep:
             "length_ratio": length / bound if bound > 0 else None,
             "turn_count": None if summary is None else int(summary["turn_count"]),
             "turn_total_deg": None if summary is None else float(summary["turn_total_deg"]),
+            "sharp_turn_count": int(np.sum(np.abs(self.route.turns_deg) > SHARP_TURN_DEG)),
             "time_s": None if summary is None else float(summary["estimated_time_s"]),
             "energy_J": energy_J,
         }
