@@ -192,6 +192,22 @@ def test_length_at_least_area_over_swath_minus_boundary_term(headland):
             assert fig["length_ratio"] >= 0.95, fig["length_ratio"]  # observed 1.0 .. 1.4
 
 
+def test_corner_spurs_reach_the_tips_of_acute_corners():
+    # A triangle with corners of 19, 62 and 99 degrees: a centre kept w/2 inside it cannot bring
+    # the strip into the tips; a spur towards each tip gap does (the centre may leave the region,
+    # never the free space).
+    g = _board()
+    tri = PolygonRegion("p", ((50.0, 50.0), (350.0, 100.0), (80.0, 250.0)))
+    plain = plan_sweep(g, tri, swath_mm=20.0, corner_spurs=False)
+    spurred = plan_sweep(g, tri, swath_mm=20.0)
+    assert spurred.spurs == 3
+    before = measured_coverage(plain.route, plain.reachable, 20.0)
+    after = measured_coverage(spurred.route, spurred.reachable, 20.0)
+    assert before < 0.995 and after >= 0.999  # observed 0.9913 and 1.0000
+    free = Planner(g).free["p"].region.buffer(1e-4)
+    assert all(free.covers(shapely.LineString(leg.points)) for leg in spurred.route.legs)
+
+
 def test_sweep_around_a_keepout_stays_in_free_space():
     from garnav import Circle, KeepOut
 

@@ -12,7 +12,9 @@ Steps, per piece the region touches (piece frame, mm; ``w`` = swath, sensor cent
    side of it; the lanes still run to ``∂C`` (so they overlap the lap by ``w/2``) and the
    outermost lanes lie ``w/2`` inside the part's extremes, where the lap covers the tips.
    ``headland="auto"`` laps a part only when its plain lanes would cover less than
-   ``coverage_target`` of it.
+   ``coverage_target`` of it. Gaps still left (the tip of an acute corner lies beyond the reach of
+   a centre kept ``w/2`` inside the region) get a short straight **spur** from the centre domain
+   towards the gap's farthest point, within the free space.
 4. **Cells and lanes**: boustrophedon cells (Choset 2000) in the direction that needs the fewest
    lanes over the part (for a convex part the least-width direction, Huang 2001), each cell
    re-aimed to its own least-width direction when that needs fewer lanes; see
@@ -111,6 +113,7 @@ class Sweep:
     lanes: int
     laps: int
     headland: str = "auto"
+    spurs: int = 0
     notes: tuple[str, ...] = field(default_factory=tuple)
 
     @property
@@ -150,6 +153,7 @@ class Sweep:
             "cells": int(self.cells),
             "lanes": int(self.lanes),
             "headland_laps": int(self.laps),
+            "corner_spurs": int(self.spurs),
             "length_mm": length,
             "area_over_swath_mm": bound,
             "length_ratio": length / bound if bound > 0 else None,
@@ -243,6 +247,33 @@ def _piece_items(piece: str, domain: shapely.Geometry, reach: shapely.Geometry, 
     return items, laps
 
 
+def _spur_items(piece: str, items: list[SweepItem], reach: shapely.Geometry, domain: shapely.Geometry,
+                free: shapely.Geometry, w: float, min_area_w2: float = 0.1) -> list[SweepItem]:
+    """Short straight runs into the gaps the lanes and laps leave (the tip of an acute corner of the
+    region lies beyond the reach of a centre kept w/2 inside it): for every gap of at least
+    ``min_area_w2 · w²``, a run from the nearest point of the centre domain to the gap's point
+    farthest from it (pulled into the free space), driven out and on from there."""
+    paths = [it.variants[0] for it in items]
+    if not paths:
+        return []
+    gaps = reach.difference(shapely.union_all([footprint(p, w) for p in paths]))
+    out = []
+    for gap in _parts(gaps):
+        if gap.area < min_area_w2 * w * w:
+            continue
+        ring = np.asarray(gap.exterior.coords)
+        far = ring[int(np.argmax(shapely.distance(domain, shapely.points(ring))))]
+        t = shapely.Point(*far)
+        if not free.covers(t):
+            t = shapely.ops.nearest_points(free, t)[0]
+        q = shapely.ops.nearest_points(domain, t)[0]
+        a, b = np.array([q.x, q.y]), np.array([t.x, t.y])
+        if np.hypot(*(b - a)) < 1e-6 or not free.buffer(1e-6).covers(shapely.LineString([a, b])):
+            continue
+        out.append(SweepItem(piece, (np.array([a, b]), np.array([b, a]))))
+    return out
+
+
 # --------------------------------------------------------------------------- ordering and joins
 
 
@@ -274,6 +305,7 @@ def plan_sweep(
     drape: Any = None,
     zones: Mapping[str, Any] | None = None,
     start: Any = None,
+    corner_spurs: bool = True,
 ) -> Sweep:
     """Plan a sweep of ``region`` (see :mod:`garnav.sweep.region`) for the garment's robot.
 
@@ -298,6 +330,9 @@ def plan_sweep(
         Body-zone catalogue for ``zone:`` regions.
     start : point, optional
         Where the robot starts (landmark, ``PIECE:X,Y``, ...); default: the first item's start.
+    corner_spurs : bool
+        Reach into corners the lanes and laps leave uncovered (see :func:`_spur_items`); not with
+        ``headland="off"``, which plans plain lanes only.
 
     Returns
     -------
@@ -315,14 +350,16 @@ def plan_sweep(
         raise QueryError("the region covers no fabric")
     free = planner.free
     reachable, domains, items = {}, {}, []
-    laps = 0
+    laps = n_spurs = 0
     for piece, area in areas.items():
         fs = free[piece].region
         reachable[piece] = area.intersection(fs.buffer(w / 2))
         domains[piece] = area.buffer(-w / 2).intersection(fs)
         got, n = _piece_items(piece, domains[piece], reachable[piece], w, headland, coverage_target)
-        items += got
+        spurs = _spur_items(piece, got, reachable[piece], domains[piece], fs, w) if corner_spurs and headland != "off" else []
+        items += got + spurs
         laps += n
+        n_spurs += len(spurs)
     if not items:
         raise QueryError(
             f"the robot cannot sweep this region: no point of it lies {w / 2:g} mm inside both the "
@@ -331,9 +368,9 @@ def plan_sweep(
     parts = _order_and_join(garment, planner, items, start)
     route = parts[0] if len(parts) == 1 else join_routes(garment, robot, parts)
     covered = covered_area(route, w)
-    cells = sum(1 for it in items if not it.closed)
+    cells = sum(1 for it in items if not it.closed and it.lanes > 0)
     lanes = sum(it.lanes for it in items)
-    return Sweep(route, w, areas, reachable, domains, covered, cells, lanes, laps, headland)
+    return Sweep(route, w, areas, reachable, domains, covered, cells, lanes, laps, headland, spurs=n_spurs)
 
 
 def _single(garment: Garment, robot: Robot, piece: str, pts: np.ndarray) -> Route:
@@ -344,11 +381,12 @@ def _single(garment: Garment, robot: Robot, piece: str, pts: np.ndarray) -> Rout
 class _Free:
     """Free-space tests for the joins, with the slightly grown and shrunk regions built once per
     piece: a straight step is free when it lies in the free space grown by 1e-6 mm (lane ends are
-    computed on its border), and a point that misses it by rounding is moved up to 1e-5 mm inside
-    so that the planner accepts it."""
+    computed on its border), and a point that misses it (or its piece's outline) by rounding is
+    moved up to 1e-5 mm inside so that the planner accepts it."""
 
-    def __init__(self, free):
+    def __init__(self, free, garment: Garment):
         self.free = free
+        self.garment = garment
         self.grown: dict[str, shapely.Geometry] = {}
         self.inner: dict[str, shapely.Geometry] = {}
 
@@ -366,7 +404,7 @@ class _Free:
 
     def point(self, piece: str, xy: np.ndarray, label: str = "sweep") -> PiecePoint:
         p = shapely.Point(float(xy[0]), float(xy[1]))
-        if not self.free[piece].region.covers(p):
+        if not (self.free[piece].region.covers(p) and self.garment.piece(piece).polygon.covers(p)):
             inner = self._cached(self.inner, piece, -1e-5)
             if not inner.is_empty and inner.distance(p) < 1e-3:
                 q = shapely.ops.nearest_points(inner, p)[0]
@@ -376,7 +414,7 @@ class _Free:
 
 def _order_and_join(garment: Garment, planner: Planner, items: list[SweepItem], start: Any) -> list[Route]:
     robot = planner.robot
-    free = _Free(planner.free)
+    free = _Free(planner.free, garment)
     remaining = list(range(len(items)))
     parts: list[Route] = []
     here: PiecePoint | None = None
