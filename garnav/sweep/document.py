@@ -56,7 +56,8 @@ def figures_lines(figures: dict) -> list[str]:
         ("swath", f"{figures['swath_mm']:g} mm"),
         ("covered", f"{100 * figures['covered_fraction']:.2f} % of the reachable region "
                     f"({figures['reachable_area_mm2'] / 100:.0f} of {figures['region_area_mm2'] / 100:.0f} cm² reachable)"),
-        ("cells / lanes / laps", f"{figures['cells']} / {figures['lanes']} / {figures['headland_laps']}"),
+        ("cells / lanes / laps / spurs",
+         f"{figures['cells']} / {figures['lanes']} / {figures['headland_laps']} / {figures['corner_spurs']}"),
         ("length", f"{figures['length_mm']:.0f} mm ({ratio:.2f} × area / swath)" if ratio else f"{figures['length_mm']:.0f} mm"),
         ("turns", f"{figures['turn_count']}, {figures['sharp_turn_count']} of them over 45° (total {figures['turn_total_deg']:.0f}°)"),
         ("time", f"{figures['time_s']:.0f} s (turning in place included)"),
