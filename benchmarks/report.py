@@ -17,6 +17,7 @@ TARGETS = (
     ("locate_vs_find_simplex", "point location at least 5x faster than random-order find_simplex"),
     ("lift_time", "lift of ~5,000 points on ~100k triangles under 15 ms (median)"),
     ("demo_end_to_end", "`garnav demo` end to end under 20 s"),
+    ("sweep_back_panel", "sweep of the demo back panel (10 mm swath) under 2 s: at most 2x the route planner build on the same garment"),
 )
 
 
@@ -127,6 +128,17 @@ def evaluate_targets(res: dict[str, Any]) -> list[dict[str, Any]]:
         out.append(_t("demo_end_to_end", "MISS", None, f"`{cli['command']}` failed (exit {cli['returncode']})"))
     else:
         out.append(_t("demo_end_to_end", "N/A", None, cli.get("error", "not run")))
+
+    sw = cases.get("sweep_back", {})
+    ratio = _get(sw, "garnav", "cold_over_reference")
+    if ratio is not None:
+        g = sw["garnav"]
+        out.append(_t("sweep_back_panel", "PASS" if ratio <= 2.0 else "MISS", ratio,
+                      f"cold {g['cold_s']:.2f} s = {ratio:.2f}x the planner build "
+                      f"({sw['reference_planner_build_s']:.2f} s); warm {g['warm_s']:.2f} s; "
+                      f"covered {100 * g['covered_fraction']:.2f} %"))
+    else:
+        out.append(_t("sweep_back_panel", "N/A", None, sw.get("error", "not run")))
     return out
 
 

@@ -355,6 +355,9 @@ class Robot:
         Which face of the garment it drives on. Inside, every piece is seen mirrored.
     edge_margin_mm : float
         Extra distance kept from open edges (hems, cuffs, necklines) beyond the radius.
+    sensor_swath_mm : float, optional
+        Width of the strip a sensor carried across the robot covers as it drives, mm, centred on
+        the wheel axle (for sweeps, :mod:`garnav.sweep`); None when the robot carries none.
     """
 
     name: str = "robot"
@@ -363,6 +366,7 @@ class Robot:
     speed_mm_s: float = 20.0
     side: Literal["outside", "inside"] = "outside"
     edge_margin_mm: float = 5.0
+    sensor_swath_mm: float | None = None
 
 
 @dataclass(frozen=True)

@@ -59,6 +59,7 @@ class SceneStyle:
     open_edge: str = "#6b4423"
     keepout: str = "#c0392b"
     landmark: str = "#1b1b3a"
+    coverage: str = "#5b8fc7"
     line_width: float = 3.0
 
 
@@ -185,6 +186,7 @@ def build_plotter(
     size: tuple[int, int] = (1200, 900),
     style: SceneStyle = SceneStyle(),
     labels: bool = True,
+    covered_faces: np.ndarray | None = None,
 ):
     """A pyvista Plotter showing the scene.
 
@@ -201,6 +203,9 @@ def build_plotter(
     size : (width, height) in pixels
     labels : bool
         Draw landmark labels (text rendering).
+    covered_faces : (F,) bool array, optional
+        Drape triangles a sweep covers, shaded in ``style.coverage`` (see
+        :func:`garnav.sweep.coverage_face_mask`).
     """
     import pyvista as pv
 
@@ -224,6 +229,8 @@ def build_plotter(
         colours = np.array([_rgb(PIECE_COLOURS[i % len(PIECE_COLOURS)]) for i in range(len(drape.piece_names))])
         face_rgb = colours[np.asarray(drape.face_piece)]
         mask = keepout_face_mask(garment, drape)
+        if covered_faces is not None:
+            face_rgb[np.asarray(covered_faces, dtype=bool)] = _rgb(style.coverage)
         face_rgb[mask] = _rgb(style.keepout)
         cloth.cell_data["colour"] = (face_rgb * 255).astype(np.uint8)
         plotter.add_mesh(cloth, scalars="colour", rgb=True, show_edges=False, name="drape", specular=0.05)

@@ -117,6 +117,8 @@ def garment_to_dict(garment: Garment) -> dict[str, Any]:
             "side": r.side,
             "edge_margin_mm": _f(r.edge_margin_mm),
         }
+        if r.sensor_swath_mm is not None:
+            d["robot"]["sensor_swath_mm"] = _f(r.sensor_swath_mm)
     d["piece"] = [_piece(p) for p in g.pieces]
     if g.seams:
         d["seam"] = [_seam(s) for s in g.seams]
