@@ -298,6 +298,8 @@ class FleetPlanner:
                     continue
             tried.add(key)
             try:
+                if time.perf_counter() > deadline:
+                    raise SearchTimeout()
                 plans, failed = self._plan_order(order, deadline)
             except SearchTimeout:
                 raise FleetPlanError(self._fail_text(last_fail, len(tried), time.perf_counter() - t_start,

@@ -25,7 +25,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from garnav.fleet.motion import MoveSet, closest_approach, edge_min_distance, unsafe_point_intervals
+from garnav.fleet.motion import MoveSet, closest_approach, unsafe_point_intervals
 
 __all__ = ["SippProblem", "SippResult", "SearchTimeout", "sipp"]
 
@@ -90,7 +90,8 @@ class SippResult:
 
 
 class _Local:
-    """Moves of one piece with their bounding boxes, for quick prefilters."""
+    """Moves of one piece with their bounding boxes (for quick prefilters) and as plain lists (for
+    the scalar closest-approach loop)."""
 
     def __init__(self, ms: MoveSet):
         self.ms = ms
@@ -98,10 +99,38 @@ class _Local:
         end = ms.p0 + span[:, None] * ms.v
         self.lo = np.minimum(ms.p0, end) - ms.reach[:, None]
         self.hi = np.maximum(ms.p0, end) + ms.reach[:, None]
+        self.rows = list(zip(ms.t0.tolist(), ms.t1.tolist(), ms.p0[:, 0].tolist(), ms.p0[:, 1].tolist(),
+                             ms.v[:, 0].tolist(), ms.v[:, 1].tolist(), ms.reach.tolist(), strict=True))
+
+    def near_index(self, lo: np.ndarray, hi: np.ndarray) -> list[int]:
+        if not len(self.rows):
+            return []
+        m = np.all(self.hi >= lo[None, :], axis=1) & np.all(self.lo <= hi[None, :], axis=1)
+        return np.flatnonzero(m).tolist()
 
     def near(self, lo: np.ndarray, hi: np.ndarray) -> MoveSet:
         m = np.all(self.hi >= lo[None, :], axis=1) & np.all(self.lo <= hi[None, :], axis=1)
         return self.ms.subset(m)
+
+
+def _approach(px: float, py: float, wx: float, wy: float, tau: float, d: float, row: tuple) -> float:
+    """Closest approach of a robot leaving (px, py) at ``tau`` with velocity (wx, wy) for ``d`` s
+    and one move ``row`` (see :func:`garnav.fleet.motion.closest_approach`); inf without overlap."""
+    t0, t1, qx, qy, vx, vy, _ = row
+    lo = tau if tau > t0 else t0
+    hi = tau + d if tau + d < t1 else t1
+    if hi < lo:
+        return math.inf
+    ax, ay = px + (lo - tau) * wx, py + (lo - tau) * wy
+    bx, by = qx + (lo - t0) * vx, qy + (lo - t0) * vy
+    dx, dy = bx - ax, by - ay
+    ux, uy = vx - wx, vy - wy
+    vv = ux * ux + uy * uy
+    s = 0.0
+    if vv > 0:
+        s = -(dx * ux + dy * uy) / vv
+        s = 0.0 if s < 0 else (hi - lo if s > hi - lo else s)
+    return math.hypot(dx + s * ux, dy + s * uy)
 
 
 def sipp(pb: SippProblem) -> SippResult | None:
@@ -135,35 +164,52 @@ def sipp(pb: SippProblem) -> SippResult | None:
             intervals[n] = got
         return got
 
+    reach_of: dict[int, list[int]] = {}
+
+    def candidates(u: int) -> list[int]:
+        """Moves that can come near any edge leaving node u."""
+        got = reach_of.get(u)
+        if got is None:
+            p = pb.xy[u]
+            lmax = max((w for _, w in pb.adj[u]), default=0.0)
+            got = local.get(int(pb.node_piece[u]), empty).near_index(p - r - lmax, p + r + lmax)
+            reach_of[u] = got
+        return got
+
     def earliest_departure(u: int, v: int, d: float, lo: float, hi: float) -> float | None:
-        p, q = pb.xy[u], pb.xy[v]
         if d <= 0:
             return lo
-        w = (q - p) / d
-        ms = local.get(int(pb.node_piece[u]), empty).near(np.minimum(p, q) - r, np.maximum(p, q) + r)
-        if not len(ms):
+        cand = candidates(u)
+        if not cand:
             return lo
-        need = r + ms.reach
+        rows = local[int(pb.node_piece[u])].rows
+        cand = [rows[i] for i in cand if rows[i][1] >= lo and rows[i][0] <= hi + d]
+        if not cand:
+            return lo
+        px, py = float(pb.xy[u, 0]), float(pb.xy[u, 1])
+        wx, wy = (float(pb.xy[v, 0]) - px) / d, (float(pb.xy[v, 1]) - py) / d
         tau = lo
         while tau <= hi:
-            dist = edge_min_distance(ms, p, w, tau, d)
-            bad = dist < need
-            if not bad.any():
+            bad = [row for row in cand if _approach(px, py, wx, wy, tau, d, row) < r + row[6]]
+            if not bad:
                 return tau
-            sub, sub_need = ms.subset(bad), need[bad]
-            # probe past each colliding window: after a finite move ends nothing overlaps; a move
-            # lasting for ever is a parked robot, static from its t0 on
-            far = np.where(np.isfinite(hi), hi, np.maximum(tau, sub.t0) + 1.0)
-            b = np.where(np.isfinite(sub.t1), sub.t1 + STEP_S, far)
-            if np.any(edge_min_distance_each(sub, p, w, b, d) < sub_need):
-                return None
-            a = np.full(len(sub), tau)
-            for _ in range(_BISECT):
-                mid = 0.5 * (a + b)
-                hit = edge_min_distance_each(sub, p, w, mid, d) < sub_need
-                a = np.where(hit, mid, a)
-                b = np.where(hit, b, mid)
-            tau = float(np.max(b)) + STEP_S
+            nxt = tau
+            for row in bad:
+                need = r + row[6]
+                # past a finite move nothing overlaps; a move lasting for ever is a parked robot,
+                # static from its t0 on
+                b = row[1] + STEP_S if math.isfinite(row[1]) else (hi if math.isfinite(hi) else max(tau, row[0]) + 1.0)
+                if _approach(px, py, wx, wy, b, d, row) < need:
+                    return None
+                a = tau
+                for _ in range(_BISECT):
+                    mid = 0.5 * (a + b)
+                    if _approach(px, py, wx, wy, mid, d, row) < need:
+                        a = mid
+                    else:
+                        b = mid
+                nxt = max(nxt, b)
+            tau = nxt + STEP_S
         return None
 
     start_iv = safe(pb.start)

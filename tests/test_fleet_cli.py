@@ -1,0 +1,95 @@
+"""`garnav fleet` on files, and the `wait` command in the command format."""
+
+from __future__ import annotations
+
+import json
+import math
+
+import pytest
+
+from garnav.cli import main
+from garnav.export.commands import CommandSyntaxError, Go, Wait, commands_to_json, format_commands, parse_commands
+from garnav.export.commands import CommandList, Start
+from garnav.export.replay import replay_commands
+from garnav.spec.writer import save_garment
+
+from garments import two_panels
+
+TASKS = """\
+format = "garnav-fleet-tasks"
+version = 1
+garment = "g.toml"
+gap_mm = 2.0
+
+[[task]]
+name = "a"
+start = "left:150,100"
+goal = "right:150,300"
+
+[[task]]
+name = "b"
+start = "left:150,300"
+goal = "right:150,100"
+start_s = 0.5
+"""
+
+
+def test_cli_writes_schedule_and_prints_the_check(tmp_path, capsys):
+    save_garment(two_panels(), tmp_path / "g.toml")
+    (tmp_path / "tasks.toml").write_text(TASKS)
+    out = tmp_path / "s.json"
+    rc = main(["fleet", str(tmp_path / "tasks.toml"), "--json", str(out), "--commands-dir", str(tmp_path / "cmd")])
+    text = capsys.readouterr().out
+    assert rc == 0
+    assert "check every 10 ms" in text and "smallest gap between robots" in text and "pass" in text
+    doc = json.loads(out.read_text())
+    assert doc["format"] == "garnav-fleet-schedule" and doc["check"]["pass"] is True
+    assert doc["check"]["min_gap_mm"] >= 2.0 - 0.05
+    assert [r["name"] for r in doc["robots"]] == ["a", "b"]
+    b = doc["robots"][1]
+    assert b["waypoints"][0]["t_s"] == 0.0
+    assert any(c["op"] == "wait" for c in b["commands"])  # it leaves at 0.5 s at the earliest
+    assert doc["makespan_s"] >= doc["lower_bound_s"] - 1e-6
+    assert (tmp_path / "cmd" / "a.cmd").read_text().startswith("garnav-commands 1")
+
+
+@pytest.mark.parametrize("body, message", [
+    ('format = "garnav-fleet-tasks"\nversion = 1\ngarment = "g.toml"\n[[task]]\nname = "a"\nstart = "nowhere"\ngoal = "right_centre"\n',
+     "task 'a': start: "),
+    ('format = "garnav-fleet-tasks"\nversion = 1\ngarment = "g.toml"\n[[task]]\nname = "a"\nstart = "left_centre"\n',
+     "task 'a': has no 'goal' and is in no meeting"),
+    ('format = "garnav-fleet-tasks"\nversion = 1\n[[task]]\nname = "a"\nstart = "left_centre"\ngoal = "right_centre"\n',
+     "no 'garment' path"),
+    ('format = "garnav-fleet-tasks"\nversion = [\n', "is not valid TOML"),
+])
+def test_cli_bad_tasks_one_message(tmp_path, capsys, body, message):
+    save_garment(two_panels(), tmp_path / "g.toml")
+    (tmp_path / "tasks.toml").write_text(body)
+    rc = main(["fleet", str(tmp_path / "tasks.toml")])
+    err = capsys.readouterr().err
+    assert rc == 2
+    assert message in err and "Traceback" not in err
+    assert str(tmp_path / "tasks.toml") in err
+
+
+def test_wait_round_trip_and_replay():
+    g = two_panels()
+    cl = CommandList((Wait(1.5), Go(50.0), Wait(0.25), Go(20.0)), start=Start("left", 100.0, 100.0, 0.0))
+    text = format_commands(cl)
+    assert "wait 1.5 s" in text and "wait 0.25 s" in text
+    back = parse_commands(text)
+    assert back == cl
+    rp = replay_commands(g, back)
+    assert rp.wait_s == 1.75
+    assert math.isclose(rp.end.x_mm, 170.0) and rp.distance_mm == 70.0
+    assert {"op": "wait", "time_s": 1.5} in commands_to_json(cl)
+
+
+@pytest.mark.parametrize("line, message", [
+    ("wait 2 mm", "expected unit 's'"),
+    ("wait -1 s", "time must be >= 0 s"),
+    ("wiat 2 s", "did you mean 'wait'"),
+])
+def test_bad_wait_lines(line, message):
+    with pytest.raises(CommandSyntaxError, match=message):
+        parse_commands(f"garnav-commands 1\n{line}\n", source="x.cmd")
