@@ -103,7 +103,7 @@ def check_schedule(garment: Garment, schedule: Schedule, step_s: float = DEFAULT
     times = np.arange(0.0, end + 0.5 * step_s, step_s)
     sampled = [sample_positions(p, times) for p in plans]
     sides = seam_sides(garment)
-    best = (math.inf, None, None)
+    best: tuple[float, tuple[str, str] | None, float | None] = (math.inf, None, None)
     for i in range(len(plans)):
         for j in range(i + 1, len(plans)):
             ri, rj = plans[i].robot.radius_mm, plans[j].robot.radius_mm
@@ -113,20 +113,20 @@ def check_schedule(garment: Garment, schedule: Schedule, step_s: float = DEFAULT
             k = int(np.argmin(gap))
             if gap[k] < best[0]:
                 best = (float(gap[k]), (plans[i].name, plans[j].name), float(times[k]))
-    ko = (math.inf, None, None)
+    ko: tuple[float, tuple[str, str] | None, float | None] = (math.inf, None, None)
     hard = [k for k in garment.keepouts if k.hard]
     for p, (pieces, xy) in zip(plans, sampled, strict=False):
         pts = shapely.points(xy)
         parr = np.array(pieces)
-        for k in hard:
-            sel = parr == k.piece
+        for ko_item in hard:
+            sel = parr == ko_item.piece
             if not sel.any():
                 continue
-            dist = shapely.distance(k.shape.exact_geometry(), pts[sel])
-            margin = dist - p.robot.radius_mm - k.clearance_mm
+            dist = shapely.distance(ko_item.shape.exact_geometry(), pts[sel])
+            margin = dist - p.robot.radius_mm - ko_item.clearance_mm
             m = int(np.argmin(margin))
             if margin[m] < ko[0]:
-                ko = (float(margin[m]), (p.name, k.name), float(times[sel][m]))
+                ko = (float(margin[m]), (p.name, ko_item.name), float(times[sel][m]))
     return CheckReport(step_s, len(times), best[0], best[1], best[2], ko[0], ko[1], ko[2], tol_mm)
 
 

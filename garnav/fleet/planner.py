@@ -41,7 +41,7 @@ from garnav.fleet.sipp import SearchTimeout, SippProblem, sipp
 from garnav.fleet.tasks import FleetTasks, Meeting, Task
 from garnav.fleet.unfold import carry_points, seam_sides, unfolded_distance
 from garnav.model import Garment, Robot
-from garnav.plan import PiecePoint, Planner, resolve_point
+from garnav.plan import PiecePoint, Planner, Route, resolve_point
 from garnav.plan.route import crossing_side
 
 __all__ = ["FleetPlanner", "plan_fleet"]
@@ -59,7 +59,7 @@ class _Agent:
     start: PiecePoint
     goal: PiecePoint
     heading_deg: float | None
-    route = None
+    route: Route | None = None
     lower_bound_s: float = 0.0
     start_node: int = -1
     goal_node: int = -1
@@ -199,7 +199,7 @@ class FleetPlanner:
 
     def _build_roadmap(self) -> None:
         seeds: list[tuple[str, np.ndarray]] = []
-        crossings = []
+        crossings: list[tuple] = []
         ends: list[tuple[int, int]] = []
         for a in self.agents:
             ends.append((len(seeds), len(seeds) + 1))

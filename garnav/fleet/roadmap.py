@@ -76,7 +76,7 @@ def _lattice(polygon: shapely.Geometry, h: float) -> np.ndarray:
 def seam_portals(garment: Garment, spacing_mm: float) -> list[tuple[str, float, np.ndarray, np.ndarray]]:
     """(seam, fraction, point on run a, point on run b) every ``spacing_mm`` along each crossable
     seam (ends excluded: they are piece corners)."""
-    out = []
+    out: list[tuple[str, float, np.ndarray, np.ndarray]] = []
     for s in garment.seams:
         if not s.crossable:
             continue
@@ -165,7 +165,7 @@ def build_roadmap(
     npc, xy = npc[keep], xy[keep]
     seed_ids = [remap[ids] for ids in seed_ids]
     chain_edges = [(int(remap[u]), int(remap[v])) for u, v in chain_edges]
-    cross_edges = [(int(remap[u]), int(remap[v]), *rest) for u, v, *rest in cross_edges]
+    cross_edges = [(int(remap[u]), int(remap[v]), sn, sd, fr) for u, v, sn, sd, fr in cross_edges]
     rm = Roadmap(pieces, npc, xy, seed_nodes=seed_ids)
 
     # portal nodes keep their seam's smallest crossing angle: (node → (tangent, min angle))

@@ -78,7 +78,7 @@ class RobotPlan:
     def waypoints(self) -> list[tuple[float, str, float, float]]:
         """(t s, piece, x mm, y mm) at every move boundary; a seam crossing gives two waypoints at
         the same time on the two pieces; the last is the arrival at the goal."""
-        out = []
+        out: list[tuple[float, str, float, float]] = []
         for m in self.moves:
             if not out or out[-1][1] != m.piece or out[-1][0] != m.t0 or (out[-1][2], out[-1][3]) != m.p0:
                 out.append((m.t0, m.piece, m.p0[0], m.p0[1]))

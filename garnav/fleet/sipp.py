@@ -183,14 +183,14 @@ def sipp(pb: SippProblem) -> SippResult | None:
         if not cand:
             return lo
         rows = local[int(pb.node_piece[u])].rows
-        cand = [rows[i] for i in cand if rows[i][1] >= lo and rows[i][0] <= hi + d]
-        if not cand:
+        near = [rows[i] for i in cand if rows[i][1] >= lo and rows[i][0] <= hi + d]
+        if not near:
             return lo
         px, py = float(pb.xy[u, 0]), float(pb.xy[u, 1])
         wx, wy = (float(pb.xy[v, 0]) - px) / d, (float(pb.xy[v, 1]) - py) / d
         tau = lo
         while tau <= hi:
-            bad = [row for row in cand if _approach(px, py, wx, wy, tau, d, row) < r + row[6]]
+            bad = [row for row in near if _approach(px, py, wx, wy, tau, d, row) < r + row[6]]
             if not bad:
                 return tau
             nxt = tau
