@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import json
 import math
+from pathlib import Path
 
 import pytest
 
@@ -93,3 +94,46 @@ def test_wait_round_trip_and_replay():
 def test_bad_wait_lines(line, message):
     with pytest.raises(CommandSyntaxError, match=message):
         parse_commands(f"garnav-commands 1\n{line}\n", source="x.cmd")
+
+
+@pytest.mark.slow
+def test_fleet_demo_example_writes_schedule_and_pictures(tmp_path, capsys):
+    import runpy
+    from pathlib import Path
+
+    main_ = runpy.run_path(str(Path(__file__).resolve().parents[1] / "examples" / "fleet_demo.py"),
+                           run_name="garnav_example")["main"]
+    result = main_([str(tmp_path), "--frames", "6"])
+    assert result["check"].ok
+    assert len(result["schedule"].plans) == 3
+    gif = (tmp_path / "fleet_sheet.gif").read_bytes()
+    assert gif[:6] in (b"GIF89a", b"GIF87a")  # GIF signature (GIF89a specification, 1990)
+    assert (tmp_path / "fleet_chart.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    doc = json.loads((tmp_path / "fleet_schedule.json").read_text())
+    left, right = doc["robots"][0], doc["robots"][1]
+    # the meeting: side by side at 46 mm, both facing 90 degrees
+    a, b = left["waypoints"][-1], right["waypoints"][-1]
+    assert abs(math.hypot(a["x_mm"] - b["x_mm"], a["y_mm"] - b["y_mm"]) - 46.0) < 1.0
+    assert left["final_heading_deg"] == right["final_heading_deg"] == 90.0
+    assert "check every 10 ms" in capsys.readouterr().out
+
+
+@pytest.mark.slow
+def test_drape_animation_frames(tmp_path):
+    from garnav.drape.drape import load_drape
+    from garnav.fleet import pictures
+    from garnav.fleet.scenario import demo_fleet_tasks
+    from garnav.fleet import plan_fleet
+    from garnav.preview.scene import off_screen_environment
+    from garnav.spec import load_garment
+
+    off_screen_environment()
+    meshes = Path(__file__).resolve().parents[1] / "meshes"
+    g = load_garment(meshes / "sensing_top.toml")
+    s = plan_fleet(g, demo_fleet_tasks(g))
+    drape = load_drape(g, folder=str(meshes))
+    out = pictures.write_drape_gif(tmp_path / "d.gif", g, drape, s, max_frames=3, size=(200, 160))
+    from PIL import Image
+
+    im = Image.open(out)
+    assert im.n_frames == 3 and im.size == (200, 160)
