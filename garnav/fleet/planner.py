@@ -231,8 +231,10 @@ class FleetPlanner:
             if not np.isfinite(dist[a.start_node]):
                 raise self._fail(f"task '{a.task.name}'", "the fleet roadmap does not join its start to its goal "
                                  f"(try a smaller spacing_mm than {self.spacing:g})")
-            if not self.seed_routes:
-                a.lower_bound_s = a.task.start_s + dist[a.start_node] / a.task.robot.speed_mm_s
+            # the roadmap ignores seam crossing costs, so its shortest path can beat the route's
+            own = dist[a.start_node] / a.task.robot.speed_mm_s
+            a.lower_bound_s = a.task.start_s + (own if not self.seed_routes else
+                                                min(own, a.lower_bound_s - a.task.start_s))
 
     def _dist(self, cls: str, goal: int) -> np.ndarray:
         key = (cls, goal)

@@ -41,7 +41,9 @@ class RobotPlan:
     final_heading_deg : float
         Heading at the goal, piece frame of the goal (a meeting's common heading, when in one).
     lower_bound_s : float
-        Driving time of the robot's own shortest route (single-robot lower bound), s.
+        Single-robot lower bound, s: earliest start plus the driving time of the shorter of the
+        robot's own route (:meth:`garnav.plan.Planner.route`) and its shortest roadmap path
+        (which ignores seam crossing costs, so it can be a little shorter).
     """
 
     name: str
