@@ -397,3 +397,25 @@ def test_task_file_problems_are_collected():
     assert "unknown key 'colour'" in text
     assert "name is used by an earlier task" in text
     assert "task 'c': has no 'goal' and is in no meeting" in text
+
+
+def test_head_on_over_a_seam_that_closes_a_tube():
+    """A seam joining a piece to itself (a sleeve's underarm): robots on opposite edges of the
+    flat piece are neighbours on the fabric; the planner and the checker both see it."""
+    from garments import tube
+
+    g = tube()
+    c = g.piece("tube").polygon.bounds[2]
+    t = tasks({"gap_mm": 2.0, "task": [
+        {"name": "a", "start": f"tube:{c - 40},200", "goal": "tube:40,200"},
+        {"name": "b", "start": "tube:40,200.5", "goal": f"tube:{c - 40},200.5"},
+    ]}, g)
+    with pytest.raises(FleetError):  # not yet: the two starts are 80 mm apart on the fabric...
+        FleetPlanner(g, tasks({"task": [{"name": "a", "start": f"tube:{c - 5},200", "goal": "tube:100,100"},
+                                        {"name": "b", "start": "tube:5,200", "goal": "tube:100,300"}]}, g))
+    s = plan_fleet(g, t)
+    rep = assert_checked(g, s, 2.0)
+    assert rep.min_gap_mm < 40.0  # they did pass close by each other, across the closing seam
+    for p in s.plans:
+        assert p.length_mm < 150.0  # both went the short way, over the seam
+    assert_commands_reach_goals(g, s)

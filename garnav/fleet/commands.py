@@ -57,7 +57,8 @@ def _path(garment: Garment, plan: RobotPlan) -> tuple[_Path, list[tuple[float, f
         p0, p1 = np.asarray(m.p0, float), np.asarray(m.p1, float)
         if not legs:
             legs.append((m.piece, [p0]))
-        elif legs[-1][0] != m.piece:
+        elif legs[-1][0] != m.piece or float(np.hypot(*(legs[-1][1][-1] - p0))) > _TOL_MM:
+            # a seam crossing (on a seam joining a piece to itself only the position jumps)
             prev = legs[-1][1][-1]
             seam, frac = _seam_between(garment, legs[-1][0], prev, m.piece, p0)
             crossings.append(Crossing(seam, legs[-1][0], m.piece, prev.copy(), p0.copy(), frac, 0.0))

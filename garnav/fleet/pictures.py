@@ -125,7 +125,9 @@ def write_space_time_chart(path, garment: Garment, schedule: Schedule, step_s: f
         pieces, xy = sample_positions(p, times)
         sampled.append((pieces, xy))
         step = np.hypot(*np.diff(xy, axis=0).T)
-        step[[pieces[k] != pieces[k + 1] for k in range(len(step))]] = 0.0  # a crossing is no driving
+        # a crossing is no driving (on a seam joining a piece to itself only the position jumps)
+        step[[pieces[k] != pieces[k + 1] for k in range(len(step))]] = 0.0
+        step[step > p.robot.speed_mm_s * step_s * 1.01 + 1e-6] = 0.0
         top.plot(times, np.concatenate([[0.0], np.cumsum(step)]), color=_COLOURS[i % len(_COLOURS)], label=p.name)
     top.set_ylabel("distance driven (mm)")
     top.legend(fontsize=7, loc="upper left")

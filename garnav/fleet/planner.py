@@ -377,7 +377,7 @@ class FleetPlanner:
                 moves.append(Move(piece, arrive, depart, pt(n), pt(n)))
             if i + 1 < len(res.nodes):
                 m = res.nodes[i + 1]
-                if rm.piece_of(m) == piece and (rm.xy[m] != rm.xy[n]).any():
+                if (n, m) not in rm.crossing and (rm.xy[m] != rm.xy[n]).any():
                     moves.append(Move(piece, depart, res.arrive[i + 1], pt(n), pt(m)))
         heading = a.heading_deg
         if heading is None:
@@ -425,7 +425,7 @@ class FleetPlanner:
             guard += 1
             v, w = min(adj[n], key=lambda e: e[1] + dist[e[0]])
             d = w / a.task.robot.speed_mm_s
-            if rm.piece_of(v) == rm.piece_of(n):
+            if (n, v) not in rm.crossing:
                 moves.append(Move(rm.piece_of(n), t, t + d, tuple(rm.xy[n]), tuple(rm.xy[v])))
             n, t = v, t + d
         moves.append(Move(rm.piece_of(n), t, math.inf, tuple(rm.xy[n]), tuple(rm.xy[n])))

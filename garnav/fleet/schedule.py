@@ -144,7 +144,7 @@ class Schedule:
         out = []
         last = plan.final_heading_deg
         for i in range(len(wps) - 1, -1, -1):
-            if i + 1 < len(wps) and wps[i + 1][1] == wps[i][1]:
+            if i + 1 < len(wps) and wps[i + 1][1] == wps[i][1] and wps[i + 1][0] > wps[i][0]:
                 dx, dy = wps[i + 1][2] - wps[i][2], wps[i + 1][3] - wps[i][3]
                 if math.hypot(dx, dy) > 1e-9:
                     last = math.degrees(math.atan2(dy, dx)) % 360.0
