@@ -419,3 +419,25 @@ def test_head_on_over_a_seam_that_closes_a_tube():
     for p in s.plans:
         assert p.length_mm < 150.0  # both went the short way, over the seam
     assert_commands_reach_goals(g, s)
+
+
+def test_vectorised_seam_carry_matches_seam_transform():
+    """carry_points (all points at once) against garnav.plan.freespace.seam_transform (one point
+    at a time) on every seam side of the demo garment (identity of two computations; observed
+    2e-13 mm)."""
+    from pathlib import Path
+
+    from garnav.fleet.unfold import carry_matrix, carry_points, seam_sides
+    from garnav.spec import load_garment
+
+    g = load_garment(Path(__file__).resolve().parents[1] / "meshes" / "sensing_top.toml")
+    rng = np.random.default_rng(3)
+    worst = 0.0
+    for sides in seam_sides(g).values():
+        for sd in sides:
+            pts = sd.polyline[rng.integers(0, len(sd.polyline), 12)] + rng.normal(0, 10, (12, 2))
+            q, _, dist = carry_points(sd, pts)
+            for i, p in enumerate(pts):
+                m, d = carry_matrix(g, sd, p)
+                worst = max(worst, float(np.abs(m[:2, :2] @ p + m[:2, 2] - q[i]).max()), abs(d - dist[i]))
+    assert worst < 1e-9
