@@ -137,3 +137,28 @@ def test_drape_animation_frames(tmp_path):
 
     im = Image.open(out)
     assert im.n_frames == 3 and im.size == (200, 160)
+
+
+def test_cli_pictures_and_robot_files(tmp_path, capsys):
+    save_garment(two_panels(), tmp_path / "g.toml")
+    (tmp_path / "mini.toml").write_text('[robot]\nname = "mini"\nradius_mm = 8.0\nspeed_mm_s = 30.0\n')
+    (tmp_path / "tasks.toml").write_text(TASKS.replace('gap_mm = 2.0\n', 'gap_mm = 2.0\nrobot_files = ["mini.toml"]\n')
+                                         .replace('name = "b"\n', 'name = "b"\nrobot = "mini"\n'))
+    rc = main(["fleet", str(tmp_path / "tasks.toml"), "--gif", str(tmp_path / "f.gif"), "--frames", "3",
+               "--chart", str(tmp_path / "c.svg"), "--json", str(tmp_path / "s.json")])
+    assert rc == 0, capsys.readouterr().err
+    from PIL import Image
+
+    assert Image.open(tmp_path / "f.gif").n_frames == 3
+    assert (tmp_path / "c.svg").read_text().lstrip().startswith("<?xml")
+    doc = json.loads((tmp_path / "s.json").read_text())
+    assert doc["robots"][1]["profile"]["radius_mm"] == 8.0
+
+
+def test_robot_file_problems_name_the_file(tmp_path, capsys):
+    save_garment(two_panels(), tmp_path / "g.toml")
+    (tmp_path / "bad.toml").write_text('[robot]\nname = "bad"\nradius_mm = -1.0\n')
+    (tmp_path / "tasks.toml").write_text(TASKS.replace('gap_mm = 2.0\n', 'gap_mm = 2.0\nrobot_files = ["bad.toml"]\n'))
+    assert main(["fleet", str(tmp_path / "tasks.toml")]) == 2
+    err = capsys.readouterr().err
+    assert "bad.toml: robot 'bad': 'radius_mm' must be > 0" in err

@@ -37,6 +37,7 @@ def register(subparsers: argparse._SubParsersAction) -> None:
     parser.add_argument("--gif", metavar="OUT", help="write an animation of the robots on the pattern sheet (GIF)")
     parser.add_argument("--drape-gif", metavar="OUT", help="write an animation of the robots on the 3D drape (GIF)")
     parser.add_argument("--chart", metavar="OUT", help="write the space-time chart (PNG or SVG)")
+    parser.add_argument("--frames", type=int, default=120, metavar="N", help="most frames per animation (default 120)")
     parser.add_argument("--time-limit", type=float, metavar="S", help="give up after S seconds of planning")
     parser.add_argument("--spacing", type=float, metavar="MM", help="roadmap lattice spacing, mm")
     parser.set_defaults(func=run)
@@ -85,13 +86,13 @@ def run(args: argparse.Namespace) -> int:
         from garnav.fleet import pictures
 
         if args.gif:
-            print(f"wrote {pictures.write_sheet_gif(args.gif, garment, schedule)}")
+            print(f"wrote {pictures.write_sheet_gif(args.gif, garment, schedule, max_frames=args.frames)}")
         if args.chart:
             print(f"wrote {pictures.write_space_time_chart(args.chart, garment, schedule)}")
         if args.drape_gif:
             from garnav.drape.drape import load_drape
 
             drape = load_drape(garment, folder=str(Path(spec).parent))
-            print(f"wrote {pictures.write_drape_gif(args.drape_gif, garment, drape, schedule)}")
+            print(f"wrote {pictures.write_drape_gif(args.drape_gif, garment, drape, schedule, max_frames=args.frames)}")
     print(CAUTION)
     return 0 if report.ok else 1

@@ -7,6 +7,8 @@ Format (docs/fleet.md)::
     garment = "../meshes/sensing_top.toml"   # relative to this file
     gap_mm = 2.0                             # kept between any two robots beyond their radii
 
+    robot_files = ["mini.toml"]              # robot files: a [robot] table each (relative paths)
+
     [[robot]]                                # extra profiles: the keys of the spec's [robot]
     name = "mini"
     radius_mm = 14.0
@@ -102,7 +104,8 @@ class FleetTasks:
         raise KeyError(name)
 
 
-_TOP = {"format", "version", "garment", "gap_mm", "spacing_mm", "time_limit_s", "robot", "task", "meeting"}
+_TOP = {"format", "version", "garment", "gap_mm", "spacing_mm", "time_limit_s", "robot", "robot_files", "task",
+        "meeting"}
 _TASK = {"name": "str", "robot": "str", "start": "str", "goal": "str", "start_s": "float",
          "priority": "int", "arrive_by_s": "float", "heading_deg": "float"}
 _MEETING = {"name": "str", "kind": "str", "at": "str", "robots": "strs", "spacing_mm": "float",
@@ -198,8 +201,27 @@ def tasks_from_dict(data: dict, source: str = "<memory>", spec_robot: Robot | No
     robots: dict[str, Robot] = {}
     if spec_robot is not None:
         robots[spec_robot.name] = spec_robot
-    for i, t in enumerate(_list(c, data, "robot")):
-        r = _robot(c, t, i)
+    tables = [(c, t) for t in _list(c, data, "robot")]
+    files = data.get("robot_files", [])
+    if not isinstance(files, list) or not all(isinstance(f, str) for f in files):
+        c.add("top level", f"'robot_files' must be an array of paths, found {files!r}")
+        files = []
+    for f in files:
+        path = Path(source).parent / f if source != "<memory>" else Path(f)
+        fc = _Collect(str(path))
+        try:
+            table = tomllib.loads(path.read_text(encoding="utf-8")).get("robot")
+        except (OSError, UnicodeDecodeError, tomllib.TOMLDecodeError) as exc:
+            c.add(f"robot file '{f}'", f"cannot be read: {exc}")
+            continue
+        if not isinstance(table, dict):
+            c.add(f"robot file '{f}'", "has no [robot] table")
+            continue
+        tables.append((fc, table))
+    for i, (cc, t) in enumerate(tables):
+        r = _robot(cc, t, i)
+        if cc is not c:
+            c.problems.extend(cc.problems)
         if r is None:
             continue
         if r.name in robots:
