@@ -441,3 +441,16 @@ def test_vectorised_seam_carry_matches_seam_transform():
                 m, d = carry_matrix(g, sd, p)
                 worst = max(worst, float(np.abs(m[:2, :2] @ p + m[:2, 2] - q[i]).max()), abs(d - dist[i]))
     assert worst < 1e-9
+
+
+def test_meeting_slot_out_of_reach():
+    """A meeting on a piece the robot cannot get to (no crossable seam): one message naming it."""
+    import dataclasses
+
+    g = two_panels()
+    g = dataclasses.replace(g, seams=tuple(dataclasses.replace(s, crossable=False) for s in g.seams))
+    t = tasks({"task": [{"name": "a", "start": "left:60,60"}, {"name": "b", "start": "right:240,60"}],
+               "meeting": [{"name": "m", "kind": "side_by_side", "at": "right_centre", "robots": ["a", "b"],
+                            "spacing_mm": 30.0, "heading_deg": 90.0}]}, g)
+    with pytest.raises(FleetError, match=r"meeting 'm': robot 'a' cannot reach its slot even alone"):
+        FleetPlanner(g, t)

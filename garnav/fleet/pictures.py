@@ -105,7 +105,7 @@ def write_sheet_gif(path, garment: Garment, schedule: Schedule, max_frames: int 
             label.set_position(tuple(pos[i, k]))
         title.set_text(f"{garment.name}: t = {t:5.1f} s  (pattern sheet; robots drawn to scale)")
         fig.canvas.draw()
-        frames.append(np.asarray(fig.canvas.buffer_rgba()).copy())
+        frames.append(np.asarray(fig.canvas.buffer_rgba()).copy())  # type: ignore[attr-defined]
     plt.close(fig)
     return write_bytes_atomic(path, _gif(frames, fps))
 

@@ -73,6 +73,7 @@ class _Agent:
     start_node: int = -1
     goal_node: int = -1
     not_before_of: str | None = None  # dock: arrives after this robot
+    meeting: str | None = None
 
 
 class FleetPlanner:
@@ -132,15 +133,18 @@ class FleetPlanner:
     def _resolve(self) -> list[_Agent]:
         agents = []
         slots: dict[str, tuple[PiecePoint, float, str | None]] = {}
+        meeting_of: dict[str, str] = {}
         for m in self.tasks.meetings:
             slots.update(self._meeting_slots(m))
+            meeting_of.update({n: m.name for n in m.robots})
         for i, t in enumerate(self.tasks.tasks):
             start = self._point(t, t.start, "start")
             if t.goal is not None:
                 goal, heading, after = self._point(t, t.goal, "goal"), t.heading_deg, None
             else:
                 goal, heading, after = slots[t.name]
-            agents.append(_Agent(i, t, self._cls_of[_class_key(t.robot)], start, goal, heading, not_before_of=after))
+            agents.append(_Agent(i, t, self._cls_of[_class_key(t.robot)], start, goal, heading, not_before_of=after,
+                                 meeting=meeting_of.get(t.name)))
         return agents
 
     def _meeting_slots(self, m: Meeting) -> dict[str, tuple[PiecePoint, float, str | None]]:
@@ -202,6 +206,9 @@ class FleetPlanner:
             try:
                 route = pl.route(a.start, a.goal)
             except NoRouteError as exc:
+                if a.meeting is not None:
+                    raise self._fail(f"meeting '{a.meeting}'", f"robot '{a.task.name}' cannot reach its slot even "
+                                     f"alone: {exc}") from None
                 raise self._fail(f"task '{a.task.name}'", f"no route from start to goal even alone: {exc}") from None
             a.route = route
             a.lower_bound_s = a.task.start_s + route.length_mm / a.task.robot.speed_mm_s
