@@ -22,12 +22,15 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 from functools import cached_property
-from typing import Literal
+from typing import TYPE_CHECKING, Literal
 
 import numpy as np
 import shapely
 
 from garnav.polyline import cumulative_length, point_at_length, rotation_matrix, sub_polyline
+
+if TYPE_CHECKING:
+    from garnav.uncertainty.model import OdometryModel
 
 __all__ = [
     "Point2",
@@ -355,6 +358,8 @@ class Robot:
         Which face of the garment it drives on. Inside, every piece is seen mirrored.
     edge_margin_mm : float
         Extra distance kept from open edges (hems, cuffs, necklines) beyond the radius.
+    odometry : garnav.uncertainty.OdometryModel, optional
+        Dead-reckoning error model (``[robot.odometry]``; docs/uncertainty.md).
     """
 
     name: str = "robot"
@@ -363,6 +368,7 @@ class Robot:
     speed_mm_s: float = 20.0
     side: Literal["outside", "inside"] = "outside"
     edge_margin_mm: float = 5.0
+    odometry: OdometryModel | None = None
 
 
 @dataclass(frozen=True)
