@@ -17,6 +17,10 @@ TARGETS = (
     ("locate_vs_find_simplex", "point location at least 5x faster than random-order find_simplex"),
     ("lift_time", "lift of ~5,000 points on ~100k triangles under 15 ms (median)"),
     ("demo_end_to_end", "`garnav demo` end to end under 20 s"),
+    # dead reckoning (benchmarks/drift.py)
+    ("drift_covariance_50", "covariance of a 50-command route under 5 ms"),
+    ("drift_monte_carlo_10k", "Monte Carlo 10,000 runs of a demo route under 2 s"),
+    ("drift_replay_36000", "replay of 36,000 samples (reading the CSV included) under 1 s"),
 )
 
 
@@ -127,6 +131,14 @@ def evaluate_targets(res: dict[str, Any]) -> list[dict[str, Any]]:
         out.append(_t("demo_end_to_end", "MISS", None, f"`{cli['command']}` failed (exit {cli['returncode']})"))
     else:
         out.append(_t("demo_end_to_end", "N/A", None, cli.get("error", "not run")))
+
+    drift = {t["key"]: t for t in cases.get("drift", {}).get("targets", [])}
+    for key in ("drift_covariance_50", "drift_monte_carlo_10k", "drift_replay_36000"):
+        t = drift.get(key)
+        if t is None:
+            out.append(_t(key, "N/A", None, cases.get("drift", {}).get("error", "not run")))
+        else:
+            out.append(_t(key, t["status"], t["value"], f"{t['value']:.4g} (benchmarks/drift.py; ratios in the case)"))
     return out
 
 

@@ -37,7 +37,7 @@ from benchmarks import refs as R
 from benchmarks.measure import growth_exponent, machine_info, peak_memory, summary, timed
 from benchmarks.report import evaluate_targets, format_report, markdown_report
 
-ALL_CASES = ("single", "demo", "lift", "cli")
+ALL_CASES = ("single", "demo", "lift", "cli", "drift")
 FULL_N = (10, 50, 200, 500)
 QUICK_N = (2, 4)
 
@@ -530,6 +530,14 @@ def run(opts: Options, which: tuple[str, ...], log=print, checkpoint=None) -> di
             results["cases"]["demo_cli"] = run_cli(opts, log)
         except Exception as exc:
             results["cases"]["demo_cli"] = {"kind": "cli", "available": False, "error": _err(exc)}
+    if "drift" in which:  # dead reckoning: benchmarks/drift.py
+        log("case drift ...")
+        try:
+            from benchmarks.drift import run_drift
+
+            results["cases"]["drift"] = run_drift(opts.quick, opts.seed, log)
+        except Exception as exc:
+            results["cases"]["drift"] = {"kind": "drift", "error": _err(exc)}
     results["targets"] = evaluate_targets(results)
     results["total_s"] = time.perf_counter() - t_all
     try:

@@ -123,7 +123,7 @@ def _draw(args, garment, drape, track, plan_doc) -> None:
 
         off_screen_environment()
         routes = []
-        for name, shape in zip(names, shapes):
+        for name, shape in zip(names, shapes, strict=True):
             lifted = lift_route(drape, garment, shape)
             routes.append(SceneRoute(name, lifted.points, lifted.normals))
         plotter = build_plotter(garment, drape, None, routes, off_screen=True, size=(900, 900))

@@ -86,7 +86,7 @@ def log_text(log: TelemetryLog) -> str:
     """The log as CSV text."""
     out = io.StringIO()
     out.write(",".join(COLUMNS) + "\n")
-    for t, a, b, g, s in zip(log.time_s, log.left_ticks, log.right_ticks, log.gyro_z_deg_s, log.seam_bump):
+    for t, a, b, g, s in zip(log.time_s, log.left_ticks, log.right_ticks, log.gyro_z_deg_s, log.seam_bump, strict=True):
         out.write(f"{t:.4f},{int(a)},{int(b)},{g:.9g},{int(bool(s))}\n")
     return out.getvalue()
 
@@ -100,7 +100,7 @@ def write_truth(path, truth: Truth):
     """Write the ground-truth CSV atomically. Returns the path."""
     out = io.StringIO()
     out.write(",".join(TRUTH_COLUMNS) + "\n")
-    for t, p, x, y, h in zip(truth.time_s, truth.piece, truth.x_mm, truth.y_mm, truth.heading_deg):
+    for t, p, x, y, h in zip(truth.time_s, truth.piece, truth.x_mm, truth.y_mm, truth.heading_deg, strict=True):
         out.write(f"{t:.4f},{p},{x:.6f},{y:.6f},{h:.6f}\n")
     return write_text_atomic(path, out.getvalue())
 
@@ -159,25 +159,34 @@ def read_log(path, encoder_bits: int = 16) -> TelemetryLog:
     """
     p, rows = _rows(path, COLUMNS)
     full = 1 << int(encoder_bits)
-    t = np.empty(len(rows))
-    ticks = np.empty((len(rows), 2), dtype=np.int64)
-    gyro = np.empty(len(rows))
-    bump = np.empty(len(rows), dtype=bool)
-    line_of = np.empty(len(rows), dtype=int)
-    for i, (n, vals) in enumerate(rows):
-        line_of[i] = n
-        t[i] = _num(p, n, "time_s", vals[0])
-        for j, col in ((0, "left_ticks"), (1, "right_ticks")):
-            v = _num(p, n, col, vals[1 + j])
-            if v != int(v) or not 0 <= v < full:
-                raise TelemetryError(f"{p}: row {n} (line {n + 1}): '{col}' = {vals[1 + j]} is not a counter value "
-                                     f"0..{full - 1} of a {encoder_bits}-bit encoder")
-            ticks[i, j] = int(v)
-        gyro[i] = _num(p, n, "gyro_z_deg_s", vals[3])
-        b = _num(p, n, "seam_bump", vals[4])
-        if b not in (0.0, 1.0):
-            raise TelemetryError(f"{p}: row {n} (line {n + 1}): 'seam_bump' must be 0 or 1, found {vals[4]}")
-        bump[i] = b == 1.0
+    line_of = np.array([n for n, _ in rows], dtype=int)
+    cols = []
+    for j, col in enumerate(COLUMNS):
+        texts = [v[j] for _, v in rows]
+        try:
+            arr = np.array(texts, dtype=float)  # fast path; the loop below finds the bad row
+        except ValueError:
+            arr = np.array([_num(p, n, col, v[j]) for n, v in rows])
+        bad = np.flatnonzero(~np.isfinite(arr))
+        if len(bad):
+            n = int(line_of[bad[0]])
+            raise TelemetryError(f"{p}: row {n} (line {n + 1}): '{col}' is {texts[bad[0]]} (not a finite number)")
+        cols.append(arr)
+    t, gyro, bump_v = cols[0], cols[3], cols[4]
+    ticks = np.zeros((len(rows), 2), dtype=np.int64)
+    for j, col in ((0, "left_ticks"), (1, "right_ticks")):
+        arr = cols[1 + j]
+        bad = np.flatnonzero((arr != np.floor(arr)) | (arr < 0) | (arr >= full))
+        if len(bad):
+            n = int(line_of[bad[0]])
+            raise TelemetryError(f"{p}: row {n} (line {n + 1}): '{col}' = {rows[bad[0]][1][1 + j]} is not a counter "
+                                 f"value 0..{full - 1} of a {encoder_bits}-bit encoder")
+        ticks[:, j] = arr.astype(np.int64)
+    bad = np.flatnonzero((bump_v != 0.0) & (bump_v != 1.0))
+    if len(bad):
+        n = int(line_of[bad[0]])
+        raise TelemetryError(f"{p}: row {n} (line {n + 1}): 'seam_bump' must be 0 or 1, found {rows[bad[0]][1][4]}")
+    bump = bump_v == 1.0
     dt = np.diff(t)
     bad = np.flatnonzero(dt <= 0)
     if len(bad):
@@ -208,7 +217,7 @@ def unwrap_ticks(raw: np.ndarray, bits: int, source: str, column: str, max_step:
     """
     full = 1 << int(bits)
     half = full >> 1
-    d = (np.diff(np.asarray(raw, dtype=np.int64)) + half) % full - half
+    d = np.mod(np.diff(np.asarray(raw, dtype=np.int64)) + half, full) - half
     bad = np.flatnonzero(np.abs(d) > max_step)
     if len(bad):
         n = int(bad[0]) + 2

@@ -139,6 +139,6 @@ def simulate_run(garment: Garment, robot: Robot, commands: CommandList, model: O
         if r < keep_rows:
             bump[r] = True
     log = TelemetryLog(t_log[:keep_rows], left % full, right % full, gyro, bump, "<simulated>")
-    truth = Truth(t_log[:keep_rows], tuple(path.piece_of(i) for i in idx), path.xy[idx, 0], path.xy[idx, 1],
+    truth = Truth(t_log[:keep_rows], tuple(path.piece_of(int(i)) for i in idx), path.xy[idx, 0], path.xy[idx, 1],
                   np.degrees(np.remainder(path.heading[idx] + math.pi, 2 * math.pi) - math.pi))
     return Simulation(log, truth, plan, fell)

@@ -148,7 +148,7 @@ def confident_route(
     planner, route = first if first is not None else (None, None)
     if planner is None:
         planner = Planner(garment, robot, extra_clearance_mm=base_clearance_mm, locate_3d=locate_3d)
-    points = [planner.point(p, role=r) for p, r in zip(stops, ["start"] + ["via point"] * (len(stops) - 2) + ["goal"])]
+    points = [planner.point(p, role=r) for p, r in zip(stops, ["start"] + ["via point"] * (len(stops) - 2) + ["goal"], strict=True)]
     prev_grow: dict[str, float] = {}
     prev_edge = 0.0
     backoffs = 0
