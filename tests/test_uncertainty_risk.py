@@ -69,3 +69,16 @@ def test_contacts_are_per_run_booleans():
     hit = mc.contact["wall"]
     assert hit.dtype == bool and hit.shape == (2000,)
     assert np.count_nonzero(hit) / 2000 == mc.probability("wall")
+
+
+def test_keep_outs_just_across_a_seam_count():
+    # two_panels: left.right (x = 300) is sewn to right.left (x = 0). A run on 'left' 5 mm from the
+    # seam and a wall on 'right' 8 mm beyond it: the disc (r = 10) has a 3 mm gap across the seam,
+    # so with a lateral σ of 2 mm, P = 1 − Φ(1.5) — as for a wall on the same piece.
+    g = garments.two_panels()
+    wall = KeepOut("wall", "right", "custom", Rectangle(13.0, 200.0, 10.0, 350.0))
+    g = dataclasses.replace(g, keepouts=(wall,))
+    plan = compile_commands(g, CommandList((Go(250.0),), "outside", Start("left", 295.0, 75.0, 90.0)), g.robot)
+    m = dataclasses.replace(NOISE_FREE, start_position_mm=2.0)
+    mc = monte_carlo(plan, m, RiskMap(g, g.robot, quad_segs=64), runs=20000, seed=8)
+    assert mc.probability("wall") == pytest.approx(stats.norm.sf(1.5), abs=0.008)  # observed Δ −0.0010

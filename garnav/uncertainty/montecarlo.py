@@ -10,7 +10,8 @@ fig. 5.3).
 
 Contact: after every sub-step each run's disc (radius ``robot.radius_mm``) is tested against each
 keep-out of the piece it is on (the zone itself, not its planning clearance: the disc touches it when
-its centre is within the radius) and against the piece's open edges (hems, cuffs, necklines,
+its centre is within the radius), against keep-outs just across a seam (mapped over by the seam's
+linearised mapping, :meth:`RiskMap._across_seams`) and against the piece's open edges (hems, cuffs, necklines,
 openings: the disc reaches the edge when its centre is within the radius of it). A run counts as
 touching once. Sub-steps of 5 mm against a 20 mm disc miss only grazes shallower than about
 0.2 mm (the sagitta of a 5 mm chord of a 20 mm circle, 5²/(8·20) mm).
@@ -26,8 +27,10 @@ from dataclasses import dataclass
 
 import numpy as np
 import shapely
+import shapely.affinity
 
 from garnav.model import Garment, Robot
+from garnav.export.seams import seam_transfer
 from garnav.polyline import sub_polyline
 from garnav.uncertainty.model import OdometryModel
 from garnav.uncertainty.plan_ops import MotionPlan, rigid_map
@@ -59,6 +62,7 @@ class RiskMap:
             g = k.shape.exact_geometry().buffer(grow, quad_segs=quad_segs)
             shapely.prepare(g)
             self.regions[k.piece].append(_Region(k.name, k.hard, g, tuple(g.bounds)))
+        self._across_seams(garment, grow, quad_segs)
         lines: dict[str, list] = {p.name: [] for p in garment.pieces}
         for run in garment.open_runs():
             pts = sub_polyline(garment.piece(run.piece).edge(run.edge).array, run.from_mm, run.to_mm)
@@ -71,6 +75,35 @@ class RiskMap:
                 shapely.prepare(g)
                 self.regions[p.name].append(_Region(OPEN_EDGE, True, g, tuple(g.bounds)))
         self.names = tuple(sorted({reg.name for regs in self.regions.values() for reg in regs}))
+
+    def _across_seams(self, garment: Garment, grow: float, quad_segs: int) -> None:
+        """Keep-outs within reach of a seam, mapped into the piece on its other side.
+
+        A disc near a seam can touch a zone just across it. The zone (grown by the radius) is carried
+        over by the seam's mapping linearised at the run point nearest to it (the rigid motion of
+        :func:`garnav.export.seams.seam_transfer`), and added to the other piece's regions under its
+        own name.
+        """
+        for seam in garment.seams:
+            for side, run in (("a", seam.a), ("b", seam.b)):
+                other = seam.b if side == "a" else seam.a
+                if other.piece == run.piece:
+                    continue
+                line = shapely.LineString(garment.run_polyline(run))
+                for k in garment.keepouts_on(run.piece):
+                    zone = k.shape.exact_geometry()
+                    if shapely.distance(zone, line) >= grow:
+                        continue
+                    q = shapely.get_coordinates(shapely.shortest_line(line, zone))[0]
+                    tr = seam_transfer(garment, seam, side, q)  # type: ignore[arg-type]
+                    c, s_ = math.cos(tr.rotation_rad), math.sin(tr.rotation_rad)
+                    px, py = float(tr.point_from[0]), float(tr.point_from[1])
+                    tx, ty = float(tr.point_to[0]), float(tr.point_to[1])
+                    # p ↦ R(p − from) + to, as shapely's [a, b, d, e, xoff, yoff]
+                    mat = [c, -s_, s_, c, tx - (c * px - s_ * py), ty - (s_ * px + c * py)]
+                    g = shapely.affinity.affine_transform(zone.buffer(grow, quad_segs=quad_segs), mat)
+                    shapely.prepare(g)
+                    self.regions[tr.to_piece].append(_Region(k.name, k.hard, g, tuple(g.bounds)))
 
     def touch(self, piece: str, x: np.ndarray, y: np.ndarray, hits: dict[str, np.ndarray]) -> None:
         """OR into ``hits[name]`` (N,) bool whether each centre (x, y) (N,) mm is in contact."""
