@@ -15,9 +15,10 @@ adhesion wall-climbing robot*; the friction-circle/hold conditions are the same 
 * drive                |T| ≤ F_drive                     (the drive also brakes downhill)
 
 At rest (the robot stops and turns in place at every waypoint, so it may face any heading) the
-tyres must resist W sin θ (no slip while W sin θ ≤ μ N) and the drive must hold it. Margins are
-available over needed force: grip = min(μN/√(T²+S²), μN/(W sin θ)), hold = F / (W max(−cos θ, 0))
-(only on an overhang), drive = min(F_drive/|T|, F_drive/(W sin θ)); ``inf`` when nothing is needed.
+tyres must resist W sin θ (no slip while W sin θ ≤ μ N); the drive is assumed to hold the robot at
+rest (a brake or a self-locking gear). Margins are available over needed force:
+grip = min(μN/√(T²+S²), μN/(W sin θ)), hold = F / (W max(−cos θ, 0)) (only on an overhang),
+drive = F_drive/|T|; ``inf`` when nothing is needed.
 
 For a planner the same conditions read as limits on cos ψ (:func:`heading_limits`): a segment is
 drivable when c_lo ≤ cos ψ ≤ c_hi, which is what makes switchbacks (Rowe & Ross 1990, see
@@ -108,7 +109,7 @@ def force_balance(
     grip = np.minimum(_ratio(friction, np.hypot(t, s)), _ratio(friction, w * sin_t))
     grip = np.where(n > 0, grip, 0.0)
     hold = _ratio(f, w * np.clip(-cos_t, 0.0, None))
-    drive = np.minimum(_ratio(np.full_like(t, drive_n), t), _ratio(np.full_like(t, drive_n), w * sin_t))
+    drive = _ratio(np.full_like(t, drive_n), t)
     return Balance(cos_t, along, side, n, t, s, grip, hold, drive)
 
 
@@ -145,7 +146,7 @@ def heading_limits(
 
     * drive: (−F_d/s_d − C N)/(W sin θ) ≤ c ≤ (F_d/s_d − C N)/(W sin θ);
     * grip:  c ≤ ((μN/s)² − W² sin²θ − C²N²) / (2 W sin θ C N)  (no limit when C = 0);
-    * rest:  W sin θ ≤ μ N / s and W sin θ ≤ F_d / s_d; hold: F ≥ s W max(−cos θ, 0).
+    * rest:  W sin θ ≤ μ N / s; hold: F ≥ s W max(−cos θ, 0).
     """
     g = np.asarray(gravity, dtype=float)
     cos_t = -(normal @ g)
@@ -158,7 +159,7 @@ def heading_limits(
     cn = c_rr * np.clip(n, 0.0, None)
     ws = w * sin_t
     blocked = (n <= 0) | (f < safety * w * np.clip(-cos_t, 0.0, None) - 1e-12)
-    blocked |= (ws > fric * (1 + 1e-12)) | (ws > fd * (1 + 1e-12))
+    blocked |= ws > fric * (1 + 1e-12)
     flat = ws <= 1e-12 * max(w, 1e-300)
     blocked |= flat & ((cn > fd) | (cn > fric))
     with np.errstate(divide="ignore", invalid="ignore"):
