@@ -31,7 +31,7 @@ from scipy.sparse.csgraph import dijkstra
 
 from garnav.mechanics.balance import heading_limits
 from garnav.mechanics.profile import RobotPhysics
-from garnav.plan.freespace import run_frame
+from garnav.polyline import cumulative_length, point_at_length
 from garnav.plan.visgraph import segments_free
 
 __all__ = ["Lattice", "build_lattice", "LatticeCosts", "edge_classes", "OK", "ZIG", "NO"]
@@ -45,6 +45,8 @@ _STEPS = np.array(
 #: A switchback must make at least this much uphill (or downhill) progress per unit length
 #: (cos ψ*), or the edge is refused: turns would outnumber metres.
 _MIN_ZIG_COS = 0.05
+#: Lattice nodes farther than this (mm) outside the drape's triangles are dropped.
+_ON_MESH_MM = 0.5
 
 
 @dataclass(frozen=True, eq=False)
@@ -124,21 +126,30 @@ def build_lattice(garment, free, drape, pieces, spacing_mm: float, robot) -> Lat
         if not len(pts):
             continue
         hits = drape.locate(name, pts, snap_mm=2.0 * h)
+        on = hits.snap <= _ON_MESH_MM  # points in a gap between the outline and the mesh's chords
+        pts = pts[on]
+        hits = type(hits)(hits.face[on], hits.bary[on], hits.snap[on])
+        if not len(pts):
+            continue
         ij = np.rint(pts / h).astype(np.int64)
         xy.append(pts)
         pid.append(np.full(len(pts), k))
         faces.append(hits.face)
         seam_node.append(np.full(len(pts), -1))
-        lookup = {(int(a), int(b)): count + i for i, (a, b) in enumerate(ij)}
+        lo = ij.min(axis=0)
+        rel = ij - lo + 2
+        dense = np.full(tuple(rel.max(axis=0) + 3), -1, dtype=np.int64)
+        dense[rel[:, 0], rel[:, 1]] = np.arange(len(pts))
         a_idx, b_idx = [], []
         for di, dj in _STEPS:
-            for i, (a, b) in enumerate(ij):
-                m = lookup.get((int(a + di), int(b + dj)))
-                if m is not None:
-                    a_idx.append(count + i)
-                    b_idx.append(m)
-        if a_idx:
-            a_arr, b_arr = np.array(a_idx), np.array(b_idx)
+            m = dense[rel[:, 0] + di, rel[:, 1] + dj]
+            has = np.flatnonzero(m >= 0)
+            a_idx.append(count + has)
+            b_idx.append(count + m[has])
+        a_idx = np.concatenate(a_idx)
+        b_idx = np.concatenate(b_idx)
+        if len(a_idx):
+            a_arr, b_arr = a_idx, b_idx
             ok = segments_free(region, pts[a_arr - count], pts[b_arr - count])
             edges.append(np.column_stack([a_arr[ok], b_arr[ok]]))
         grid_index[name] = (count, pts)
@@ -150,27 +161,30 @@ def build_lattice(garment, free, drape, pieces, spacing_mm: float, robot) -> Lat
         length = garment.run_length(seam.a)
         n = max(1, int(math.ceil(length / h)))
         fractions = (np.arange(n) + 0.5) / n
-        for t in fractions:
-            ends = []
-            for side, run in ((0, seam.a), (1, seam.b)):
-                p, tan, _ = run_frame(garment, run, float(t))
-                name = run.piece
-                if not free[name].covers(p[None])[0]:
-                    break
-                ends.append((side, name, p, tan))
-            if len(ends) != 2:
-                continue
+        ends = []
+        good = np.ones(n, bool)
+        for run in (seam.a, seam.b):
+            poly = garment.run_polyline(run)
+            total = cumulative_length(poly)[-1]
+            p = point_at_length(poly, fractions * total)
+            eps = min(0.5, 0.25 * total / n)
+            tan = point_at_length(poly, np.clip(fractions * total + eps, 0, total)) - point_at_length(
+                poly, np.clip(fractions * total - eps, 0, total))
+            tan = tan / np.maximum(np.linalg.norm(tan, axis=1, keepdims=True), 1e-12)
+            hits = drape.locate(run.piece, p, snap_mm=2.0 * h)
+            good &= free[run.piece].covers(p) & (hits.snap <= _ON_MESH_MM)
+            ends.append((run.piece, p, tan, hits.face))
+        for i in np.flatnonzero(good):
             ids = []
-            for side, name, p, tan in ends:
+            for side, (name, p_all, tan_all, face_all) in enumerate(ends):
+                p, tan = p_all[i], tan_all[i]
                 off, pts = grid_index[name]
-                k = pieces.index(name)
-                hits = drape.locate(name, p[None], snap_mm=2.0 * h)
                 node = count
                 xy.append(p[None])
-                pid.append(np.array([k]))
-                faces.append(hits.face)
+                pid.append(np.array([pieces.index(name)]))
+                faces.append(face_all[i : i + 1])
                 seam_node.append(np.array([len(seam_info)]))
-                seam_info.append((seam.name, float(t), side))
+                seam_info.append((seam.name, float(fractions[i]), side))
                 count += 1
                 near = np.flatnonzero(np.linalg.norm(pts - p, axis=1) <= 2.5 * h)
                 if len(near):

@@ -40,6 +40,9 @@ from garnav.plan.visgraph import segments_free
 __all__ = ["COSTS", "PhysicsPlanner", "PlannedRoute", "route_cost"]
 
 COSTS = ("length", "time", "energy")
+#: How far (pattern mm) a route point may lie outside the drape's triangles when it is lifted:
+#: a curved outline is cut by the mesh's chords.
+LIFT_SNAP_MM = 2.0
 _RETRIES = 4
 
 
@@ -121,7 +124,7 @@ class PhysicsPlanner:
 
     def check(self, route: Route) -> tuple[object, RouteMechanics]:
         """Lift ``route`` and compute its mechanics in this planner's posture."""
-        lifted = lift_route(self.drape, self.garment, route)
+        lifted = lift_route(self.drape, self.garment, route, snap_mm=LIFT_SNAP_MM)
         return lifted, self.mechanics(lifted)
 
     def mechanics(self, lifted) -> RouteMechanics:
@@ -229,7 +232,7 @@ class PhysicsPlanner:
         path, _ = shortest(len(xy), edges[use, 0], edges[use, 1], value[use], n0, [n0 + 1])
         if path is None:
             return None
-        eidx = {(int(u), int(v)): i for i, (u, v) in enumerate(edges) if use[i]}
+        eidx = _path_edges(path, edges, use, value)
         return self._assemble(path, xy, piece, lat, eidx, costs, klass, crossing, scale)
 
     def _assemble(self, path, xy, piece, lat: Lattice, eidx, costs, klass, crossing, scale) -> Route:
@@ -345,6 +348,15 @@ class PhysicsPlanner:
                          tuple(_take(x, np.arange(1, n)) for x in t), self.gravity, self.physics,
                          self.cost, self.robot.speed_mm_s)
         return bool(np.all(c.klass == OK))
+
+
+def _path_edges(path, edges: np.ndarray, use: np.ndarray, value: np.ndarray) -> dict:
+    """(u, v) → index of the cheapest usable edge u → v, for the steps of ``path``."""
+    out = {}
+    for u, v in zip(path[:-1], path[1:]):
+        cand = np.flatnonzero(use & (edges[:, 0] == u) & (edges[:, 1] == v))
+        out[(int(u), int(v))] = int(cand[np.argmin(value[cand])])
+    return out
 
 
 def _take(term, idx):
