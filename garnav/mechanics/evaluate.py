@@ -147,7 +147,10 @@ class RouteMechanics:
             return [num(v) for v in a]
 
         p = self.physics
+        from garnav.mechanics.profile import physics_to_table
+
         return {
+            "profile": physics_to_table(p),
             "posture": self.posture,
             "gravity": [round(float(v), 12) for v in self.gravity],
             "energy_j": num(self.total_energy_j),
@@ -169,6 +172,22 @@ class RouteMechanics:
                 "energy_j": arr(self.energy_j),
             },
         }
+
+    def waypoint_margins(self, waypoint_index) -> dict[str, list]:
+        """Per waypoint, the smallest grip, hold and drive margins of the stretch of path leaving
+        it (up to the next waypoint); None where the stretch is empty or needs nothing.
+
+        ``waypoint_index`` (K,) is the lifted route's dense index of every waypoint."""
+        wi = np.asarray(waypoint_index, dtype=int)
+        out: dict[str, list] = {f"{k}_margin": [] for k in MARGIN_KEYS}
+        for k in range(len(wi)):
+            a = int(wi[k])
+            b = int(wi[k + 1]) if k + 1 < len(wi) else a
+            for key in MARGIN_KEYS:
+                m = getattr(self.balance, f"{key}_margin")[a:b]
+                v = float(np.min(m)) if len(m) else math.inf
+                out[f"{key}_margin"].append(round(v, 6) if math.isfinite(v) else None)
+        return out
 
     def lines(self) -> list[str]:
         """Summary lines in the style of the route table."""

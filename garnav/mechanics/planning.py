@@ -86,7 +86,8 @@ class PhysicsPlanner:
     gravity : (3,) array, optional
         Unit gravity direction in the body frame; default: that of ``posture``.
     posture : str
-        Posture name (:mod:`garnav.mechanics.gravity`), used for the label and the default gravity.
+        Posture name (:mod:`garnav.mechanics.gravity`): the default gravity, and the label written
+        into the results (pass ``"custom"`` with an explicit ``gravity``).
     cost : {"length", "time", "energy"}
     spacing_mm : float, optional
         Lattice step; default: the robot radius (at least 5 mm).
@@ -113,7 +114,7 @@ class PhysicsPlanner:
         if self.physics is None:
             raise QueryError(f"robot '{self.robot.name}' has no physics profile ([robot.physics]); "
                              "plan with garnav.plan.Planner, or give one (docs/physics.md)")
-        self.posture = posture if gravity is None else ("custom" if posture == "upright" else posture)
+        self.posture = posture
         g = gravity_vector(posture) if gravity is None else np.asarray(gravity, dtype=float)
         self.gravity = g / np.linalg.norm(g)
         self.cost = cost
@@ -173,6 +174,44 @@ class PhysicsPlanner:
                 "keeps every margin (docs/physics.md)"
             )
         return best
+
+    def dock_check(self, planned: PlannedRoute, goal) -> dict | None:
+        """Whether the robot can still reach the nearest dock after ``planned``.
+
+        Docks are the landmarks named ``dock`` or ``dock_...``. Returns None when the garment has
+        none or the route ends on one, else a dict: ``dock`` (name), ``reachable`` (bool),
+        ``energy_j`` and ``length_mm`` of the drivable way there (None when there is none),
+        ``charge_left_fraction`` after it, and ``reason`` when it is not reachable.
+        """
+        docks = [m.name for m in self.garment.landmarks if m.name == "dock" or m.name.startswith("dock_")]
+        end = self.planner.point(goal, snap=True, role="goal")
+        if not docks or any(np.allclose(self.planner.point(d).xy, end.xy) and self.planner.point(d).piece == end.piece
+                            for d in docks):
+            return None
+        best = None
+        for name in docks:
+            try:
+                back = self.route(end, name)
+            except NoRouteError as exc:
+                best = best or {"dock": name, "reason": str(exc)}
+                continue
+            if best is None or "energy_j" not in best or back.mechanics.total_energy_j < best["energy_j"]:
+                best = {"dock": name, "energy_j": back.mechanics.total_energy_j,
+                        "length_mm": float(back.mechanics.length_mm.sum())}
+        assert best is not None
+        left = planned.mechanics.charge_left_fraction
+        reserve = 1.0 - self.physics.usable_fraction
+        if "energy_j" not in best:
+            return {"dock": best["dock"], "reachable": False, "energy_j": None, "length_mm": None,
+                    "charge_left_fraction": left, "reason": best["reason"]}
+        after = left - best["energy_j"] / self.physics.battery_j
+        ok = after >= reserve - 1e-12
+        out = {"dock": best["dock"], "reachable": bool(ok), "energy_j": round(best["energy_j"], 6),
+               "length_mm": round(best["length_mm"], 6), "charge_left_fraction": round(after, 6)}
+        if not ok:
+            out["reason"] = (f"the way back needs {best['energy_j']:.1f} J but only "
+                             f"{max(0.0, left - reserve) * self.physics.battery_j:.1f} J of usable charge is left")
+        return out
 
     # ------------------------------------------------------------------ lattice
 
@@ -284,7 +323,8 @@ class PhysicsPlanner:
 
     def _switchback(self, piece: str, xy, steps, run, costs, scale) -> list[np.ndarray]:
         """Zig-zag points over a run of switchback edges: one switchback with as few turns as
-        keep it in the free space and drivable (legs checked on the drape); else edge by edge."""
+        keep it in the free space and drivable (legs checked on the drape); else the run split in
+        halves, down to single edges."""
         a, b = xy[steps[0][0]], xy[steps[-1][1]]
         zc = costs.zig_cos[run]
         c = float(zc[np.argmin(np.abs(zc))])  # the strictest limit of the run
@@ -292,18 +332,16 @@ class PhysicsPlanner:
         region = self.planner.free[piece].region
         span = float(np.linalg.norm(b - a))
         n = 1
-        while n * self.spacing_mm <= 2.0 * span + self.spacing_mm:
+        while n == 1 or n * self.spacing_mm <= span + self.spacing_mm:
             pts = _zigzag(a, b, up, c, n)
             if len(pts) > 2 and self._legs_ok(piece, region, pts, scale):
                 return pts
             n *= 2
-        out = [a]
-        for (u, v), e in zip(steps, run):
-            span_e = float(np.linalg.norm(xy[v] - xy[u]))
-            pts = _zigzag(xy[u], xy[v], costs.uphill[e], costs.zig_cos[e],
-                          max(1, int(math.ceil(2.0 * span_e / self.spacing_mm))))
-            out.extend(pts[1:])
-        return out
+        if len(run) > 1:
+            mid = len(run) // 2
+            first = self._switchback(piece, xy, steps[:mid], run[:mid], costs, scale)
+            return first + self._switchback(piece, xy, steps[mid:], run[mid:], costs, scale)[1:]
+        return _zigzag(a, b, up, c, max(1, int(math.ceil(span / self.spacing_mm))))
 
     def _legs_ok(self, piece: str, region, pts: list[np.ndarray], scale: float) -> bool:
         arr = np.array(pts)
