@@ -51,8 +51,9 @@ class PlannedRoute:
     """A route with its lift and mechanics.
 
     ``method``: ``"length-optimal"`` (the planner's route was drivable) or ``"lattice"`` (a
-    detour or switchback search was needed). ``shortest`` is the length-optimal route's
-    mechanics when it was not used (to show why), else None.
+    detour or switchback search was needed). ``shortest``, ``shortest_route`` and
+    ``shortest_lifted`` are the length-optimal route's mechanics, route and lift when it was
+    refused as not drivable (to show why), else None.
     """
 
     route: Route
@@ -61,6 +62,7 @@ class PlannedRoute:
     method: str
     shortest: RouteMechanics | None = None
     shortest_route: Route | None = None
+    shortest_lifted: object = None
 
 
 def route_cost(m: RouteMechanics, cost: str) -> float:
@@ -160,8 +162,8 @@ class PhysicsPlanner:
                 break
             l_lift, l_mech = self.check(found)
             if l_mech.safe:
-                best = PlannedRoute(found, l_lift, l_mech, "lattice",
-                                    None if mech.safe else mech, None if mech.safe else base)
+                best = PlannedRoute(found, l_lift, l_mech, "lattice", None if mech.safe else mech,
+                                    None if mech.safe else base, None if mech.safe else lifted)
                 break
         if mech.safe and (best is None or route_cost(mech, self.cost) <= route_cost(best.mechanics, self.cost)):
             return PlannedRoute(base, lifted, mech, "length-optimal")
