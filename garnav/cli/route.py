@@ -87,6 +87,10 @@ def register(subparsers: argparse._SubParsersAction) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
+    if getattr(args, "posture", None) or getattr(args, "gravity", None):
+        from garnav.mechanics.gravity import parse_gravity
+
+        parse_gravity(args.gravity, args.posture)  # a bad posture fails before any work
     garment, drape = _garment_and_drape(args)
     if drape is not None:
         locate = pattern_locator(drape, garment)

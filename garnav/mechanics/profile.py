@@ -278,7 +278,10 @@ def _describe(value: Any) -> str:
 
 
 def _number(v: Any) -> bool:
-    return not isinstance(v, bool) and isinstance(v, (int, float)) and abs(v) < 2**63
+    """A TOML integer (64-bit) or float, not a boolean; finiteness is checked with the range."""
+    if isinstance(v, bool) or not isinstance(v, (int, float)):
+        return False
+    return isinstance(v, float) or abs(v) < 2**63
 
 
 def physics_from_table(table: Any, item: str = "robot physics") -> tuple[RobotPhysics | None, list[tuple[str, str, str | None]]]:
