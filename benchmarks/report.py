@@ -17,6 +17,8 @@ TARGETS = (
     ("locate_vs_find_simplex", "point location at least 5x faster than random-order find_simplex"),
     ("lift_time", "lift of ~5,000 points on ~100k triangles under 15 ms (median)"),
     ("demo_end_to_end", "`garnav demo` end to end under 20 s"),
+    ("physics_planning", "demo routes planned with the physics profile in at most 3x the length-only query time"),
+    ("physics_lift_mechanics", "lift + mechanics of ~5,000 points on ~100k triangles under 30 ms (median)"),
 )
 
 
@@ -127,6 +129,27 @@ def evaluate_targets(res: dict[str, Any]) -> list[dict[str, Any]]:
         out.append(_t("demo_end_to_end", "MISS", None, f"`{cli['command']}` failed (exit {cli['returncode']})"))
     else:
         out.append(_t("demo_end_to_end", "N/A", None, cli.get("error", "not run")))
+
+    phys = cases.get("physics", {})
+    dp = phys.get("demo_planning", {})
+    if "ratio_queries" in dp:
+        r = dp["ratio_queries"]
+        lattice = sum(1 for x in dp["routes"] if x["method"] == "lattice")
+        out.append(_t("physics_planning", "PASS" if r <= 3 else "MISS", r,
+                      f"{len(dp['routes'])} demo routes ({lattice} needing the lattice): physics {dp['physics_s']:.2f} s vs "
+                      f"length-only {dp['length_only_s']:.2f} s: {r:.2f}x (planner build {dp['planner_build_s']:.2f} s apart; "
+                      f"with it {dp['ratio_with_build']:.2f}x)"))
+    else:
+        out.append(_t("physics_planning", "N/A", None, dp.get("error", "not run")))
+    lm = phys.get("lift_mechanics", {})
+    if "median" in lm:
+        status = "N/A" if quick else ("PASS" if lm["median"] < 0.030 else "MISS")
+        out.append(_t("physics_lift_mechanics", status, lm["median"],
+                      f"{lm['points']} points on {lm['faces']} triangles: {lm['median'] * 1e3:.1f} ms "
+                      f"(lift alone {lm['lift_only']['median'] * 1e3:.1f} ms, mechanics alone "
+                      f"{lm['mechanics_only']['median'] * 1e3:.1f} ms)"))
+    else:
+        out.append(_t("physics_lift_mechanics", "N/A", None, lm.get("error", "not run")))
     return out
 
 
