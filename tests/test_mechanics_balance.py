@@ -104,7 +104,7 @@ def test_worst_orientation_at_rest_is_90_plus_atan_mu():
         w = 1.0
         f = w * math.sqrt(1 + mu * mu) / mu
 
-        def margin(theta_deg):
+        def margin(theta_deg, w=w, f=f, mu=mu):
             n, _ = plane(theta_deg, 0.0)
             return float(force_balance(n, np.zeros((1, 3)), G, w, f, mu, 0.0, 10.0).grip_margin[0])
 

@@ -114,7 +114,7 @@ def test_profile_does_not_change_length_only_routes():
     garment, _ = tilted_panel(slope_rotation(30.0), robot)
     a = Planner(garment, robot).route("panel:50,60", "panel:550,700")
     b = Planner(garment, dataclasses.replace(robot, physics=EASY)).route("panel:50,60", "panel:550,700")
-    assert a.length_mm == b.length_mm and all(np.array_equal(x.points, y.points) for x, y in zip(a.legs, b.legs))
+    assert a.length_mm == b.length_mm and all(np.array_equal(x.points, y.points) for x, y in zip(a.legs, b.legs, strict=True))
 
 
 def test_cost_and_profile_errors():

@@ -140,18 +140,16 @@ def build_lattice(garment, free, drape, pieces, spacing_mm: float, robot) -> Lat
         rel = ij - lo + 2
         dense = np.full(tuple(rel.max(axis=0) + 3), -1, dtype=np.int64)
         dense[rel[:, 0], rel[:, 1]] = np.arange(len(pts))
-        a_idx, b_idx = [], []
+        a_parts, b_parts = [], []
         for di, dj in _STEPS:
             m = dense[rel[:, 0] + di, rel[:, 1] + dj]
             has = np.flatnonzero(m >= 0)
-            a_idx.append(count + has)
-            b_idx.append(count + m[has])
-        a_idx = np.concatenate(a_idx)
-        b_idx = np.concatenate(b_idx)
-        if len(a_idx):
-            a_arr, b_arr = a_idx, b_idx
-            ok = segments_free(region, pts[a_arr - count], pts[b_arr - count])
-            edges.append(np.column_stack([a_arr[ok], b_arr[ok]]))
+            a_parts.append(has)
+            b_parts.append(m[has])
+        a_arr, b_arr = np.concatenate(a_parts), np.concatenate(b_parts)
+        if len(a_arr):
+            ok = segments_free(region, pts[a_arr], pts[b_arr])
+            edges.append(np.column_stack([a_arr[ok] + count, b_arr[ok] + count]))
         grid_index[name] = (count, pts)
         count += len(pts)
     # seam nodes: pairs of points at equal fractions of the two runs, linked to nearby grid nodes
@@ -268,7 +266,7 @@ def edge_classes(
     d = xy_b - xy_a
     length = np.linalg.norm(d, axis=1)
     unit = d / np.maximum(length, 1e-12)[:, None]
-    cos_end, ratio, t3len, along_end = [], [], [], []
+    cos_end, t3len, along_end = [], [], []
     for jac, lim, _ in (terms_a, terms_b):
         t3 = np.einsum("nkd,nd->nk", jac, unit)
         tl = np.linalg.norm(t3, axis=1)
@@ -284,7 +282,7 @@ def edge_classes(
     ok = ~blocked
     up_need = np.zeros(len(d), bool)
     down_need = np.zeros(len(d), bool)
-    for c, lim in zip(cos_end, lims):
+    for c, lim in zip(cos_end, lims, strict=True):
         up_need |= c > lim.c_hi + 1e-12
         down_need |= c < lim.c_lo - 1e-12
     c_hi = np.minimum(lims[0].c_hi, lims[1].c_hi)

@@ -142,7 +142,7 @@ class PhysicsPlanner:
         stops = [self.planner.point(start, snap=snap, role="start")]
         stops += [self.planner.point(v, snap=snap, role="via point") for v in via]
         stops.append(self.planner.point(goal, snap=snap, role="goal"))
-        parts = [self._between(a, b) for a, b in zip(stops[:-1], stops[1:])]
+        parts = [self._between(a, b) for a, b in zip(stops[:-1], stops[1:], strict=True)]
         if len(parts) == 1:
             return parts[0]
         joined = join_routes(self.garment, self.robot, [p.route for p in parts])
@@ -282,7 +282,7 @@ class PhysicsPlanner:
         crossings = []
         cur = [xy[path[0]]]
         fixed = [True]  # vertices that straightening must keep (switchback corners)
-        steps = list(zip(path[:-1], path[1:]))
+        steps = list(zip(path[:-1], path[1:], strict=True))
         i = 0
         while i < len(steps):
             u, v = steps[i]
@@ -349,7 +349,7 @@ class PhysicsPlanner:
         arr = np.array(pts)
         if not np.all(segments_free(region, arr[:-1], arr[1:])):
             return False
-        return all(self._drivable(piece, p, q, scale) for p, q in zip(arr[:-1], arr[1:]))
+        return all(self._drivable(piece, p, q, scale) for p, q in zip(arr[:-1], arr[1:], strict=True))
 
     def _straighten(self, piece: str, pts: np.ndarray, keep: np.ndarray, scale: float) -> np.ndarray:
         """Greedy shortcuts (string pulling) between kept vertices: from each vertex the farthest
@@ -393,7 +393,7 @@ class PhysicsPlanner:
 def _path_edges(path, edges: np.ndarray, use: np.ndarray, value: np.ndarray) -> dict:
     """(u, v) → index of the cheapest usable edge u → v, for the steps of ``path``."""
     out = {}
-    for u, v in zip(path[:-1], path[1:]):
+    for u, v in zip(path[:-1], path[1:], strict=True):
         cand = np.flatnonzero(use & (edges[:, 0] == u) & (edges[:, 1] == v))
         out[(int(u), int(v))] = int(cand[np.argmin(value[cand])])
     return out

@@ -235,7 +235,7 @@ def physics_problems(p: RobotPhysics, piece_names=None) -> list[str]:
                    f"has {len(forces)}; give one force per gap")
     elif len(gaps) == 1:
         out.append("the magnet table needs at least 2 rows (or none: use 'magnet_force_n')")
-    elif len(gaps) >= 2 and not all(b > a for a, b in zip(gaps[:-1], gaps[1:])):
+    elif len(gaps) >= 2 and not all(b > a for a, b in zip(gaps[:-1], gaps[1:], strict=True)):
         out.append("'magnet_table_gap_mm' must increase strictly")
     if p.max_drive_force_n <= 0 and p.stall_torque_n_m <= 0:
         out.append("needs 'max_drive_force_n' > 0, or 'stall_torque_n_m' > 0 with 'gear_ratio'")
