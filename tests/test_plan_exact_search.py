@@ -143,3 +143,21 @@ def test_demo_buttons_back_to_yoke_is_pinned(buttons_planner):
 @pytest.mark.xfail(strict=True, reason="the five-crossing sequence differs from the A* one in more than one seam")
 def test_demo_buttons_back_to_yoke_as_short_as_the_dense_portal_planner(buttons_planner):
     assert buttons_planner.route(_BACK, _YOKE).cost <= _DENSE_COST * (1 + 1e-6)
+
+
+def test_lazy_heuristic_table_gives_the_same_values_as_the_full_heuristic():
+    """The per-piece table (computed only for pieces a search reaches) must equal the heuristic
+    computed for every node at once (identical arithmetic, so exactly equal)."""
+    from garnav.plan.search import heuristic_values, lazy_heuristic
+
+    for g in (garments.two_panels(), garments.tube()):
+        planner = Planner(g)
+        ng = planner.nav
+        goal = [(0, np.array([120.0, 150.0]))]
+        full = heuristic_values(planner.portal_graph, goal, ng.xy, ng.node_piece)
+        h = lazy_heuristic(planner.node_portal_table, goal)
+        lazy = np.array([h(n, int(ng.node_piece[n]), ng.xy[n]) for n in range(len(ng.xy))])
+        assert np.array_equal(full, lazy)
+        far = np.array([33.0, 44.0])
+        pt = heuristic_values(planner.portal_graph, goal, far[None], np.array([0]))[0]
+        assert h(len(ng.xy), 0, far) == pt

@@ -36,7 +36,7 @@ from garnav.plan.points import PiecePoint, PointLike, resolve_point
 from garnav.plan.exact import ExactResult, SeamSearch
 from garnav.plan.refine import refine
 from garnav.plan.route import Leg, Route, join_routes, make_route
-from garnav.plan.search import PortalGraph, astar, heuristic_values
+from garnav.plan.search import NodePortalTable, PortalGraph, astar, lazy_heuristic
 from garnav.plan.visgraph import segments_free
 
 __all__ = ["Planner", "plan_route", "PLANNER_VERSION"]
@@ -116,6 +116,7 @@ class Planner:
                     self.cache_file = None  # a cache that cannot be written only costs time
         self.nav: NavGraph = nav
         self.portal_graph = PortalGraph(self.nav)
+        self.node_portal_table = NodePortalTable(self.portal_graph)
         self._corner_mats: dict = {}
         self.exact_seams = bool(exact_seams)
         self._spacing_mm = float(portal_spacing_mm)
@@ -225,10 +226,15 @@ class Planner:
             extra.setdefault(u, []).append((v, w))
             extra.setdefault(v, []).append((u, w))
         goal_pairs = [(ng.piece_index(g.piece), g.xy) for g in goals]
-        xy = np.vstack([ng.xy, start.xy[None], np.array([g.xy for g in goals]).reshape(-1, 2)])
-        piece = np.concatenate([ng.node_piece, [ng.piece_index(start.piece)], [p for p, _ in goal_pairs]]).astype(int)
-        h = heuristic_values(self.portal_graph, goal_pairs, xy, piece)
-        h[n0 + 1 :] = 0.0
+        h_at = lazy_heuristic(self.node_portal_table, goal_pairs)
+        si = ng.piece_index(start.piece)
+
+        def h(n: int) -> float:
+            if n > n0:
+                return 0.0
+            if n == n0:
+                return h_at(n, si, start.xy)
+            return h_at(n, int(ng.node_piece[n]), ng.xy[n])
 
         def neighbors(n: int):
             base = ng.neighbours(n) if n < n0 else []
@@ -237,7 +243,7 @@ class Planner:
                 base = [(m, w) for m, w in base if not (m < n0 and ng.portal_seam[m] == s and ng.graph[n][m]["crossing"])]
             return base + sorted(extra.get(n, []))
 
-        found = astar(neighbors, {n0: 0.0}, set(range(n0 + 1, n0 + 1 + len(goals))), lambda n: h[n])
+        found = astar(neighbors, {n0: 0.0}, set(range(n0 + 1, n0 + 1 + len(goals))), h)
         if found is None:
             return None, np.inf, -1
         path, cost = found

@@ -41,7 +41,7 @@ from scipy.sparse.csgraph import dijkstra
 
 from garnav.plan.navgraph import NavGraph
 
-__all__ = ["astar", "portal_lower_bounds", "heuristic_values", "PortalGraph", "min_matrix"]
+__all__ = ["astar", "portal_lower_bounds", "heuristic_values", "PortalGraph", "min_matrix", "NodePortalTable", "lazy_heuristic"]
 
 
 class PortalGraph:
@@ -128,6 +128,74 @@ def heuristic_values(pg: PortalGraph, goals: list[tuple[int, np.ndarray]], nodes
             d = np.linalg.norm(xy[:, None, :] - q[None, :, :], axis=2) + lb[blk][None, :]
             best = np.minimum(best, d.min(axis=1))
         h[sel] = best
+    return h
+
+
+class NodePortalTable:
+    """Straight distances (mm) from the nodes of a piece to the portals of that piece, one
+    (k, q) block per piece, computed when a query first needs the piece and kept (the heuristic's
+    table). Nodes are numbered piece by piece, so a piece's nodes are one contiguous id range."""
+
+    def __init__(self, pg: PortalGraph):
+        self.pg = pg
+        ng = pg.ng
+        self.first = np.searchsorted(ng.node_piece, np.arange(len(ng.pieces) + 1))
+        self.portal_piece = ng.node_piece[pg.portals] if len(pg.portals) else np.zeros(0, int)
+        self._blocks: dict[int, tuple[np.ndarray, np.ndarray]] = {}
+
+    def block(self, pi: int) -> tuple[np.ndarray, np.ndarray]:
+        """(portal indices into ``pg.portals`` on piece ``pi`` (q,), distances (k, q))."""
+        got = self._blocks.get(pi)
+        if got is None:
+            ng = self.pg.ng
+            on = np.nonzero(self.portal_piece == pi)[0]
+            xy = ng.xy[self.first[pi] : self.first[pi + 1]]
+            q = ng.xy[self.pg.portals[on]]
+            got = self._blocks[pi] = (on, np.linalg.norm(xy[:, None, :] - q[None, :, :], axis=2))
+        return got
+
+
+def lazy_heuristic(table: NodePortalTable, goals: list[tuple[int, np.ndarray]]) -> Callable[[int, int, np.ndarray], float]:
+    """h(n) of the module docstring, evaluated per piece on first use.
+
+    Returns ``h(node, piece index, xy)``: for a graph node (id below N) the value comes from its
+    piece's block of the table (computed once per query and piece); for another point (id N or
+    more, e.g. the start) it is computed from ``xy``. Same values as :func:`heuristic_values`, but
+    a query touches only the pieces its search reaches (a same-piece query no longer pays for the
+    whole garment)."""
+    pg = table.pg
+    ng = pg.ng
+    n0 = len(ng.xy)
+    lb = portal_lower_bounds(pg, goals)
+    cache: dict[int, np.ndarray] = {}
+
+    def piece_values(pi: int) -> np.ndarray:
+        got = cache.get(pi)
+        if got is None:
+            xy = ng.xy[table.first[pi] : table.first[pi + 1]]
+            best = np.full(len(xy), np.inf)
+            for gp, g in goals:
+                if gp == pi:
+                    best = np.minimum(best, np.linalg.norm(xy - g, axis=1))
+            on, dist = table.block(pi)
+            if len(on):
+                best = np.minimum(best, (dist + lb[on][None, :]).min(axis=1))
+            got = cache[pi] = best
+        return got
+
+    def h(n: int, pi: int, xy: np.ndarray) -> float:
+        if n < n0:
+            return float(piece_values(pi)[n - table.first[pi]])
+        best = np.inf
+        for gp, g in goals:
+            if gp == pi:
+                best = min(best, float(np.linalg.norm(xy[None, :] - g, axis=1)[0]))
+        on = np.nonzero(table.portal_piece == pi)[0]
+        if len(on):
+            q = ng.xy[pg.portals[on]]
+            best = min(best, float((np.linalg.norm(xy[None, None, :] - q[None, :, :], axis=2) + lb[on][None, :]).min()))
+        return best
+
     return h
 
 
