@@ -46,7 +46,6 @@ __all__ = ["SeamSearch", "ExactResult"]
 WIN, APP, START, GOAL = 0, 1, 2, 3
 _PRE, _POST = 0, 1
 _SPLIT = 4
-_DEBUG = False
 
 
 @dataclass
@@ -550,8 +549,6 @@ class _Query:
                 upper = cost
                 self.upper = cost
                 best = (legs, crossings, cost, k)
-            if _DEBUG:
-                print("round", rounds, lower, upper, len(wins), len(path_wins))
             if lower >= upper - (ss.rel_tol * upper + 1e-9):
                 break
             if rounds == 1 or not wins:
