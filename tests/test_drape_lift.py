@@ -200,7 +200,7 @@ def test_segment_hugging_the_boundary_follows_it_in_3d(cyl):
 def test_many_segments_including_ones_along_mesh_edges(cyl):
     g, d = cyl
     circ = 2 * math.pi * 50.0
-    cell_x, cell_y = circ / 128, 10.0
+    cell_x = circ / 128
     rng = np.random.default_rng(17)
     segs = [rng.uniform([1, 1], [circ - 1, 299], (2, 2)) for _ in range(40)]
     # along grid lines (mesh edges), along cell diagonals (mesh edges too), and through vertices

@@ -114,7 +114,7 @@ def test_documents_validate(demo, small):
 
 
 def test_waypoints_agree_with_the_planners(demo, small):
-    for garment, route in _cases(demo, small):
+    for _garment, route in _cases(demo, small):
         ours = route_waypoints(route)
         theirs = route.waypoints()
         assert len(ours) == len(theirs)

@@ -22,7 +22,7 @@ def _turning_waypoints(route):
     (those are not ends of a go); crossings stay (they are recorded on both sides)."""
     wps = route_waypoints(route)
     keep = []
-    for i, w in enumerate(wps):
+    for w in wps:
         if keep and keep[-1].piece == w.piece and math.hypot(keep[-1].x_mm - w.x_mm, keep[-1].y_mm - w.y_mm) < 1e-9:
             keep[-1] = w
             continue

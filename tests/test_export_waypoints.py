@@ -56,7 +56,7 @@ def test_schema_is_valid_draft_2020_12():
 @pytest.mark.parametrize("lifted", [False, True])
 def test_every_document_validates_and_round_trips_through_json(lifted):
     count = 0
-    for route, g, robot, lift, doc in _random_docs(50, lifted):
+    for _route, _g, _robot, _lift, doc in _random_docs(50, lifted):
         parsed = json.loads(document_json(doc))
         VALIDATOR.validate(parsed)
         assert parsed == doc
@@ -83,7 +83,7 @@ def test_bad_documents_fail_the_schema():
 
 @pytest.mark.parametrize("lifted", [False, True])
 def test_csv_parses_with_stdlib_and_matches_json(lifted):
-    for route, g, robot, lift, doc in _random_docs(10, lifted):
+    for _route, _g, _robot, _lift, doc in _random_docs(10, lifted):
         rows = list(csv.DictReader(io.StringIO(document_csv(doc))))
         assert tuple(rows[0].keys()) == CSV_COLUMNS
         assert len(rows) == len(doc["waypoints"])
@@ -99,7 +99,7 @@ def test_csv_parses_with_stdlib_and_matches_json(lifted):
 
 def test_quaternions_are_unit_and_their_axes_match_normal_and_travel():
     checked = 0
-    for route, g, robot, lift, doc in _random_docs(20, lifted=True):
+    for _route, _g, robot, _lift, doc in _random_docs(20, lifted=True):
         up = 1.0 if robot.side == "outside" else -1.0
         for w in doc["waypoints"]:
             q = np.array(w["orientation_xyzw"])

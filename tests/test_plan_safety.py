@@ -123,7 +123,7 @@ def test_demo_routes_keep_their_distances():
 def seam_scenario(draw):
     """Keep-outs near the seam of two_panels, given in the unfolded frame (right piece at +300)."""
     kos = []
-    for i in range(draw(st.integers(1, 3))):
+    for _ in range(draw(st.integers(1, 3))):
         x = draw(st.floats(240.0, 360.0))
         y = draw(st.floats(80.0, 320.0))
         size = draw(st.floats(4.0, 40.0))

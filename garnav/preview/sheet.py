@@ -272,7 +272,7 @@ def sheet_drawing(
     layers.append(("keepouts", tuple(kos)))
 
     seams = []
-    for si, seam in enumerate(garment.seams):
+    for seam in garment.seams:
         runs = [garment.run_polyline(seam.a), garment.run_polyline(seam.b)]
         lengths = [float(cumulative_length(r)[-1]) for r in runs]
         fracs = notch_fractions(lengths[0], lengths[1], style.notch_spacing)
