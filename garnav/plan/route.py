@@ -9,9 +9,15 @@ seam correspondence (tangent onto tangent, the partner's inward normal onto the 
 *relative to the seam tangent* on each side, so it does not depend on either frame.
 
 ``turns_deg`` has one entry per interior vertex of the route, a crossing counting once: its length
-is ``len(waypoints()) − 2 − len(crossings)``. ``headings_deg`` has one entry per waypoint (the
-crossing point appears once in each piece frame): the heading of the segment leaving the waypoint,
-or, at the last point of a leg, of the segment arriving there.
+is ``len(waypoints()) − 2 − len(crossings)``.
+
+Headings (the one convention of the project, computed here only: :func:`route_headings_deg`;
+the export reads ``Route.headings_deg``): one entry per waypoint (the crossing point appears once
+in each piece frame), degrees counter-clockwise from the piece's +x axis, in **(−180, 180]**. It is
+the direction of the first step leaving the waypoint that is longer than :data:`ZERO_STEP_MM`, or,
+where no such step follows on the leg, of the last such step arriving there. A leg with no such
+step at all (the stub a route leaves in a piece it only touches at a corner where seams meet)
+keeps the heading before it (0 at the very start).
 """
 
 from __future__ import annotations
@@ -26,7 +32,22 @@ from garnav.model import Garment, Robot
 from garnav.plan.freespace import run_frame, seam_transform
 from garnav.plan.portals import crossing_angle_deg
 
-__all__ = ["Leg", "Crossing", "Route", "make_route", "signed_angle_deg", "join_routes", "crossing_side"]
+__all__ = [
+    "Leg",
+    "Crossing",
+    "Route",
+    "make_route",
+    "signed_angle_deg",
+    "join_routes",
+    "crossing_side",
+    "route_headings_deg",
+    "wrap_deg",
+    "ZERO_STEP_MM",
+]
+
+# Steps shorter than this (mm) are treated as no motion: repeated points, or the stub of a leg
+# through a corner where several seams meet (a planner may leave one of ~1e-7 mm there).
+ZERO_STEP_MM = 1e-6
 
 
 @dataclass(frozen=True, eq=False)
@@ -104,10 +125,52 @@ def signed_angle_deg(d0: np.ndarray, d1: np.ndarray) -> float:
     return math.degrees(math.atan2(cross, dot))
 
 
-def _heading_deg(d: np.ndarray) -> float:
-    if d[0] == 0 and d[1] == 0:
-        return 0.0
-    return math.degrees(math.atan2(d[1], d[0])) % 360.0
+def wrap_deg(angle_rad: float) -> float:
+    """An angle in radians as degrees in (−180, 180].
+
+    >>> wrap_deg(math.pi), wrap_deg(-math.pi), wrap_deg(1.5 * math.pi)
+    (180.0, 180.0, -90.0)
+    """
+    deg = math.degrees(math.remainder(angle_rad, 2.0 * math.pi))
+    return 180.0 if deg == -180.0 else deg
+
+
+def _leg_headings(points: np.ndarray) -> list[float | None]:
+    """Heading (rad) at each point of one leg (n, 2): the next step longer than ZERO_STEP_MM
+    leaving it, else the last one arriving; None where the leg has no such step."""
+    steps = np.diff(points, axis=0)
+    lengths = np.hypot(steps[:, 0], steps[:, 1])
+    n = len(points)
+    out: list[float | None] = [None] * n
+    following: float | None = None
+    for k in range(n - 2, -1, -1):  # leaving direction: next step of some length
+        if lengths[k] > ZERO_STEP_MM:
+            following = math.atan2(steps[k, 1], steps[k, 0])
+        out[k] = following
+    arriving: float | None = None
+    for k in range(1, n):  # points with nothing after them: the last step in
+        if lengths[k - 1] > ZERO_STEP_MM:
+            arriving = math.atan2(steps[k - 1, 1], steps[k - 1, 0])
+        if out[k] is None:
+            out[k] = arriving
+    return out
+
+
+def route_headings_deg(legs) -> np.ndarray:
+    """Headings at every waypoint of ``legs`` (each with ``points`` (n, 2), mm), degrees in
+    (−180, 180]; shape (sum of n,). See the module docstring for the convention.
+
+    >>> route_headings_deg([Leg("p", np.array([[0.0, 0.0], [0.0, 0.0], [-1.0, 0.0]]))]).tolist()
+    [180.0, 180.0, 180.0]
+    """
+    out: list[float] = []
+    last = 0.0
+    for leg in legs:
+        pts = np.asarray(leg.points, dtype=float).reshape(-1, 2)
+        for h in _leg_headings(pts):
+            last = last if h is None else h
+            out.append(wrap_deg(last))
+    return np.array(out, dtype=float)
 
 
 def _directions(points: np.ndarray) -> list[np.ndarray]:
@@ -166,16 +229,6 @@ def make_route(
             else:
                 turns.append(0.0)
 
-    headings = []
-    for leg in legs:
-        pts = leg.points
-        dirs = _directions(pts)
-        for k in range(len(pts)):
-            d = pts[k + 1] - pts[k] if k < len(pts) - 1 else pts[k] - pts[k - 1]
-            if not d.any():
-                d = dirs[-1] if (dirs and k == len(pts) - 1) else (dirs[0] if dirs else np.zeros(2))
-            headings.append(_heading_deg(d))
-
     length = float(sum(leg.length_mm for leg in legs))
     return Route(
         legs=tuple(legs),
@@ -183,7 +236,7 @@ def make_route(
         length_mm=length,
         cost=float(cost),
         turns_deg=np.array(turns, dtype=float),
-        headings_deg=np.array(headings, dtype=float),
+        headings_deg=route_headings_deg(legs),
         speed_mm_s=float(robot.speed_mm_s),
     )
 
