@@ -16,6 +16,7 @@ import shapely
 import garments
 from garnav import Circle, Edge, KeepOut, Landmark, PolygonShape, Rectangle
 from garnav.demo import demo_garment
+from garnav.model import SEAM_SIDES
 from garnav.plan import Planner
 from garnav.plan.portals import seam_sides
 from garnav.plan.refine import Anchor, piece_path
@@ -27,7 +28,7 @@ def _anchor_at(g, crossing, arriving, t=None):
     """Anchor (point, tangent, inward normal, angle limit) of a crossing on the leaving side or,
     with ``arriving``, on the arriving side; at fraction t if given."""
     seam = g.seam(crossing.seam)
-    side = crossing_side(g, crossing)
+    side = SEAM_SIDES.index(crossing_side(g, crossing))  # portal sides are indexed 0 = a, 1 = b
     sides = seam_sides(g, seam, np.array([crossing.fraction if t is None else t]))
     xy, tan, inward = sides.side(1 - side if arriving else side)
     return Anchor(xy[0], tan[0], inward[0], seam.min_crossing_angle_deg)

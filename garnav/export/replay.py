@@ -24,7 +24,7 @@ from garnav.errors import QueryError
 from garnav.export.path import wrap_deg
 from garnav.export.commands import CommandList, Cross, Go, Start, Turn
 from garnav.export.seams import locate_on_run, seam_transfer
-from garnav.model import Garment
+from garnav.model import SEAM_SIDES, Garment, SeamSide
 
 __all__ = ["Pose", "ReplayCrossing", "Replay", "ReplayError", "replay_commands"]
 
@@ -103,7 +103,7 @@ class _Boundary:
     a: np.ndarray  # (m, 2) segment starts
     e: np.ndarray  # (m, 2) segment vectors, oriented so the fabric lies on their left
     label: tuple[str, ...]  # edge or opening name per segment
-    runs: tuple[tuple[str, str, np.ndarray], ...]  # (seam, side, run polyline) on this piece
+    runs: tuple[tuple[str, SeamSide, np.ndarray], ...]  # (seam, side, run polyline) on this piece
     polygon: shapely.Geometry  # the piece, openings as holes
 
 
@@ -128,9 +128,9 @@ def _boundaries(garment: Garment) -> dict[str, _Boundary]:
             labels += [f"opening '{opening.name}'"] * len(ring)
         runs = []
         for seam in garment.seams:
-            for side, run in (("a", seam.a), ("b", seam.b)):
-                if run.piece == piece.name:
-                    runs.append((seam.name, side, garment.run_polyline(run)))
+            for side in SEAM_SIDES:
+                if seam.run(side).piece == piece.name:
+                    runs.append((seam.name, side, garment.run_polyline(seam.run(side))))
         out[piece.name] = _Boundary(np.vstack(starts), np.vstack(vecs), tuple(labels), tuple(runs), piece.polygon)
     return out
 
@@ -160,7 +160,7 @@ def _first_exit(bound: _Boundary, p: np.ndarray, u: np.ndarray, reach: float):
     return None
 
 
-def _runs_under(bound: _Boundary, q: np.ndarray) -> list[tuple[float, str, str]]:
+def _runs_under(bound: _Boundary, q: np.ndarray) -> list[tuple[float, str, SeamSide]]:
     """Seam runs of the piece passing within ON_RUN_TOL_MM of q: (distance, seam, side), nearest first."""
     out = []
     for seam_name, side, pts in bound.runs:
@@ -242,7 +242,7 @@ class _Drive:
         last = self.poses[-1]
         self.poses[-1] = Pose(last.piece, last.x_mm, last.y_mm, wrap_deg(self.heading))
 
-    def cross(self, match: tuple[str, str, Cross | None], done: float) -> None:
+    def cross(self, match: tuple[str, SeamSide, Cross | None], done: float) -> None:
         """Carry the robot over seam ``match`` = (seam, side, announcing notice or None), ``done`` mm
         into the current go."""
         seam_name, side, notice = match

@@ -56,7 +56,7 @@ import shapely
 import shapely.ops
 from shapely import affinity
 
-from garnav.model import Circle, Garment, Robot, Seam, SeamRun
+from garnav.model import SEAM_SIDES, Circle, Garment, Robot, Seam, SeamRun, SeamSide, other_side
 from garnav.polyline import cumulative_length, point_at_length, sub_polyline
 
 __all__ = [
@@ -234,12 +234,12 @@ def run_frame(garment: Garment, run: SeamRun, fraction: float) -> tuple[np.ndarr
     return point, t, normal
 
 
-def seam_transform(garment: Garment, seam: Seam, to_side: str, fraction: float) -> np.ndarray:
+def seam_transform(garment: Garment, seam: Seam, to_side: SeamSide, fraction: float) -> np.ndarray:
     """Affine map (3, 3) from the partner piece's frame into the ``to_side`` piece's frame,
     aligning the two runs at ``fraction``: tangent onto tangent, and the partner's inward normal
     onto the *outward* normal of ``to_side`` (the partner's fabric continues beyond the seam).
     """
-    this, other = (seam.a, seam.b) if to_side == "a" else (seam.b, seam.a)
+    this, other = seam.run(to_side), seam.run(other_side(to_side))
     pa, ta, na = run_frame(garment, this, fraction)
     pb, tb, nb = run_frame(garment, other, fraction)
     lin = np.outer(ta, tb) - np.outer(na, nb)
@@ -301,8 +301,8 @@ def _carried(garment: Garment, own: dict[str, list], quad_segs: int) -> dict[str
     piece's frame and clipped to the band of their growth width along the seam."""
     carried: dict[str, list] = {p.name: [] for p in garment.pieces}
     for seam in sorted(garment.seams, key=lambda s: s.name):
-        for side in ("a", "b"):
-            this, other = (seam.a, seam.b) if side == "a" else (seam.b, seam.a)
+        for side in SEAM_SIDES:
+            this, other = seam.run(side), seam.run(other_side(side))
             other_line = shapely.LineString(garment.run_polyline(other))
             this_line = shapely.LineString(garment.run_polyline(this))
             for item in own[other.piece]:

@@ -23,12 +23,14 @@ keeps the heading before it (0 at the very start).
 from __future__ import annotations
 
 import math
+from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
 import shapely
 
-from garnav.model import Garment, Robot
+from garnav.errors import QueryError
+from garnav.model import SEAM_SIDES, Garment, Robot, SeamSide, other_side
 from garnav.plan.freespace import run_frame, seam_transform
 from garnav.plan.portals import crossing_angle_deg
 
@@ -40,6 +42,7 @@ __all__ = [
     "signed_angle_deg",
     "join_routes",
     "crossing_side",
+    "as_side",
     "route_headings_deg",
     "wrap_deg",
     "ZERO_STEP_MM",
@@ -69,6 +72,9 @@ class Crossing:
     ``point_from`` (2,) ends legs[i] (frame of ``from_piece``); ``point_to`` (2,) starts legs[i+1]
     (frame of ``to_piece``), the same 3D point. ``fraction`` is the position along run a (0..1);
     ``angle_deg`` the angle between the route and the seam tangent (0..90), on the arriving side.
+    ``from_side`` is the run the route leaves from ("a" or "b", :data:`garnav.model.SeamSide`);
+    every planned crossing records it. A hand-made crossing may leave it None, and
+    :func:`crossing_side` then finds it from the geometry.
     """
 
     seam: str
@@ -78,6 +84,7 @@ class Crossing:
     point_to: np.ndarray
     fraction: float
     angle_deg: float
+    from_side: SeamSide | None = None
 
 
 @dataclass(frozen=True, eq=False)
@@ -183,31 +190,36 @@ def make_route(
     garment: Garment,
     robot: Robot,
     legs: list[Leg],
-    crossing_data: list[tuple[str, float, int]],
+    crossing_data: Sequence[tuple[str, float, SeamSide | int]],
     cost: float,
 ) -> Route:
-    """Assemble a Route from legs and crossings given as (seam name, fraction, from side 0=a/1=b).
+    """Assemble a Route from legs and crossings given as (seam name, fraction, from side).
 
     Parameters
     ----------
+    crossing_data : sequence of (str, float, SeamSide)
+        The side is "a" or "b" (an index 0/1 into :data:`garnav.model.SEAM_SIDES` is accepted
+        from graph code that stores sides in integer arrays).
     cost : float
         Route cost (length + soft surcharges + crossing costs), computed by the caller.
     """
+    data = [(name, float(t), as_side(side)) for name, t, side in crossing_data]
     crossings = []
-    for i, (name, t, from_side) in enumerate(crossing_data):
+    for i, (name, t, from_side) in enumerate(data):
         seam = garment.seam(name)
-        runs = (seam.a, seam.b)
+        run_in, run_out = seam.run(from_side), seam.run(other_side(from_side))
         d_in = legs[i].points[-1] - legs[i].points[-2] if len(legs[i].points) >= 2 else np.zeros(2)
-        _, tan, _ = run_frame(garment, runs[from_side], t)
+        _, tan, _ = run_frame(garment, run_in, t)
         crossings.append(
             Crossing(
                 seam=name,
-                from_piece=runs[from_side].piece,
-                to_piece=runs[1 - from_side].piece,
+                from_piece=run_in.piece,
+                to_piece=run_out.piece,
                 point_from=legs[i].points[-1].copy(),
                 point_to=legs[i + 1].points[0].copy(),
-                fraction=float(t),
+                fraction=t,
                 angle_deg=crossing_angle_deg(d_in, tan),
+                from_side=from_side,
             )
         )
 
@@ -219,12 +231,12 @@ def make_route(
             d0 = leg.points[k] - leg.points[k - 1]
             d1 = leg.points[k + 1] - leg.points[k]
             turns.append(signed_angle_deg(d0, d1) if (d0.any() and d1.any()) else 0.0)
-        if i < len(crossing_data):
-            name, t, from_side = crossing_data[i]
+        if i < len(data):
+            name, t, from_side = data[i]
             seam = garment.seam(name)
             nxt = _directions(legs[i + 1].points)
             if dirs and nxt:
-                mat = seam_transform(garment, seam, "a" if from_side == 0 else "b", t)
+                mat = seam_transform(garment, seam, from_side, t)
                 turns.append(signed_angle_deg(dirs[-1], mat[:2, :2] @ nxt[0]))
             else:
                 turns.append(0.0)
@@ -244,7 +256,7 @@ def make_route(
 def join_routes(garment: Garment, robot: Robot, parts: list[Route]) -> Route:
     """Join routes end to start (the via points) into one; the joint becomes an ordinary vertex."""
     legs: list[Leg] = []
-    data: list[tuple[str, float, int]] = []
+    data: list[tuple[str, float, SeamSide | int]] = []
     cost = 0.0
     for r in parts:
         if legs:
@@ -259,12 +271,39 @@ def join_routes(garment: Garment, robot: Robot, parts: list[Route]) -> Route:
     return make_route(garment, robot, legs, data, cost)
 
 
-def crossing_side(garment: Garment, c: Crossing) -> int:
-    """0 when crossing ``c`` leaves from the seam's run a, 1 when from run b (the pieces alone do
-    not tell when both runs lie on one piece)."""
+def as_side(side: SeamSide | int) -> SeamSide:
+    """A seam side from "a"/"b" or its index 0/1 into :data:`garnav.model.SEAM_SIDES`.
+
+    >>> as_side(1), as_side("a")
+    ('b', 'a')
+    """
+    if isinstance(side, str):
+        if side not in SEAM_SIDES:
+            raise ValueError(f"seam side must be 'a' or 'b', not {side!r}")
+        return side
+    return SEAM_SIDES[int(side)]
+
+
+def crossing_side(garment: Garment, c: Crossing) -> SeamSide:
+    """The run ("a" or "b") crossing ``c`` leaves from: its recorded ``from_side``, or for a
+    hand-made crossing the run on ``from_piece`` nearest to ``point_from`` (the pieces alone do
+    not tell when both runs lie on one piece).
+
+    Raises
+    ------
+    QueryError
+        When ``from_piece`` is on neither run of the seam (or not on the recorded one).
+    """
     seam = garment.seam(c.seam)
-    if seam.a.piece != seam.b.piece:
-        return 0 if c.from_piece == seam.a.piece else 1
-    da = shapely.LineString(garment.run_polyline(seam.a)).distance(shapely.Point(*c.point_from))
-    db = shapely.LineString(garment.run_polyline(seam.b)).distance(shapely.Point(*c.point_from))
-    return 0 if da <= db else 1
+    sides = [s for s in SEAM_SIDES if seam.run(s).piece == c.from_piece]
+    if c.from_side is not None:
+        sides = [s for s in sides if s == c.from_side]
+    if not sides:
+        raise QueryError(
+            f"route crossing at seam '{c.seam}': piece '{c.from_piece}' is on "
+            + ("neither run of the seam" if c.from_side is None else f"not on its run {c.from_side}")
+        )
+    if len(sides) == 1:
+        return sides[0]
+    p = shapely.Point(*c.point_from)
+    return min(sides, key=lambda s: shapely.LineString(garment.run_polyline(seam.run(s))).distance(p))
