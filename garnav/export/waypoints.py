@@ -423,9 +423,10 @@ def read_route_document(path) -> dict:
             f"pattern_length_mm; path_3d); plan the route again to write length_mm, x, y, xyz, path3d"
         )
     for i, w in enumerate(wps):
-        for key, kind in (("leg", int), ("piece", str), ("x", (int, float)), ("y", (int, float))):
+        for key, kind, what in (("leg", int, "int"), ("piece", str, "str"), ("x", (int, float), "a number"),
+                                ("y", (int, float), "a number")):
             if not isinstance(w, dict) or not isinstance(w.get(key), kind) or isinstance(w.get(key), bool):
-                raise QueryError(f"{p}: waypoint {i}: '{key}' is missing or not {'a number' if key in ('x', 'y') else kind.__name__}")
+                raise QueryError(f"{p}: waypoint {i}: '{key}' is missing or not {what}")
     path3d = doc.get("path3d")
     if path3d is not None:
         if not isinstance(path3d, list) or not all(isinstance(q, list) and len(q) == 3 for q in path3d):

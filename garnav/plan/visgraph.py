@@ -216,10 +216,10 @@ def bitangent_pairs(region: shapely.Geometry, corners: Corners) -> tuple[np.ndar
 def inner_discs(region: shapely.Geometry) -> tuple[np.ndarray, np.ndarray]:
     """One open disc inside each hole of the region (centre (h, 2), radius (h,)): the hole's
     centroid and its distance to the hole's ring, where the centroid lies inside the hole."""
-    holes = [shapely.Polygon(r) for poly in shapely.get_parts(region) if not poly.is_empty for r in poly.interiors]
-    if not holes:
+    rings = [shapely.Polygon(r) for poly in shapely.get_parts(region) if not poly.is_empty for r in poly.interiors]
+    if not rings:
         return np.zeros((0, 2)), np.zeros(0)
-    holes = np.array(holes, dtype=object)
+    holes = np.array(rings, dtype=object)
     cent = shapely.centroid(holes)
     inside = shapely.contains_properly(holes, cent)
     radius = shapely.distance(cent, shapely.boundary(holes))
