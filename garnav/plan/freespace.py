@@ -57,7 +57,7 @@ import shapely.ops
 from shapely import affinity
 
 from garnav.model import SEAM_SIDES, Circle, Garment, Robot, Seam, SeamRun, SeamSide, other_side
-from garnav.polyline import cumulative_length, point_at_length, sub_polyline
+from garnav.polyline import cumulative_length, point_at_length, sub_polyline, tangent_at
 
 __all__ = [
     "DEFAULT_QUAD_SEGS",
@@ -220,15 +220,9 @@ def run_frame(garment: Garment, run: SeamRun, fraction: float) -> tuple[np.ndarr
     has it on its right.
     """
     pts = garment.run_polyline(run)
-    cum = cumulative_length(pts)
-    s = float(np.clip(fraction, 0.0, 1.0)) * cum[-1]
+    s = float(np.clip(fraction, 0.0, 1.0)) * cumulative_length(pts)[-1]
     point = point_at_length(pts, s)
-    seg = int(np.clip(np.searchsorted(cum, s, side="right") - 1, 0, len(pts) - 2))
-    # skip zero-length segments
-    while seg < len(pts) - 2 and cum[seg + 1] - cum[seg] <= 0:
-        seg += 1
-    d = pts[seg + 1] - pts[seg]
-    t = d / max(np.linalg.norm(d), 1e-300)
+    t = tangent_at(pts, s)
     left = np.array([-t[1], t[0]])
     normal = -left if run.reverse else left
     return point, t, normal

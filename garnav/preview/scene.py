@@ -27,6 +27,7 @@ import shapely
 from garnav.atomic import write_bytes_atomic
 from garnav.errors import GarnavError, MeshError
 from garnav.model import Garment
+from garnav.polyline import point_at_length, polyline_length, tangent_at
 from garnav.preview.sheet import ROUTE_COLOURS
 
 __all__ = [
@@ -277,12 +278,8 @@ def build_plotter(
         plotter.add_mesh(pv.Cube(center=pts[-1], x_length=4 * radius, y_length=4 * radius, z_length=4 * radius),
                          color=colour, lighting=False, name=f"route-{ri}-goal")
         # direction cones every ~8 % of the route length
-        seg = np.linalg.norm(np.diff(pts, axis=0), axis=1)
-        cum = np.r_[0.0, np.cumsum(seg)]
-        for s in np.arange(0.08, 0.95, 0.12) * cum[-1]:
-            k = int(np.clip(np.searchsorted(cum, s) - 1, 0, len(seg) - 1))
-            d = pts[k + 1] - pts[k]
-            c = pts[k] + d * ((s - cum[k]) / seg[k] if seg[k] > 0 else 0.0)
+        at = np.arange(0.08, 0.95, 0.12) * polyline_length(pts)
+        for c, d in zip(point_at_length(pts, at), tangent_at(pts, at)):
             plotter.add_mesh(pv.Cone(center=c, direction=d, height=5 * radius, radius=2 * radius, resolution=16),
                              color=colour, lighting=False)
     set_view(plotter, "front")

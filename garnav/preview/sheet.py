@@ -27,7 +27,7 @@ import shapely
 
 from garnav.atomic import write_bytes_atomic, write_text_atomic
 from garnav.model import Garment, Piece, Robot
-from garnav.polyline import cumulative_length, point_at_length, sub_polyline
+from garnav.polyline import cumulative_length, point_at_length, sub_polyline, tangent_at
 
 __all__ = [
     "Area",
@@ -165,12 +165,9 @@ def notch_fractions(length_a: float, length_b: float, spacing: float) -> np.ndar
 
 
 def _normal_at(points: np.ndarray, s: float) -> np.ndarray:
-    cum = cumulative_length(points)
-    k = int(np.clip(np.searchsorted(cum, s, side="right") - 1, 0, len(points) - 2))
-    d = points[k + 1] - points[k]
-    n = np.array([-d[1], d[0]])
-    norm = np.hypot(*n)
-    return n / norm if norm > 0 else np.array([0.0, 1.0])
+    """Unit left normal of a polyline at arc length ``s`` (+y where it has no direction)."""
+    t = tangent_at(points, s)
+    return np.array([-t[1], t[0]]) if t.any() else np.array([0.0, 1.0])
 
 
 def _to_sheet(piece: Piece, pts) -> np.ndarray:
