@@ -167,7 +167,7 @@ def test_ply_per_face_texcoords(tmp_path):
 
 
 def test_missing_file(tmp_path):
-    with pytest.raises(MeshError, match=r"nothing\.obj: file not found"):
+    with pytest.raises(MeshError, match=r"nothing\.obj: does not exist"):
         load_uv_mesh(tmp_path / "nothing.obj")
 
 

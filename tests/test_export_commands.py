@@ -205,7 +205,7 @@ def test_write_and_read_file(tmp_path):
     cl = route_commands(route, er.turned_panels())
     path = write_commands(tmp_path / "out" / "r.cmd", cl)
     assert read_commands(path) == cl
-    with pytest.raises(CommandSyntaxError, match="cannot read"):
+    with pytest.raises(CommandSyntaxError, match=r"missing\.cmd: does not exist"):
         read_commands(tmp_path / "missing.cmd")
 
 

@@ -42,6 +42,7 @@ from garnav.export.path import ZERO_STEP_MM
 from garnav.export.seams import seam_transfer
 from garnav.model import Garment, Robot
 from garnav.plan.route import crossing_side
+from garnav.textio import read_text
 
 __all__ = [
     "Turn",
@@ -492,12 +493,7 @@ def write_commands(path, commands: CommandList, comment: str | None = None):
 def read_commands(path) -> CommandList:
     """Read a ``garnav-commands`` file."""
     p = Path(path)
-    try:
-        text = p.read_text(encoding="utf-8")
-    except OSError as exc:
-        raise CommandSyntaxError(f"{p}: cannot read: {exc.strerror or exc}") from None
-    except UnicodeDecodeError as exc:
-        raise CommandSyntaxError(f"{p}: not UTF-8 text ({exc.reason} at byte {exc.start})") from None
+    text = read_text(p, lambda reason: CommandSyntaxError(f"{p}: {reason}"))
     return parse_commands(text, source=str(p))
 
 

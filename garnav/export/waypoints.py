@@ -35,6 +35,7 @@ from garnav.errors import QueryError
 from garnav.export.commands import CommandList, Turn, commands_to_json, route_commands
 from garnav.export.path import Waypoint, route_waypoints
 from garnav.model import Garment, Robot
+from garnav.textio import read_text
 
 __all__ = [
     "FORMAT_NAME",
@@ -392,12 +393,7 @@ def read_route_document(path) -> dict:
         Naming the file and the problem.
     """
     p = Path(path)
-    try:
-        text = p.read_text(encoding="utf-8")
-    except OSError as exc:
-        raise QueryError(f"{p}: cannot read: {exc.strerror or exc}") from None
-    except UnicodeDecodeError as exc:
-        raise QueryError(f"{p}: not UTF-8 text (bad byte at offset {exc.start})") from None
+    text = read_text(p, lambda reason: QueryError(f"{p}: {reason}"))
     try:
         doc = json.loads(text)
     except json.JSONDecodeError as exc:
