@@ -50,6 +50,7 @@ from __future__ import annotations
 import dataclasses
 import math
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 import shapely
@@ -57,6 +58,7 @@ import shapely.ops
 from shapely import affinity
 
 from garnav.model import SEAM_SIDES, Circle, Garment, Robot, Seam, SeamRun, SeamSide, other_side
+from garnav.plan.segtest import BoundaryIndex, boundary_index, segments_in_region
 from garnav.polyline import cumulative_length, point_at_length, sub_polyline, tangent_at
 
 __all__ = [
@@ -173,6 +175,18 @@ class PieceFreeSpace:
     region: shapely.Geometry
     obstacles: tuple[Obstacle, ...]
     soft: tuple[SoftZone, ...]
+
+    @cached_property
+    def boundary_index(self) -> BoundaryIndex | None:
+        """The grid index of the region's boundary edges for batch segment tests, built on first
+        use and kept with this free space (None for an empty or invalid region)."""
+        return boundary_index(self.region)
+
+    def segments_free(self, a: np.ndarray, b: np.ndarray) -> np.ndarray:
+        """Whether each segment a[i] → b[i] (each (m, 2), mm) lies in the free space (boundary
+        included), with this free space's own index; (m,) bool. Exact (see
+        :mod:`garnav.plan.segtest`)."""
+        return segments_in_region(self.region, a, b, index=self.boundary_index)
 
     def covers(self, points: np.ndarray) -> np.ndarray:
         """Whether each point (m, 2) lies in the free space (boundary included); (m,) bool."""
