@@ -74,7 +74,8 @@ def test_candidates_hold_every_triangle_the_segment_meets(scattered):
 def test_segments_along_edges_and_through_vertices():
     g, m = dm.flat_sheet(nx=40, ny=30)  # 10 mm cells, pattern = world x, y
     d = link_drape(g, m)
-    ids, loc = d._locator("panel")
+    pl = d.piece_locator("panel")
+    ids, loc = pl.faces, pl.locator
     p = np.array([[10.0, 50.0], [20.0, 20.0], [0.0, 0.0], [35.0, 35.0]])
     q = np.array([[200.0, 50.0], [120.0, 220.0], [300.0, 300.0], [35.0, 35.0]])
     hits = d.locate("panel", np.vstack([p, q]))
