@@ -5,8 +5,6 @@ from __future__ import annotations
 import os
 from pathlib import Path
 
-from garnav.drape.import_mesh import garment_from_mesh
-from garnav.drape.meshio import load_uv_mesh
 from garnav.errors import QueryError
 
 __all__ = ["register", "run", "parse_uv_scale"]
@@ -50,6 +48,9 @@ def parse_uv_scale(text: str | None) -> tuple[float, float] | None:
 
 
 def run(args) -> int:
+    from garnav.drape.import_mesh import garment_from_mesh
+    from garnav.drape.meshio import load_uv_mesh
+
     from garnav.spec import save_garment
 
     scale = parse_uv_scale(args.uv_scale)

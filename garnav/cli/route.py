@@ -14,14 +14,13 @@ import argparse
 import dataclasses
 from pathlib import Path
 
-from garnav.drape.inverse import pattern_locator
-from garnav.drape.lift import lift_route
-from garnav.drape.sources import garment_and_drape, is_mesh_path, spec_drape_locator
+from typing import TYPE_CHECKING
+
 from garnav.errors import MeshError, QueryError
-from garnav.export.commands import route_commands, write_commands
-from garnav.export.waypoints import route_document, write_route_csv, write_route_json
 from garnav.model import Robot
-from garnav.plan import Planner, Route
+
+if TYPE_CHECKING:  # the planner, drape and export load when the command runs (fast --help)
+    from garnav.plan import Route
 
 __all__ = ["register", "run", "route_summary"]
 
@@ -71,6 +70,13 @@ def register(subparsers: argparse._SubParsersAction) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
+    from garnav.drape.inverse import pattern_locator
+    from garnav.drape.lift import lift_route
+    from garnav.drape.sources import spec_drape_locator
+    from garnav.export.commands import route_commands, write_commands
+    from garnav.export.waypoints import route_document, write_route_csv, write_route_json
+    from garnav.plan import Planner
+
     garment, drape = _garment_and_drape(args)
     if drape is not None:
         locate = pattern_locator(drape, garment)
@@ -108,6 +114,8 @@ def run(args: argparse.Namespace) -> int:
 
 
 def _garment_and_drape(args: argparse.Namespace):
+    from garnav.drape.sources import garment_and_drape, is_mesh_path
+
     """The garment and the drape to lift onto: --drape MESH, else the spec's own drape (when it
     names one and --no-drape is not given), else none; a mesh GARMENT is its own drape."""
     given = getattr(args, "drape", None)  # None: not given; "": the spec's own; else a mesh file
