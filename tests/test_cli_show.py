@@ -88,7 +88,6 @@ def test_bad_route_files_are_named(two_panel_files, tmp_path, capsys):
 
 
 def test_demo_screenshot_shows_a_hand_made_route(tmp_path, capsys):
-    pytest.importorskip("garnav.drape.lift")  # the 3D view needs the drape module
     import matplotlib.image
 
     from garnav.preview.sheet import ROUTE_COLOURS

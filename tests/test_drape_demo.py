@@ -17,11 +17,6 @@ MESHES = Path(__file__).resolve().parent.parent / "meshes"
 SPEC = MESHES / "sensing_top.toml"
 DRAPE = MESHES / "sensing_top_drape.obj"
 
-pytestmark = pytest.mark.skipif(
-    not (SPEC.is_file() and DRAPE.is_file()), reason="demo files not built"
-)
-
-
 @pytest.fixture(scope="module")
 def demo():
     from garnav.spec import load_garment

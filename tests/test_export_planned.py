@@ -16,8 +16,6 @@ import numpy as np
 import pytest
 from scipy.spatial.transform import Rotation
 
-pytest.importorskip("garnav.plan.planner")  # runs once the planner is part of the package
-
 import export_routes as er  # noqa: E402
 import garments  # noqa: E402
 from garnav.demo import demo_garment  # noqa: E402
@@ -164,17 +162,16 @@ def test_turns_sum_like_the_planners_and_crossing_angles_agree(demo, small):
 
 
 def test_lifted_documents_have_unit_quaternions_along_the_normal(demo):
-    drape_mod = pytest.importorskip("garnav.drape.lift")
     from pathlib import Path
 
-    from garnav.drape import link_drape, load_uv_mesh
+    from garnav.drape import link_drape, lift_route, load_uv_mesh
 
     garment, routes = demo
     mesh = Path(__file__).resolve().parents[1] / "meshes" / "sensing_top_drape.obj"
     drape = link_drape(garment, load_uv_mesh(mesh))
     for route in routes[:20]:
         # routes may hug a seam edge, a few µm outside the mesh's rounded UVs: the default snap
-        lifted = drape_mod.lift_route(drape, garment, route)
+        lifted = lift_route(drape, garment, route)
         doc = route_document(route, garment, None, lifted)
         VALIDATOR.validate(doc)
         for w in doc["waypoints"]:

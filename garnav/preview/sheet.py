@@ -157,11 +157,16 @@ def notch_fractions(length_a: float, length_b: float, spacing: float) -> np.ndar
     """Fractions (k,) along a seam where partner notches go: evenly spaced, about ``spacing`` mm
     apart on the shorter run, never at the ends, at least one.
 
-    >>> notch_fractions(300.0, 280.0, 100.0).tolist()
+    The shorter run is cut into ``round(length / spacing)`` equal gaps (at least two), with a
+    notch between each two.
+
+    >>> notch_fractions(300.0, 280.0, 100.0).tolist()  # 3 gaps of 93.3 mm on the 280 mm run
     [0.3333333333333333, 0.6666666666666666]
+    >>> notch_fractions(40.0, 45.0, 100.0).tolist()  # a short seam still gets one
+    [0.5]
     """
-    n = max(1, int(round(min(length_a, length_b) / spacing)))
-    return np.arange(1, n + 1) / (n + 1) if n > 1 else np.array([0.5])
+    gaps = max(2, int(round(min(length_a, length_b) / spacing)))
+    return np.arange(1, gaps) / gaps
 
 
 def _normal_at(points: np.ndarray, s: float) -> np.ndarray:
