@@ -19,6 +19,9 @@ from benchmarks.measure import growth_exponent  # noqa: E402
 from benchmarks.report import TARGETS  # noqa: E402
 
 
+pytestmark = pytest.mark.slow  # one quick benchmark run (~15 s) behind every test here
+
+
 @pytest.fixture(scope="module")
 def quick_results(tmp_path_factory):
     out = tmp_path_factory.mktemp("bench")

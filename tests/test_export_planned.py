@@ -39,6 +39,9 @@ DEMO_PAIRS = (
 VALIDATOR = jsonschema.Draft202012Validator(route_schema())
 
 
+pytestmark = pytest.mark.slow  # planning the demo routes (~10 s) behind every test here
+
+
 def _random_routes(garment, planner, rng, count, max_attempts):
     """Routes between random free points (seeded), each end on a random piece."""
     names = [p.name for p in garment.pieces]

@@ -53,7 +53,7 @@ def test_schema_is_valid_draft_2020_12():
     jsonschema.Draft202012Validator.check_schema(route_schema())
 
 
-@pytest.mark.parametrize("lifted", [False, True])
+@pytest.mark.parametrize("lifted", [False, pytest.param(True, marks=pytest.mark.slow)])
 def test_every_document_validates_and_round_trips_through_json(lifted):
     count = 0
     for _route, _g, _robot, _lift, doc in _random_docs(50, lifted):

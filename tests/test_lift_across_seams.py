@@ -99,6 +99,7 @@ def test_routes_across_side_seams_match_exact_geodesics(open_torso):
 
 
 
+@pytest.mark.slow
 def test_routes_across_an_armhole_match_exact_geodesics(open_torso):
     """Across the curved armhole (a crease between cone and cylinder) the refined crossing keeps
     the route locally shortest; it must match the exact geodesic on the welded front + back +

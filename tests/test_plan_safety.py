@@ -11,6 +11,7 @@ import dataclasses
 import math
 
 import numpy as np
+import pytest
 import shapely
 from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
@@ -66,6 +67,7 @@ def _exact_distance(ko: KeepOut, line: shapely.LineString) -> float:
 
 @settings(max_examples=200, derandomize=True, deadline=None, suppress_health_check=[HealthCheck.too_slow, HealthCheck.filter_too_much])
 @given(scenario())
+@pytest.mark.slow
 def test_route_is_safe(case):
     kos, radius, start, goal = case
     base = garments.single_panel()
@@ -93,6 +95,7 @@ def test_route_is_safe(case):
     np.testing.assert_array_equal(pts[-1], t)
 
 
+@pytest.mark.slow
 def test_demo_routes_keep_their_distances():
     """Random routes on the demo garment: every leg keeps radius + clearance from the EXACT hard
     keep-outs of its piece and radius + margin from its open edges (shapely distances)."""
@@ -140,6 +143,7 @@ def seam_scenario(draw):
 
 @settings(max_examples=100, derandomize=True, deadline=None, suppress_health_check=[HealthCheck.too_slow, HealthCheck.filter_too_much])
 @given(seam_scenario())
+@pytest.mark.slow
 def test_route_across_seam_is_safe(case):
     """Across a seam the route keeps its distance from keep-outs on BOTH pieces, measured in the
     unfolded plane against the exact shapes (a keep-out must lie on one piece: those straddling

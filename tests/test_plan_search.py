@@ -64,10 +64,12 @@ def demo_planner():
     return Planner(demo_garment())
 
 
+@pytest.mark.slow
 def test_astar_equals_dijkstra_demo(demo_planner):
     _check_against_dijkstra(demo_planner, np.random.default_rng(3), 100)
 
 
+@pytest.mark.slow
 def test_heuristic_is_a_lower_bound_demo(demo_planner):
     """h(n) <= exact cost to the goal for every node (multi-source Dijkstra from the goal)."""
     from garnav.plan.search import heuristic_values

@@ -7,6 +7,7 @@ import re
 import tomllib
 from pathlib import Path
 
+import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
@@ -122,6 +123,7 @@ def garments(draw):
 
 @SETTINGS
 @given(garments())
+@pytest.mark.slow
 def test_generated_garments_round_trip(g):
     assert garment_problems(g) == []
     text = dumps_garment(g)
