@@ -87,6 +87,7 @@ def test_bad_route_files_are_named(two_panel_files, tmp_path, capsys):
     assert not (tmp_path / "s.svg").exists()
 
 
+@pytest.mark.slow
 def test_demo_screenshot_shows_a_hand_made_route(tmp_path, capsys):
     import matplotlib.image
 

@@ -107,6 +107,7 @@ def test_drape_edges_keep_their_pattern_length(design, loaded_drape):
     assert worst < 0.005
 
 
+@pytest.mark.slow
 def test_drape_is_one_consistently_oriented_surface(design, drape):
     mesh = trimesh.Trimesh(drape.vertices, drape.faces, process=False)
     assert mesh.is_winding_consistent
@@ -232,6 +233,7 @@ def test_landmark_check_catches_a_bad_point(design):
     assert _free_space_problems(replace(garment, landmarks=(bad,)))
 
 
+@pytest.mark.slow
 def test_triangulation_rejects_a_too_coarse_boundary():
     # a long slot side with lattice points on both sides is no Delaunay edge: any circle through
     # its ends holds a cap of height >= half its length on one side
@@ -266,6 +268,7 @@ def test_triangulation_rejects_a_too_coarse_boundary():
     assert cross.sum() / 2 == pytest.approx(area, rel=1e-9)
 
 
+@pytest.mark.slow
 def test_build_reproduces_committed_files(tmp_path):
     files = build_demo(tmp_path)
     for name in (SPEC_NAME, DRAPE_NAME, BODY_NAME):
@@ -302,6 +305,7 @@ def test_demo_garment_matches_design():
     }
 
 
+@pytest.mark.slow
 def test_mirrored_build_keeps_every_property():
     # left_x_sign = +1 mirrors the default layout (the wearer's left at +x)
     from garnav.demo.pattern import DemoDimensions

@@ -138,6 +138,7 @@ def demo_planner(demo):
 @pytest.mark.parametrize(
     "start, goal", [("omphalion", "dock"), ("wrist_left", "cervicale"), ("sternum_left", "wrist_right")]
 )
+@pytest.mark.slow
 def test_demo_planned_routes_lift(demo, demo_planner, start, goal):
     from garnav.drape import lift_route
 
@@ -173,6 +174,7 @@ def test_demo_planned_routes_lift(demo, demo_planner, start, goal):
         assert np.mean(np.einsum("ij,ij->i", lr.normals[sel], out) > 0) > 0.9
 
 
+@pytest.mark.slow
 def test_demo_world_point_through_the_planner(demo_planner):
     from garnav.errors import QueryError
 

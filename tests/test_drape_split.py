@@ -32,6 +32,7 @@ def _segments(rng, n):
     return p, q
 
 
+@pytest.mark.slow
 def test_split_points_are_the_segment_edge_intersections(scattered):
     dl, loc = scattered
     rng = np.random.default_rng(4)

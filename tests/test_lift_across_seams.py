@@ -57,6 +57,7 @@ def _welded_submesh(drape, pieces) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     return used, drape.positions[used], faces.reshape(-1, 3)
 
 
+@pytest.mark.slow
 def test_routes_across_side_seams_match_exact_geodesics(open_torso):
     garment, drape, planner = open_torso
     used, sub_pos, sub_faces = _welded_submesh(drape, ("front", "back"))

@@ -71,6 +71,7 @@ def demo_planner():
     return Planner(demo_garment())
 
 
+@pytest.mark.slow
 def test_wrist_to_chest_crosses_armhole_locally_shortest(demo_planner):
     route = demo_planner.route("wrist_left", "sternum_left")
     assert any(c.seam.startswith("armhole_left") for c in route.crossings)
@@ -78,6 +79,7 @@ def test_wrist_to_chest_crosses_armhole_locally_shortest(demo_planner):
 
 
 @pytest.mark.parametrize("a, b", [("wrist_left", "wrist_right"), ("omphalion", "acromion_left"), ("wrist_right", "dock")])
+@pytest.mark.slow
 def test_demo_crossings_locally_shortest(demo_planner, a, b):
     route = demo_planner.route(a, b)
     _assert_locally_shortest(demo_planner, route)

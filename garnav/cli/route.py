@@ -25,7 +25,7 @@ if TYPE_CHECKING:  # the planner, drape and export load when the command runs (f
 __all__ = ["register", "run", "route_summary"]
 
 
-def register(subparsers: argparse._SubParsersAction) -> None:
+def register(subparsers) -> None:
     parser = subparsers.add_parser(
         "route",
         help="plan the shortest safe route between two points of a garment",
