@@ -25,7 +25,7 @@ LAYERS = [
     {"export"},
     {"preview"},
     {"demo"},
-    {"cli", "__main__"},
+    {"cli", "__main__", "testing"},
 ]
 LAYER = {name: k for k, names in enumerate(LAYERS) for name in names}
 

@@ -18,6 +18,7 @@ import pytest
 import shapely
 
 from garnav.plan import PiecePoint, Planner
+from garnav.testing import validate_route
 from plan_courses import LazyCases, course, fast_then_slow
 
 BOX = shapely.box(60.0, 60.0, 540.0, 740.0)
@@ -54,6 +55,7 @@ def test_route_length_equals_pyvisgraph(courses, k):
         if region.covers(shapely.Point(*s)) and region.covers(shapely.Point(*g)):
             break
     route = planner.route(PiecePoint("panel", *s), PiecePoint("panel", *g))
+    validate_route(route, planner.garment, planner.free, start=("panel", *s), goal=("panel", *g))
     polys = [[vg.Point(x, y) for x, y in np.asarray(r.coords)[:-1]] for r in region.interiors]
     ref = vg.VisGraph()
     ref.build(polys, workers=1, status=False)

@@ -19,6 +19,7 @@ from shapely import affinity
 import garments
 from garnav import Circle, KeepOut, Rectangle
 from garnav.plan import PiecePoint, Planner
+from garnav.testing import validate_route
 from plan_courses import LazyCases, fast_then_slow
 
 BOX = shapely.box(60.0, 60.0, 540.0, 340.0)
@@ -79,6 +80,7 @@ def test_route_across_seam_equals_pyvisgraph_unfolded(cases, k):
         if planner.free["left"].covers(s[None])[0] and planner.free["right"].covers((t - [300, 0])[None])[0]:
             break
     route = planner.route(PiecePoint("left", *s), PiecePoint("right", *(t - [300.0, 0.0])))
+    validate_route(route, planner.garment, planner.free, start=("left", *s), goal=("right", *(t - [300.0, 0.0])))
     polys = [[vg.Point(x, y) for x, y in np.asarray(p.exterior.coords)[:-1]] for p in shapely.get_parts(holes)]
     ref = vg.VisGraph()
     ref.build(polys, workers=1, status=False)
