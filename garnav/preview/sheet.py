@@ -218,16 +218,35 @@ def sheet_drawing(
     """
     robot = robot or garment.robot
     pieces = {p.name: p for p in garment.pieces}
-    layers: list[tuple[str, tuple]] = []
+    layers: list[tuple[str, tuple]] = [
+        ("pieces", _layer_pieces(garment, style)),
+        ("open-edges", _layer_open_edges(garment, pieces, style)),
+        ("free-space", _layer_free_space(free_space, pieces, style)),
+        ("keepouts", _layer_keepouts(garment, pieces, free_space, robot, style)),
+        ("seams", _layer_seams(garment, pieces, style)),
+        ("names", _layer_names(garment, style)),
+        ("landmarks", _layer_landmarks(garment, pieces, style)),
+    ]
+    for ri, route in enumerate(routes):
+        layers.append((f"route-{ri}", tuple(_route_items(route, ri, pieces, style, route_names))))
 
+    layers.append(("scale", tuple(_scale_bar(garment.sheet_size_mm, style))))
+    w, h = garment.sheet_size_mm
+    return SheetDrawing(float(w), float(h), garment.name, style.paper, tuple(layers))
+
+
+def _layer_pieces(garment: Garment, style: SheetStyle) -> tuple:
+    """The pieces, their openings cut out."""
     base = []
     for p in garment.pieces:
         poly = shapely.Polygon(_to_sheet(p, p.outline), [_to_sheet(p, o.array) for o in p.openings])
         base += _polygon_areas(poly, style.piece_fill, style.piece_edge, style.edge_width, kind="piece",
                                info=(("piece", p.name),))
-    layers.append(("pieces", tuple(base)))
+    return tuple(base)
 
-    # open edges: heavier lines
+
+def _layer_open_edges(garment: Garment, pieces: dict[str, Piece], style: SheetStyle) -> tuple:
+    """Open edges (hems, cuffs, openings): heavier lines."""
     opens = []
     for run in garment.open_runs():
         p = pieces[run.piece]
@@ -240,8 +259,11 @@ def sheet_drawing(
             ring = np.vstack([o.array, o.array[:1]])
             opens.append(Line(_to_sheet(p, ring), style.open_edge, style.open_width, kind="open-edge",
                               info=(("piece", p.name), ("opening", o.name))))
-    layers.append(("open-edges", tuple(opens)))
+    return tuple(opens)
 
+
+def _layer_free_space(free_space, pieces: dict[str, Piece], style: SheetStyle) -> tuple:
+    """The planner's free space, grown keep-outs and soft zones (empty without a free space)."""
     zones = []
     if free_space is not None:
         for name in sorted(free_space.pieces):
@@ -255,8 +277,11 @@ def sheet_drawing(
                                         kind="soft", info=(("piece", name), ("zone", sz.name)))
             zones += _polygon_areas(_place(p, pfs.region), style.free_fill, opacity=0.75, kind="free",
                                     info=(("piece", name),))
-    layers.append(("free-space", tuple(zones)))
+    return tuple(zones)
 
+
+def _layer_keepouts(garment: Garment, pieces: dict[str, Piece], free_space, robot: Robot | None, style: SheetStyle) -> tuple:
+    """The keep-outs themselves (and, without a free space, their grown outline as a guide)."""
     kos = []
     for k in garment.keepouts:
         p = pieces[k.piece]
@@ -271,8 +296,11 @@ def sheet_drawing(
             kos.append(Line(ring, fill, 0.5, dash=(3.0, 2.0), kind="keepout-grown", info=(("keepout", k.name),)))
         c = _to_sheet(p, [[exact.centroid.x, exact.centroid.y]])[0]
         kos.append(Label((float(c[0]), float(c[1])), k.name, style.label_size * 0.6, style.text))
-    layers.append(("keepouts", tuple(kos)))
+    return tuple(kos)
 
+
+def _layer_seams(garment: Garment, pieces: dict[str, Piece], style: SheetStyle) -> tuple:
+    """Seam runs, partner notches and seam names."""
     seams = []
     for seam in garment.seams:
         runs = [garment.run_polyline(seam.a), garment.run_polyline(seam.b)]
@@ -297,8 +325,11 @@ def sheet_drawing(
             inward = n if p.polygon.contains(shapely.Point(*(mid + n * 0.5))) else -n
             at = _to_sheet(p, [mid + inward * (style.notch_len + style.label_size)])[0]
             seams.append(Label((float(at[0]), float(at[1])), seam.name, style.label_size * 0.55, style.seam))
-    layers.append(("seams", tuple(seams)))
+    return tuple(seams)
 
+
+def _layer_names(garment: Garment, style: SheetStyle) -> tuple:
+    """Piece names with their grainline arrows."""
     names = []
     for p in garment.pieces:
         rp = p.polygon.representative_point()
@@ -311,8 +342,11 @@ def sheet_drawing(
                           angle=math.atan2(d[1], d[0]), kind="grainline-head"))
         at = _to_sheet(p, [c + [0, span + 1.6 * style.label_size]])[0]
         names.append(Label((float(at[0]), float(at[1])), p.name, style.label_size * 1.3, style.text, bold=True))
-    layers.append(("names", tuple(names)))
+    return tuple(names)
 
+
+def _layer_landmarks(garment: Garment, pieces: dict[str, Piece], style: SheetStyle) -> tuple:
+    """Landmarks on the pattern."""
     lms = []
     for lm in garment.landmarks:
         if not lm.on_pattern or lm.piece not in pieces:
@@ -322,14 +356,7 @@ def sheet_drawing(
                         info=(("landmark", lm.name),)))
         lms.append(Label((float(at[0]), float(at[1]) - 0.9 * style.label_size), lm.name, style.label_size * 0.6,
                          style.landmark))
-    layers.append(("landmarks", tuple(lms)))
-
-    for ri, route in enumerate(routes):
-        layers.append((f"route-{ri}", tuple(_route_items(route, ri, pieces, style, route_names))))
-
-    layers.append(("scale", tuple(_scale_bar(garment.sheet_size_mm, style))))
-    w, h = garment.sheet_size_mm
-    return SheetDrawing(float(w), float(h), garment.name, style.paper, tuple(layers))
+    return tuple(lms)
 
 
 def _route_items(route, ri: int, pieces: dict[str, Piece], style: SheetStyle, names) -> list:
