@@ -87,7 +87,7 @@ def test_sleeve_is_an_annular_sector_of_angle_2_pi_r_over_s(design, side):
         np.full(len(cuff.points), s_w), rel=1e-6
     )
     # the cuff arc is the wrist circle's circumference 2π·r
-    assert cuff.length == pytest.approx(2.0 * math.pi * r_w, rel=1e-4)
+    assert cuff.length == pytest.approx(2.0 * math.pi * r_w, rel=7e-6)  # observed 6.4e-7 relative
     # the straight edges are generators: they point at the apex
     for end in (front[0], back[-1]):
         assert np.linalg.norm(end - apex) == pytest.approx(s_w, rel=1e-6)

@@ -56,7 +56,7 @@ def test_fitted_sheet_size():
     g2, m2 = dm.cone()
     w2, h2 = fit_sheet_size(m2)
     ratio = math.sqrt(m2.face_area_3d.sum() / np.abs(m2.face_area_uv).sum())
-    assert w2 == pytest.approx(ratio, rel=1e-3)
+    assert w2 == pytest.approx(ratio, rel=1e-4)  # observed 7.5e-6 relative
     assert w2 == pytest.approx(g2.sheet_size_mm[0], rel=1e-3)
 
 
@@ -83,7 +83,7 @@ def test_import_command_writes_a_spec(tmp_path):
     loaded = load_garment(out)
     assert loaded.drape == "meshes/panels.obj"
     assert len(loaded.pieces) == 2 and len(loaded.seams) == 1
-    assert sorted(p.area for p in loaded.pieces) == pytest.approx([120000.0, 120000.0])
+    assert sorted(p.area for p in loaded.pieces) == pytest.approx([120000.0, 120000.0], rel=2e-8)  # observed 1.4e-9 relative
 
 
 def test_closing_seam_that_folds_at_an_apex():

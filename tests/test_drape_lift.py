@@ -77,7 +77,7 @@ def test_cone_segment_lifts_to_geodesic(cone):
     # the straight segment lies in the sector (convex between its radii), so it is the geodesic;
     # its length by the law of cosines in the development plane
     geodesic = math.sqrt(sa**2 + sb**2 - 2 * sa * sb * math.cos(pb - pa))
-    assert _length(pts) == pytest.approx(geodesic, rel=2e-3)
+    assert _length(pts) == pytest.approx(geodesic, rel=4e-4)  # observed 3.6e-5 relative
 
 
 def test_round_trip_pattern_3d_pattern(cyl, cone):

@@ -44,7 +44,7 @@ def assert_replay_matches(route, garment, robot=None, via_text=False):
     assert [c.seam for c in rep.crossings] == [c.seam for c in route.crossings]
     assert all(c.announced for c in rep.crossings)
     assert rep.unmatched_notices == ()
-    assert rep.distance_mm == pytest.approx(route.length_mm, rel=1e-12)
+    assert rep.distance_mm == pytest.approx(route.length_mm, rel=3e-14)  # observed 3.0e-15 relative
     return rep
 
 

@@ -86,4 +86,4 @@ def test_route_across_seam_equals_pyvisgraph_unfolded(cases, k):
     ref.build(polys, workers=1, status=False)
     path = ref.shortest_path(vg.Point(*s), vg.Point(*t))
     ref_len = sum(np.hypot(a.x - b.x, a.y - b.y) for a, b in zip(path[:-1], path[1:]))
-    assert route.length_mm == pytest.approx(ref_len, rel=1e-6)
+    assert route.length_mm == pytest.approx(ref_len, rel=2e-8)  # observed 1.5e-9 relative (crossing refinement)
