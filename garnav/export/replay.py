@@ -22,7 +22,7 @@ import shapely
 
 from garnav.errors import QueryError
 from garnav.export.path import wrap_deg
-from garnav.export.commands import CommandList, Cross, Go, Start, Turn
+from garnav.export.commands import CommandList, Cross, Go, Start, Turn, Wait
 from garnav.export.seams import locate_on_run, seam_transfer
 from garnav.model import SEAM_SIDES, Garment, SeamSide
 
@@ -86,12 +86,15 @@ class Replay:
         Total distance driven.
     unmatched_notices : tuple of Cross
         Notices whose seam the robot did not meet where announced.
+    wait_s : float
+        Total time of the ``wait`` commands, s (a wait leaves the pose as it is).
     """
 
     poses: tuple[Pose, ...]
     crossings: tuple[ReplayCrossing, ...]
     distance_mm: float
     unmatched_notices: tuple[Cross, ...]
+    wait_s: float = 0.0
 
     @property
     def end(self) -> Pose:
@@ -205,8 +208,11 @@ def replay_commands(garment: Garment, commands: CommandList, start: Start | None
     if start.piece not in bounds:
         raise ReplayError(f"start piece '{start.piece}' is not in garment '{garment.name}'")
     state = _Drive(garment, bounds, start, 1.0 if commands.side == "outside" else -1.0)
+    waited = 0.0
     for cmd in commands.commands:
-        if isinstance(cmd, Turn):
+        if isinstance(cmd, Wait):
+            waited += float(cmd.seconds)
+        elif isinstance(cmd, Turn):
             state.turn(cmd)
         elif isinstance(cmd, Cross):
             state.notices.append(cmd)
@@ -215,7 +221,7 @@ def replay_commands(garment: Garment, commands: CommandList, start: Start | None
         else:  # pragma: no cover - CommandList is typed
             raise TypeError(f"not a command: {cmd!r}")
     state.unmatched.extend(state.notices)
-    return Replay(tuple(state.poses), tuple(state.crossings), state.travelled, tuple(state.unmatched))
+    return Replay(tuple(state.poses), tuple(state.crossings), state.travelled, tuple(state.unmatched), waited)
 
 
 class _Drive:

@@ -61,6 +61,7 @@ class SheetStyle:
     grown_fill: str = "#f4cccc"
     keepout_fill: str = "#e06666"
     soft_fill: str = "#f6b26b"
+    coverage_fill: str = "#7fa7cf"
     seam: str = "#3d5a80"
     landmark: str = "#1b263b"
     text: str = "#2b2118"
@@ -194,6 +195,7 @@ def sheet_drawing(
     robot: Robot | None = None,
     style: SheetStyle = SheetStyle(),
     route_names: Sequence[str] | None = None,
+    coverage=None,
 ) -> SheetDrawing:
     """Build the sheet drawing of a garment.
 
@@ -211,6 +213,9 @@ def sheet_drawing(
     style : SheetStyle
     route_names : sequence of str, optional
         Names written beside each route's start.
+    coverage : mapping piece -> shapely geometry, optional
+        Ground a sweep covers (piece frame, mm; :attr:`garnav.sweep.Sweep.covered`), shaded under
+        the routes.
 
     Returns
     -------
@@ -227,6 +232,8 @@ def sheet_drawing(
         ("names", _layer_names(garment, style)),
         ("landmarks", _layer_landmarks(garment, pieces, style)),
     ]
+    if coverage:
+        layers.append(("coverage", _layer_coverage(coverage, pieces, style)))
     for ri, route in enumerate(routes):
         layers.append((f"route-{ri}", tuple(_route_items(route, ri, pieces, style, route_names))))
 
@@ -357,6 +364,16 @@ def _layer_landmarks(garment: Garment, pieces: dict[str, Piece], style: SheetSty
         lms.append(Label((float(at[0]), float(at[1]) - 0.9 * style.label_size), lm.name, style.label_size * 0.6,
                          style.landmark))
     return tuple(lms)
+
+
+def _layer_coverage(coverage, pieces: dict[str, Piece], style: SheetStyle) -> tuple:
+    """The ground a sweep's sensor covers (piece -> polygon, piece frame, mm), shaded."""
+    cov = []
+    for name, geom in coverage.items():
+        if name in pieces:
+            cov += _polygon_areas(_place(pieces[name], geom.intersection(pieces[name].polygon)), style.coverage_fill,
+                                  opacity=0.55, kind="coverage", info=(("piece", name),))
+    return tuple(cov)
 
 
 def _route_items(route, ri: int, pieces: dict[str, Piece], style: SheetStyle, names) -> list:
