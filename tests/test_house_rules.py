@@ -17,13 +17,17 @@ MAX_LINES = 600
 LAYERS = [
     {"errors", "polyline"},
     {"atomic", "textio"},
+    {"mechanics.profile", "uncertainty.model"},  # robot profile sub-tables (model and spec read them)
     {"model"},
     {"garnav"},  # the package's own __init__ (re-exports the model)
     {"spec"},
-    {"plan"},
+    {"plan", "patterns"},
     {"drape"},
-    {"export"},
+    {"export", "mechanics"},
+    {"uncertainty", "sweep"},
+    {"telemetry"},
     {"preview"},
+    {"fleet", "page"},
     {"demo"},
     {"cli", "__main__", "testing"},
 ]
@@ -52,22 +56,45 @@ def _modules() -> dict[str, Path]:
     return out
 
 
-def _layer_of(module: str) -> int:
-    parts = module.split(".")
-    return LAYER[parts[1] if len(parts) > 1 else "garnav"]
-
-
 def _package_of(module: str) -> str:
+    """The layer unit of a module: its package, or the module itself where it has its own layer."""
     parts = module.split(".")
+    if len(parts) > 2 and ".".join(parts[1:3]) in LAYER:
+        return ".".join(parts[1:3])
     return parts[1] if len(parts) > 1 else "garnav"
 
 
+def _layer_of(module: str) -> int:
+    return LAYER[_package_of(module)]
+
+
+def _runtime_nodes(tree: ast.Module, top_level_only: bool):
+    """Nodes that run on import (``top_level_only``: not inside functions) or at all; the bodies
+    of ``if TYPE_CHECKING:`` blocks are skipped (they never import)."""
+    skip: set[int] = set()
+    for n in ast.walk(tree):
+        if isinstance(n, ast.If) and "TYPE_CHECKING" in ast.unparse(n.test):
+            for b in n.body:
+                skip.update(id(x) for x in ast.walk(b))
+
+    def walk(node):
+        for child in ast.iter_child_nodes(node):
+            if id(child) in skip or (top_level_only and isinstance(child, (ast.FunctionDef, ast.AsyncFunctionDef))):
+                continue
+            yield child
+            yield from walk(child)
+
+    return walk(tree)
+
+
 def _imports(tree: ast.Module, top_level_only: bool) -> set[str]:
-    nodes = tree.body if top_level_only else list(ast.walk(tree))
+    """garnav modules this module imports; ``from package import submodule`` counts the submodule."""
+    modules = _modules()
     out: set[str] = set()
-    for node in nodes:
+    for node in _runtime_nodes(tree, top_level_only):
         if isinstance(node, ast.ImportFrom) and node.module and node.module.split(".")[0] == "garnav":
-            out.add(node.module)
+            subs = [f"{node.module}.{a.name}" for a in node.names if f"{node.module}.{a.name}" in modules]
+            out.update(subs if len(subs) == len(node.names) else [node.module, *subs])
         elif isinstance(node, ast.Import):
             out.update(a.name for a in node.names if a.name.split(".")[0] == "garnav")
     return out

@@ -30,7 +30,7 @@ import numpy as np
 import shapely
 
 from garnav.errors import QueryError
-from garnav.model import SEAM_SIDES, Garment, Robot, SeamSide, other_side
+from garnav.model import SEAM_SIDES, Garment, Robot, Seam, SeamSide, other_side
 from garnav.plan.freespace import run_frame, seam_transform
 from garnav.plan.portals import crossing_angle_deg
 
@@ -42,6 +42,7 @@ __all__ = [
     "signed_angle_deg",
     "join_routes",
     "crossing_side",
+    "seam_side_at",
     "as_side",
     "route_headings_deg",
     "wrap_deg",
@@ -295,15 +296,32 @@ def crossing_side(garment: Garment, c: Crossing) -> SeamSide:
         When ``from_piece`` is on neither run of the seam (or not on the recorded one).
     """
     seam = garment.seam(c.seam)
-    sides = [s for s in SEAM_SIDES if seam.run(s).piece == c.from_piece]
     if c.from_side is not None:
-        sides = [s for s in sides if s == c.from_side]
-    if not sides:
+        if seam.run(c.from_side).piece != c.from_piece:
+            raise QueryError(f"route crossing at seam '{c.seam}': piece '{c.from_piece}' is not on "
+                             f"its run {c.from_side}")
+        return c.from_side
+    try:
+        return seam_side_at(garment, seam, c.from_piece, c.point_from)
+    except KeyError:
         raise QueryError(
-            f"route crossing at seam '{c.seam}': piece '{c.from_piece}' is on "
-            + ("neither run of the seam" if c.from_side is None else f"not on its run {c.from_side}")
-        )
+            f"route crossing at seam '{c.seam}': piece '{c.from_piece}' is on neither run of the seam"
+        ) from None
+
+
+def seam_side_at(garment: Garment, seam: Seam, piece: str, point: np.ndarray) -> SeamSide:
+    """The run of ``seam`` on ``piece`` that passes nearest to ``point`` (2,), piece frame, mm
+    (run a on a tie); the pieces alone do not tell when both runs lie on one piece.
+
+    Raises
+    ------
+    KeyError
+        When neither run lies on ``piece``.
+    """
+    sides = [s for s in SEAM_SIDES if seam.run(s).piece == piece]
+    if not sides:
+        raise KeyError(piece)
     if len(sides) == 1:
         return sides[0]
-    p = shapely.Point(*c.point_from)
+    p = shapely.Point(float(point[0]), float(point[1]))
     return min(sides, key=lambda s: shapely.LineString(garment.run_polyline(seam.run(s))).distance(p))
