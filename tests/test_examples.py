@@ -76,8 +76,6 @@ def test_export_for_robot(tmp_path, capsys):
 
 
 def test_import_pattern(tmp_path, capsys):
-    pytest.importorskip("ezdxf")
-    pytest.importorskip("svgelements")
     import math
 
     from garnav.spec import load_garment

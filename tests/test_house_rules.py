@@ -89,7 +89,7 @@ def _runtime_nodes(tree: ast.Module, top_level_only: bool):
 
 def _imports(tree: ast.Module, top_level_only: bool) -> set[str]:
     """garnav modules this module imports; ``from package import submodule`` counts the submodule."""
-    modules = _modules()
+    modules = MODULES
     out: set[str] = set()
     for node in _runtime_nodes(tree, top_level_only):
         if isinstance(node, ast.ImportFrom) and node.module and node.module.split(".")[0] == "garnav":
@@ -100,12 +100,16 @@ def _imports(tree: ast.Module, top_level_only: bool) -> set[str]:
     return out
 
 
+MODULES = _modules()
+TREES = {name: ast.parse(path.read_text(encoding="utf-8")) for name, path in MODULES.items()}
+
+
 def _trees():
-    return {name: ast.parse(path.read_text(encoding="utf-8")) for name, path in _modules().items()}
+    return TREES
 
 
 def test_every_package_has_a_layer():
-    assert {_package_of(m) for m in _modules()} <= set(LAYER)
+    assert {_package_of(m) for m in MODULES} <= set(LAYER)
 
 
 def test_imports_point_down_the_layers():
@@ -119,7 +123,7 @@ def test_imports_point_down_the_layers():
 
 def test_no_import_cycles():
     graph = nx.DiGraph()
-    modules = _modules()
+    modules = MODULES
     for name, tree in _trees().items():
         graph.add_node(name)
         for target in _imports(tree, top_level_only=True):
@@ -197,8 +201,8 @@ def _private_names_defined(tree: ast.Module) -> set[str]:
 
 def test_no_access_to_another_modules_private_attributes():
     found = set()
-    for path in _modules().values():
-        tree = ast.parse(path.read_text(encoding="utf-8"))
+    for name, path in MODULES.items():
+        tree = TREES[name]
         own = _private_names_defined(tree)
         for node in ast.walk(tree):
             if not isinstance(node, ast.Attribute):

@@ -455,8 +455,8 @@ def read_route_document(path) -> dict:
 
 def document_route(document: dict):
     """A Route-shaped view of a route document: ``legs`` (piece, points (n, 2) mm) and
-    ``crossings`` (seam, from_piece, to_piece, point_from, point_to, fraction, angle_deg), enough to
-    draw or lift it."""
+    ``crossings`` (seam, from_piece, to_piece, point_from, point_to, fraction, angle_deg) and the
+    document's own ``headings_deg`` (one per waypoint), enough to draw, lift or export it."""
     from types import SimpleNamespace
 
     legs: dict[int, list] = {}
@@ -478,4 +478,5 @@ def document_route(document: dict):
         )
         for c in document.get("crossings", [])
     )
-    return SimpleNamespace(legs=leg_objs, crossings=crossings)
+    headings = np.array([float(w["heading_deg"]) for w in document["waypoints"]], dtype=float)
+    return SimpleNamespace(legs=leg_objs, crossings=crossings, headings_deg=headings)

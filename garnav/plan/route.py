@@ -296,11 +296,12 @@ def crossing_side(garment: Garment, c: Crossing) -> SeamSide:
         When ``from_piece`` is on neither run of the seam (or not on the recorded one).
     """
     seam = garment.seam(c.seam)
-    if c.from_side is not None:
-        if seam.run(c.from_side).piece != c.from_piece:
+    recorded = getattr(c, "from_side", None)  # crossings read back from a file may not carry it
+    if recorded is not None:
+        if seam.run(recorded).piece != c.from_piece:
             raise QueryError(f"route crossing at seam '{c.seam}': piece '{c.from_piece}' is not on "
-                             f"its run {c.from_side}")
-        return c.from_side
+                             f"its run {recorded}")
+        return recorded
     try:
         return seam_side_at(garment, seam, c.from_piece, c.point_from)
     except KeyError:
