@@ -139,6 +139,7 @@ def test_drape_animation_frames(tmp_path):
     assert im.n_frames == 3 and im.size == (200, 160)
 
 
+@pytest.mark.slow
 def test_cli_pictures_and_robot_files(tmp_path, capsys):
     save_garment(two_panels(), tmp_path / "g.toml")
     (tmp_path / "mini.toml").write_text('[robot]\nname = "mini"\nradius_mm = 8.0\nspeed_mm_s = 30.0\n')

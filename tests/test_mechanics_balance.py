@@ -114,6 +114,7 @@ def test_worst_orientation_at_rest_is_90_plus_atan_mu():
         assert min(margin(t) for t in np.linspace(1, 179, 357)) >= 1.0 - 1e-12
 
 
+@pytest.mark.slow
 def test_heading_limits_match_the_margins():
     # The planner's cos ψ limits are the margin conditions solved for ψ: on either side of the
     # limit the recomputed margins cross the required value.

@@ -26,7 +26,6 @@ MESHES = Path(__file__).resolve().parent.parent / "meshes"
 SPEC = MESHES / "sensing_top.toml"
 DRAPE = MESHES / "sensing_top_drape.obj"
 
-pytestmark = pytest.mark.skipif(not (SPEC.is_file() and DRAPE.is_file()), reason="demo files not built")
 
 
 @pytest.fixture(scope="module")
@@ -43,6 +42,7 @@ def demo():
     return g, d, Planner(g, locate_3d=pattern_locator(d, g))
 
 
+@pytest.mark.slow
 def test_back_panel_coverage_at_least_99_percent(flat):
     g, planner = flat
     s = plan_sweep(g, parse_region("pieces:back"), swath_mm=10.0, planner=planner)
@@ -139,6 +139,7 @@ def test_cli_sweep_bad_region_is_one_message(capsys):
     assert "unknown piece 'bak'" in err and "Traceback" not in err
 
 
+@pytest.mark.slow
 def test_coverage_on_the_sheet(flat):
     from garnav.preview.sheet import sheet_drawing
 

@@ -21,7 +21,7 @@ CAUTION = ("Caution: several magnet-held robots on one wearer multiply the risks
            "within reach. garnav plans; it certifies nothing.")
 
 
-def register(subparsers: argparse._SubParsersAction) -> None:
+def register(subparsers) -> None:
     parser = subparsers.add_parser(
         "fleet",
         help="plan timed, conflict-free schedules for several robots on one garment",

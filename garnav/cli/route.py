@@ -20,20 +20,18 @@ from __future__ import annotations
 import argparse
 import dataclasses
 from pathlib import Path
+from typing import TYPE_CHECKING
 
-from garnav.drape.inverse import pattern_locator
-from garnav.drape.lift import lift_route
-from garnav.drape.sources import garment_and_drape, is_mesh_path, spec_drape_locator
 from garnav.errors import MeshError, QueryError
-from garnav.export.commands import route_commands, write_commands
-from garnav.export.waypoints import route_document, write_route_csv, write_route_json
 from garnav.model import Robot
-from garnav.plan import Planner, Route
+
+if TYPE_CHECKING:  # the planner, drape and export load when the command runs (fast --help)
+    from garnav.plan import Planner, Route
 
 __all__ = ["register", "run", "route_summary"]
 
 
-def register(subparsers: argparse._SubParsersAction) -> None:
+def register(subparsers) -> None:
     parser = subparsers.add_parser(
         "route",
         help="plan the shortest safe route between two points of a garment",
@@ -98,6 +96,13 @@ def run(args: argparse.Namespace) -> int:
         from garnav.mechanics.gravity import parse_gravity
 
         parse_gravity(args.gravity, args.posture)  # a bad posture fails before any work
+    from garnav.drape.inverse import pattern_locator
+    from garnav.drape.lift import lift_route
+    from garnav.drape.sources import spec_drape_locator
+    from garnav.export.commands import route_commands, write_commands
+    from garnav.export.waypoints import route_document, write_route_csv, write_route_json
+    from garnav.plan import Planner
+
     garment, drape = _garment_and_drape(args)
     if drape is not None:
         locate = pattern_locator(drape, garment)
@@ -200,6 +205,8 @@ def dock_line(dock: dict | None) -> str:
 def _garment_and_drape(args: argparse.Namespace):
     """The garment and the drape to lift onto: --drape MESH, else the spec's own drape (when it
     names one and --no-drape is not given), else none; a mesh GARMENT is its own drape."""
+    from garnav.drape.sources import garment_and_drape, is_mesh_path
+
     given = getattr(args, "drape", None)  # None: not given; "": the spec's own; else a mesh file
     if is_mesh_path(args.garment):
         if getattr(args, "no_drape", False):

@@ -10,16 +10,14 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from garnav.cli._routes import add_garment_option, route_inputs
 from garnav.errors import QueryError
-from garnav.telemetry.logfile import write_log, write_truth
-from garnav.telemetry.simulate import simulate_run
-from garnav.uncertainty.model import OdometryModel
 
 __all__ = ["register", "run"]
 
 
-def register(subparsers: argparse._SubParsersAction) -> None:
+def register(subparsers) -> None:
+    from garnav.cli._routes import add_garment_option
+
     parser = subparsers.add_parser(
         "simulate",
         help="simulate a robot driving a route and write its telemetry log and ground truth",
@@ -39,6 +37,11 @@ def register(subparsers: argparse._SubParsersAction) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
+    from garnav.cli._routes import route_inputs
+    from garnav.telemetry.logfile import write_log, write_truth
+    from garnav.telemetry.simulate import simulate_run
+    from garnav.uncertainty.model import OdometryModel
+
     if not 0.1 <= args.rate <= 1000.0:
         raise QueryError(f"--rate must be within 0.1..1000 Hz, got {args.rate:g}")
     garment, robot, commands, _ = route_inputs(args.route, args.garment)

@@ -13,16 +13,8 @@ import argparse
 import dataclasses
 from pathlib import Path
 
-from garnav.drape.inverse import pattern_locator
-from garnav.drape.lift import lift_route
-from garnav.drape.sources import garment_and_drape, is_mesh_path, spec_drape_locator
 from garnav.errors import MeshError, QueryError
-from garnav.export.commands import route_commands, write_commands
-from garnav.export.waypoints import write_route_csv, write_route_json
 from garnav.model import Robot
-from garnav.plan import Planner
-from garnav.sweep import coverage_face_mask, figures_lines, parse_region, plan_sweep, resolve_region, sweep_document
-from garnav.sweep.plan import swath_of
 
 __all__ = ["register", "run"]
 
@@ -33,7 +25,7 @@ CAUTION = (
 )
 
 
-def register(subparsers: argparse._SubParsersAction) -> None:
+def register(subparsers) -> None:
     parser = subparsers.add_parser(
         "sweep",
         help="plan a route whose sensor covers a region of the garment",
@@ -68,6 +60,15 @@ def register(subparsers: argparse._SubParsersAction) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
+    from garnav.drape.inverse import pattern_locator
+    from garnav.drape.lift import lift_route
+    from garnav.drape.sources import spec_drape_locator
+    from garnav.export.commands import route_commands, write_commands
+    from garnav.export.waypoints import write_route_csv, write_route_json
+    from garnav.plan import Planner
+    from garnav.sweep import coverage_face_mask, figures_lines, parse_region, plan_sweep, resolve_region, sweep_document
+    from garnav.sweep.plan import swath_of
+
     if args.sheet and Path(args.sheet).suffix.lower() not in (".svg", ".png"):
         raise QueryError(f"--sheet {args.sheet}: use a .svg or .png file name")
     region = parse_region(args.region)
@@ -121,6 +122,8 @@ def run(args: argparse.Namespace) -> int:
 
 def _garment_and_drape(args: argparse.Namespace):
     """The garment and its drape: --drape MESH, else the spec's own (unless --no-drape)."""
+    from garnav.drape.sources import garment_and_drape, is_mesh_path
+
     if is_mesh_path(args.garment):
         if args.no_drape:
             raise QueryError(f"--no-drape: {args.garment} is a mesh, which is its own drape")

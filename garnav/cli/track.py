@@ -15,15 +15,11 @@ from pathlib import Path
 from garnav.atomic import write_text_atomic
 from garnav.errors import MeshError, QueryError
 from garnav.model import Robot
-from garnav.telemetry.logfile import TelemetryError, read_log
-from garnav.telemetry.report import sample_xyz, track_document, track_lines
-from garnav.telemetry.track import compare_to_plan, track_log
-from garnav.uncertainty.model import OdometryModel
 
 __all__ = ["register", "run"]
 
 
-def register(subparsers: argparse._SubParsersAction) -> None:
+def register(subparsers) -> None:
     parser = subparsers.add_parser(
         "track",
         help="replay a telemetry log into a track on the garment; compare it with a plan",
@@ -47,6 +43,11 @@ def register(subparsers: argparse._SubParsersAction) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
+    from garnav.telemetry.logfile import TelemetryError, read_log
+    from garnav.telemetry.report import sample_xyz, track_document, track_lines
+    from garnav.telemetry.track import compare_to_plan, track_log
+    from garnav.uncertainty.model import OdometryModel
+
     from garnav.drape.sources import garment_and_drape
 
     if not args.tolerance > 0:

@@ -224,7 +224,7 @@ class FleetPlanner:
             if self.seed_routes and a.route is not None:
                 seeds.extend((leg.piece, leg.points) for leg in a.route.legs)
                 for c in a.route.crossings:
-                    side = "a" if crossing_side(self.garment, c) == 0 else "b"
+                    side = crossing_side(self.garment, c)
                     crossings.append((c.seam, side, c.fraction, c.from_piece, c.point_from, c.to_piece, c.point_to))
         free = {name: pl.free for name, pl in self.planners.items()}
         self.roadmap: Roadmap = build_roadmap(self.garment, free, seeds, crossings, self.spacing)
