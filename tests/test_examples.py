@@ -70,3 +70,14 @@ def test_export_for_robot(tmp_path, capsys):
     assert result["miss_mm"] < 1e-3
     assert [c.seam for c in result["replay"].crossings] == doc["summary"]["seams_crossed"]
     assert "replay: ends on yoke" in text and "crossed armhole_right_back" in text
+
+
+@pytest.mark.slow
+def test_drivable_routes(tmp_path, capsys):
+    results = _main("drivable_routes.py")([str(tmp_path)])
+    assert json.loads((tmp_path / "drivable.json").read_text()) == results
+    assert all(r["safe"] for r in results)
+    up = next(r for r in results if r["posture"] == "upright" and r["goal"] == "suprasternale")
+    assert up["method"] == "lattice"  # straight up the chest is too steep for the demo drive
+    lying = next(r for r in results if r["posture"] == "supine" and r["goal"] == "suprasternale")
+    assert lying["method"] == "length-optimal" and lying["energy_j"] < up["energy_j"]  # level when lying
