@@ -40,6 +40,8 @@ __all__ = [
     "drape_edges",
     "keepout_face_mask",
     "route_polyline",
+    "landmark_points",
+    "keepout_outline_3d",
     "build_plotter",
     "screenshot_png",
     "views_png",
@@ -61,6 +63,7 @@ class SceneStyle:
     open_edge: str = "#6b4423"
     keepout: str = "#c0392b"
     landmark: str = "#1b1b3a"
+    coverage: str = "#5b8fc7"
     line_width: float = 3.0
 
 
@@ -226,6 +229,7 @@ def build_plotter(
     size: tuple[int, int] = (1200, 900),
     style: SceneStyle = SceneStyle(),
     labels: bool = True,
+    covered_faces: np.ndarray | None = None,
 ):
     """A pyvista Plotter showing the scene.
 
@@ -242,6 +246,9 @@ def build_plotter(
     size : (width, height) in pixels
     labels : bool
         Draw landmark labels (text rendering).
+    covered_faces : (F,) bool array, optional
+        Drape triangles a sweep covers, shaded in ``style.coverage`` (see
+        :func:`garnav.sweep.coverage_face_mask`).
     """
     import pyvista as pv
 
@@ -265,6 +272,8 @@ def build_plotter(
         colours = np.array([_rgb(PIECE_COLOURS[i % len(PIECE_COLOURS)]) for i in range(len(drape.piece_names))])
         face_rgb = colours[np.asarray(drape.face_piece)]
         mask = keepout_face_mask(garment, drape)
+        if covered_faces is not None:
+            face_rgb[np.asarray(covered_faces, dtype=bool)] = _rgb(style.coverage)
         face_rgb[mask] = _rgb(style.keepout)
         cloth.cell_data["colour"] = (face_rgb * 255).astype(np.uint8)
         plotter.add_mesh(cloth, scalars="colour", rgb=True, show_edges=False, name="drape", specular=0.05)
@@ -274,25 +283,11 @@ def build_plotter(
             if lines is not None:
                 plotter.add_mesh(lines.tube(radius=0.0015 * scale, n_sides=8), color=colour, name=name)
         for k in garment.keepouts:
-            outline = _keepout_outline_3d(drape, k)
+            outline = keepout_outline_3d(drape, k)
             if outline is not None:
                 plotter.add_mesh(pv.lines_from_points(outline).tube(radius=0.0025 * scale, n_sides=8),
                                  color=style.keepout, name=f"keepout-{k.name}")
-        marks, names, normals = [], [], []
-        for lm in garment.landmarks:
-            if lm.on_pattern and lm.piece in drape.piece_names:
-                try:
-                    hits = drape.locate(lm.piece, np.array([[lm.x, lm.y]]), 1.0)
-                except GarnavError:
-                    continue
-                marks.append(drape.to_3d(hits.face, hits.bary)[0])
-                normals.append(drape.normals_at(hits.face, hits.bary)[0] if hasattr(drape, "normals_at") else None)
-            elif lm.xyz is not None:
-                marks.append(np.asarray(lm.xyz, dtype=float))
-                normals.append(_surface_normal(drape, marks[-1]))
-            else:
-                continue
-            names.append(lm.name)
+        marks, names, normals = landmark_points(garment, drape)
         if marks:
             pts = pv.PolyData(np.array(marks))
             plotter.add_mesh(pts.glyph(geom=pv.Sphere(radius=0.006 * scale), scale=False, orient=False),
@@ -345,6 +340,39 @@ def build_plotter(
     return plotter
 
 
+def landmark_points(garment: Garment, drape) -> tuple[list[np.ndarray], list[str], list[np.ndarray | None]]:
+    """Where the garment's landmarks are on the drape.
+
+    Pattern landmarks are located on their piece (snapped up to 1 mm) and mapped to 3D; body
+    landmarks (``xyz``) stay where they are, with the normal of the nearest surface point. Landmarks
+    that are off the drape are left out.
+
+    Returns
+    -------
+    points : list of (3,) arrays, world mm
+    names : list of str
+    normals : list of (3,) unit arrays, or None where the drape cannot tell
+    """
+    marks: list[np.ndarray] = []
+    names: list[str] = []
+    normals: list[np.ndarray | None] = []
+    for lm in garment.landmarks:
+        if lm.on_pattern and lm.piece in drape.piece_names:
+            try:
+                hits = drape.locate(lm.piece, np.array([[lm.x, lm.y]]), 1.0)
+            except GarnavError:
+                continue
+            marks.append(drape.to_3d(hits.face, hits.bary)[0])
+            normals.append(drape.normals_at(hits.face, hits.bary)[0] if hasattr(drape, "normals_at") else None)
+        elif lm.xyz is not None:
+            marks.append(np.asarray(lm.xyz, dtype=float))
+            normals.append(_surface_normal(drape, marks[-1]))
+        else:
+            continue
+        names.append(lm.name)
+    return marks, names, normals
+
+
 def _surface_normal(drape, xyz: np.ndarray) -> np.ndarray | None:
     """Outward normal of the drape at the surface point closest to ``xyz``, or None when the drape
     cannot tell (a stand-in without a mesh)."""
@@ -357,7 +385,7 @@ def _surface_normal(drape, xyz: np.ndarray) -> np.ndarray | None:
         return None
 
 
-def _keepout_outline_3d(drape, keepout, step_mm: float = 2.0) -> np.ndarray | None:
+def keepout_outline_3d(drape, keepout, step_mm: float = 2.0) -> np.ndarray | None:
     """The keep-out's outline (closed, sampled every ``step_mm``) on the drape, or None when it is
     not on the drape's piece or leaves the mesh."""
     if keepout.piece not in drape.piece_names:

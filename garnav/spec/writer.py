@@ -110,6 +110,12 @@ def robot_to_dict(r: Robot) -> dict[str, Any]:
         from garnav.mechanics.profile import physics_to_table
 
         d["physics"] = physics_to_table(r.physics)
+    if r.sensor_swath_mm is not None:
+        d["sensor_swath_mm"] = _f(r.sensor_swath_mm)
+    if r.odometry is not None:  # [robot.odometry]: garnav.uncertainty
+        from garnav.uncertainty.model import odometry_to_dict
+
+        d["odometry"] = odometry_to_dict(r.odometry)
     return d
 
 
