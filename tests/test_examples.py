@@ -91,3 +91,14 @@ def test_import_pattern(tmp_path, capsys):
     assert result["route"].length_mm == pytest.approx(math.hypot(170.0, 130.0), abs=1e-6)
     assert result["route"].seams_crossed == ("side_1",)
     assert (tmp_path / "vest.dxf").exists()
+
+
+@pytest.mark.slow
+def test_drivable_routes(tmp_path, capsys):
+    results = _main("drivable_routes.py")([str(tmp_path)])
+    assert json.loads((tmp_path / "drivable.json").read_text()) == results
+    assert all(r["safe"] for r in results)
+    up = next(r for r in results if r["posture"] == "upright" and r["goal"] == "suprasternale")
+    assert up["method"] == "lattice"  # straight up the chest is too steep for the demo drive
+    lying = next(r for r in results if r["posture"] == "supine" and r["goal"] == "suprasternale")
+    assert lying["method"] == "length-optimal" and lying["energy_j"] < up["energy_j"]  # level when lying
