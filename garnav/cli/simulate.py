@@ -24,7 +24,8 @@ def register(subparsers) -> None:
         description="Drive the route's commands with odometry errors sampled from the robot's "
         "[robot.odometry] model (docs/uncertainty.md) and write the telemetry log a real robot "
         "would send — time, left and right encoder ticks (wrapping counters), gyro rate about the "
-        "surface normal, seam-bump flag — and, separately, the ground truth (docs/telemetry.md).",
+        "surface normal, seam-bump flag — and, separately, the ground truth (docs/telemetry.md). "
+        "A simulation shows the model, not that a robot is safe on a body.",
     )
     parser.add_argument("route", metavar="ROUTE.json", help="a garnav-route document (garnav route --json)")
     add_garment_option(parser)

@@ -38,7 +38,7 @@ def register(subparsers) -> None:
     parser.add_argument("--no-drape", action="store_true", help="do not lift the track onto the spec's drape")
     parser.add_argument("--json", metavar="OUT", help="write the track document as JSON")
     parser.add_argument("--sheet", metavar="FILE", help="draw plan and track on the pattern sheet (.svg or .png)")
-    parser.add_argument("--screenshot", metavar="PNG", help="render plan and track on the drape to a PNG (needs a drape)")
+    parser.add_argument("--screenshot", metavar="PNG", help="render plan and track on the drape to a PNG, front and back views side by side (needs a drape)")
     parser.set_defaults(func=run)
 
 
@@ -120,7 +120,8 @@ def _draw(args, garment, drape, track, plan_doc) -> None:
         print(f"sheet       {args.sheet}")
     if args.screenshot:
         from garnav.drape.lift import lift_route
-        from garnav.preview.scene import SceneRoute, build_plotter, off_screen_environment, write_screenshot
+        from garnav.atomic import write_bytes_atomic
+        from garnav.preview.scene import SceneRoute, build_plotter, off_screen_environment, views_png
 
         off_screen_environment()
         routes = []
@@ -129,7 +130,7 @@ def _draw(args, garment, drape, track, plan_doc) -> None:
             routes.append(SceneRoute(name, lifted.points, lifted.normals))
         plotter = build_plotter(garment, drape, None, routes, off_screen=True, size=(900, 900))
         try:
-            write_screenshot(args.screenshot, plotter)
+            write_bytes_atomic(args.screenshot, views_png(plotter, ("front", "back")))
         finally:
             plotter.close()
         print(f"3D view     {args.screenshot}")
