@@ -240,3 +240,23 @@ def test_cli_page_of_the_committed_demo_spec_with_drape_and_mannequin(tmp_path, 
     assert {"garment", "body", "keepouts", "edges", "landmarks", "route-0"} <= groups
     body = next(p for p in scene["parts"] if p["group"] == "body")
     assert body["triangle_count"] <= 10000 and "The mannequin was simplified for this page from 23,424" in text
+
+
+@pytest.mark.parametrize(
+    "change, message",
+    [
+        ({"summary": "fast"}, "'summary' must be an object, not str"),
+        ({"length_mm": "long"}, "'length_mm' and 'summary.estimated_time_s' must be numbers"),
+        ({"drift": 0.5}, "'drift' must be an object, not float"),
+    ],
+)
+def test_cli_refuses_route_figures_of_the_wrong_type(page_files, tmp_path, capsys, change, message):
+    spec, route = page_files
+    doc = json.loads(route.read_text())
+    doc.update(change)
+    bad = tmp_path / "bad.json"
+    bad.write_text(json.dumps(doc))
+    out = tmp_path / "plan.html"
+    assert main(["page", str(spec), str(bad), "--out", str(out)]) == 2
+    err = capsys.readouterr().err
+    assert f"{bad}: {message}" in err and len(err.strip().splitlines()) == 1 and not out.exists()
