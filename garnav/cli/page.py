@@ -24,6 +24,9 @@ def register(subparsers) -> None:
         help="write a plan as one self-contained web page (3D view, sheet, figures, cautions)",
         description="Write one HTML file that works offline: the draped garment and routes in 3D, "
         "the pattern sheet, the route figures, a legend and the safety cautions.",
+        epilog="The page shows a plan; it certifies nothing. It repeats the cautions: magnets can disturb "
+        "implanted devices (the device maker and the wearer's clinician decide), keep robots off the neck "
+        "and face, use batteries as their maker says, keep an emergency stop within reach. See docs/page.md.",
     )
     parser.add_argument("garment", help="garment spec file (.toml), or a UV-mapped mesh whose UV islands are the pieces")
     parser.add_argument("routes", nargs="+", metavar="ROUTE.json", help="route files written by 'garnav route --json'")
