@@ -29,7 +29,7 @@ from garnav.errors import QueryError  # noqa: E402
 from garnav.export.waypoints import route_document, write_route_json  # noqa: E402
 from garnav.page import plan_page, route_figures  # noqa: E402
 from garnav.page.encode import dequantise, quantisation, quantise  # noqa: E402
-from garnav.page.figures import table_columns  # noqa: E402
+from garnav.page.figures import cell_text, table_columns  # noqa: E402
 from garnav.page.geometry import BodyZone, ScenePart  # noqa: E402
 from garnav.spec import save_garment  # noqa: E402
 
@@ -137,13 +137,18 @@ def test_physics_and_drift_figures_are_shown_when_present(cylinder_page):
     _, docs, _ = cylinder_page
     doc = dict(docs[0][1])
     doc["physics"] = {"posture": "upright", "energy_j": 12.5, "energy_mah": 0.94, "battery_used_fraction": 0.0094,
-                      "min_grip_margin": 2.4, "min_hold_margin": 1.7, "min_drive_margin": 3.1,
-                      "unsafe_segments": []}
+                      "charge_left_fraction": 0.99, "battery_ok": True, "time_s": 20.0,
+                      "min_grip_margin": 2.4, "min_hold_margin": 1.7, "min_drive_margin": 1.2,
+                      "safety_factor": 1.5, "drive_safety_factor": 1.1, "unsafe_segments": []}
     doc["drift"] = {"overall_contact_probability": 0.012, "runs": 10000}
     row = route_figures("r0", doc)
     assert (row.energy_j, row.energy_mah, row.battery_used_fraction) == (12.5, 0.94, 0.0094)
-    assert row.worst_margin == ("hold", 1.7) and row.unsafe_segments == 0 and row.risk == 0.012
+    # closest to its requirement: drive 1.2 / 1.1 = 1.09, before hold 1.7 / 1.5 = 1.13 (docs/physics.md)
+    assert row.worst_margin == ("drive", 1.2) and row.unsafe_segments == 0 and row.risk == 0.012
+    assert cell_text(row, "margin") == "1.20 drive (needs ≥ 1.1)"
+    assert cell_text(row, "battery") == "0.9 % used, 99.0 % left"
     assert ("physics.posture", "upright") in row.more and ("drift.runs", "10000") in row.more
+    assert not any(k in ("physics.time_s", "physics.safety_factor") for k, _ in row.more)
     keys = [k for k, _ in table_columns([row, route_figures("r1", docs[1][1])])]
     assert keys[-6:] == ["energy", "battery", "margin", "unsafe", "risk", "more"]
     bad = dict(doc, physics=[1, 2])

@@ -23,9 +23,11 @@ from garnav.preview.sheet import ROUTE_COLOURS
 
 __all__ = ["RouteFigures", "route_figures", "table_columns", "cell_text", "PHYSICS_KEYS", "RISK_OBJECTS"]
 
-#: physics keys with their own column (the rest are listed under "more").
-PHYSICS_KEYS = ("energy_j", "energy_mah", "battery_used_fraction", "min_grip_margin", "min_hold_margin",
-                "min_drive_margin", "unsafe_segments")
+#: physics keys shown in their own columns or used there (the other scalars are listed under "more";
+#: ``time_s`` repeats the route's time estimate).
+PHYSICS_KEYS = ("energy_j", "energy_mah", "battery_used_fraction", "charge_left_fraction", "battery_ok",
+                "min_grip_margin", "min_hold_margin", "min_drive_margin", "unsafe_segments", "safety_factor",
+                "drive_safety_factor", "time_s")
 #: Names of the objects that may carry contact probabilities, in the order they are looked for.
 RISK_OBJECTS = ("drift", "risk", "uncertainty")
 
@@ -48,15 +50,22 @@ class RouteFigures:
     energy_j: float | None = None
     energy_mah: float | None = None
     battery_used_fraction: float | None = None
+    charge_left_fraction: float | None = None
+    battery_ok: bool | None = None
     margins: tuple[tuple[str, float], ...] = ()
+    required: tuple[tuple[str, float], ...] = ()
     unsafe_segments: int | None = None
     risk: float | None = None
     more: tuple[tuple[str, str], ...] = ()
 
     @property
     def worst_margin(self) -> tuple[str, float] | None:
-        """(which, value) of the smallest margin, or None without physics."""
-        return min(self.margins, key=lambda m: m[1]) if self.margins else None
+        """(which, value) of the margin closest to its requirement (the smallest margin when the
+        requirements are not known), or None without physics."""
+        if not self.margins:
+            return None
+        need = dict(self.required)
+        return min(self.margins, key=lambda m: m[1] / need.get(m[0], 1.0))
 
 
 def _number(v) -> float | None:
@@ -124,8 +133,15 @@ def route_figures(name: str, document: dict, index: int = 0, source: str = "rout
     more: list[tuple[str, str]] = []
     physics = _object(document, "physics", source)
     if physics is not None:
-        for key in ("energy_j", "energy_mah", "battery_used_fraction"):
+        for key in ("energy_j", "energy_mah", "battery_used_fraction", "charge_left_fraction"):
             fig[key] = _number(physics.get(key))
+        if isinstance(physics.get("battery_ok"), bool):
+            fig["battery_ok"] = physics["battery_ok"]
+        # grip and hold must reach safety_factor, drive drive_safety_factor (docs/physics.md)
+        need = [(m, v) for m, key in (("grip", "safety_factor"), ("hold", "safety_factor"),
+                                      ("drive", "drive_safety_factor"))
+                if (v := _number(physics.get(key))) is not None]
+        fig["required"] = tuple(need)
         fig["margins"] = tuple(
             (key[4:-7], float(v)) for key in ("min_grip_margin", "min_hold_margin", "min_drive_margin")
             if (v := _number(physics.get(key))) is not None
@@ -206,10 +222,20 @@ def cell_text(row: RouteFigures, key: str) -> str:
             parts.append(f"{row.energy_mah:.2f} mAh")
         return " / ".join(parts) or "—"
     if key == "battery":
-        return "—" if row.battery_used_fraction is None else f"{100 * row.battery_used_fraction:.1f} %"
+        if row.battery_used_fraction is None:
+            return "—"
+        text = f"{100 * row.battery_used_fraction:.1f} % used"
+        if row.charge_left_fraction is not None:
+            text += f", {100 * row.charge_left_fraction:.1f} % left"
+        if row.battery_ok is False:
+            text += " — NOT ENOUGH"
+        return text
     if key == "margin":
         worst = row.worst_margin
-        return "—" if worst is None else f"{worst[1]:.2f} ({worst[0]})"
+        if worst is None:
+            return "—"
+        need = dict(row.required).get(worst[0])
+        return f"{worst[1]:.2f} {worst[0]}" + ("" if need is None else f" (needs ≥ {need:g})")
     if key == "unsafe":
         return "—" if row.unsafe_segments is None else str(row.unsafe_segments)
     if key == "risk":
