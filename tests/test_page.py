@@ -265,3 +265,28 @@ def test_cli_refuses_route_figures_of_the_wrong_type(page_files, tmp_path, capsy
     assert main(["page", str(spec), str(bad), "--out", str(out)]) == 2
     err = capsys.readouterr().err
     assert f"{bad}: {message}" in err and len(err.strip().splitlines()) == 1 and not out.exists()
+
+
+def test_cli_page_shows_the_contact_risk_of_garnav_drift(page_files, tmp_path, capsys):
+    spec, route = page_files
+    drift = tmp_path / "drift.json"
+    assert main(["drift", str(route), "--garment", str(spec), "--runs", "300", "--seed", "1",
+                 "--json", str(drift)]) == 0
+    capsys.readouterr()
+    d = json.loads(drift.read_text())
+    out = tmp_path / "plan.html"
+    assert main(["page", str(spec), str(route), "--drift", str(drift), "--out", str(out)]) == 0
+    text = out.read_text(encoding="utf-8")
+    assert "Contact risk" in text
+    p, hi = d["overall"]["probability"], d["overall"]["ci95"][1]
+    assert f"{100 * p:.2g} % (95 % ≤ {100 * hi:.2g} %)" in text
+    assert "drift.runs: 300" in text
+    # a drift file of another route is refused, naming it
+    other = tmp_path / "other.json"
+    d["distance_mm"] += 50.0
+    other.write_text(json.dumps(d))
+    assert main(["page", str(spec), str(route), "--drift", str(other), "--out", str(out)]) == 2
+    err = capsys.readouterr().err
+    assert f"{other}: matches none of the routes given" in err and "Traceback" not in err
+    assert main(["page", str(spec), str(route), "--drift", str(route), "--out", str(out)]) == 2
+    assert "not a garnav-drift document" in capsys.readouterr().err

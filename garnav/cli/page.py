@@ -1,7 +1,7 @@
 """``garnav page``: share a plan as one self-contained web page.
 
-    garnav page SPEC ROUTE.json [ROUTE.json ...] --out PLAN.html [--title TEXT] [--no-body]
-                [--max-body-triangles N]
+    garnav page SPEC ROUTE.json [ROUTE.json ...] --out PLAN.html [--drift DRIFT.json ...]
+                [--title TEXT] [--no-body] [--max-body-triangles N]
 
 Writes one HTML file that opens offline in any current browser: the draped garment, the mannequin
 and the routes in 3D (turn, zoom, show and hide routes, keep-outs, seams, landmarks), the pattern
@@ -31,6 +31,9 @@ def register(subparsers) -> None:
     parser.add_argument("garment", help="garment spec file (.toml), or a UV-mapped mesh whose UV islands are the pieces")
     parser.add_argument("routes", nargs="+", metavar="ROUTE.json", help="route files written by 'garnav route --json'")
     parser.add_argument("--out", required=True, metavar="PLAN.html", help="the page to write (.html)")
+    parser.add_argument("--drift", nargs="+", default=[], metavar="DRIFT.json",
+                        help="contact-risk files written by 'garnav drift --json', each shown with the route it was "
+                        "computed for")
     parser.add_argument("--title", help="the page's title (default: 'Robot routes on GARMENT')")
     parser.add_argument("--no-body", action="store_true", help="leave the mannequin out of the 3D view")
     parser.add_argument("--max-body-triangles", type=int, default=200_000, metavar="N",
@@ -53,6 +56,10 @@ def run(args: argparse.Namespace) -> int:
     spec_path = Path(args.garment)
     garment, drape = garment_and_drape(spec_path)
     docs = read_routes(args.routes, garment)
+    if args.drift:
+        from garnav.page.risk import attach_drift, read_drift_document
+
+        docs = attach_drift(docs, [(str(p), read_drift_document(p)) for p in args.drift])
     base = spec_path.parent
     if drape is None and garment.drape:
         drape = load_drape(garment, None, str(base))

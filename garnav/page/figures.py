@@ -7,7 +7,8 @@ left out when it does not:
 * a ``physics`` object (robot on a body: ``energy_j``, ``energy_mah``, ``battery_used_fraction``,
   ``min_grip_margin``, ``min_hold_margin``, ``min_drive_margin``, ``unsafe_segments``);
 * a drift / risk object (``drift``, ``risk`` or ``uncertainty``) whose keys containing
-  ``probability`` give the chance of touching a keep-out or leaving the fabric.
+  ``probability`` give the chance of touching a keep-out or leaving the fabric (``garnav page
+  --drift`` adds one from ``garnav drift --json`` files: :mod:`garnav.page.risk`).
 
 Other numbers in those objects are listed as they are, with their key names. A present object of
 the wrong type is refused with one message naming the file and the key.
@@ -56,6 +57,7 @@ class RouteFigures:
     required: tuple[tuple[str, float], ...] = ()
     unsafe_segments: int | None = None
     risk: float | None = None
+    risk_upper: float | None = None
     more: tuple[tuple[str, str], ...] = ()
 
     @property
@@ -161,8 +163,10 @@ def route_figures(name: str, document: dict, index: int = 0, source: str = "rout
         overall = [p for k, p in probs if "overall" in k or k in ("probability", "contact_probability")]
         if overall or probs:
             fig["risk"] = overall[0] if overall else max(p for _, p in probs)
+        fig["risk_upper"] = _number(risk.get("contact_ci95_upper"))
         more += [(f"{key}.{k}", _fmt(v)) for k, v in risk.items()
-                 if not isinstance(v, (dict, list)) and v is not None and not (overall and "overall" in k)]
+                 if not isinstance(v, (dict, list)) and v is not None and k != "contact_ci95_upper"
+                 and not (overall and "overall" in k)]
         break
     fig["more"] = tuple(more)
     return RouteFigures(**fig)
@@ -239,7 +243,10 @@ def cell_text(row: RouteFigures, key: str) -> str:
     if key == "unsafe":
         return "—" if row.unsafe_segments is None else str(row.unsafe_segments)
     if key == "risk":
-        return "—" if row.risk is None else f"{100 * row.risk:.2g} %"
+        if row.risk is None:
+            return "—"
+        upper = "" if row.risk_upper is None else f" (95 % ≤ {100 * row.risk_upper:.2g} %)"
+        return f"{100 * row.risk:.2g} %{upper}"
     if key == "more":
         return "; ".join(f"{k}: {v}" for k, v in row.more) or "—"
     raise KeyError(key)
