@@ -146,11 +146,11 @@ def test_physics_and_drift_figures_are_shown_when_present(cylinder_page):
     # closest to its requirement: drive 1.2 / 1.1 = 1.09, before hold 1.7 / 1.5 = 1.13 (docs/physics.md)
     assert row.worst_margin == ("drive", 1.2) and row.unsafe_segments == 0 and row.risk == 0.012
     assert cell_text(row, "margin") == "1.20 drive (needs ≥ 1.1)"
-    assert cell_text(row, "battery") == "0.9 % used, 99.0 % left"
+    assert cell_text(row, "battery") == "0.9 % (99.0 % left)"
     assert ("physics.posture", "upright") in row.more and ("drift.runs", "10000") in row.more
     assert not any(k in ("physics.time_s", "physics.safety_factor") for k, _ in row.more)
     keys = [k for k, _ in table_columns([row, route_figures("r1", docs[1][1])])]
-    assert keys[-6:] == ["energy", "battery", "margin", "unsafe", "risk", "more"]
+    assert keys[-5:] == ["energy", "battery", "margin", "unsafe", "risk"]
     bad = dict(doc, physics=[1, 2])
     with pytest.raises(QueryError, match=r"r0.json: 'physics' must be an object, not list"):
         route_figures("r0", bad, source="r0.json")

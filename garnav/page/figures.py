@@ -174,12 +174,12 @@ def route_figures(name: str, document: dict, index: int = 0, source: str = "rout
 
 def table_columns(rows: list[RouteFigures]) -> list[tuple[str, str]]:
     """(key, heading) of the table's columns: the fixed ones, then physics and risk columns when
-    any route carries them."""
+    any route carries them. The "more" figures go on a line of their own under each route."""
     cols = [
         ("name", "Route"),
         ("seams", "Seams crossed"),
-        ("length", "Length on pattern"),
-        ("length3d", "Length on body (3D)"),
+        ("length", "Length (pattern)"),
+        ("length3d", "Length (3D)"),
         ("climb", "Climb up / down"),
         ("turns", "Turns"),
         ("time", "Time"),
@@ -194,8 +194,6 @@ def table_columns(rows: list[RouteFigures]) -> list[tuple[str, str]]:
         cols.append(("unsafe", "Unsafe segments"))
     if any(r.risk is not None for r in rows):
         cols.append(("risk", "Contact risk"))
-    if any(r.more for r in rows):
-        cols.append(("more", "More figures"))
     return cols
 
 
@@ -228,9 +226,9 @@ def cell_text(row: RouteFigures, key: str) -> str:
     if key == "battery":
         if row.battery_used_fraction is None:
             return "—"
-        text = f"{100 * row.battery_used_fraction:.1f} % used"
+        text = f"{100 * row.battery_used_fraction:.1f} %"
         if row.charge_left_fraction is not None:
-            text += f", {100 * row.charge_left_fraction:.1f} % left"
+            text += f" ({100 * row.charge_left_fraction:.1f} % left)"
         if row.battery_ok is False:
             text += " — NOT ENOUGH"
         return text
