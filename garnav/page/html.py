@@ -161,8 +161,8 @@ def _table(routes: Sequence[RouteFigures]) -> str:
         cells = []
         for key, _ in cols:
             value = escape(cell_text(r, key))
-            if key == "name":
-                cells.append(f'<th scope="row">{_swatch(r.colour)}{value}</th>')
+            if key == "name":  # long file stems may break after an underscore
+                cells.append(f'<th scope="row">{_swatch(r.colour)}{value.replace("_", "_<wbr>")}</th>')
             else:
                 label = escape(dict(cols)[key])
                 kind = "wide" if key == "seams" else "wrap" if key in ("energy", "battery", "margin", "risk") else "num"
