@@ -290,3 +290,11 @@ def test_cli_page_shows_the_contact_risk_of_garnav_drift(page_files, tmp_path, c
     assert f"{other}: matches none of the routes given" in err and "Traceback" not in err
     assert main(["page", str(spec), str(route), "--drift", str(route), "--out", str(out)]) == 2
     assert "not a garnav-drift document" in capsys.readouterr().err
+
+
+def test_a_sweep_document_shows_its_coverage(cylinder_page):
+    _, docs, _ = cylinder_page
+    doc = dict(docs[0][1], sweep={"swath_mm": 10.0, "covered_fraction": 0.9412, "lanes": 7})
+    row = route_figures("sweep", doc)
+    assert ("coverage", "Covered (sweep)") in table_columns([row])
+    assert cell_text(row, "coverage") == "94.1 % of reachable, 10 mm swath"

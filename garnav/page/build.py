@@ -18,7 +18,7 @@ from garnav.errors import QueryError
 from garnav.model import Garment, Robot
 from garnav.page.encode import pack_scene, quantisation
 from garnav.page.figures import RouteFigures, route_figures
-from garnav.page.geometry import BodyZone, decimate_body, scene_content
+from garnav.page.geometry import BodyZone, decimate_body, scene_content, scene_scale
 from garnav.page.html import PageText, page_html
 
 __all__ = ["PlanPage", "plan_page", "write_plan_page", "read_routes", "PAGE_VIEWS", "MAX_BODY_TRIANGLES"]
@@ -154,12 +154,17 @@ def plan_page(
     parts = triangles = vertices = 0
     q_err = 0.0
     if drape is not None or body is not None:
-        lifted = []
+        lifted: list[tuple] = []
         for i, (n, d) in enumerate(documents):
             if drape is None and not d.get("path3d"):
                 continue  # drawn on the sheet only
             pts, nrm = route_polyline(d, drape, garment, source=srcs[i])
-            lifted.append((n, pts, nrm))
+            sweep = d.get("sweep")
+            swath = sweep.get("swath_mm") if isinstance(sweep, dict) else None
+            if isinstance(swath, (int, float)) and swath > 0:  # lanes a swath apart stay apart
+                lifted.append((n, pts, nrm, min(0.004 * scene_scale(drape, body), swath / 8.0)))
+            else:
+                lifted.append((n, pts, nrm))
         if body is not None:
             before = len(body[1])
             body = decimate_body(body[0], body[1], max_body_triangles)

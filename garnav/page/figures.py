@@ -10,7 +10,10 @@ left out when it does not:
   ``probability`` give the chance of touching a keep-out or leaving the fabric (``garnav page
   --drift`` adds one from ``garnav drift --json`` files: :mod:`garnav.page.risk`).
 
-Other numbers in those objects are listed as they are, with their key names. A present object of
+* a ``sweep`` object (a coverage sweep, docs/sweeps.md): the covered share of the reachable region
+  and the swath.
+
+Other numbers in the physics and risk objects are listed as they are, with their key names. A present object of
 the wrong type is refused with one message naming the file and the key.
 """
 
@@ -58,6 +61,8 @@ class RouteFigures:
     unsafe_segments: int | None = None
     risk: float | None = None
     risk_upper: float | None = None
+    coverage: float | None = None
+    swath_mm: float | None = None
     more: tuple[tuple[str, str], ...] = ()
 
     @property
@@ -168,6 +173,10 @@ def route_figures(name: str, document: dict, index: int = 0, source: str = "rout
                  if not isinstance(v, (dict, list)) and v is not None and k != "contact_ci95_upper"
                  and not (overall and "overall" in k)]
         break
+    sweep = _object(document, "sweep", source)  # a coverage sweep (docs/sweeps.md)
+    if sweep is not None:
+        fig["coverage"] = _number(sweep.get("covered_fraction"))
+        fig["swath_mm"] = _number(sweep.get("swath_mm"))
     fig["more"] = tuple(more)
     return RouteFigures(**fig)
 
@@ -194,6 +203,8 @@ def table_columns(rows: list[RouteFigures]) -> list[tuple[str, str]]:
         cols.append(("unsafe", "Unsafe segments"))
     if any(r.risk is not None for r in rows):
         cols.append(("risk", "Contact risk"))
+    if any(r.coverage is not None for r in rows):
+        cols.append(("coverage", "Covered (sweep)"))
     return cols
 
 
@@ -245,6 +256,11 @@ def cell_text(row: RouteFigures, key: str) -> str:
             return "—"
         upper = "" if row.risk_upper is None else f" (95 % ≤ {100 * row.risk_upper:.2g} %)"
         return f"{100 * row.risk:.2g} %{upper}"
+    if key == "coverage":
+        if row.coverage is None:
+            return "—"
+        swath = "" if row.swath_mm is None else f", {row.swath_mm:g} mm swath"
+        return f"{100 * row.coverage:.1f} % of reachable{swath}"
     if key == "more":
         return "; ".join(f"{k}: {v}" for k, v in row.more) or "—"
     raise KeyError(key)
