@@ -298,3 +298,57 @@ def test_a_sweep_document_shows_its_coverage(cylinder_page):
     row = route_figures("sweep", doc)
     assert ("coverage", "Covered (sweep)") in table_columns([row])
     assert cell_text(row, "coverage") == "94.1 % of reachable, 10 mm swath"
+
+
+def _schedule(garment_name: str) -> dict:
+    # a hand-made garnav-fleet-schedule (docs/fleet.md): robot 'a' drives on 'left', waits 2 s,
+    # crosses the seam 'middle' at x = 300 (left) / x = 0 (right) and ends on 'right'
+    wps = [
+        {"t_s": 0.0, "piece": "left", "x_mm": 200.0, "y_mm": 100.0, "heading_deg": 0.0},
+        {"t_s": 5.0, "piece": "left", "x_mm": 300.0, "y_mm": 100.0, "heading_deg": 0.0},
+        {"t_s": 5.0, "piece": "right", "x_mm": 0.0, "y_mm": 100.0, "heading_deg": 0.0},
+        {"t_s": 7.0, "piece": "right", "x_mm": 0.0, "y_mm": 100.0, "heading_deg": 0.0},
+        {"t_s": 12.0, "piece": "right", "x_mm": 100.0, "y_mm": 100.0, "heading_deg": 0.0},
+    ]
+    robot = {"name": "a", "profile": {"name": "r", "radius_mm": 10.0, "speed_mm_s": 20.0, "side": "outside"},
+             "depart_s": 0.0, "arrive_s": 12.0, "driving_s": 10.0, "waiting_s": 2.0, "length_mm": 200.0,
+             "waypoints": wps, "commands": [{"op": "go", "distance_mm": 100.0},
+                                            {"op": "cross", "seam": "middle", "at_mm": 100.0},
+                                            {"op": "go", "distance_mm": 100.0}]}
+    return {"format": "garnav-fleet-schedule", "version": 1, "garment": garment_name, "robots": [robot]}
+
+
+def test_cli_page_shows_each_robot_of_a_fleet_schedule(tmp_path, capsys):
+    g = garments.two_panels()
+    spec = tmp_path / "two.toml"
+    save_garment(g, spec)
+    sched = tmp_path / "sched.json"
+    sched.write_text(json.dumps(_schedule(g.name)))
+    out = tmp_path / "plan.html"
+    assert main(["page", str(spec), "--fleet", str(sched), "--out", str(out)]) == 0
+    text = out.read_text(encoding="utf-8")
+    html5lib.HTMLParser(strict=True).parse(text)
+    assert "sched:<wbr>a" not in text and "sched:a" in text  # no underscore, no break
+    assert "200.0 mm" in text and "12.0 s" in text and ">middle<" in text
+    assert "fleet.waiting_s: 2" in text
+    svg = DET.fromstring(re.search(r"<svg .*?</svg>", text, re.S).group(0).encode("utf-8"))
+    legs = [e for e in svg.iter(SVG + "path") if e.get("class") == "route-leg"]
+    assert len(legs) == 2  # one leg per piece; the wait adds no geometry
+    bad = dict(_schedule(g.name), garment="other_top")
+    sched.write_text(json.dumps(bad))
+    assert main(["page", str(spec), "--fleet", str(sched), "--out", str(out)]) == 2
+    assert "planned on garment 'other_top'" in capsys.readouterr().err
+    assert main(["page", str(spec), "--out", str(out)]) == 2
+    assert "give at least one ROUTE.json or --fleet" in capsys.readouterr().err
+
+
+def test_3d_figures_of_a_route_lifted_for_the_page():
+    from garnav.page.build import _with_3d_figures
+
+    doc = {"length_mm": 7.0, "length_3d_mm": None, "summary": {"estimated_time_s": 1.0}}
+    pts = np.array([[0.0, 0.0, 0.0], [3.0, 0.0, 4.0], [3.0, 0.0, 2.0]])
+    out = _with_3d_figures(doc, pts)
+    # by hand: |(3, 0, 4)| = 5 (Pythagoras) plus 2; climbs 4 up, 2 down
+    assert out["length_3d_mm"] == pytest.approx(7.0)
+    assert (out["summary"]["climb_up_mm"], out["summary"]["climb_down_mm"]) == (4.0, 2.0)
+    assert doc["length_3d_mm"] is None  # the input is not changed

@@ -173,6 +173,9 @@ def route_figures(name: str, document: dict, index: int = 0, source: str = "rout
                  if not isinstance(v, (dict, list)) and v is not None and k != "contact_ci95_upper"
                  and not (overall and "overall" in k)]
         break
+    fleet = _object(document, "fleet", source)  # a robot of a fleet schedule (garnav.page.fleet)
+    if fleet is not None:
+        more += [(f"fleet.{k}", _fmt(v)) for k, v in fleet.items() if not isinstance(v, (dict, list))]
     sweep = _object(document, "sweep", source)  # a coverage sweep (docs/sweeps.md)
     if sweep is not None:
         fig["coverage"] = _number(sweep.get("covered_fraction"))
