@@ -18,6 +18,10 @@ TARGETS = (
     ("lift_time", "lift of ~5,000 points on ~100k triangles under 15 ms (median)"),
     ("demo_end_to_end", "`garnav demo` end to end under 20 s"),
     ("sweep_back_panel", "sweep of the demo back panel (10 mm swath) under 2 s: at most 2x the route planner build on the same garment"),
+    # dead reckoning (benchmarks/drift.py)
+    ("drift_covariance_50", "covariance of a 50-command route under 5 ms"),
+    ("drift_monte_carlo_10k", "Monte Carlo 10,000 runs of a demo route under 2 s"),
+    ("drift_replay_36000", "replay of 36,000 samples (reading the CSV included) under 1 s"),
 )
 
 
@@ -139,6 +143,13 @@ def evaluate_targets(res: dict[str, Any]) -> list[dict[str, Any]]:
                       f"covered {100 * g['covered_fraction']:.2f} %"))
     else:
         out.append(_t("sweep_back_panel", "N/A", None, sw.get("error", "not run")))
+    drift = {t["key"]: t for t in cases.get("drift", {}).get("targets", [])}
+    for key in ("drift_covariance_50", "drift_monte_carlo_10k", "drift_replay_36000"):
+        t = drift.get(key)
+        if t is None:
+            out.append(_t(key, "N/A", None, cases.get("drift", {}).get("error", "not run")))
+        else:
+            out.append(_t(key, t["status"], t["value"], f"{t['value']:.4g} (benchmarks/drift.py; ratios in the case)"))
     return out
 
 

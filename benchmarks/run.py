@@ -38,7 +38,7 @@ from benchmarks.sweep_case import run_sweep
 from benchmarks.measure import growth_exponent, machine_info, peak_memory, summary, timed
 from benchmarks.report import evaluate_targets, format_report, markdown_report
 
-ALL_CASES = ("single", "demo", "lift", "cli", "sweep")
+ALL_CASES = ("single", "demo", "lift", "cli", "sweep", "drift")
 FULL_N = (10, 50, 200, 500)
 QUICK_N = (2, 4)
 
@@ -538,6 +538,14 @@ def run(opts: Options, which: tuple[str, ...], log=print, checkpoint=None) -> di
         except Exception as exc:
             results["cases"]["sweep_back"] = {"kind": "sweep", "error": _err(exc)}
         save(results)
+    if "drift" in which:  # dead reckoning: benchmarks/drift.py
+        log("case drift ...")
+        try:
+            from benchmarks.drift import run_drift
+
+            results["cases"]["drift"] = run_drift(opts.quick, opts.seed, log)
+        except Exception as exc:
+            results["cases"]["drift"] = {"kind": "drift", "error": _err(exc)}
     results["targets"] = evaluate_targets(results)
     results["total_s"] = time.perf_counter() - t_all
     try:

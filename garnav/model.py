@@ -22,12 +22,15 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 from functools import cached_property
-from typing import Literal
+from typing import TYPE_CHECKING, Literal
 
 import numpy as np
 import shapely
 
 from garnav.polyline import cumulative_length, point_at_length, rotation_matrix, sub_polyline
+
+if TYPE_CHECKING:
+    from garnav.uncertainty.model import OdometryModel
 
 __all__ = [
     "Point2",
@@ -358,6 +361,8 @@ class Robot:
     sensor_swath_mm : float, optional
         Width of the strip a sensor carried across the robot covers as it drives, mm, centred on
         the wheel axle (for sweeps, :mod:`garnav.sweep`); None when the robot carries none.
+    odometry : garnav.uncertainty.OdometryModel, optional
+        Dead-reckoning error model (``[robot.odometry]``; docs/uncertainty.md).
     """
 
     name: str = "robot"
@@ -367,6 +372,7 @@ class Robot:
     side: Literal["outside", "inside"] = "outside"
     edge_margin_mm: float = 5.0
     sensor_swath_mm: float | None = None
+    odometry: OdometryModel | None = None
 
 
 @dataclass(frozen=True)

@@ -67,6 +67,13 @@ def register(subparsers: argparse._SubParsersAction) -> None:
     parser.add_argument("--json", metavar="FILE", help="write the route document as JSON (docs/route-format.md)")
     parser.add_argument("--csv", metavar="FILE", help="write the waypoints as CSV")
     parser.add_argument("--commands", metavar="FILE", help="write the robot commands as text (docs/commands.md)")
+    parser.add_argument(
+        "--confidence",
+        type=float,
+        metavar="P",
+        help="grow clearances and re-plan until the Monte Carlo contact probability of the robot's "
+        "odometry model is at most 1 - P (e.g. 0.99; docs/uncertainty.md)",
+    )
     parser.set_defaults(func=run)
 
 
@@ -88,7 +95,16 @@ def run(args: argparse.Namespace) -> int:
     roles = ["start"] + ["via point"] * len(args.via) + ["goal"]
     stops = [planner.point(t, snap=args.snap, role=r) for t, r in zip(texts, roles)]
     route = planner.route(stops[0], stops[-1], via=stops[1:-1])
+    confident = None
+    if getattr(args, "confidence", None) is not None:  # dead reckoning: garnav.uncertainty.confidence
+        from garnav.uncertainty.confidence import confident_route
+
+        confident = confident_route(garment, robot, stops, args.confidence, base_clearance_mm=args.clearance,
+                                    locate_3d=locate, first=(planner, route))
+        route = confident.route
     print(route_summary(route, args.start, args.goal))
+    if confident is not None:
+        print("\n".join(confident.lines()))
     for text, pp in zip(texts, stops):
         if pp.label.endswith("(snapped)"):
             print(f"note: {text} moved to the nearest free point {pp.piece}:{pp.x:.1f},{pp.y:.1f}")

@@ -34,25 +34,11 @@ def register(subparsers) -> None:
     parser.set_defaults(func=run)
 
 
-def _load_body(path: Path):
-    import numpy as np
-    import trimesh
-
-    if not path.is_file():
-        raise MeshError(f"{path}: body mesh not found")
-    try:
-        mesh = trimesh.load(path, force="mesh", process=False)
-    except Exception as exc:  # trimesh raises many kinds on bad files
-        raise MeshError(f"{path}: cannot read the body mesh: {exc}") from None
-    if len(mesh.faces) == 0:
-        raise MeshError(f"{path}: the body mesh has no triangles")
-    return np.asarray(mesh.vertices, dtype=float), np.asarray(mesh.faces, dtype=np.int64)
-
-
 def run(args: argparse.Namespace) -> int:
     from garnav.export.waypoints import read_route_document
     from garnav.preview.scene import SceneRoute, build_plotter, off_screen_environment, route_polyline, write_screenshot
     from garnav.drape.drape import load_drape
+    from garnav.drape.meshio import load_body_mesh
     from garnav.drape.sources import garment_and_drape
 
     w, h = args.size
@@ -80,7 +66,7 @@ def run(args: argparse.Namespace) -> int:
     base = spec_path.parent
     if drape is None and garment.drape:
         drape = load_drape(garment, None, str(base))
-    body = _load_body(base / garment.body) if garment.body else None
+    body = load_body_mesh(base / garment.body) if garment.body else None
     routes = []
     for name, doc in docs:
         pts, nrm = route_polyline(doc, drape, garment, source=name)

@@ -38,6 +38,7 @@ __all__ = [
     "SCREENSHOT_NAME",
     "SCREENSHOT_SIZE",
     "SHEET_NAME",
+    "PAGE_NAME",
     "run_demo",
     "summary_table",
 ]
@@ -58,12 +59,15 @@ DEMO_STEPS: tuple[str, ...] = (
     "demo files",
     "3D view",
     "sheet",
+    "page",
 )
 
 SCREENSHOT_NAME = "routes_3d.png"
 #: Size of each of the two views in the 3D screenshot, pixels; the PNG is twice as wide.
 SCREENSHOT_SIZE = (900, 900)
 SHEET_NAME = "routes_sheet"
+#: The shareable plan page (garnav.page): one offline HTML file.
+PAGE_NAME = "plan.html"
 
 
 @dataclass(frozen=True, eq=False)
@@ -104,7 +108,7 @@ class DemoResult:
     robot : Robot
     routes : tuple of DemoRoute
     files : dict
-        Every file written, by role: ``screenshot``, ``sheet_svg``, ``sheet_png``, ``spec``,
+        Every file written, by role: ``screenshot``, ``sheet_svg``, ``sheet_png``, ``page``, ``spec``,
         ``drape``, ``body``, and ``NAME.json`` / ``NAME.csv`` / ``NAME.cmd`` per route.
     screenshot_px : (width, height)
     seconds : dict
@@ -277,6 +281,13 @@ def run_demo(
     files["sheet_svg"] = Path(write_sheet_svg(out / f"{SHEET_NAME}.svg", drawing))
     files["sheet_png"] = Path(write_sheet_png(out / f"{SHEET_NAME}.png", drawing))
     done("sheet")
+
+    from garnav.page import plan_page, write_plan_page
+
+    page = plan_page(garment, [(r.name, r.document) for r in routes], drape, scene.body,
+                     free_space=planner.free, title=f"Demo plan: robot routes on {garment.name} (invented scenario)")
+    files["page"] = write_plan_page(out / PAGE_NAME, page)
+    done("page")
     return DemoResult(out, garment, robot, tuple(routes), files, px, seconds, tuple(notes))
 
 

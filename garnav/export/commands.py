@@ -7,6 +7,7 @@ intrinsic to the surface (DESIGN.md, "The one idea"), so the commands need no ma
   side of the fabric the robot drives on. A robot on the inside sees every piece mirrored, so its
   turns have the opposite sign of the piece-frame turns.
 * :class:`Go` — drive straight for a distance.
+* :class:`Wait` — stand still for a time (several robots on one garment take turns).
 * :class:`Cross` — a notice placed right before the :class:`Go` that drives over a seam: which seam,
   how far into that go the ridge lies, the crossing angle, and which wheel meets the ridge first and
   by how much travel it leads the other (``wheel_base × cot(angle)``, from the geometry of two wheel
@@ -19,6 +20,7 @@ Text syntax (documented in docs/commands.md)::
     side outside
     start front 120 300 mm heading 45 deg
     turn +30 deg
+    wait 2.5 s
     cross side_left_lower at 80 mm angle 72 deg lead left 11.04 mm
     go 200 mm
 
@@ -46,6 +48,7 @@ __all__ = [
     "Turn",
     "Go",
     "Cross",
+    "Wait",
     "Start",
     "CommandList",
     "Command",
@@ -87,6 +90,13 @@ class Go:
 
 
 @dataclass(frozen=True)
+class Wait:
+    """Stand still for ``seconds`` (>= 0) s."""
+
+    seconds: float
+
+
+@dataclass(frozen=True)
 class Cross:
     """Notice: the next :class:`Go` drives over seam ``seam`` after ``at_mm`` of its distance.
 
@@ -120,7 +130,7 @@ class Start:
     heading_deg: float
 
 
-Command = Union[Turn, Go, Cross]
+Command = Union[Turn, Go, Cross, Wait]
 
 
 @dataclass(frozen=True)
@@ -320,6 +330,8 @@ def format_commands(commands: CommandList, comment: str | None = None) -> str:
             lines.append(f"turn {_num(c.angle_deg, signed=True)} deg")
         elif isinstance(c, Go):
             lines.append(f"go {_num(c.distance_mm)} mm")
+        elif isinstance(c, Wait):
+            lines.append(f"wait {_num(c.seconds)} s")
         elif isinstance(c, Cross):
             lines.append(
                 f"cross {_name(c.seam)} at {_num(c.at_mm)} mm angle {_num(c.angle_deg)} deg "
@@ -461,6 +473,14 @@ def parse_commands(text: str, source: str = "<string>") -> CommandList:
             commands.extend(n for _, n in pending)
             pending = []
             commands.append(Go(d))
+        elif word == "wait":
+            if pending:
+                raise cur.fail(f"a 'cross' notice (line {pending[0][0]}) must be followed by the 'go' that crosses")
+            w = cur.number("time")
+            cur.unit("s")
+            if w < 0:
+                raise cur.fail(f"time must be >= 0 s, got {_num(w)}")
+            commands.append(Wait(w))
         elif word == "cross":
             seam = cur.name("seam name")
             cur.keyword("at")
@@ -481,7 +501,7 @@ def parse_commands(text: str, source: str = "<string>") -> CommandList:
                 raise cur.fail(f"lead must be >= 0 mm, got {_num(lead_mm)}")
             pending.append((lineno, Cross(seam, at, angle, lead, lead_mm)))  # type: ignore[arg-type]
         else:
-            known = ("turn", "go", "cross", "side", "start")
+            known = ("turn", "go", "cross", "wait", "side", "start")
             hint = did_you_mean(word.lstrip("\x00"), known)
             raise CommandSyntaxError(
                 f"{where}: unknown command {word.lstrip(chr(0))!r}"
@@ -513,13 +533,15 @@ def read_commands(path) -> CommandList:
 
 
 def commands_to_json(commands: CommandList) -> list[dict]:
-    """The commands as JSON-ready dicts (``op`` = "turn" | "go" | "cross"), units in the keys."""
+    """The commands as JSON-ready dicts (``op`` = "turn" | "go" | "cross" | "wait"), units in the keys."""
     out: list[dict] = []
     for c in commands.commands:
         if isinstance(c, Turn):
             out.append({"op": "turn", "angle_deg": float(c.angle_deg)})
         elif isinstance(c, Go):
             out.append({"op": "go", "distance_mm": float(c.distance_mm)})
+        elif isinstance(c, Wait):
+            out.append({"op": "wait", "time_s": float(c.seconds)})
         else:
             out.append(
                 {

@@ -22,7 +22,7 @@ import shapely
 
 from garnav.errors import QueryError
 from garnav.export.path import wrap_deg
-from garnav.export.commands import CommandList, Cross, Go, Start, Turn
+from garnav.export.commands import CommandList, Cross, Go, Start, Turn, Wait
 from garnav.export.seams import locate_on_run, seam_transfer
 from garnav.model import Garment
 
@@ -86,12 +86,15 @@ class Replay:
         Total distance driven.
     unmatched_notices : tuple of Cross
         Notices whose seam the robot did not meet where announced.
+    wait_s : float
+        Total time of the ``wait`` commands, s (a wait leaves the pose as it is).
     """
 
     poses: tuple[Pose, ...]
     crossings: tuple[ReplayCrossing, ...]
     distance_mm: float
     unmatched_notices: tuple[Cross, ...]
+    wait_s: float = 0.0
 
     @property
     def end(self) -> Pose:
@@ -215,9 +218,12 @@ def replay_commands(garment: Garment, commands: CommandList, start: Start | None
     unmatched: list[Cross] = []
     notices: list[Cross] = []
     travelled = 0.0
+    waited = 0.0
 
     for cmd in commands.commands:
-        if isinstance(cmd, Turn):
+        if isinstance(cmd, Wait):
+            waited += float(cmd.seconds)
+        elif isinstance(cmd, Turn):
             heading += sign * math.radians(cmd.angle_deg)
             last = poses[-1]
             poses[-1] = Pose(last.piece, last.x_mm, last.y_mm, wrap_deg(heading))
@@ -297,7 +303,7 @@ def replay_commands(garment: Garment, commands: CommandList, start: Start | None
         else:  # pragma: no cover - CommandList is typed
             raise TypeError(f"not a command: {cmd!r}")
     unmatched.extend(notices)
-    return Replay(tuple(poses), tuple(crossings), travelled, tuple(unmatched))
+    return Replay(tuple(poses), tuple(crossings), travelled, tuple(unmatched), waited)
 
 
 def _pose(piece: str, p: np.ndarray, heading: float) -> Pose:

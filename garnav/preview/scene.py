@@ -36,6 +36,8 @@ __all__ = [
     "drape_edges",
     "keepout_face_mask",
     "route_polyline",
+    "landmark_points",
+    "keepout_outline_3d",
     "build_plotter",
     "screenshot_png",
     "views_png",
@@ -238,25 +240,11 @@ def build_plotter(
             if lines is not None:
                 plotter.add_mesh(lines.tube(radius=0.0015 * scale, n_sides=8), color=colour, name=name)
         for k in garment.keepouts:
-            outline = _keepout_outline_3d(drape, k)
+            outline = keepout_outline_3d(drape, k)
             if outline is not None:
                 plotter.add_mesh(pv.lines_from_points(outline).tube(radius=0.0025 * scale, n_sides=8),
                                  color=style.keepout, name=f"keepout-{k.name}")
-        marks, names, normals = [], [], []
-        for lm in garment.landmarks:
-            if lm.on_pattern and lm.piece in drape.piece_names:
-                try:
-                    hits = drape.locate(lm.piece, np.array([[lm.x, lm.y]]), 1.0)
-                except GarnavError:
-                    continue
-                marks.append(drape.to_3d(hits.face, hits.bary)[0])
-                normals.append(drape.normals_at(hits.face, hits.bary)[0] if hasattr(drape, "normals_at") else None)
-            elif lm.xyz is not None:
-                marks.append(np.asarray(lm.xyz, dtype=float))
-                normals.append(_surface_normal(drape, marks[-1]))
-            else:
-                continue
-            names.append(lm.name)
+        marks, names, normals = landmark_points(garment, drape)
         if marks:
             pts = pv.PolyData(np.array(marks))
             plotter.add_mesh(pts.glyph(geom=pv.Sphere(radius=0.006 * scale), scale=False, orient=False),
@@ -296,6 +284,39 @@ def build_plotter(
     return plotter
 
 
+def landmark_points(garment: Garment, drape) -> tuple[list[np.ndarray], list[str], list[np.ndarray | None]]:
+    """Where the garment's landmarks are on the drape.
+
+    Pattern landmarks are located on their piece (snapped up to 1 mm) and mapped to 3D; body
+    landmarks (``xyz``) stay where they are, with the normal of the nearest surface point. Landmarks
+    that are off the drape are left out.
+
+    Returns
+    -------
+    points : list of (3,) arrays, world mm
+    names : list of str
+    normals : list of (3,) unit arrays, or None where the drape cannot tell
+    """
+    marks: list[np.ndarray] = []
+    names: list[str] = []
+    normals: list[np.ndarray | None] = []
+    for lm in garment.landmarks:
+        if lm.on_pattern and lm.piece in drape.piece_names:
+            try:
+                hits = drape.locate(lm.piece, np.array([[lm.x, lm.y]]), 1.0)
+            except GarnavError:
+                continue
+            marks.append(drape.to_3d(hits.face, hits.bary)[0])
+            normals.append(drape.normals_at(hits.face, hits.bary)[0] if hasattr(drape, "normals_at") else None)
+        elif lm.xyz is not None:
+            marks.append(np.asarray(lm.xyz, dtype=float))
+            normals.append(_surface_normal(drape, marks[-1]))
+        else:
+            continue
+        names.append(lm.name)
+    return marks, names, normals
+
+
 def _surface_normal(drape, xyz: np.ndarray) -> np.ndarray | None:
     """Outward normal of the drape at the surface point closest to ``xyz``, or None when the drape
     cannot tell (a stand-in without a mesh)."""
@@ -308,7 +329,7 @@ def _surface_normal(drape, xyz: np.ndarray) -> np.ndarray | None:
         return None
 
 
-def _keepout_outline_3d(drape, keepout, step_mm: float = 2.0) -> np.ndarray | None:
+def keepout_outline_3d(drape, keepout, step_mm: float = 2.0) -> np.ndarray | None:
     """The keep-out's outline (closed, sampled every ``step_mm``) on the drape, or None when it is
     not on the drape's piece or leaves the mesh."""
     if keepout.piece not in drape.piece_names:

@@ -301,7 +301,15 @@ class _Reader:
         return f"{kind} '{name}'" if isinstance(name, str) else f"{kind} #{index + 1}"
 
     def robot(self, table: dict[str, Any]) -> Robot | None:
+        table = dict(table)
+        odometry_table = table.pop("odometry", None)  # [robot.odometry]: garnav.uncertainty
         v, ok = self.section(table, "robot", "robot")
+        if odometry_table is not None:
+            from garnav.uncertainty.model import parse_odometry
+
+            v["odometry"], odometry_problems = parse_odometry(odometry_table, self.source)
+            self.problems.extend(odometry_problems)
+            ok &= not odometry_problems
         return Robot(**v) if ok else None
 
     def piece(self, table: dict[str, Any], index: int) -> Piece | None:

@@ -119,6 +119,10 @@ def garment_to_dict(garment: Garment) -> dict[str, Any]:
         }
         if r.sensor_swath_mm is not None:
             d["robot"]["sensor_swath_mm"] = _f(r.sensor_swath_mm)
+        if r.odometry is not None:  # [robot.odometry]: garnav.uncertainty
+            from garnav.uncertainty.model import odometry_to_dict
+
+            d["robot"]["odometry"] = odometry_to_dict(r.odometry)
     d["piece"] = [_piece(p) for p in g.pieces]
     if g.seams:
         d["seam"] = [_seam(s) for s in g.seams]
@@ -182,7 +186,11 @@ def dumps_garment(garment: Garment) -> str:
     top = {k: v for k, v in d.items() if k not in ("robot", "piece", "seam", "keepout", "landmark")}
     out = _body(top)
     if "robot" in d:
-        out += ["", "[robot]"] + _body(d["robot"])
+        robot = d["robot"]
+        out += ["", "[robot]"] + _body({k: v for k, v in robot.items() if not isinstance(v, dict)})
+        for key, sub in robot.items():  # sub-tables such as [robot.odometry]
+            if isinstance(sub, dict):
+                out += ["", f"[robot.{key}]"] + _body(sub)
     for p in d["piece"]:
         out += ["", "[[piece]]"] + _body(p)
         for e in p["edge"]:
