@@ -38,7 +38,7 @@ from benchmarks.sweep_case import run_sweep
 from benchmarks.measure import growth_exponent, machine_info, peak_memory, summary, timed
 from benchmarks.report import evaluate_targets, format_report, markdown_report
 
-ALL_CASES = ("single", "demo", "lift", "cli", "sweep", "drift")
+ALL_CASES = ("single", "demo", "lift", "cli", "sweep", "drift", "physics")
 FULL_N = (10, 50, 200, 500)
 QUICK_N = (2, 4)
 
@@ -524,6 +524,12 @@ def run(opts: Options, which: tuple[str, ...], log=print, checkpoint=None) -> di
             results["cases"]["lift"] = run_lift(opts, log)
         except Exception as exc:
             results["cases"]["lift"] = {"kind": "lift", "error": _err(exc)}
+        save(results)
+    if "physics" in which:
+        from benchmarks.physics import run_physics
+
+        log("case physics (demo planning with a profile; lift + mechanics) ...")
+        results["cases"]["physics"] = run_physics(opts, log)
         save(results)
     if "cli" in which:
         log("case garnav demo (subprocess) ...")

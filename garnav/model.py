@@ -29,7 +29,8 @@ import shapely
 
 from garnav.polyline import cumulative_length, point_at_length, rotation_matrix, sub_polyline
 
-if TYPE_CHECKING:
+if TYPE_CHECKING:  # the profiles' own modules; imported only for type checkers
+    from garnav.mechanics.profile import RobotPhysics
     from garnav.uncertainty.model import OdometryModel
 
 __all__ = [
@@ -363,6 +364,9 @@ class Robot:
         the wheel axle (for sweeps, :mod:`garnav.sweep`); None when the robot carries none.
     odometry : garnav.uncertainty.OdometryModel, optional
         Dead-reckoning error model (``[robot.odometry]``; docs/uncertainty.md).
+    physics : RobotPhysics, optional
+        Mass, magnet hold, grip, drive and battery (:mod:`garnav.mechanics.profile`); None: the
+        robot's physics are unknown and routes are planned for length only.
     """
 
     name: str = "robot"
@@ -373,6 +377,7 @@ class Robot:
     edge_margin_mm: float = 5.0
     sensor_swath_mm: float | None = None
     odometry: OdometryModel | None = None
+    physics: RobotPhysics | None = None
 
 
 @dataclass(frozen=True)

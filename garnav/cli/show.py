@@ -5,7 +5,8 @@
 The window shows the mannequin (the spec's ``body`` mesh), the draped garment (the spec's ``drape``
 mesh) coloured by piece, seams, open edges, keep-outs, landmarks and each route. ``--screenshot``
 renders off-screen to a PNG instead of opening a window. ``--sheet`` also writes the flat pattern
-sheet (``.svg`` or ``.png``) with the same routes.
+sheet (``.svg`` or ``.png``) with the same routes. ``--margins`` colours each route by its
+tightest margin (routes planned with a robot physics profile), with a colour bar.
 """
 
 from __future__ import annotations
@@ -31,6 +32,9 @@ def register(subparsers) -> None:
     parser.add_argument("--size", nargs=2, type=int, metavar=("W", "H"), default=(1200, 900),
                         help="window or image size in pixels (default 1200 900)")
     parser.add_argument("--sheet", metavar="FILE", help="also write the flat pattern sheet (.svg or .png)")
+    parser.add_argument("--margins", action="store_true",
+                        help="colour each route by its tightest grip/hold/drive margin over the required one, "
+                        "with a colour bar (routes planned with a robot physics profile; docs/physics.md)")
     parser.set_defaults(func=run)
 
 
@@ -70,7 +74,15 @@ def run(args: argparse.Namespace) -> int:
     routes = []
     for name, doc in docs:
         pts, nrm = route_polyline(doc, drape, garment, source=name)
-        routes.append(SceneRoute(Path(name).stem, pts, nrm))
+        margin = None
+        if getattr(args, "margins", False):
+            from garnav.preview.scene import document_margins
+
+            margin = document_margins(doc)
+            if margin is None:
+                raise QueryError(f"{name}: --margins: the route has no physics object (plan it with a robot "
+                                 "physics profile and a drape)")
+        routes.append(SceneRoute(Path(name).stem, pts, nrm, margin))
 
     off = args.screenshot is not None
     if off:

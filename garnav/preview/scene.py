@@ -32,6 +32,10 @@ from garnav.preview.sheet import ROUTE_COLOURS
 __all__ = [
     "SceneStyle",
     "SceneRoute",
+    "MARGIN_CMAP",
+    "MARGIN_CLIM",
+    "point_margins",
+    "document_margins",
     "PIECE_COLOURS",
     "drape_edges",
     "keepout_face_mask",
@@ -65,11 +69,35 @@ class SceneStyle:
 
 @dataclass(frozen=True)
 class SceneRoute:
-    """A route to draw: points (M, 3) and unit normals (M, 3) on the surface, world mm."""
+    """A route to draw: points (M, 3) and unit normals (M, 3) on the surface, world mm.
+
+    ``margin`` (M − 1,), optional: each segment's tightest margin over its requirement
+    (``RouteMechanics.tightest``; 1 = just safe): the tube is coloured by it, with a colour bar.
+    ``faint``: drawn thin and without direction cones (e.g. a shortest route that was refused).
+    """
 
     name: str
     points: np.ndarray
     normals: np.ndarray | None = None
+    margin: np.ndarray | None = None
+    faint: bool = False
+
+
+#: Colour map and range of the margin colouring: tightest margin over its requirement.
+MARGIN_CMAP = "RdYlGn"
+MARGIN_CLIM = (0.0, 2.0)
+MARGIN_TITLE = "margin / required"
+
+
+def point_margins(margin: np.ndarray) -> np.ndarray:
+    """(M,) per-point margins from (M − 1,) per-segment ones: the smaller of the two segments
+    meeting at each point (the ends take their one segment).
+
+    >>> point_margins(np.array([2.0, 0.5, 1.0])).tolist()
+    [2.0, 0.5, 0.5, 1.0]
+    """
+    m = np.asarray(margin, dtype=float)
+    return np.minimum(np.r_[m[:1], m], np.r_[m, m[-1:]])
 
 
 def off_screen_environment() -> None:
@@ -137,6 +165,21 @@ def keepout_face_mask(garment: Garment, drape) -> np.ndarray:
         inside = shapely.contains_xy(geom, centroids[:, 0], centroids[:, 1])
         mask |= on_piece & inside
     return mask
+
+
+def document_margins(document: dict) -> np.ndarray | None:
+    """(M − 1,) tightest margin over its requirement of each ``path3d`` segment of a route
+    document with a ``physics`` object (null margins count as unlimited); None without one."""
+    phys = document.get("physics")
+    if not phys:
+        return None
+    seg = phys["segments"]
+
+    def arr(key: str) -> np.ndarray:
+        return np.array([np.inf if v is None else v for v in seg[key]], dtype=float)
+
+    return np.minimum.reduce([arr("grip_margin") / phys["safety_factor"], arr("hold_margin") / phys["safety_factor"],
+                              arr("drive_margin") / phys["drive_safety_factor"]])
 
 
 def route_polyline(document: dict, drape=None, garment: Garment | None = None, source: str = "route"):
@@ -256,9 +299,11 @@ def build_plotter(
                 plotter._garnav_labels = (np.array(marks), names, np.array(normals) if known else None, style)
 
     radius = 0.004 * scale
+    bar = False
     for ri, route in enumerate(routes):
         colour = ROUTE_COLOURS[ri % len(ROUTE_COLOURS)]
         pts = np.asarray(route.points, dtype=float)
+        width = 0.55 * radius if route.faint else radius
         if route.normals is not None:
             pts = pts + 1.2 * radius * np.asarray(route.normals, dtype=float)
         keep = np.r_[True, np.linalg.norm(np.diff(pts, axis=0), axis=1) > 1e-9]
@@ -266,7 +311,18 @@ def build_plotter(
         if len(pts) < 2:
             continue
         line = pv.lines_from_points(pts)
-        plotter.add_mesh(line.tube(radius=radius, n_sides=12), color=colour, lighting=False, name=f"route-{ri}")
+        if route.margin is not None and len(route.margin) == len(keep) - 1:
+            line.point_data["margin"] = np.clip(point_margins(route.margin)[keep], *MARGIN_CLIM)
+            plotter.add_mesh(line.tube(radius=width, n_sides=12), scalars="margin", cmap=MARGIN_CMAP,
+                             clim=MARGIN_CLIM, lighting=False, name=f"route-{ri}", show_scalar_bar=not bar,
+                             scalar_bar_args={"title": MARGIN_TITLE, "color": "#222222", "vertical": True,
+                                              "position_x": 0.84, "position_y": 0.25, "height": 0.5})
+            bar = True
+        else:
+            plotter.add_mesh(line.tube(radius=width, n_sides=12), color="#8a8a8a" if route.faint else colour,
+                             lighting=False, name=f"route-{ri}")
+        if route.faint:
+            continue
         plotter.add_mesh(pv.Sphere(radius=2.2 * radius, center=pts[0]), color=colour, lighting=False,
                          name=f"route-{ri}-start")
         plotter.add_mesh(pv.Cube(center=pts[-1], x_length=4 * radius, y_length=4 * radius, z_length=4 * radius),
