@@ -22,6 +22,8 @@ from garnav.export.waypoints import write_route_csv, write_route_json
 from garnav.model import Robot
 from garnav.plan import Planner
 from garnav.sweep import coverage_face_mask, figures_lines, parse_region, plan_sweep, resolve_region, sweep_document
+from garnav.mechanics import parse_gravity
+from garnav.sweep.energy import sweep_energy_J
 from garnav.sweep.plan import swath_of
 
 __all__ = ["register", "run"]
@@ -59,6 +61,8 @@ def register(subparsers: argparse._SubParsersAction) -> None:
     drape.add_argument("--drape", metavar="MESH", nargs="?", const="",
                        help="the drape mesh (without MESH: the spec's own, used anyway when the spec names one)")
     drape.add_argument("--no-drape", action="store_true", help="do not use the spec's own drape")
+    parser.add_argument("--posture", metavar="NAME", help="wearer's posture for the energy figure (needs a "
+                        "[robot.physics] profile and a drape): upright (default), or another of docs/physics.md")
     parser.add_argument("--json", metavar="FILE", required=True, help="write the sweep's route document (JSON)")
     parser.add_argument("--csv", metavar="FILE", help="write the waypoints as CSV")
     parser.add_argument("--commands", metavar="FILE", help="write the robot commands as text (docs/commands.md)")
@@ -80,6 +84,7 @@ def run(args: argparse.Namespace) -> int:
         robot = dataclasses.replace(robot, radius_mm=float(args.radius))
     if not args.clearance >= 0:
         raise QueryError(f"--clearance must be zero or more mm, got {args.clearance:g}")
+    posture, gravity = parse_gravity(None, args.posture)  # a bad posture fails before any work
     if args.screenshot and drape is None:
         raise QueryError("--screenshot needs a drape (the spec's own drape, or --drape MESH)")
     swath_of(robot, args.swath)  # a missing or bad swath fails before the planner is built
@@ -88,7 +93,10 @@ def run(args: argparse.Namespace) -> int:
     sweep = plan_sweep(garment, areas, swath_mm=args.swath, headland=args.headland, planner=planner,
                        drape=drape, start=args.start)
     lifted = lift_route(drape, garment, sweep.route) if drape is not None else None
-    doc = sweep_document(sweep, garment, robot, lifted, region_text=args.region)
+    energy = sweep_energy_J(sweep, robot, drape, lifted, gravity)
+    physics = getattr(robot, "physics", None)
+    doc = sweep_document(sweep, garment, robot, lifted, region_text=args.region, energy_J=energy,
+                         battery_j=physics.battery_j if physics is not None else None)
     print("\n".join(figures_lines(doc["sweep"])))
     write_route_json(args.json, doc)
     if args.csv:

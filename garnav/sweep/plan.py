@@ -135,9 +135,11 @@ class Sweep:
         a = self.reachable_area_mm2
         return self.covered_area_mm2 / a if a > 0 else 0.0
 
-    def figures(self, summary: Mapping[str, Any] | None = None, energy_J: float | None = None) -> dict:
+    def figures(self, summary: Mapping[str, Any] | None = None, energy_J: float | None = None,
+                battery_j: float | None = None) -> dict:
         """Coverage figures (JSON-ready). ``summary`` is the route document's summary (turns and
-        time); ``energy_J`` comes from a physics profile when there is one (None otherwise)."""
+        time); ``energy_J`` comes from a physics profile when there is one (None otherwise), and
+        ``battery_j`` (the battery's capacity, J) turns it into the share of the battery used."""
         length = float(self.route.length_mm)
         reach = self.reachable_area_mm2
         bound = reach / self.swath_mm
@@ -162,6 +164,7 @@ class Sweep:
             "sharp_turn_count": int(np.sum(np.abs(self.route.turns_deg) > SHARP_TURN_DEG)),
             "time_s": None if summary is None else float(summary["estimated_time_s"]),
             "energy_J": energy_J,
+            "battery_used_fraction": energy_J / battery_j if energy_J is not None and battery_j else None,
         }
         return out
 
