@@ -212,10 +212,16 @@ def _reaim(domain: shapely.Polygon, cell, w: float, inset: float):
     return cell
 
 
-def _lap_items(piece: str, domain: shapely.Polygon) -> list[SweepItem]:
+def _lap_items(piece: str, domain: shapely.Polygon, free: shapely.Geometry, w: float) -> list[SweepItem]:
+    """One closed lap along each ring of the domain. A ring is simplified (Douglas–Peucker,
+    tolerance w/100) where the simpler ring still lies in the free space: a curved border drawn with
+    many short edges then costs far fewer small turns, and the footprint moves by at most w/100."""
     items = []
     for ring in [domain.exterior, *domain.interiors]:
         pts = np.asarray(ring.coords, dtype=float)
+        simple = shapely.LinearRing(pts).simplify(w / 100.0, preserve_topology=True)
+        if len(simple.coords) >= 4 and free.covers(shapely.LineString(simple.coords)):
+            pts = np.asarray(simple.coords, dtype=float)
         if len(pts) >= 4:
             items.append(SweepItem(piece, (pts,), closed=True))
     return items
@@ -229,7 +235,8 @@ def _plain_coverage(items: list[SweepItem], target: shapely.Geometry, w: float) 
     return float(cov.intersection(target).area / target.area)
 
 
-def _piece_items(piece: str, domain: shapely.Geometry, reach: shapely.Geometry, w: float, headland: str, target: float):
+def _piece_items(piece: str, domain: shapely.Geometry, reach: shapely.Geometry, free: shapely.Geometry, w: float,
+                 headland: str, target: float):
     items: list[SweepItem] = []
     laps = 0
     for part in _parts(domain):
@@ -241,7 +248,7 @@ def _piece_items(piece: str, domain: shapely.Geometry, reach: shapely.Geometry, 
         if not want_lap:
             items += plain
             continue
-        lap = _lap_items(piece, part)
+        lap = _lap_items(piece, part, free, w)
         laps += len(lap)
         items += lap
         # lanes over the whole part, the outermost w/2 inside its extremes: the lap covers the
@@ -358,7 +365,7 @@ def plan_sweep(
         fs = free[piece].region
         reachable[piece] = area.intersection(fs.buffer(w / 2))
         domains[piece] = area.buffer(-w / 2).intersection(fs)
-        got, n = _piece_items(piece, domains[piece], reachable[piece], w, headland, coverage_target)
+        got, n = _piece_items(piece, domains[piece], reachable[piece], fs, w, headland, coverage_target)
         spurs = _spur_items(piece, got, reachable[piece], domains[piece], fs, w) if corner_spurs and headland != "off" else []
         items += got + spurs
         laps += n
