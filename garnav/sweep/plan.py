@@ -100,7 +100,8 @@ class Sweep:
     region, reachable, centre_domain, covered : dict piece → shapely geometry
         The region asked for, its part the sensor can reach, where lanes may run, and the ground
         the footprint covers (the route buffered by ``w/2``, flat ends), piece frame, mm.
-    cells, lanes, laps : int
+    cells, lanes, laps, spurs : int
+        Boustrophedon cells, lanes, headland laps and corner spurs planned.
     """
 
     route: Route
