@@ -283,3 +283,13 @@ def test_sensor_swath_round_trips_through_the_spec():
     plain = Garment("board", (rect_piece("p", 100, 100),), robot=Robot())
     assert "sensor_swath_mm" not in dumps(plain)
     assert loads(dumps(plain)).robot.sensor_swath_mm is None
+
+
+def test_sweep_is_deterministic():
+    g = two_panels()
+    region = parse_region(["pieces:left", "pieces:right"])
+    a = plan_sweep(g, region, swath_mm=20.0)
+    b = plan_sweep(g, region, swath_mm=20.0)
+    assert len(a.route.legs) == len(b.route.legs)
+    for la, lb in zip(a.route.legs, b.route.legs, strict=True):
+        assert la.piece == lb.piece and np.array_equal(la.points, lb.points)
