@@ -293,3 +293,30 @@ def test_sweep_is_deterministic():
     assert len(a.route.legs) == len(b.route.legs)
     for la, lb in zip(a.route.legs, b.route.legs, strict=True):
         assert la.piece == lb.piece and np.array_equal(la.points, lb.points)
+
+
+def test_split_among_robots_balances_time_and_keeps_the_route():
+    from garnav.sweep.split import split_sweep
+
+    g = _board()
+    s = plan_sweep(g, RECT, swath_mm=20.0, headland="off")
+    robot = g.robot
+    # hand-worked: 2980 mm at the cruise speed plus 18 turns of 90 degrees in place, each
+    # (π/2)·wheel_base/(2·speed) (Siegwart & Nourbakhsh §3.2)
+    total = 2980.0 / robot.speed_mm_s + 18 * (math.pi / 2) * robot.wheel_base_mm / (2 * robot.speed_mm_s)
+    one = split_sweep(g, s, 1)
+    assert one.times_s[0] == pytest.approx(total, rel=1e-12)
+    assert route_document(s.route, g)["summary"]["estimated_time_s"] == pytest.approx(total, rel=1e-12)
+    two = split_sweep(g, s, 2)
+    assert sum(two.times_s) == pytest.approx(total, rel=1e-12)
+    assert two.balance <= 1.05  # observed 1.006 (cut at the nearest waypoint)
+    assert sum(r.length_mm for r in two.routes) == pytest.approx(s.route.length_mm, rel=1e-12)
+    # the stretches join end to start and cover what the one route covers
+    assert np.array_equal(two.routes[0].legs[-1].points[-1], two.routes[1].legs[0].points[0])
+    union = shapely.union_all([shapely.LineString(r.legs[0].points).buffer(10, cap_style="flat", join_style="round")
+                               for r in two.routes])
+    assert union.intersection(s.reachable["p"]).area >= 0.98 * s.reachable_area_mm2  # observed 0.9856
+    # lanes 1-5 and 6-10: the robots stay 90 mm apart (fleet checker, garnav.fleet)
+    assert two.check is not None and two.check.ok and two.check.min_gap_mm > 50.0
+    with pytest.raises(QueryError, match="whole number"):
+        split_sweep(g, s, 0)

@@ -10,6 +10,7 @@ from garnav.sweep.coverage import coverage_face_mask, covered_area, footprint
 from garnav.sweep.document import figures_lines, sweep_document
 from garnav.sweep.energy import sweep_energy_J
 from garnav.sweep.plan import DEFAULT_COVERAGE_TARGET, Sweep, plan_sweep
+from garnav.sweep.split import SweepSplit, split_sweep
 from garnav.sweep.region import (
     NearPointRegion,
     PiecesRegion,
@@ -28,6 +29,7 @@ __all__ = [
     "PolygonRegion",
     "Region",
     "Sweep",
+    "SweepSplit",
     "UnionRegion",
     "ZoneRegion",
     "coverage_face_mask",
@@ -39,4 +41,5 @@ __all__ = [
     "parse_region",
     "plan_sweep",
     "resolve_region",
+    "split_sweep",
 ]
