@@ -320,3 +320,22 @@ def test_split_among_robots_balances_time_and_keeps_the_route():
     assert two.check is not None and two.check.ok and two.check.min_gap_mm > 50.0
     with pytest.raises(QueryError, match="whole number"):
         split_sweep(g, s, 0)
+
+
+def test_cli_sweep_robots_writes_one_document_per_robot(tmp_path, capsys):
+    from garnav.cli import main
+    from garnav.spec import save_garment
+
+    spec = tmp_path / "two.toml"
+    save_garment(two_panels(), spec)
+    out = tmp_path / "s.json"
+    rc = main(["sweep", str(spec), "--region", "pieces:left,right", "--swath", "20", "--json", str(out),
+               "--commands", str(tmp_path / "s.cmd"), "--robots", "2"])
+    assert rc == 0
+    text = capsys.readouterr().out
+    assert "robot 1:" in text and "robot 2:" in text and "smallest gap between robots" in text
+    for j in (1, 2):
+        doc = json.loads((tmp_path / f"s.robot_{j}.json").read_text())
+        jsonschema.Draft202012Validator(route_schema()).validate(doc)
+        assert (tmp_path / f"s.robot_{j}.cmd").read_text().startswith("garnav-commands 1")
+    assert main(["sweep", str(spec), "--region", "pieces:left", "--swath", "20", "--json", str(out), "--robots", "0"]) == 2
