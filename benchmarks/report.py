@@ -17,6 +17,13 @@ TARGETS = (
     ("locate_vs_find_simplex", "point location at least 5x faster than random-order find_simplex"),
     ("lift_time", "lift of ~5,000 points on ~100k triangles under 15 ms (median)"),
     ("demo_end_to_end", "`garnav demo` end to end under 20 s"),
+    ("sweep_back_panel", "sweep of the demo back panel (10 mm swath) under 2 s: at most 2x the route planner build on the same garment"),
+    # dead reckoning (benchmarks/drift.py)
+    ("drift_covariance_50", "covariance of a 50-command route under 5 ms"),
+    ("drift_monte_carlo_10k", "Monte Carlo 10,000 runs of a demo route under 2 s"),
+    ("drift_replay_36000", "replay of 36,000 samples (reading the CSV included) under 1 s"),
+    ("physics_planning", "demo routes planned with the physics profile in at most 3x the length-only query time"),
+    ("physics_lift_mechanics", "lift + mechanics of ~5,000 points on ~100k triangles under 30 ms (median)"),
 )
 
 
@@ -127,6 +134,44 @@ def evaluate_targets(res: dict[str, Any]) -> list[dict[str, Any]]:
         out.append(_t("demo_end_to_end", "MISS", None, f"`{cli['command']}` failed (exit {cli['returncode']})"))
     else:
         out.append(_t("demo_end_to_end", "N/A", None, cli.get("error", "not run")))
+
+    sw = cases.get("sweep_back", {})
+    ratio = _get(sw, "garnav", "cold_over_reference")
+    if ratio is not None:
+        g = sw["garnav"]
+        out.append(_t("sweep_back_panel", "PASS" if ratio <= 2.0 else "MISS", ratio,
+                      f"cold {g['cold_s']:.2f} s = {ratio:.2f}x the planner build "
+                      f"({sw['reference_planner_build_s']:.2f} s); warm {g['warm_s']:.2f} s; "
+                      f"covered {100 * g['covered_fraction']:.2f} %"))
+    else:
+        out.append(_t("sweep_back_panel", "N/A", None, sw.get("error", "not run")))
+    drift = {t["key"]: t for t in cases.get("drift", {}).get("targets", [])}
+    for key in ("drift_covariance_50", "drift_monte_carlo_10k", "drift_replay_36000"):
+        t = drift.get(key)
+        if t is None:
+            out.append(_t(key, "N/A", None, cases.get("drift", {}).get("error", "not run")))
+        else:
+            out.append(_t(key, t["status"], t["value"], f"{t['value']:.4g} (benchmarks/drift.py; ratios in the case)"))
+    phys = cases.get("physics", {})
+    dp = phys.get("demo_planning", {})
+    if "ratio_queries" in dp:
+        r = dp["ratio_queries"]
+        lattice = sum(1 for x in dp["routes"] if x["method"] == "lattice")
+        out.append(_t("physics_planning", "PASS" if r <= 3 else "MISS", r,
+                      f"{len(dp['routes'])} demo routes ({lattice} needing the lattice): physics {dp['physics_s']:.2f} s vs "
+                      f"length-only {dp['length_only_s']:.2f} s: {r:.2f}x (planner build {dp['planner_build_s']:.2f} s apart; "
+                      f"with it {dp['ratio_with_build']:.2f}x)"))
+    else:
+        out.append(_t("physics_planning", "N/A", None, dp.get("error", "not run")))
+    lm = phys.get("lift_mechanics", {})
+    if "median" in lm:
+        status = "N/A" if quick else ("PASS" if lm["median"] < 0.030 else "MISS")
+        out.append(_t("physics_lift_mechanics", status, lm["median"],
+                      f"{lm['points']} points on {lm['faces']} triangles: {lm['median'] * 1e3:.1f} ms "
+                      f"(lift alone {lm['lift_only']['median'] * 1e3:.1f} ms, mechanics alone "
+                      f"{lm['mechanics_only']['median'] * 1e3:.1f} ms)"))
+    else:
+        out.append(_t("physics_lift_mechanics", "N/A", None, lm.get("error", "not run")))
     return out
 
 

@@ -34,10 +34,11 @@ import shapely
 from benchmarks import cases as C
 from benchmarks import garnav_side as G
 from benchmarks import refs as R
+from benchmarks.sweep_case import run_sweep
 from benchmarks.measure import growth_exponent, machine_info, peak_memory, summary, timed
 from benchmarks.report import evaluate_targets, format_report, markdown_report
 
-ALL_CASES = ("single", "demo", "lift", "cli")
+ALL_CASES = ("single", "demo", "lift", "cli", "sweep", "drift", "physics")
 FULL_N = (10, 50, 200, 500)
 QUICK_N = (2, 4)
 
@@ -524,12 +525,33 @@ def run(opts: Options, which: tuple[str, ...], log=print, checkpoint=None) -> di
         except Exception as exc:
             results["cases"]["lift"] = {"kind": "lift", "error": _err(exc)}
         save(results)
+    if "physics" in which:
+        from benchmarks.physics import run_physics
+
+        log("case physics (demo planning with a profile; lift + mechanics) ...")
+        results["cases"]["physics"] = run_physics(opts, log)
+        save(results)
     if "cli" in which:
         log("case garnav demo (subprocess) ...")
         try:
             results["cases"]["demo_cli"] = run_cli(opts, log)
         except Exception as exc:
             results["cases"]["demo_cli"] = {"kind": "cli", "available": False, "error": _err(exc)}
+    if "sweep" in which:
+        log("case sweep_back ...")
+        try:
+            results["cases"]["sweep_back"] = run_sweep(opts, log)
+        except Exception as exc:
+            results["cases"]["sweep_back"] = {"kind": "sweep", "error": _err(exc)}
+        save(results)
+    if "drift" in which:  # dead reckoning: benchmarks/drift.py
+        log("case drift ...")
+        try:
+            from benchmarks.drift import run_drift
+
+            results["cases"]["drift"] = run_drift(opts.quick, opts.seed, log)
+        except Exception as exc:
+            results["cases"]["drift"] = {"kind": "drift", "error": _err(exc)}
     results["targets"] = evaluate_targets(results)
     results["total_s"] = time.perf_counter() - t_all
     try:

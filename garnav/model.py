@@ -22,12 +22,16 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 from functools import cached_property
-from typing import Literal
+from typing import TYPE_CHECKING, Literal
 
 import numpy as np
 import shapely
 
 from garnav.polyline import cumulative_length, point_at_length, rotation_matrix, sub_polyline
+
+if TYPE_CHECKING:  # the profiles' own modules; imported only for type checkers
+    from garnav.mechanics.profile import RobotPhysics
+    from garnav.uncertainty.model import OdometryModel
 
 __all__ = [
     "Point2",
@@ -355,6 +359,14 @@ class Robot:
         Which face of the garment it drives on. Inside, every piece is seen mirrored.
     edge_margin_mm : float
         Extra distance kept from open edges (hems, cuffs, necklines) beyond the radius.
+    sensor_swath_mm : float, optional
+        Width of the strip a sensor carried across the robot covers as it drives, mm, centred on
+        the wheel axle (for sweeps, :mod:`garnav.sweep`); None when the robot carries none.
+    odometry : garnav.uncertainty.OdometryModel, optional
+        Dead-reckoning error model (``[robot.odometry]``; docs/uncertainty.md).
+    physics : RobotPhysics, optional
+        Mass, magnet hold, grip, drive and battery (:mod:`garnav.mechanics.profile`); None: the
+        robot's physics are unknown and routes are planned for length only.
     """
 
     name: str = "robot"
@@ -363,6 +375,9 @@ class Robot:
     speed_mm_s: float = 20.0
     side: Literal["outside", "inside"] = "outside"
     edge_margin_mm: float = 5.0
+    sensor_swath_mm: float | None = None
+    odometry: OdometryModel | None = None
+    physics: RobotPhysics | None = None
 
 
 @dataclass(frozen=True)

@@ -13,7 +13,15 @@ import jsonschema
 import pytest
 
 from garnav.cli import main
-from garnav.demo.run import DEMO_ROUTES, DEMO_STEPS, SCREENSHOT_NAME, SCREENSHOT_SIZE, SHEET_NAME, run_demo
+from garnav.demo.run import (
+    DEMO_ROUTES,
+    DEMO_STEPS,
+    PAGE_NAME,
+    SCREENSHOT_NAME,
+    SCREENSHOT_SIZE,
+    SHEET_NAME,
+    run_demo,
+)
 from garnav.export.commands import read_commands
 from garnav.export.waypoints import route_schema
 
@@ -43,7 +51,7 @@ def test_demo_writes_every_file(demo_run):
     code, out, text = demo_run
     assert code == 0
     names = {p.name for p in out.iterdir()}
-    expected = {SCREENSHOT_NAME, f"{SHEET_NAME}.svg", f"{SHEET_NAME}.png", "sensing_top.toml",
+    expected = {SCREENSHOT_NAME, f"{SHEET_NAME}.svg", f"{SHEET_NAME}.png", PAGE_NAME, "sensing_top.toml",
                 "sensing_top_drape.obj", "mannequin.obj"}
     for start, goal, _ in DEMO_ROUTES:
         expected |= {f"{start}_to_{goal}.{ext}" for ext in ("json", "csv", "cmd")}

@@ -70,3 +70,23 @@ def test_export_for_robot(tmp_path, capsys):
     assert result["miss_mm"] < 1e-3
     assert [c.seam for c in result["replay"].crossings] == doc["summary"]["seams_crossed"]
     assert "replay: ends on yoke" in text and "crossed armhole_right_back" in text
+
+
+def test_import_pattern(tmp_path, capsys):
+    pytest.importorskip("ezdxf")
+    pytest.importorskip("svgelements")
+    import math
+
+    from garnav.spec import load_garment
+
+    result = _main("import_pattern.py")([str(tmp_path)])
+    text = capsys.readouterr().out
+    assert "proposed seams (not applied)" in text
+    g = load_garment(tmp_path / "vest.toml")
+    assert [s.name for s in g.seams] == ["side_1", "side_2", "shoulder"]
+    # the pieces lie 20 mm apart on the sheet, side seams parallel: unfolded along the side
+    # seam, the shortest route is the straight line from the navel (150, 90) to the spine
+    # (340 - 20, 220) mm (plane geometry), clear of the pocket and within the seam
+    assert result["route"].length_mm == pytest.approx(math.hypot(170.0, 130.0), abs=1e-6)
+    assert result["route"].seams_crossed == ("side_1",)
+    assert (tmp_path / "vest.dxf").exists()

@@ -90,7 +90,8 @@ def test_csv_parses_with_stdlib_and_matches_json(lifted):
         for row, w in zip(rows, doc["waypoints"]):
             assert int(row["index"]) == w["index"] and int(row["leg"]) == w["leg"] and row["piece"] == w["piece"]
             assert [float(row[k]) for k in ("x_mm", "y_mm", "heading_deg")] == [w["x"], w["y"], w["heading_deg"]]
-            tail = [row[k] for k in CSV_COLUMNS[6:]]
+            tail = [row[k] for k in CSV_COLUMNS[6:16]]
+            assert [row[k] for k in CSV_COLUMNS[16:]] == [""] * 3  # margins: no physics profile
             if lifted:
                 assert [float(v) for v in tail] == w["xyz"] + w["normal"] + w["orientation_xyzw"]
             else:

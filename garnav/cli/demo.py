@@ -1,7 +1,8 @@
 """``garnav demo``: the whole job on the built-in sensing-top demo.
 
 ``garnav demo [--out DIR]`` builds the demo garment in memory, plans routes between body landmarks,
-lifts them onto the drape and writes route files, a 3D picture and the pattern sheet into DIR
+lifts them onto the drape and writes route files, a 3D picture, the pattern sheet and a shareable
+web page (``plan.html``, docs/page.md) into DIR
 (default ``garnav-demo/`` in the current folder), then prints a summary table and the safety
 cautions (:func:`garnav.demo.run.run_demo`).
 ``garnav demo --rebuild [--out DIR]`` writes the demo files (spec, drape mesh, mannequin mesh).
@@ -38,7 +39,8 @@ def register(subparsers) -> None:
         description="The built-in demo: a long-sleeved sensing top on a stylised mannequin. Plans "
         "routes between body landmarks, lifts them onto the drape and writes per route the JSON, "
         "CSV and robot commands, a 3D picture (front and back, rendered off-screen) and the "
-        "pattern sheet (SVG and PNG) into --out, then prints a summary and safety cautions.",
+        "pattern sheet (SVG and PNG) and an offline web page of the plan (plan.html) into --out, then "
+        "prints a summary and safety cautions.",
     )
     parser.add_argument("--rebuild", action="store_true", help="write the demo spec and meshes instead")
     parser.add_argument(
@@ -97,7 +99,7 @@ def _demo(out: Path) -> int:
     print(f"wrote {len(result.files)} files to {result.out_dir} in {seconds:.1f} s:")
     for r in result.routes:
         print(f"  {r.name}.json / .csv / .cmd  — {r.about}")
-    for role in ("screenshot", "sheet_svg", "sheet_png", "spec", "drape", "body"):
+    for role in ("screenshot", "sheet_svg", "sheet_png", "page", "spec", "drape", "body"):
         if role in result.files:
             print(f"  {result.files[role].name}")
     for note in result.notes:

@@ -1,10 +1,14 @@
-"""``garnav import MESH -o SPEC.toml``: derive a garment spec from a UV-mapped drape mesh."""
+"""``garnav import MESH -o SPEC.toml``: derive a garment spec from a UV-mapped drape mesh.
+
+Pattern files (``.dxf``, ``.svg``) are handed to :mod:`garnav.cli.import_pattern`.
+"""
 
 from __future__ import annotations
 
 import os
 from pathlib import Path
 
+from garnav.cli.import_pattern import add_pattern_arguments, is_pattern_file, run_pattern
 from garnav.drape.import_mesh import garment_from_mesh
 from garnav.drape.meshio import load_uv_mesh
 from garnav.errors import QueryError
@@ -15,21 +19,28 @@ __all__ = ["register", "run", "parse_uv_scale"]
 def register(subparsers) -> None:
     p = subparsers.add_parser(
         "import",
-        help="derive pieces, seams and open edges from a UV-mapped mesh and write a garment spec",
+        help="write a garment spec from a UV-mapped mesh or a pattern file (.dxf, .svg)",
         description=(
-            "Each UV island becomes a piece (outline = island boundary, mm); boundary edges that "
-            "meet in 3D become seams, the others open edges. UV = sheet position / sheet size."
+            "From a mesh: each UV island becomes a piece (outline = island boundary, mm); boundary "
+            "edges that meet in 3D become seams, the others open edges. UV = sheet position / "
+            "sheet size. From a pattern file (.dxf in the pattern-exchange layers, .svg in "
+            "garnav's classes; docs/pattern-files.md): pieces, notches, grain lines, keep-outs "
+            "and landmarks; seams only from --seams."
         ),
     )
-    p.add_argument("mesh", help="UV-mapped triangle mesh (.obj, .gltf, .glb, .ply), mm")
+    p.add_argument("mesh", metavar="FILE",
+                   help="UV-mapped triangle mesh (.obj, .gltf, .glb, .ply), mm; or a pattern "
+                        "file (.dxf, .svg)")
     p.add_argument(
         "--uv-scale",
         metavar="MM",
         help="sheet size in mm: one number for a square sheet or W,H; "
         "default: fitted so UV edges are as long as 3D edges",
     )
-    p.add_argument("-o", "--output", required=True, metavar="SPEC.toml", help="spec file to write")
-    p.add_argument("--name", help="garment name (default: the mesh file's stem)")
+    p.add_argument("-o", "--output", "--out", required=True, metavar="SPEC.toml",
+                   help="spec file to write")
+    p.add_argument("--name", help="garment name (default: the file's stem)")
+    add_pattern_arguments(p)
     p.set_defaults(func=run)
 
 
@@ -52,6 +63,11 @@ def parse_uv_scale(text: str | None) -> tuple[float, float] | None:
 def run(args) -> int:
     from garnav.spec import save_garment
 
+    if is_pattern_file(args.mesh):
+        return run_pattern(args)
+    if args.seams or args.propose_seams:
+        raise QueryError("--seams and --propose-seams are for pattern files (.dxf, .svg); a "
+                         "mesh's seams come from its 3D edges")
     scale = parse_uv_scale(args.uv_scale)
     mesh = load_uv_mesh(args.mesh)
     out = Path(args.output)

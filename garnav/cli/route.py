@@ -6,6 +6,13 @@ With a drape — the spec's own ``drape`` file, or ``--drape MESH`` — the rout
 (``garnav-route``, docs/route-format.md; with ``length_3d_mm``, per-waypoint ``xyz`` and ``path3d``
 when lifted), ``--csv`` its waypoint table and ``--commands`` the robot's turn-and-go commands
 (docs/commands.md). All are written atomically.
+
+With a robot physics profile (the spec's ``[robot.physics]``, or ``--robot ROBOT.toml``) and a
+drape, the route is one the robot can drive in the chosen posture (``--posture NAME`` or
+``--gravity X,Y,Z``): no segment below its grip, hold or drive margin, switchbacks where a climb
+is too steep, and ``--cost length|time|energy`` (docs/physics.md). The summary adds energy,
+battery, the worst margin and whether the nearest dock can still be reached; the JSON adds its
+``physics`` object.
 """
 
 from __future__ import annotations
@@ -64,19 +71,43 @@ def register(subparsers: argparse._SubParsersAction) -> None:
         help="do not lift the route onto the spec's own drape (world points xyz:... still snap "
         "through it)",
     )
+    parser.add_argument("--robot", metavar="ROBOT.toml", help="use the robot of this robot file (a [robot] table, "
+                        "optionally with [robot.physics]) instead of the spec's (docs/physics.md)")
+    parser.add_argument("--cost", choices=("length", "time", "energy"), default=None,
+                        help="what the route minimises (default length); time and energy need a robot "
+                        "physics profile and a drape")
+    gravity = parser.add_mutually_exclusive_group()
+    gravity.add_argument("--posture", metavar="NAME", help="wearer's posture for gravity: upright (default), "
+                         "supine, prone, left_side, right_side, seated (docs/physics.md)")
+    gravity.add_argument("--gravity", metavar="X,Y,Z", help="gravity direction in the body frame (any length)")
     parser.add_argument("--json", metavar="FILE", help="write the route document as JSON (docs/route-format.md)")
     parser.add_argument("--csv", metavar="FILE", help="write the waypoints as CSV")
     parser.add_argument("--commands", metavar="FILE", help="write the robot commands as text (docs/commands.md)")
+    parser.add_argument(
+        "--confidence",
+        type=float,
+        metavar="P",
+        help="grow clearances and re-plan until the Monte Carlo contact probability of the robot's "
+        "odometry model is at most 1 - P (e.g. 0.99; docs/uncertainty.md)",
+    )
     parser.set_defaults(func=run)
 
 
 def run(args: argparse.Namespace) -> int:
+    if getattr(args, "posture", None) or getattr(args, "gravity", None):
+        from garnav.mechanics.gravity import parse_gravity
+
+        parse_gravity(args.gravity, args.posture)  # a bad posture fails before any work
     garment, drape = _garment_and_drape(args)
     if drape is not None:
         locate = pattern_locator(drape, garment)
     else:
         locate = spec_drape_locator(garment, Path(args.garment).parent)
     robot = garment.robot or Robot()
+    if getattr(args, "robot", None):
+        from garnav.spec.robot import load_robot
+
+        robot = load_robot(args.robot)
     if args.radius is not None:
         if not args.radius > 0:
             raise QueryError(f"--radius must be a positive number of mm, got {args.radius:g}")
@@ -87,16 +118,47 @@ def run(args: argparse.Namespace) -> int:
     texts = [args.start, *args.via, args.goal]
     roles = ["start"] + ["via point"] * len(args.via) + ["goal"]
     stops = [planner.point(t, snap=args.snap, role=r) for t, r in zip(texts, roles)]
-    route = planner.route(stops[0], stops[-1], via=stops[1:-1])
+    physics = _physics_planner(args, planner, drape, robot)
+    mechanics = dock = None
+    confident = None
+    lifted = None
+    if getattr(args, "confidence", None) is not None:  # dead reckoning: garnav.uncertainty.confidence
+        if physics is not None:
+            raise QueryError("--confidence plans for length and contact risk only, not yet together with "
+                             "the robot's physics profile: add --no-drape to plan without mechanics, or "
+                             "leave out --confidence (docs/uncertainty.md)")
+        from garnav.uncertainty.confidence import confident_route
+
+        route = planner.route(stops[0], stops[-1], via=stops[1:-1])
+        confident = confident_route(garment, robot, stops, args.confidence, base_clearance_mm=args.clearance,
+                                    locate_3d=locate, first=(planner, route))
+        route = confident.route
+    elif physics is None:
+        route = planner.route(stops[0], stops[-1], via=stops[1:-1])
+    else:
+        planned = physics.route(stops[0], stops[-1], via=stops[1:-1])
+        route, lifted, mechanics = planned.route, planned.lifted, planned.mechanics
+        dock = physics.dock_check(planned, stops[-1])
     print(route_summary(route, args.start, args.goal))
+    if confident is not None:
+        print("\n".join(confident.lines()))
     for text, pp in zip(texts, stops):
         if pp.label.endswith("(snapped)"):
             print(f"note: {text} moved to the nearest free point {pp.piece}:{pp.x:.1f},{pp.y:.1f}")
-    lifted = lift_route(drape, garment, route) if drape is not None else None
+    if lifted is None and drape is not None:
+        lifted = lift_route(drape, garment, route)
     if lifted is not None:
         print("\n".join(lifted.lines()))
+    if mechanics is not None:
+        print("\n".join(mechanics.lines()))
+        print(dock_line(dock))
+        if planned.shortest is not None:
+            print(f"note: the shortest route ({planned.shortest_route.length_mm:.1f} mm) is not drivable "
+                  f"({planned.shortest.unsafe[0][1]}); this longer one keeps every margin")
     if args.json or args.csv:
-        doc = route_document(route, garment, robot, lifted)
+        doc = route_document(route, garment, robot, lifted, mechanics)
+        if mechanics is not None:
+            doc["physics"]["return_to_dock"] = dock
         if args.json:
             write_route_json(args.json, doc)
         if args.csv:
@@ -105,6 +167,34 @@ def run(args: argparse.Namespace) -> int:
         comment = f"{args.start} to {args.goal} on garment '{garment.name}', robot '{robot.name}'"
         write_commands(args.commands, route_commands(route, garment, robot), comment=comment)
     return 0
+
+
+def _physics_planner(args: argparse.Namespace, planner: Planner, drape, robot: Robot):
+    """A PhysicsPlanner when the robot has a physics profile and there is a drape; None when
+    planning for length only. Physics options without a profile or a drape are refused."""
+    asked = [o for o, v in (("--cost", getattr(args, "cost", None)), ("--posture", getattr(args, "posture", None)),
+                            ("--gravity", getattr(args, "gravity", None))) if v is not None]
+    if robot.physics is None or drape is None:
+        if asked and (asked != ["--cost"] or args.cost != "length"):
+            why = ("the robot has no physics profile ([robot.physics] in the spec, or --robot ROBOT.toml)"
+                   if robot.physics is None else "there is no drape to read slopes from (give --drape MESH)")
+            raise QueryError(f"{', '.join(asked)}: {why}; see docs/physics.md")
+        return None
+    from garnav.mechanics.gravity import parse_gravity
+    from garnav.mechanics.planning import PhysicsPlanner
+
+    posture, g = parse_gravity(getattr(args, "gravity", None), getattr(args, "posture", None))
+    return PhysicsPlanner(planner, drape, gravity=g, posture=posture, cost=getattr(args, "cost", None) or "length")
+
+
+def dock_line(dock: dict | None) -> str:
+    """One summary line about the way back to the nearest dock."""
+    if dock is None:
+        return "dock      no dock landmark to return to (or the route ends on it)"
+    if dock["reachable"]:
+        return (f"dock      '{dock['dock']}' still reachable: {dock['length_mm']:.0f} mm, "
+                f"{dock['energy_j']:.1f} J, {100 * dock['charge_left_fraction']:.1f} % charge left after it")
+    return f"dock      '{dock['dock']}' NOT reachable after this route: {dock['reason']}"
 
 
 def _garment_and_drape(args: argparse.Namespace):

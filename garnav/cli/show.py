@@ -5,7 +5,8 @@
 The window shows the mannequin (the spec's ``body`` mesh), the draped garment (the spec's ``drape``
 mesh) coloured by piece, seams, open edges, keep-outs, landmarks and each route. ``--screenshot``
 renders off-screen to a PNG instead of opening a window. ``--sheet`` also writes the flat pattern
-sheet (``.svg`` or ``.png``) with the same routes.
+sheet (``.svg`` or ``.png``) with the same routes. ``--margins`` colours each route by its
+tightest margin (routes planned with a robot physics profile), with a colour bar.
 """
 
 from __future__ import annotations
@@ -31,28 +32,17 @@ def register(subparsers) -> None:
     parser.add_argument("--size", nargs=2, type=int, metavar=("W", "H"), default=(1200, 900),
                         help="window or image size in pixels (default 1200 900)")
     parser.add_argument("--sheet", metavar="FILE", help="also write the flat pattern sheet (.svg or .png)")
+    parser.add_argument("--margins", action="store_true",
+                        help="colour each route by its tightest grip/hold/drive margin over the required one, "
+                        "with a colour bar (routes planned with a robot physics profile; docs/physics.md)")
     parser.set_defaults(func=run)
-
-
-def _load_body(path: Path):
-    import numpy as np
-    import trimesh
-
-    if not path.is_file():
-        raise MeshError(f"{path}: body mesh not found")
-    try:
-        mesh = trimesh.load(path, force="mesh", process=False)
-    except Exception as exc:  # trimesh raises many kinds on bad files
-        raise MeshError(f"{path}: cannot read the body mesh: {exc}") from None
-    if len(mesh.faces) == 0:
-        raise MeshError(f"{path}: the body mesh has no triangles")
-    return np.asarray(mesh.vertices, dtype=float), np.asarray(mesh.faces, dtype=np.int64)
 
 
 def run(args: argparse.Namespace) -> int:
     from garnav.export.waypoints import read_route_document
     from garnav.preview.scene import SceneRoute, build_plotter, off_screen_environment, route_polyline, write_screenshot
     from garnav.drape.drape import load_drape
+    from garnav.drape.meshio import load_body_mesh
     from garnav.drape.sources import garment_and_drape
 
     w, h = args.size
@@ -80,11 +70,19 @@ def run(args: argparse.Namespace) -> int:
     base = spec_path.parent
     if drape is None and garment.drape:
         drape = load_drape(garment, None, str(base))
-    body = _load_body(base / garment.body) if garment.body else None
+    body = load_body_mesh(base / garment.body) if garment.body else None
     routes = []
     for name, doc in docs:
         pts, nrm = route_polyline(doc, drape, garment, source=name)
-        routes.append(SceneRoute(Path(name).stem, pts, nrm))
+        margin = None
+        if getattr(args, "margins", False):
+            from garnav.preview.scene import document_margins
+
+            margin = document_margins(doc)
+            if margin is None:
+                raise QueryError(f"{name}: --margins: the route has no physics object (plan it with a robot "
+                                 "physics profile and a drape)")
+        routes.append(SceneRoute(Path(name).stem, pts, nrm, margin))
 
     off = args.screenshot is not None
     if off:

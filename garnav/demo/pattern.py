@@ -47,6 +47,7 @@ from garnav.model import (
     Seam,
     SeamRun,
 )
+from garnav.mechanics.profile import RobotPhysics
 from garnav.polyline import cumulative_length
 
 __all__ = [
@@ -583,6 +584,31 @@ def _landmarks(dims: DemoDimensions, width: float, parts: _Parts) -> tuple[Landm
     return tuple(landmarks)
 
 
+#: The demo robot's physical figures: invented for the demo, plausible for a palm-sized magnet-held
+#: crawler (docs/demo.md, docs/physics.md). The magnet table falls steeply with the gap; the gap is
+#: the fabric: thin jersey sleeves, the torso's knit, the double-layer yoke. The drive (0.6 N)
+#: climbs the A-pose sleeves but not straight up the vertical chest, where it needs switchbacks.
+DEMO_PHYSICS = RobotPhysics(
+    mass_kg=0.05,
+    magnet_table_gap_mm=(0.5, 1.0, 1.5, 2.0, 3.0),
+    magnet_table_force_n=(4.2, 3.0, 2.2, 1.6, 0.9),
+    fabric_gap_mm=1.0,
+    piece_gap_mm=(("sleeve_left", 0.8), ("sleeve_right", 0.8), ("yoke", 1.6)),
+    friction_coefficient=0.6,
+    rolling_resistance=0.05,
+    wheel_radius_mm=6.0,
+    max_drive_force_n=0.6,
+    battery_mah=100.0,
+    battery_voltage_v=3.7,
+    usable_fraction=0.8,
+    drive_power_w=0.4,
+    idle_power_w=0.1,
+    drive_efficiency=0.3,
+    safety_factor=1.5,
+    drive_safety_factor=1.1,
+)
+
+
 @lru_cache(maxsize=4)
 def build_design(dims: DemoDimensions = DemoDimensions()) -> DemoDesign:
     """Build the demo garment and its exact geometry from the dimensions (pure, deterministic).
@@ -622,6 +648,7 @@ def build_design(dims: DemoDimensions = DemoDimensions()) -> DemoDesign:
             speed_mm_s=25.0,
             side="outside",
             edge_margin_mm=5.0,
+            physics=DEMO_PHYSICS,
         ),
         sheet_size_mm=sheet,
         drape="sensing_top_drape.obj",

@@ -38,6 +38,7 @@ __all__ = [
     "SCREENSHOT_NAME",
     "SCREENSHOT_SIZE",
     "SHEET_NAME",
+    "PAGE_NAME",
     "run_demo",
     "summary_table",
 ]
@@ -48,6 +49,7 @@ DEMO_ROUTES: tuple[tuple[str, str, str], ...] = (
     ("wrist_left", "sternum_left", "sleeve to chest across the left armhole seam"),
     ("olecranon_right", "dock", "elbow back to the charging dock on the lower back"),
     ("wrist_right", "cervicale", "over the right shoulder to the neck base, a body landmark"),
+    ("omphalion", "suprasternale", "straight up the chest is too steep for the drive: a switchback"),
 )
 
 #: Labels passed to ``progress`` (one call after each step), in order.
@@ -58,12 +60,15 @@ DEMO_STEPS: tuple[str, ...] = (
     "demo files",
     "3D view",
     "sheet",
+    "page",
 )
 
 SCREENSHOT_NAME = "routes_3d.png"
 #: Size of each of the two views in the 3D screenshot, pixels; the PNG is twice as wide.
 SCREENSHOT_SIZE = (900, 900)
 SHEET_NAME = "routes_sheet"
+#: The shareable plan page (garnav.page): one offline HTML file.
+PAGE_NAME = "plan.html"
 
 
 @dataclass(frozen=True, eq=False)
@@ -81,6 +86,9 @@ class DemoRoute:
         The ``garnav-route`` document written to ``files["json"]``.
     files : dict
         ``json``, ``csv``, ``commands`` → Path.
+    planned : garnav.mechanics.PlannedRoute, optional
+        With the robot's physics profile: the route's mechanics, and the refused shortest route
+        when that one was not drivable.
     """
 
     name: str
@@ -91,6 +99,7 @@ class DemoRoute:
     lifted: object
     document: dict
     files: dict[str, Path]
+    planned: object = None
 
 
 @dataclass(frozen=True, eq=False)
@@ -104,7 +113,7 @@ class DemoResult:
     robot : Robot
     routes : tuple of DemoRoute
     files : dict
-        Every file written, by role: ``screenshot``, ``sheet_svg``, ``sheet_png``, ``spec``,
+        Every file written, by role: ``screenshot``, ``sheet_svg``, ``sheet_png``, ``page``, ``spec``,
         ``drape``, ``body``, and ``NAME.json`` / ``NAME.csv`` / ``NAME.cmd`` per route.
     screenshot_px : (width, height)
     seconds : dict
@@ -216,14 +225,24 @@ def run_demo(
     robot = garment.robot or Robot()
     done("garment and drape")
     planner = Planner(garment, robot, locate_3d=pattern_locator(drape, garment))
+    physics = None
+    if robot.physics is not None:  # -- physics: routes the robot can drive (docs/physics.md)
+        from garnav.mechanics.planning import PhysicsPlanner
+
+        physics = PhysicsPlanner(planner, drape)
     done("planner")
 
     files: dict[str, Path] = {}
     routes = []
     for start, goal, about in DEMO_ROUTES:
-        route = planner.route(start, goal)
-        lifted = lift_route(drape, garment, route)
-        doc = route_document(route, garment, robot, lifted)
+        planned = None
+        if physics is not None:
+            planned = physics.route(start, goal)
+            route, lifted = planned.route, planned.lifted
+        else:
+            route = planner.route(start, goal)
+            lifted = lift_route(drape, garment, route)
+        doc = route_document(route, garment, robot, lifted, planned.mechanics if planned else None)
         name = f"{start}_to_{goal}"
         rfiles = {
             "json": Path(write_route_json(out / f"{name}.json", doc)),
@@ -238,7 +257,7 @@ def run_demo(
         }
         for path in rfiles.values():
             files[path.name] = path
-        routes.append(DemoRoute(name, start, goal, about, route, lifted, doc, rfiles))
+        routes.append(DemoRoute(name, start, goal, about, route, lifted, doc, rfiles, planned))
         done(f"route {start} → {goal}")
 
     files["spec"] = Path(save_garment(garment, out / SPEC_NAME))
@@ -253,7 +272,13 @@ def run_demo(
         from garnav.preview.scene import SceneRoute, build_plotter, off_screen_environment, views_png
 
         off_screen_environment()
-        scene_routes = [SceneRoute(r.name, r.lifted.points, r.lifted.normals) for r in routes]
+        scene_routes = [SceneRoute(r.name, r.lifted.points, r.lifted.normals, _margins(r)) for r in routes]
+        # -- physics: the refused shortest routes, thin, coloured where they miss a margin
+        scene_routes += [
+            SceneRoute(f"{r.name}_shortest", r.planned.shortest_lifted.points, r.planned.shortest_lifted.normals,
+                       r.planned.shortest.tightest, faint=True)
+            for r in routes if r.planned is not None and r.planned.shortest is not None
+        ]
         try:
             plotter = build_plotter(
                 garment, drape, (body.vertices, body.faces), scene_routes, off_screen=True, size=SCREENSHOT_SIZE
@@ -277,14 +302,31 @@ def run_demo(
     files["sheet_svg"] = Path(write_sheet_svg(out / f"{SHEET_NAME}.svg", drawing))
     files["sheet_png"] = Path(write_sheet_png(out / f"{SHEET_NAME}.png", drawing))
     done("sheet")
+
+    from garnav.page import plan_page, write_plan_page
+
+    page = plan_page(garment, [(r.name, r.document) for r in routes], drape, scene.body,
+                     free_space=planner.free, title=f"Demo plan: robot routes on {garment.name} (invented scenario)")
+    files["page"] = write_plan_page(out / PAGE_NAME, page)
+    done("page")
     return DemoResult(out, garment, robot, tuple(routes), files, px, seconds, tuple(notes))
+
+
+def _margins(r: DemoRoute):
+    """Per-segment tightest margin over its requirement, for colouring (None without physics)."""
+    return None if r.planned is None else r.planned.mechanics.tightest
 
 
 def summary_table(result: DemoResult) -> str:
     """The demo routes as a text table: length on the pattern and on the drape, seams crossed,
     turns (as ``garnav route`` counts them: more than 0.5°, and their total), climb up and down
-    (world z) and the estimated time (driving plus turning in place)."""
+    (world z) and the estimated time (driving plus turning in place); with the robot's physics
+    profile also the energy (J and share of the battery) and the worst margin, followed by a note
+    for every route whose shortest version was not drivable."""
     head = ("route", "length", "3D length", "seams crossed", "turns", "climb up/down", "time")
+    with_physics = any(r.planned is not None for r in result.routes)
+    if with_physics:
+        head += ("energy", "worst margin")
     rows = [head]
     for r in result.routes:
         doc = r.document
@@ -300,8 +342,29 @@ def summary_table(result: DemoResult) -> str:
                 f"{s['climb_up_mm']:.0f}/{s['climb_down_mm']:.0f} mm",
                 f"{s['estimated_time_s']:.1f} s",
             )
+            + (_physics_cells(r) if with_physics else ())
         )
     widths = [max(len(row[i]) for row in rows) for i in range(len(head))]
     lines = ["  ".join(cell.ljust(w) for cell, w in zip(row, widths)).rstrip() for row in rows]
     lines.insert(1, "  ".join("-" * w for w in widths))
+    for r in result.routes:  # -- physics: why a longer route was taken
+        if r.planned is not None and r.planned.shortest is not None:
+            short = r.planned.shortest
+            key, value = short.worst()
+            need = short.physics.drive_safety_factor if key == "drive" else short.physics.safety_factor
+            lines.append(
+                f"note: {r.start} → {r.goal}: the shortest route ({r.planned.shortest_route.length_mm:.0f} mm) "
+                f"is not drivable ({key} margin {value:.2f} < {need:g} on {len(short.unsafe)} segments); "
+                f"the planner took a longer one ({r.route.length_mm:.0f} mm) that keeps every margin"
+            )
     return "\n".join(lines)
+
+
+def _physics_cells(r: DemoRoute) -> tuple[str, str]:
+    if r.planned is None:
+        return ("", "")
+    from garnav.mechanics.evaluate import margin_text
+
+    m = r.planned.mechanics
+    key, value = m.worst()
+    return (f"{m.total_energy_j:.1f} J ({100 * m.battery_used_fraction:.1f} %)", f"{key} {margin_text(value)}")

@@ -41,6 +41,7 @@ __all__ = [
     "dumps_obj",
     "save_obj",
     "weld_positions",
+    "load_body_mesh",
     "MESH_SUFFIXES",
 ]
 
@@ -434,3 +435,30 @@ def load_uv_mesh(path: str | os.PathLike, *, weld_tol_mm: float = 1e-4) -> UVMes
     else:
         positions, faces, corner = _trimesh_arrays(p, source)
     return uv_mesh_from_arrays(positions, faces, corner, source=source, weld_tol_mm=weld_tol_mm)
+
+
+def load_body_mesh(path: str | os.PathLike) -> tuple[np.ndarray, np.ndarray]:
+    """Read a mannequin (body) mesh: any triangle mesh trimesh reads; UVs are not needed.
+
+    Returns
+    -------
+    vertices : (B, 3) float array, world mm
+    faces : (G, 3) int64 array
+
+    Raises
+    ------
+    MeshError
+        File missing or unreadable, or a mesh with no triangles.
+    """
+    import trimesh
+
+    p = Path(path)
+    if not p.is_file():
+        raise MeshError(f"{p}: body mesh not found")
+    try:
+        mesh = trimesh.load(p, force="mesh", process=False)
+    except Exception as exc:  # trimesh raises many kinds on bad files
+        raise MeshError(f"{p}: cannot read the body mesh: {exc}") from None
+    if len(mesh.faces) == 0:
+        raise MeshError(f"{p}: the body mesh has no triangles")
+    return np.asarray(mesh.vertices, dtype=float), np.asarray(mesh.faces, dtype=np.int64)

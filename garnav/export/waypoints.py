@@ -73,6 +73,9 @@ CSV_COLUMNS = (
     "qy",
     "qz",
     "qw",
+    "grip_margin",
+    "hold_margin",
+    "drive_margin",
 )
 
 
@@ -178,7 +181,9 @@ def _vec(v) -> list[float]:
     return [float(a) for a in v]
 
 
-def route_document(route, garment: Garment, robot: Robot | None = None, lifted: LiftedLike | None = None) -> dict:
+def route_document(
+    route, garment: Garment, robot: Robot | None = None, lifted: LiftedLike | None = None, mechanics=None
+) -> dict:
     """The ``garnav-route`` document of a route, as a JSON-ready dict.
 
     Parameters
@@ -190,6 +195,9 @@ def route_document(route, garment: Garment, robot: Robot | None = None, lifted: 
     lifted : LiftedRoute, optional
         The route lifted onto the drape (``garnav.drape.lift_route``); adds world positions, normals,
         orientations, 3D length and climbs, and the dense 3D path. Without it those are ``null``.
+    mechanics : garnav.mechanics.RouteMechanics, optional
+        The lifted route's mechanics (needs ``lifted``): adds the ``physics`` object (posture,
+        gravity, energy, battery, margins per segment of ``path3d`` and per waypoint).
 
     Returns
     -------
@@ -232,7 +240,7 @@ def route_document(route, garment: Garment, robot: Robot | None = None, lifted: 
         }
         for c in route.crossings
     ]
-    return {
+    doc = {
         "format": FORMAT_NAME,
         "version": FORMAT_VERSION,
         "units": {"length": "mm", "angle": "deg", "time": "s", "speed": "mm/s"},
@@ -248,6 +256,13 @@ def route_document(route, garment: Garment, robot: Robot | None = None, lifted: 
         "path3d": None if lifted is None else _vecs(lifted.points),
         "path3d_detail": None if lifted is None else _path3d_detail(lifted),
     }
+    if mechanics is not None:
+        if lifted is None:
+            raise QueryError("route mechanics need the lifted route as well")
+        physics = mechanics.to_dict()
+        physics["waypoints"] = mechanics.waypoint_margins(lifted.waypoint_index)
+        doc["physics"] = physics
+    return doc
 
 
 def _summary(route, commands: CommandList, robot: Robot, lifted) -> dict:
@@ -365,7 +380,11 @@ def document_csv(document: dict) -> str:
         world = w["xyz"] or [None] * 3
         normal = w["normal"] or [None] * 3
         quat = w["orientation_xyzw"] or [None] * 4
-        row = [w["index"], w["leg"], w["piece"], w["x"], w["y"], w["heading_deg"], *world, *normal, *quat]
+        margins = [None] * 3
+        if document.get("physics"):
+            per = document["physics"]["waypoints"]
+            margins = [per[f"{k}_margin"][w["index"]] for k in ("grip", "hold", "drive")]
+        row = [w["index"], w["leg"], w["piece"], w["x"], w["y"], w["heading_deg"], *world, *normal, *quat, *margins]
         writer.writerow([_cell(v) for v in row])
     return buf.getvalue()
 

@@ -32,10 +32,16 @@ from garnav.preview.sheet import ROUTE_COLOURS
 __all__ = [
     "SceneStyle",
     "SceneRoute",
+    "MARGIN_CMAP",
+    "MARGIN_CLIM",
+    "point_margins",
+    "document_margins",
     "PIECE_COLOURS",
     "drape_edges",
     "keepout_face_mask",
     "route_polyline",
+    "landmark_points",
+    "keepout_outline_3d",
     "build_plotter",
     "screenshot_png",
     "views_png",
@@ -57,16 +63,41 @@ class SceneStyle:
     open_edge: str = "#6b4423"
     keepout: str = "#c0392b"
     landmark: str = "#1b1b3a"
+    coverage: str = "#5b8fc7"
     line_width: float = 3.0
 
 
 @dataclass(frozen=True)
 class SceneRoute:
-    """A route to draw: points (M, 3) and unit normals (M, 3) on the surface, world mm."""
+    """A route to draw: points (M, 3) and unit normals (M, 3) on the surface, world mm.
+
+    ``margin`` (M − 1,), optional: each segment's tightest margin over its requirement
+    (``RouteMechanics.tightest``; 1 = just safe): the tube is coloured by it, with a colour bar.
+    ``faint``: drawn thin and without direction cones (e.g. a shortest route that was refused).
+    """
 
     name: str
     points: np.ndarray
     normals: np.ndarray | None = None
+    margin: np.ndarray | None = None
+    faint: bool = False
+
+
+#: Colour map and range of the margin colouring: tightest margin over its requirement.
+MARGIN_CMAP = "RdYlGn"
+MARGIN_CLIM = (0.0, 2.0)
+MARGIN_TITLE = "margin / required"
+
+
+def point_margins(margin: np.ndarray) -> np.ndarray:
+    """(M,) per-point margins from (M − 1,) per-segment ones: the smaller of the two segments
+    meeting at each point (the ends take their one segment).
+
+    >>> point_margins(np.array([2.0, 0.5, 1.0])).tolist()
+    [2.0, 0.5, 0.5, 1.0]
+    """
+    m = np.asarray(margin, dtype=float)
+    return np.minimum(np.r_[m[:1], m], np.r_[m, m[-1:]])
 
 
 def off_screen_environment() -> None:
@@ -136,6 +167,21 @@ def keepout_face_mask(garment: Garment, drape) -> np.ndarray:
     return mask
 
 
+def document_margins(document: dict) -> np.ndarray | None:
+    """(M − 1,) tightest margin over its requirement of each ``path3d`` segment of a route
+    document with a ``physics`` object (null margins count as unlimited); None without one."""
+    phys = document.get("physics")
+    if not phys:
+        return None
+    seg = phys["segments"]
+
+    def arr(key: str) -> np.ndarray:
+        return np.array([np.inf if v is None else v for v in seg[key]], dtype=float)
+
+    return np.minimum.reduce([arr("grip_margin") / phys["safety_factor"], arr("hold_margin") / phys["safety_factor"],
+                              arr("drive_margin") / phys["drive_safety_factor"]])
+
+
 def route_polyline(document: dict, drape=None, garment: Garment | None = None, source: str = "route"):
     """The 3D polyline of a ``garnav-route`` document.
 
@@ -183,6 +229,7 @@ def build_plotter(
     size: tuple[int, int] = (1200, 900),
     style: SceneStyle = SceneStyle(),
     labels: bool = True,
+    covered_faces: np.ndarray | None = None,
 ):
     """A pyvista Plotter showing the scene.
 
@@ -199,6 +246,9 @@ def build_plotter(
     size : (width, height) in pixels
     labels : bool
         Draw landmark labels (text rendering).
+    covered_faces : (F,) bool array, optional
+        Drape triangles a sweep covers, shaded in ``style.coverage`` (see
+        :func:`garnav.sweep.coverage_face_mask`).
     """
     import pyvista as pv
 
@@ -222,6 +272,8 @@ def build_plotter(
         colours = np.array([_rgb(PIECE_COLOURS[i % len(PIECE_COLOURS)]) for i in range(len(drape.piece_names))])
         face_rgb = colours[np.asarray(drape.face_piece)]
         mask = keepout_face_mask(garment, drape)
+        if covered_faces is not None:
+            face_rgb[np.asarray(covered_faces, dtype=bool)] = _rgb(style.coverage)
         face_rgb[mask] = _rgb(style.keepout)
         cloth.cell_data["colour"] = (face_rgb * 255).astype(np.uint8)
         plotter.add_mesh(cloth, scalars="colour", rgb=True, show_edges=False, name="drape", specular=0.05)
@@ -231,25 +283,11 @@ def build_plotter(
             if lines is not None:
                 plotter.add_mesh(lines.tube(radius=0.0015 * scale, n_sides=8), color=colour, name=name)
         for k in garment.keepouts:
-            outline = _keepout_outline_3d(drape, k)
+            outline = keepout_outline_3d(drape, k)
             if outline is not None:
                 plotter.add_mesh(pv.lines_from_points(outline).tube(radius=0.0025 * scale, n_sides=8),
                                  color=style.keepout, name=f"keepout-{k.name}")
-        marks, names, normals = [], [], []
-        for lm in garment.landmarks:
-            if lm.on_pattern and lm.piece in drape.piece_names:
-                try:
-                    hits = drape.locate(lm.piece, np.array([[lm.x, lm.y]]), 1.0)
-                except GarnavError:
-                    continue
-                marks.append(drape.to_3d(hits.face, hits.bary)[0])
-                normals.append(drape.normals_at(hits.face, hits.bary)[0] if hasattr(drape, "normals_at") else None)
-            elif lm.xyz is not None:
-                marks.append(np.asarray(lm.xyz, dtype=float))
-                normals.append(_surface_normal(drape, marks[-1]))
-            else:
-                continue
-            names.append(lm.name)
+        marks, names, normals = landmark_points(garment, drape)
         if marks:
             pts = pv.PolyData(np.array(marks))
             plotter.add_mesh(pts.glyph(geom=pv.Sphere(radius=0.006 * scale), scale=False, orient=False),
@@ -261,9 +299,11 @@ def build_plotter(
                 plotter._garnav_labels = (np.array(marks), names, np.array(normals) if known else None, style)
 
     radius = 0.004 * scale
+    bar = False
     for ri, route in enumerate(routes):
         colour = ROUTE_COLOURS[ri % len(ROUTE_COLOURS)]
         pts = np.asarray(route.points, dtype=float)
+        width = 0.55 * radius if route.faint else radius
         if route.normals is not None:
             pts = pts + 1.2 * radius * np.asarray(route.normals, dtype=float)
         keep = np.r_[True, np.linalg.norm(np.diff(pts, axis=0), axis=1) > 1e-9]
@@ -271,7 +311,18 @@ def build_plotter(
         if len(pts) < 2:
             continue
         line = pv.lines_from_points(pts)
-        plotter.add_mesh(line.tube(radius=radius, n_sides=12), color=colour, lighting=False, name=f"route-{ri}")
+        if route.margin is not None and len(route.margin) == len(keep) - 1:
+            line.point_data["margin"] = np.clip(point_margins(route.margin)[keep], *MARGIN_CLIM)
+            plotter.add_mesh(line.tube(radius=width, n_sides=12), scalars="margin", cmap=MARGIN_CMAP,
+                             clim=MARGIN_CLIM, lighting=False, name=f"route-{ri}", show_scalar_bar=not bar,
+                             scalar_bar_args={"title": MARGIN_TITLE, "color": "#222222", "vertical": True,
+                                              "position_x": 0.84, "position_y": 0.25, "height": 0.5})
+            bar = True
+        else:
+            plotter.add_mesh(line.tube(radius=width, n_sides=12), color="#8a8a8a" if route.faint else colour,
+                             lighting=False, name=f"route-{ri}")
+        if route.faint:
+            continue
         plotter.add_mesh(pv.Sphere(radius=2.2 * radius, center=pts[0]), color=colour, lighting=False,
                          name=f"route-{ri}-start")
         plotter.add_mesh(pv.Cube(center=pts[-1], x_length=4 * radius, y_length=4 * radius, z_length=4 * radius),
@@ -289,6 +340,39 @@ def build_plotter(
     return plotter
 
 
+def landmark_points(garment: Garment, drape) -> tuple[list[np.ndarray], list[str], list[np.ndarray | None]]:
+    """Where the garment's landmarks are on the drape.
+
+    Pattern landmarks are located on their piece (snapped up to 1 mm) and mapped to 3D; body
+    landmarks (``xyz``) stay where they are, with the normal of the nearest surface point. Landmarks
+    that are off the drape are left out.
+
+    Returns
+    -------
+    points : list of (3,) arrays, world mm
+    names : list of str
+    normals : list of (3,) unit arrays, or None where the drape cannot tell
+    """
+    marks: list[np.ndarray] = []
+    names: list[str] = []
+    normals: list[np.ndarray | None] = []
+    for lm in garment.landmarks:
+        if lm.on_pattern and lm.piece in drape.piece_names:
+            try:
+                hits = drape.locate(lm.piece, np.array([[lm.x, lm.y]]), 1.0)
+            except GarnavError:
+                continue
+            marks.append(drape.to_3d(hits.face, hits.bary)[0])
+            normals.append(drape.normals_at(hits.face, hits.bary)[0] if hasattr(drape, "normals_at") else None)
+        elif lm.xyz is not None:
+            marks.append(np.asarray(lm.xyz, dtype=float))
+            normals.append(_surface_normal(drape, marks[-1]))
+        else:
+            continue
+        names.append(lm.name)
+    return marks, names, normals
+
+
 def _surface_normal(drape, xyz: np.ndarray) -> np.ndarray | None:
     """Outward normal of the drape at the surface point closest to ``xyz``, or None when the drape
     cannot tell (a stand-in without a mesh)."""
@@ -301,7 +385,7 @@ def _surface_normal(drape, xyz: np.ndarray) -> np.ndarray | None:
         return None
 
 
-def _keepout_outline_3d(drape, keepout, step_mm: float = 2.0) -> np.ndarray | None:
+def keepout_outline_3d(drape, keepout, step_mm: float = 2.0) -> np.ndarray | None:
     """The keep-out's outline (closed, sampled every ``step_mm``) on the drape, or None when it is
     not on the drape's piece or leaves the mesh."""
     if keepout.piece not in drape.piece_names:

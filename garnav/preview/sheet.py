@@ -61,6 +61,7 @@ class SheetStyle:
     grown_fill: str = "#f4cccc"
     keepout_fill: str = "#e06666"
     soft_fill: str = "#f6b26b"
+    coverage_fill: str = "#7fa7cf"
     seam: str = "#3d5a80"
     landmark: str = "#1b263b"
     text: str = "#2b2118"
@@ -192,6 +193,7 @@ def sheet_drawing(
     robot: Robot | None = None,
     style: SheetStyle = SheetStyle(),
     route_names: Sequence[str] | None = None,
+    coverage=None,
 ) -> SheetDrawing:
     """Build the sheet drawing of a garment.
 
@@ -209,6 +211,9 @@ def sheet_drawing(
     style : SheetStyle
     route_names : sequence of str, optional
         Names written beside each route's start.
+    coverage : mapping piece -> shapely geometry, optional
+        Ground a sweep covers (piece frame, mm; :attr:`garnav.sweep.Sweep.covered`), shaded under
+        the routes.
 
     Returns
     -------
@@ -321,6 +326,14 @@ def sheet_drawing(
         lms.append(Label((float(at[0]), float(at[1]) - 0.9 * style.label_size), lm.name, style.label_size * 0.6,
                          style.landmark))
     layers.append(("landmarks", tuple(lms)))
+
+    if coverage:  # ground a sweep's sensor covers: piece -> polygon (piece frame, mm), shaded
+        cov = []
+        for name, geom in coverage.items():
+            if name in pieces:
+                cov += _polygon_areas(_place(pieces[name], geom.intersection(pieces[name].polygon)), style.coverage_fill,
+                                      opacity=0.55, kind="coverage", info=(("piece", name),))
+        layers.append(("coverage", tuple(cov)))
 
     for ri, route in enumerate(routes):
         layers.append((f"route-{ri}", tuple(_route_items(route, ri, pieces, style, route_names))))

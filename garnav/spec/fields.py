@@ -150,6 +150,10 @@ SECTIONS: dict[str, dict[str, Field]] = {
               doc="garment face it drives on"),
         Field("edge_margin_mm", "float", default=5.0, unit="mm", low=0.0,
               doc="distance kept from open edges beyond the radius"),
+        Field("sensor_swath_mm", "float", unit="mm", low=0.0, low_open=True,
+              doc="width covered by the robot's sensor, for sweeps"),
+        Field("physics", "table", doc="mass, magnet, grip, drive and battery: [robot.physics] "
+              "(docs/physics.md)"),
     ),
     "piece": _fields(
         Field("name", "str", True, doc="piece name, unique"),

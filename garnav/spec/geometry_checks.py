@@ -27,7 +27,7 @@ from garnav.model import KEEPOUT_KINDS, Circle, Garment, KeepOut, Piece, Polygon
 from garnav.polyline import point_at_length
 from garnav.spec.fields import MAX_ABS, ROBOT_SIDES, range_problem
 
-__all__ = ["garment_problems", "check_garment", "geometry_problems", "TOL_MM"]
+__all__ = ["garment_problems", "check_garment", "geometry_problems", "robot_problems", "TOL_MM"]
 
 TOL_MM = 1e-6
 """Distances below this (mm) count as zero: chained edge ends, run limits, overlaps."""
@@ -82,6 +82,26 @@ def geometry_problems(
         False when a missing or malformed piece list was already reported.
     """
     return _Checker(garment, source, set(broken_pieces), check_sheet, check_pieces).run()
+
+
+def robot_problems(robot, source: str = "<memory>", piece_names: Iterable[str] | None = None) -> list[Problem]:
+    """Every problem of a robot profile: number ranges, side, and its physics
+    (:func:`garnav.mechanics.profile.physics_problems`; with ``piece_names`` its per-piece gaps
+    must name pieces of the garment)."""
+    from garnav.mechanics.profile import physics_problems
+
+    out = []
+    for key in ("radius_mm", "wheel_base_mm", "speed_mm_s", "edge_margin_mm"):
+        why = range_problem("robot", key, getattr(robot, key))
+        if why:
+            out.append(Problem(source, "robot", f"'{key}' {why}"))
+    if robot.side not in ROBOT_SIDES:
+        out.append(Problem(source, "robot", f"side '{robot.side}' is not one of {', '.join(ROBOT_SIDES)}",
+                           hint=did_you_mean(str(robot.side), ROBOT_SIDES)))
+    if getattr(robot, "physics", None) is not None:
+        out.extend(Problem(source, "robot physics", why)
+                   for why in physics_problems(robot.physics, piece_names))
+    return out
 
 
 def _fmt(v: float) -> str:
@@ -171,12 +191,8 @@ class _Checker:
         return self.problems
 
     def robot(self) -> None:
-        r = self.g.robot
-        for key in ("radius_mm", "wheel_base_mm", "speed_mm_s", "edge_margin_mm"):
-            self.number("robot", key, getattr(r, key), "robot")
-        if r.side not in ROBOT_SIDES:
-            self.add("robot", f"side '{r.side}' is not one of {', '.join(ROBOT_SIDES)}",
-                     hint=did_you_mean(str(r.side), ROBOT_SIDES))
+        pieces = [p.name for p in self.g.pieces] if self.check_pieces else None
+        self.problems.extend(robot_problems(self.g.robot, self.source, pieces))
 
     # -- pieces --------------------------------------------------------------------------------
     def piece(self, p: Piece) -> shapely.Polygon | None:

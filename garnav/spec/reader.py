@@ -33,8 +33,9 @@ from garnav.model import (
 )
 from garnav.spec.fields import FORMAT, SECTIONS, SHAPE_FIELDS, SHAPES, VERSION, Field
 from garnav.spec.geometry_checks import geometry_problems
+from garnav.mechanics.profile import physics_from_table
 
-__all__ = ["parse_toml", "garment_from_dict", "loads_garment", "load_garment"]
+__all__ = ["parse_toml", "garment_from_dict", "loads_garment", "load_garment", "robot_from_table"]
 
 
 def parse_toml(text: str, source: str = "<string>") -> dict[str, Any]:
@@ -94,6 +95,22 @@ def load_garment(path: str | os.PathLike) -> Garment:
 def garment_from_dict(data: dict[str, Any], source: str = "<string>") -> Garment:
     """Build a garment from parsed TOML, checking structure and geometry; raise on any problem."""
     return _Reader(source).garment(data)
+
+
+def robot_from_table(table: Any, source: str = "<string>") -> Robot:
+    """Build a :class:`Robot` from a parsed ``[robot]`` table (sub-tables included), checking
+    every key and value; raise :class:`SpecError` with every problem."""
+    reader = _Reader(source)
+    if not isinstance(table, dict):
+        raise SpecError([Problem(source, "robot", f"must be a table, found {_describe(table)}")])
+    robot = reader.robot(table)
+    if robot is not None:
+        from garnav.spec.geometry_checks import robot_problems
+
+        reader.problems.extend(robot_problems(robot, source))
+    if reader.problems or robot is None:
+        raise SpecError(sorted(reader.problems, key=lambda p: p.item != "robot"))
+    return robot
 
 
 # --------------------------------------------------------------------------------------------
@@ -301,7 +318,19 @@ class _Reader:
         return f"{kind} '{name}'" if isinstance(name, str) else f"{kind} #{index + 1}"
 
     def robot(self, table: dict[str, Any]) -> Robot | None:
+        table = dict(table)
+        odometry_table = table.pop("odometry", None)  # [robot.odometry]: garnav.uncertainty
         v, ok = self.section(table, "robot", "robot")
+        if odometry_table is not None:
+            from garnav.uncertainty.model import parse_odometry
+
+            v["odometry"], odometry_problems = parse_odometry(odometry_table, self.source)
+            self.problems.extend(odometry_problems)
+            ok &= not odometry_problems
+        if v.get("physics") is not None:
+            v["physics"], found = physics_from_table(v["physics"], "robot physics")
+            for item, reason, hint in found:
+                self.add(item, reason, hint=hint)  # the rest of [robot] is still checked
         return Robot(**v) if ok else None
 
     def piece(self, table: dict[str, Any], index: int) -> Piece | None:

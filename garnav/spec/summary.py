@@ -166,6 +166,17 @@ def garment_summary(garment: Garment) -> tuple[Section, ...]:
         () if r is None else ((r.name, f"{r.radius_mm:g}", f"{r.wheel_base_mm:g}",
                                f"{r.speed_mm_s:g}", r.side, f"{r.edge_margin_mm:g}"),),
     ))
+    if r is not None and r.physics is not None:  # docs/physics.md
+        p = r.physics
+        magnet = (f"{min(p.magnet_table_force_n):g}..{max(p.magnet_table_force_n):g} (table)"
+                  if p.magnet_table_gap_mm else f"{p.magnet_force_n:g}")
+        sections.append(Section(
+            "robot physics",
+            ("mass kg", "magnet N", "mu", "rolling", "drive N", "battery", "power W", "safety"),
+            ((f"{p.mass_kg:g}", magnet, f"{p.friction_coefficient:g}", f"{p.rolling_resistance:g}",
+              f"{p.drive_force_n:g}", f"{p.battery_mah:g} mAh {p.battery_voltage_v:g} V",
+              f"{p.drive_power_w:g} + {p.idle_power_w:g}", f"{p.safety_factor:g} / {p.drive_safety_factor:g}"),),
+        ))
     return tuple(sections)
 
 

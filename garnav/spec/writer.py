@@ -17,11 +17,11 @@ import tomli_w
 
 from garnav.atomic import write_text_atomic
 from garnav.errors import GarnavError, SpecError
-from garnav.model import Circle, Garment, KeepOut, Landmark, Piece, PolygonShape, Rectangle, Seam
+from garnav.model import Circle, Garment, KeepOut, Landmark, Piece, PolygonShape, Rectangle, Robot, Seam
 from garnav.spec.fields import FORMAT, VERSION
 from garnav.spec.geometry_checks import garment_problems
 
-__all__ = ["garment_to_dict", "dumps_garment", "save_garment"]
+__all__ = ["garment_to_dict", "dumps_garment", "save_garment", "robot_lines", "robot_to_dict"]
 
 
 def _f(v: float) -> float:
@@ -96,6 +96,29 @@ def _landmark(m: Landmark) -> dict[str, Any]:
     return d
 
 
+def robot_to_dict(r: Robot) -> dict[str, Any]:
+    """The robot as the plain dict its ``[robot]`` table parses to (sub-tables as dicts)."""
+    d: dict[str, Any] = {
+        "name": r.name,
+        "radius_mm": _f(r.radius_mm),
+        "wheel_base_mm": _f(r.wheel_base_mm),
+        "speed_mm_s": _f(r.speed_mm_s),
+        "side": r.side,
+        "edge_margin_mm": _f(r.edge_margin_mm),
+    }
+    if getattr(r, "physics", None) is not None:
+        from garnav.mechanics.profile import physics_to_table
+
+        d["physics"] = physics_to_table(r.physics)
+    if r.sensor_swath_mm is not None:
+        d["sensor_swath_mm"] = _f(r.sensor_swath_mm)
+    if r.odometry is not None:  # [robot.odometry]: garnav.uncertainty
+        from garnav.uncertainty.model import odometry_to_dict
+
+        d["odometry"] = odometry_to_dict(r.odometry)
+    return d
+
+
 def garment_to_dict(garment: Garment) -> dict[str, Any]:
     """The garment as the plain dict a spec file parses to (``tomllib.loads(dumps(g))``)."""
     g = garment
@@ -108,15 +131,7 @@ def garment_to_dict(garment: Garment) -> dict[str, Any]:
     if g.body is not None:
         d["body"] = g.body
     if g.robot is not None:
-        r = g.robot
-        d["robot"] = {
-            "name": r.name,
-            "radius_mm": _f(r.radius_mm),
-            "wheel_base_mm": _f(r.wheel_base_mm),
-            "speed_mm_s": _f(r.speed_mm_s),
-            "side": r.side,
-            "edge_margin_mm": _f(r.edge_margin_mm),
-        }
+        d["robot"] = robot_to_dict(g.robot)
     d["piece"] = [_piece(p) for p in g.pieces]
     if g.seams:
         d["seam"] = [_seam(s) for s in g.seams]
@@ -165,6 +180,16 @@ def _body(table: dict[str, Any]) -> list[str]:
     return lines
 
 
+def robot_lines(robot: dict[str, Any]) -> list[str]:
+    """The ``[robot]`` table and its sub-tables (``[robot.physics]``, ...) as TOML lines."""
+    top = {k: v for k, v in robot.items() if not isinstance(v, dict)}
+    out = ["", "[robot]"] + _body(top)
+    for key, sub in robot.items():
+        if isinstance(sub, dict):
+            out += ["", f"[robot.{key}]"] + _body(sub)
+    return out
+
+
 def dumps_garment(garment: Garment) -> str:
     """The garment as spec TOML text.
 
@@ -180,7 +205,7 @@ def dumps_garment(garment: Garment) -> str:
     top = {k: v for k, v in d.items() if k not in ("robot", "piece", "seam", "keepout", "landmark")}
     out = _body(top)
     if "robot" in d:
-        out += ["", "[robot]"] + _body(d["robot"])
+        out += robot_lines(d["robot"])
     for p in d["piece"]:
         out += ["", "[[piece]]"] + _body(p)
         for e in p["edge"]:

@@ -1,0 +1,143 @@
+"""``garnav sweep GARMENT --region ... --json OUT``: plan a route that covers a region with the sensor.
+
+Regions (repeat ``--region`` for a union): ``pieces:NAME[,NAME]``, ``polygon:PIECE:X,Y;X,Y;...``
+(pattern mm), ``near:X,Y,Z:MM`` (fabric within MM of a world point; needs a drape) and
+``zone:NAME`` (body zones: not defined yet). Writes the sweep's route document (``garnav-route``
+with a ``sweep`` object of coverage figures, docs/sweeps.md), optionally its CSV, the robot
+commands, the pattern sheet with the covered ground shaded and a 3D picture. All atomically.
+"""
+
+from __future__ import annotations
+
+import argparse
+import dataclasses
+from pathlib import Path
+
+from garnav.drape.inverse import pattern_locator
+from garnav.drape.lift import lift_route
+from garnav.drape.sources import garment_and_drape, is_mesh_path, spec_drape_locator
+from garnav.errors import MeshError, QueryError
+from garnav.export.commands import route_commands, write_commands
+from garnav.export.waypoints import write_route_csv, write_route_json
+from garnav.model import Robot
+from garnav.plan import Planner
+from garnav.sweep import coverage_face_mask, figures_lines, parse_region, plan_sweep, resolve_region, sweep_document
+from garnav.sweep.plan import swath_of
+
+__all__ = ["register", "run"]
+
+CAUTION = (
+    "caution: a sweep drives the robot over a whole area of the wearer's body. Keep magnets away "
+    "from implanted devices, keep out of the neck and face, watch the battery, keep an emergency "
+    "stop at hand; garnav plans routes and certifies nothing."
+)
+
+
+def register(subparsers: argparse._SubParsersAction) -> None:
+    parser = subparsers.add_parser(
+        "sweep",
+        help="plan a route whose sensor covers a region of the garment",
+        description="Plan a sweep: lanes spaced by the sensor swath over a region of the garment "
+        "(boustrophedon cells, least-width lane direction, a headland lap along curved borders), "
+        "joined by the route planner across seams, and print its coverage figures. REGION is "
+        "pieces:NAME[,NAME], polygon:PIECE:X,Y;X,Y;X,Y (pattern mm), near:X,Y,Z:MM (fabric within "
+        "MM of a world point, needs a drape) or zone:NAME (body zones; none are defined yet).",
+        epilog=CAUTION,
+    )
+    parser.add_argument("garment", metavar="GARMENT", help="garment spec file (.toml) or a UV-mapped mesh")
+    parser.add_argument("--region", action="append", required=True, metavar="REGION",
+                        help="region to cover (repeatable: the union is swept)")
+    parser.add_argument("--swath", type=float, metavar="MM",
+                        help="sensor swath in mm (default: the robot's sensor_swath_mm)")
+    parser.add_argument("--headland", choices=("auto", "on", "off"), default="auto",
+                        help="headland lap along the region's border: auto (only where plain lanes "
+                        "leave more than 1 %% uncovered), on or off (default: auto)")
+    parser.add_argument("--start", metavar="POINT", help="where the robot starts (landmark, PIECE:X,Y or xyz:X,Y,Z)")
+    parser.add_argument("--radius", type=float, metavar="MM", help="robot radius in mm (default: the spec's robot)")
+    parser.add_argument("--clearance", type=float, default=0.0, metavar="MM", help="extra clearance added to every keep-out, mm")
+    drape = parser.add_mutually_exclusive_group()
+    drape.add_argument("--drape", metavar="MESH", nargs="?", const="",
+                       help="the drape mesh (without MESH: the spec's own, used anyway when the spec names one)")
+    drape.add_argument("--no-drape", action="store_true", help="do not use the spec's own drape")
+    parser.add_argument("--json", metavar="FILE", required=True, help="write the sweep's route document (JSON)")
+    parser.add_argument("--csv", metavar="FILE", help="write the waypoints as CSV")
+    parser.add_argument("--commands", metavar="FILE", help="write the robot commands as text (docs/commands.md)")
+    parser.add_argument("--sheet", metavar="FILE", help="write the pattern sheet with the covered ground shaded (.svg or .png)")
+    parser.add_argument("--screenshot", metavar="PNG", help="write a 3D picture of the covered drape (needs a drape)")
+    parser.set_defaults(func=run)
+
+
+def run(args: argparse.Namespace) -> int:
+    if args.sheet and Path(args.sheet).suffix.lower() not in (".svg", ".png"):
+        raise QueryError(f"--sheet {args.sheet}: use a .svg or .png file name")
+    region = parse_region(args.region)
+    garment, drape = _garment_and_drape(args)
+    locate = pattern_locator(drape, garment) if drape is not None else spec_drape_locator(garment, Path(args.garment).parent)
+    robot = garment.robot or Robot()
+    if args.radius is not None:
+        if not args.radius > 0:
+            raise QueryError(f"--radius must be a positive number of mm, got {args.radius:g}")
+        robot = dataclasses.replace(robot, radius_mm=float(args.radius))
+    if not args.clearance >= 0:
+        raise QueryError(f"--clearance must be zero or more mm, got {args.clearance:g}")
+    if args.screenshot and drape is None:
+        raise QueryError("--screenshot needs a drape (the spec's own drape, or --drape MESH)")
+    swath_of(robot, args.swath)  # a missing or bad swath fails before the planner is built
+    areas = resolve_region(garment, region, drape=drape)  # bad regions fail before the planner is built
+    planner = Planner(garment, robot, extra_clearance_mm=args.clearance, locate_3d=locate)
+    sweep = plan_sweep(garment, areas, swath_mm=args.swath, headland=args.headland, planner=planner,
+                       drape=drape, start=args.start)
+    lifted = lift_route(drape, garment, sweep.route) if drape is not None else None
+    doc = sweep_document(sweep, garment, robot, lifted, region_text=args.region)
+    print("\n".join(figures_lines(doc["sweep"])))
+    write_route_json(args.json, doc)
+    if args.csv:
+        write_route_csv(args.csv, doc)
+    if args.commands:
+        comment = f"sweep of {' + '.join(args.region)} on garment '{garment.name}', robot '{robot.name}'"
+        write_commands(args.commands, route_commands(sweep.route, garment, robot), comment=comment)
+    if args.sheet:
+        from garnav.preview.sheet import sheet_drawing, write_sheet_png, write_sheet_svg
+
+        drawing = sheet_drawing(garment, [sweep.route], planner.free, robot, route_names=["sweep"], coverage=sweep.covered)
+        (write_sheet_svg if args.sheet.lower().endswith(".svg") else write_sheet_png)(args.sheet, drawing)
+    if args.screenshot:
+        from garnav.preview.scene import build_plotter, off_screen_environment, write_screenshot
+
+        off_screen_environment()
+        # the covered triangles only: the lanes' tube would hide the shading
+        plotter = build_plotter(garment, drape, None, [], off_screen=True,
+                                covered_faces=coverage_face_mask(drape, sweep.covered), labels=False)
+        try:
+            from garnav.preview.scene import set_view
+
+            set_view(plotter, "back" if _mostly_back(doc) else "front")
+            write_screenshot(args.screenshot, plotter)
+        finally:
+            plotter.close()
+    print(CAUTION)
+    return 0
+
+
+def _garment_and_drape(args: argparse.Namespace):
+    """The garment and its drape: --drape MESH, else the spec's own (unless --no-drape)."""
+    if is_mesh_path(args.garment):
+        if args.no_drape:
+            raise QueryError(f"--no-drape: {args.garment} is a mesh, which is its own drape")
+        return garment_and_drape(args.garment)
+    if args.no_drape:
+        return garment_and_drape(args.garment, None)
+    if args.drape is not None:
+        return garment_and_drape(args.garment, args.drape)
+    try:
+        return garment_and_drape(args.garment, "", optional=True)
+    except MeshError as exc:
+        raise MeshError(f"{exc} (the spec names this drape; --no-drape plans without it)") from None
+
+
+def _mostly_back(doc: dict) -> bool:
+    path = doc.get("path3d")
+    if not path:
+        return False
+    ys = [p[1] for p in path]
+    return sum(ys) / len(ys) < 0  # world y forward: the back of the body is at negative y
