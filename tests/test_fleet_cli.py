@@ -161,4 +161,4 @@ def test_robot_file_problems_name_the_file(tmp_path, capsys):
     (tmp_path / "tasks.toml").write_text(TASKS.replace('gap_mm = 2.0\n', 'gap_mm = 2.0\nrobot_files = ["bad.toml"]\n'))
     assert main(["fleet", str(tmp_path / "tasks.toml")]) == 2
     err = capsys.readouterr().err
-    assert "bad.toml: robot 'bad': 'radius_mm' must be > 0" in err
+    assert "bad.toml: robot: 'radius_mm' must be > 0" in err
