@@ -379,7 +379,7 @@ class FleetPlanner:
             )
             res = sipp(pb)
             if res is None:
-                return plans, (a, "no conflict-free path")
+                return plans, (a, "finds no conflict-free path")
             plan = self._robot_plan(a, res)
             if a.task.arrive_by_s is not None and plan.arrive_s > a.task.arrive_by_s + 1e-9:
                 return plans, (a, f"arrives at {plan.arrive_s:.1f} s, after its arrive_by_s {a.task.arrive_by_s:g} s")
