@@ -9,7 +9,9 @@ import os
 import platform
 import sys
 import time
+import traceback
 import tracemalloc
+from pathlib import Path
 from typing import Any, Callable
 
 import numpy as np
@@ -158,3 +160,10 @@ def machine_info() -> dict[str, Any]:
         "load_average_1_5_15": _load(),
         "date_utc": _dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ"),
     }
+
+
+def error_text(exc: BaseException) -> str:
+    """One line for a failure: type, message and where it was raised (at most 600 characters)."""
+    tb = traceback.extract_tb(exc.__traceback__)
+    where = f" at {Path(tb[-1].filename).name}:{tb[-1].lineno}" if tb else ""
+    return f"{type(exc).__name__}: {exc}{where}"[:600]

@@ -13,13 +13,11 @@ from __future__ import annotations
 
 import argparse
 import json
-import math
 import os
 import subprocess
 import sys
 import tempfile
 import time
-import traceback
 from pathlib import Path
 from typing import Any
 
@@ -27,26 +25,21 @@ if __package__ in (None, ""):  # run as a script: python benchmarks/run.py
     sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
     __package__ = "benchmarks"
 
-import networkx as nx
 import numpy as np
 import shapely
 
 from benchmarks import cases as C
 from benchmarks import garnav_side as G
 from benchmarks import refs as R
+from benchmarks.measure import error_text as _err
 from benchmarks.sweep_case import run_sweep
 from benchmarks.measure import growth_exponent, machine_info, peak_memory, summary, timed
 from benchmarks.report import evaluate_targets, format_report, markdown_report
+from benchmarks.single import run_single
 
 ALL_CASES = ("single", "demo", "lift", "cli", "sweep", "drift", "physics", "seams")
 FULL_N = (10, 50, 200, 500)
 QUICK_N = (2, 4)
-
-# pyvisgraph build time model for budgeting before any measurement: t ≈ c · V^2 (V vertices);
-# c measured here at 1.1e-5 – 1.5e-5 s on V = 341 … 1753 (a rough prior, replaced by a fit as soon
-# as two sizes have been measured in the run).
-_PV_PRIOR_C = 1.5e-5
-
 
 class Options:
     def __init__(self, args: argparse.Namespace):
@@ -65,173 +58,6 @@ class Options:
 
     def as_dict(self) -> dict[str, Any]:
         return dict(vars(self))
-
-
-# --------------------------------------------------------------------------------------------
-# single piece
-
-
-def _pv_predict(measured: list[tuple[int, float]], v: int) -> float:
-    if len(measured) >= 2:
-        k = growth_exponent([m[0] for m in measured], [m[1] for m in measured]) or 2.0
-        v0, t0 = measured[-1]
-        return t0 * (v / v0) ** max(k, 1.0)
-    if measured:
-        v0, t0 = measured[-1]
-        return t0 * (v / v0) ** 2
-    return _PV_PRIOR_C * v * v
-
-
-def run_single(n: int, opts: Options, pv_history: list[tuple[int, float]], log) -> dict[str, Any]:
-    case = C.single_piece_case(n, opts.seed)
-    g, robot = case.garment, case.robot
-    out: dict[str, Any] = {"kind": "single_piece", "n_keepouts": n, "seed": opts.seed}
-    planner = None
-    if G.planner_available():
-        try:
-            planner, t_build = timed(lambda: G.build_planner(g, robot))
-            out["garnav"] = {"available": True, "build_s": t_build, **G.planner_graph_size(planner)}
-        except Exception as exc:  # a failure is a figure too: report it, keep going
-            out["garnav"] = {"available": False, "error": _err(exc)}
-            planner = None
-    else:
-        out["garnav"] = {"available": False, "error": "garnav.plan.Planner not importable"}
-    region, source = G.free_region(g, robot, "panel", planner)
-    parts = list(shapely.get_parts(region))
-    out["free_space"] = {
-        "source": source,
-        "components": len(parts),
-        "vertices": int(len(R.region_vertices(region))),
-        "area_fraction": float(region.area / g.pieces[0].area),
-    }
-    rng = np.random.default_rng([opts.seed, n, 7])
-    main = max(parts, key=lambda p: p.area)
-    pairs = C.sample_pairs(main, opts.n_pairs, rng)
-    out["pairs"] = pairs.tolist()
-
-    # garnav queries and memory
-    g_len, g_paths, g_times = [], [], []
-    if planner is not None:
-        try:
-            # one untimed query first: lazy imports and caches belong to no single query
-            warm = C.sample_pairs(main, 1, np.random.default_rng([opts.seed, n, 8]))[0]
-            _, out["garnav"]["first_query_s"] = timed(lambda: G.route_points(planner, ("panel", *warm[0]), ("panel", *warm[1])))
-            for s, t in pairs:
-                (route, pts), dt = timed(lambda: G.route_points(planner, ("panel", *s), ("panel", *t)))
-                g_times.append(dt)
-                g_len.append(float(route.length_mm))
-                g_paths.append(pts)
-            out["garnav"]["query"] = summary(g_times)
-            _, peak = peak_memory(lambda: G.build_planner(g, robot))
-            out["garnav"]["build_peak_bytes"] = peak
-        except Exception as exc:
-            out["garnav"]["error"] = _err(exc)
-            g_len, g_paths = [], []
-
-    # pyvisgraph on the component that holds the queries
-    pv = R.PyvisgraphRef(main)
-    predicted = _pv_predict(pv_history, pv.n_vertices)
-    pv_out: dict[str, Any] = {"vertices": pv.n_vertices, "obstacles": len(pv.obstacles), "scope": "query component"}
-    pv_len, pv_paths = [], []
-    if predicted > opts.ref_budget_s:
-        times = [timed(lambda: pv.query_lower_bound(s, t))[1] for s, t in pairs]
-        pv_out.update(estimated=True, build_s=predicted, query=summary(times), query_is_lower_bound=True,
-                      note=f"build skipped: predicted {predicted:.0f} s > budget {opts.ref_budget_s:.0f} s; "
-                           "query time is a lower bound (the two visibility sweeps without Dijkstra)")
-    else:
-        log(f"  pyvisgraph build ({pv.n_vertices} vertices, ~{predicted:.0f} s predicted)")
-        _, t_pv = timed(pv.build)
-        pv_history.append((pv.n_vertices, t_pv))
-        times = []
-        try:
-            for s, t in pairs:
-                path, dt = timed(lambda: pv.query(s, t))
-                times.append(dt)
-                pv_paths.append(path)
-                pv_len.append(R.path_length(path))
-        except Exception as exc:  # report, and leave pyvisgraph out of the optimum
-            pv_out["error"] = _err(exc)
-            pv_len, pv_paths = [], []
-        pv_out.update(estimated=False, build_s=t_pv, edges=pv.n_edges, query=summary(times))
-    out["pyvisgraph"] = pv_out
-
-    # naive all-pairs
-    nv = R.NaiveVisibilityRef(main, max_pairs=opts.naive_max_pairs, seed=opts.seed)
-    t_nv = nv.build()
-    nv_out: dict[str, Any] = {"vertices": len(nv.verts), "pairs": nv.n_pairs, "build_s": t_nv, "estimated": nv.estimated}
-    nv_len = []
-    if not nv.estimated:
-        times = []
-        for s, t in pairs:
-            path, dt = timed(lambda: nv.query(s, t))
-            times.append(dt)
-            nv_len.append(R.path_length(path))
-        nv_out.update(edges=nv.n_edges, query=summary(times))
-    out["naive_allpairs"] = nv_out
-
-    # grid A*
-    grid = R.GridAstarRef(region, opts.grid_cell_mm)
-    _, t_grid = timed(grid.build)
-    times, grid_len, grid_fail = [], [], 0
-    for s, t in pairs:
-        try:
-            path, dt = timed(lambda: grid.query(s, t))
-        except nx.NetworkXNoPath:
-            # a passage narrower than the grid resolution: the grid finds no route at all
-            grid_fail += 1
-            grid_len.append(None)
-            continue
-        times.append(dt)
-        grid_len.append(R.path_length(path))
-    _, grid_peak = peak_memory(lambda: R.GridAstarRef(region, opts.grid_cell_mm).build())
-    out["grid_astar"] = {
-        "cell_mm": opts.grid_cell_mm,
-        "nodes": grid.n_nodes,
-        "edges": grid.n_edges,
-        "build_s": t_grid,
-        "build_peak_bytes": grid_peak,
-        "query": summary(times),
-        "no_path": grid_fail,
-    }
-
-    # optimum per pair: shortest valid exact answer among pyvisgraph, naive, garnav
-    opt, opt_src, g_err, pv_vs_nv = [], [], [], []
-    for k in range(len(pairs)):
-        cands = []
-        if pv_len:
-            cands.append((pv_len[k], "pyvisgraph", R.path_in_region(main, pv_paths[k])))
-        if nv_len:
-            cands.append((nv_len[k], "naive_allpairs", True))
-        if g_len:
-            cands.append((g_len[k], "garnav", R.path_in_region(region, g_paths[k])))
-        valid = [c for c in cands if c[2]]
-        exact_refs = [c for c in valid if c[1] != "garnav"]
-        if not exact_refs:
-            opt.append(None)
-            opt_src.append(None)
-            continue
-        best = min(valid, key=lambda c: c[0])
-        opt.append(best[0])
-        opt_src.append(best[1])
-        if pv_len and nv_len:
-            pv_vs_nv.append(abs(pv_len[k] - nv_len[k]) / nv_len[k])
-        if g_len:
-            g_err.append((g_len[k] - best[0]) / best[0])
-    out["optimum_mm"] = opt
-    out["optimum_source"] = opt_src
-    if g_len:
-        out["garnav"]["length_mm"] = g_len
-        out["garnav"]["paths_valid"] = bool(all(R.path_in_region(region, p) for p in g_paths))
-        out["garnav"]["length_rel_err_max"] = max(g_err) if g_err else None
-    if pv_vs_nv:
-        out["pyvisgraph"]["rel_diff_to_naive_max"] = max(pv_vs_nv)
-    ok = [k for k in range(len(pairs)) if opt[k]]
-    if ok:
-        ratios = [grid_len[k] / opt[k] for k in ok if grid_len[k] is not None]
-        out["grid_astar"]["length_ratio"] = summary(ratios)
-        if pv_len:
-            out["pyvisgraph"]["length_ratio_max"] = max(pv_len[k] / opt[k] for k in ok)
-    return out
 
 
 # --------------------------------------------------------------------------------------------
@@ -290,7 +116,7 @@ def run_demo(opts: Options, log) -> dict[str, Any]:
         k = 3 if rng.random() < 0.5 else 2
         ends = [point_on(names[i]) for i in rng.choice(len(names), k, replace=False)]
         try:
-            (route, _), dt = timed(lambda: G.route_points(planner, ends[0], ends[-1], via=ends[1:-1]))
+            (route, _), dt = timed(lambda ends=ends: G.route_points(planner, ends[0], ends[-1], via=ends[1:-1]))
         except Exception as exc:  # NoRouteError etc.: count and move on
             failures += 1
             last_error = _err(exc)
@@ -478,12 +304,6 @@ def run_cli(opts: Options, log) -> dict[str, Any]:
 
 
 # --------------------------------------------------------------------------------------------
-
-
-def _err(exc: BaseException) -> str:
-    tb = traceback.extract_tb(exc.__traceback__)
-    where = f" at {Path(tb[-1].filename).name}:{tb[-1].lineno}" if tb else ""
-    return f"{type(exc).__name__}: {exc}{where}"[:600]
 
 
 def run(opts: Options, which: tuple[str, ...], log=print, checkpoint=None) -> dict[str, Any]:

@@ -41,6 +41,9 @@ __all__ = [
     "Piece",
     "SeamRun",
     "Seam",
+    "SeamSide",
+    "SEAM_SIDES",
+    "other_side",
     "Circle",
     "PolygonShape",
     "Rectangle",
@@ -53,6 +56,16 @@ __all__ = [
 ]
 
 Point2 = tuple[float, float]
+
+# Which run of a seam: "a" or "b". The one seam-side type of plan/ and export/ (a crossing records
+# the side it leaves from; arrays that need an integer code use the index into SEAM_SIDES).
+SeamSide = Literal["a", "b"]
+SEAM_SIDES: tuple[SeamSide, SeamSide] = ("a", "b")
+
+
+def other_side(side: SeamSide) -> SeamSide:
+    """The other run of a seam: ``"b"`` for ``"a"`` and ``"a"`` for ``"b"``."""
+    return "b" if side == "a" else "a"
 
 KEEPOUT_KINDS = (
     "pocket",
@@ -248,6 +261,10 @@ class Seam:
     crossing_cost_mm: float = 0.0
     min_crossing_angle_deg: float = 0.0
 
+    def run(self, side: SeamSide) -> SeamRun:
+        """Run ``side`` ("a" or "b") of the seam."""
+        return self.a if side == "a" else self.b
+
 
 @dataclass(frozen=True)
 class Circle:
@@ -439,13 +456,12 @@ class Garment:
         s0, s1 = run.span(self.piece(run.piece).edge(run.edge))
         return s1 - s0
 
-    def seam_partner(self, seam: Seam, side: Literal["a", "b"], fraction: np.ndarray) -> np.ndarray:
+    def seam_partner(self, seam: Seam, side: SeamSide, fraction: np.ndarray) -> np.ndarray:
         """Points (m, 2) on the *other* run at the given fractions (m,) of run ``side``.
 
         Fractions are in [0, 1] along the run's travel direction; runs match fraction to fraction.
         """
-        other = seam.b if side == "a" else seam.a
-        pts = self.run_polyline(other)
+        pts = self.run_polyline(seam.run(other_side(side)))
         return point_at_length(pts, np.asarray(fraction) * cumulative_length(pts)[-1])
 
     def open_runs(self) -> tuple[OpenRun, ...]:

@@ -12,6 +12,7 @@ __all__ = [
     "polyline_length",
     "point_at_length",
     "sub_polyline",
+    "tangent_at",
     "rotation_matrix",
 ]
 
@@ -52,6 +53,42 @@ def point_at_length(points: np.ndarray, s: np.ndarray | float) -> np.ndarray:
     span = cum[seg + 1] - cum[seg]
     t = np.where(span > 0, (s_arr - cum[seg]) / np.where(span > 0, span, 1.0), 0.0)
     out = points[seg] + t[:, None] * (points[seg + 1] - points[seg])
+    return out[0] if np.ndim(s) == 0 else out
+
+
+def tangent_at(points: np.ndarray, s: np.ndarray | float) -> np.ndarray:
+    """Unit tangent (travel direction) of the polyline at arc lengths ``s``.
+
+    The tangent of the segment holding ``s`` (at a vertex: the segment leaving it; at the end: the
+    last segment). Zero-length segments have no direction and are skipped: the next segment of
+    some length is used, or the last one before when none follows. A polyline of coincident points
+    has no tangent: zeros.
+
+    Parameters
+    ----------
+    points : (n, d) array
+    s : float or (m,) array
+        Arc lengths, clipped to [0, length].
+
+    Returns
+    -------
+    (d,) or (m, d) array
+
+    >>> tangent_at(np.array([[0.0, 0.0], [3.0, 4.0], [3.0, 4.0], [3.0, 9.0]]), [0.0, 5.0, 10.0]).tolist()
+    [[0.6, 0.8], [0.0, 1.0], [0.0, 1.0]]
+    """
+    points = np.asarray(points, dtype=float)
+    cum = cumulative_length(points)
+    s_arr = np.clip(np.atleast_1d(np.asarray(s, dtype=float)), 0.0, cum[-1])
+    seg = np.clip(np.searchsorted(cum, s_arr, side="right") - 1, 0, len(points) - 2)
+    d = np.diff(points, axis=0)
+    norm = np.linalg.norm(d, axis=1)
+    good = np.flatnonzero(norm > 0)
+    if not len(good):
+        out = np.zeros((len(s_arr), points.shape[1]))
+    else:
+        use = good[np.minimum(np.searchsorted(good, seg), len(good) - 1)]
+        out = d[use] / norm[use, None]
     return out[0] if np.ndim(s) == 0 else out
 
 

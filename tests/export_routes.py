@@ -16,7 +16,7 @@ import numpy as np
 from garments import rect_piece
 from garnav import Garment, KeepOut, Landmark, Placement, Rectangle, Robot, Seam, SeamRun
 from garnav.model import Circle
-from garnav.plan.route import Crossing, Leg, Route
+from garnav.plan.route import Crossing, Leg, Route, route_headings_deg
 
 
 def turned_panels() -> Garment:
@@ -56,7 +56,8 @@ def partner_turned(f: float) -> tuple[np.ndarray, np.ndarray]:
 def build_route(legs: list[tuple[str, np.ndarray]], crossings: list[tuple[str, float, float]]) -> "Route":
     """A Route from legs [(piece, points)] and crossings [(seam, fraction, angle_deg)].
 
-    Length, turns and headings are computed plainly here; crossing points are the legs' ends.
+    Length and turns are computed plainly here, headings by the route module; crossing points are
+    the legs' ends.
     """
     leg_objs = tuple(Leg(piece, np.asarray(pts, dtype=float)) for piece, pts in legs)
     cross_objs = tuple(
@@ -65,14 +66,10 @@ def build_route(legs: list[tuple[str, np.ndarray]], crossings: list[tuple[str, f
         for i, (seam, frac, angle) in enumerate(crossings)
     )
     length = float(sum(np.sum(np.hypot(*np.diff(l.points, axis=0).T)) for l in leg_objs))
-    headings = []
-    for leg in leg_objs:
-        d = np.diff(leg.points, axis=0)
-        h = np.degrees(np.arctan2(d[:, 1], d[:, 0]))
-        headings += list(h) + [h[-1]]
+    headings = route_headings_deg(leg_objs)  # the one heading convention (garnav.plan.route)
     turns = np.zeros(max(len(headings) - 2, 0))
     kwargs = dict(legs=leg_objs, crossings=cross_objs, length_mm=length, cost=length,
-                  turns_deg=turns, headings_deg=np.array(headings))
+                  turns_deg=turns, headings_deg=headings)
     return Route(**kwargs)
 
 

@@ -10,7 +10,7 @@ import math
 from garnav import Edge, Garment, Landmark, Piece, Placement, Robot, Seam, SeamRun
 
 
-def rect_piece(name: str, width: float, height: float, placement: Placement = Placement()) -> Piece:
+def rect_piece(name: str, width: float, height: float, placement: Placement | None = None) -> Piece:
     """A width × height rectangle with edges 'bottom', 'right', 'top', 'left' (CCW)."""
     w, h = float(width), float(height)
     return Piece(
@@ -21,7 +21,7 @@ def rect_piece(name: str, width: float, height: float, placement: Placement = Pl
             Edge("top", ((w, h), (0.0, h))),
             Edge("left", ((0.0, h), (0.0, 0.0))),
         ),
-        placement=placement,
+        placement=Placement() if placement is None else placement,
     )
 
 

@@ -59,3 +59,24 @@ def random_free_points(planner, rng: np.random.Generator, count: int):
         if planner.free[name].covers(xy[None])[0]:
             out.append(PiecePoint(name, *xy))
     return out
+
+
+class LazyCases:
+    """The cases a generator yields, made on first use and kept (for a module-scoped fixture:
+    parametrised tests then index into it instead of building every planner at collection)."""
+
+    def __init__(self, generator):
+        self._gen = generator
+        self._made: list = []
+
+    def __getitem__(self, k: int):
+        while len(self._made) <= k:
+            self._made.append(next(self._gen))
+        return self._made[k]
+
+
+def fast_then_slow(count: int, fast: int) -> list:
+    """Case indices 0..count-1 as pytest params, all but the first ``fast`` marked slow."""
+    import pytest
+
+    return [pytest.param(k, id=str(k), marks=() if k < fast else pytest.mark.slow) for k in range(count)]

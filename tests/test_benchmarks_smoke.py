@@ -14,12 +14,12 @@ import pytest
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-pytest.importorskip("pyvisgraph")
-pytest.importorskip("potpourri3d")
-
 from benchmarks import run as bench_run  # noqa: E402
 from benchmarks.measure import growth_exponent  # noqa: E402
 from benchmarks.report import TARGETS  # noqa: E402
+
+
+pytestmark = pytest.mark.slow  # one quick benchmark run (~15 s) behind every test here
 
 
 @pytest.fixture(scope="module")

@@ -28,6 +28,9 @@ from garnav.export.waypoints import route_schema
 MESHES = Path(__file__).resolve().parents[1] / "meshes"
 
 
+pytestmark = pytest.mark.slow  # the whole demo job (~10 s) behind most tests here
+
+
 def _png_size(data: bytes) -> tuple[int, int]:
     # PNG signature, then the IHDR chunk: width and height as big-endian 32-bit integers
     # (PNG specification, ISO/IEC 15948, §11.2.2)

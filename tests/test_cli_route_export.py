@@ -40,6 +40,7 @@ def test_route_cli_outputs_validate_and_replay(tmp_path, capsys):
 MESHES = Path(__file__).resolve().parents[1] / "meshes"
 
 
+@pytest.mark.slow
 def test_route_json_contract_with_the_demo_drape(tmp_path, monkeypatch, capsys):
     # the keys other tools rely on: top-level length_mm, length_3d_mm and path3d, and per
     # waypoint piece, x, y, heading_deg and xyz
@@ -63,6 +64,7 @@ def test_route_json_contract_with_the_demo_drape(tmp_path, monkeypatch, capsys):
     assert np.linalg.norm(np.array(doc["waypoints"][-1]["xyz"]) - [0.0, -92.0, 1395.0]) < 10.0
 
 
+@pytest.mark.slow
 def test_route_lifts_onto_the_specs_own_drape_unless_told_not_to(tmp_path, capsys):
     spec = str(MESHES / "sensing_top.toml")
     auto, off = tmp_path / "auto.json", tmp_path / "off.json"

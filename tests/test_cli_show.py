@@ -87,8 +87,8 @@ def test_bad_route_files_are_named(two_panel_files, tmp_path, capsys):
     assert not (tmp_path / "s.svg").exists()
 
 
+@pytest.mark.slow
 def test_demo_screenshot_shows_a_hand_made_route(tmp_path, capsys):
-    pytest.importorskip("garnav.drape.lift")  # the 3D view needs the drape module
     import matplotlib.image
 
     from garnav.preview.sheet import ROUTE_COLOURS

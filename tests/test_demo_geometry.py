@@ -49,11 +49,11 @@ def test_torso_width_is_half_the_ellipse_perimeter(design):
     expected = 2.0 * a * ellipe(m)
     # Independent: the arc-length integral ∫ sqrt(a² sin²t + b² cos²t) dt over [0, π] (scipy quad).
     quad, _ = integrate.quad(lambda t: math.hypot(a * math.sin(t), b * math.cos(t)), 0.0, math.pi)
-    assert quad == pytest.approx(expected, rel=1e-9)
+    assert quad == pytest.approx(expected, rel=1e-13)  # observed 7.8e-15 relative
     for name in ("front", "back"):
         piece = design.garment.piece(name)
-        assert piece.edge("hem").length == pytest.approx(expected, rel=1e-3)
-        assert piece.edge("yoke").length == pytest.approx(expected, rel=1e-3)
+        assert piece.edge("hem").length == pytest.approx(expected, rel=5e-7)  # observed 4.3e-8 relative (edge sampling)
+        assert piece.edge("yoke").length == pytest.approx(expected, rel=5e-7)  # observed 4.3e-8 relative (edge sampling)
     for edge in ("front", "back"):
         assert design.garment.piece("yoke").edge(edge).length == pytest.approx(expected, rel=1e-3)
 
@@ -87,7 +87,7 @@ def test_sleeve_is_an_annular_sector_of_angle_2_pi_r_over_s(design, side):
         np.full(len(cuff.points), s_w), rel=1e-6
     )
     # the cuff arc is the wrist circle's circumference 2π·r
-    assert cuff.length == pytest.approx(2.0 * math.pi * r_w, rel=1e-4)
+    assert cuff.length == pytest.approx(2.0 * math.pi * r_w, rel=7e-6)  # observed 6.4e-7 relative
     # the straight edges are generators: they point at the apex
     for end in (front[0], back[-1]):
         assert np.linalg.norm(end - apex) == pytest.approx(s_w, rel=1e-6)
@@ -107,6 +107,7 @@ def test_drape_edges_keep_their_pattern_length(design, loaded_drape):
     assert worst < 0.005
 
 
+@pytest.mark.slow
 def test_drape_is_one_consistently_oriented_surface(design, drape):
     mesh = trimesh.Trimesh(drape.vertices, drape.faces, process=False)
     assert mesh.is_winding_consistent
@@ -149,11 +150,11 @@ def test_armhole_lies_on_cone_and_cylinder(design):
         ):
             p = design.maps[piece].to_world(design.samples[(piece, edge)])
             # implicit cylinder x²/a² + y²/b² = 1
-            assert np.abs((p[:, 0] / a) ** 2 + (p[:, 1] / b) ** 2 - 1.0).max() < 1e-6
+            assert np.abs((p[:, 0] / a) ** 2 + (p[:, 1] / b) ** 2 - 1.0).max() < 1e-12  # observed 2.2e-14
             # implicit cone: the angle between p − apex and the axis is the half-angle β
             q = p - np.asarray(cone.apex)
             cos_angle = -(q @ np.asarray(cone.d)) / np.linalg.norm(q, axis=1)
-            assert np.abs(cos_angle - math.cos(cone.beta)).max() < 1e-6
+            assert np.abs(cos_angle - math.cos(cone.beta)).max() < 1e-14  # observed 1.1e-16
 
 
 def test_spec_edges_chain_and_samples_follow_them(design):
@@ -161,7 +162,7 @@ def test_spec_edges_chain_and_samples_follow_them(design):
         for k, edge in enumerate(piece.edges):
             assert edge.points[0] == piece.edges[k - 1].points[-1]
             samples = design.samples[(piece.name, edge.name)]
-            assert np.abs(samples[[0, -1]] - edge.array[[0, -1]]).max() < 1e-3
+            assert np.abs(samples[[0, -1]] - edge.array[[0, -1]]).max() < 5e-4  # observed 4.6e-5 mm
         assert piece.polygon.is_valid
         assert shapely.Polygon(piece.outline).exterior.is_ccw
 
@@ -232,6 +233,7 @@ def test_landmark_check_catches_a_bad_point(design):
     assert _free_space_problems(replace(garment, landmarks=(bad,)))
 
 
+@pytest.mark.slow
 def test_triangulation_rejects_a_too_coarse_boundary():
     # a long slot side with lattice points on both sides is no Delaunay edge: any circle through
     # its ends holds a cap of height >= half its length on one side
@@ -266,6 +268,7 @@ def test_triangulation_rejects_a_too_coarse_boundary():
     assert cross.sum() / 2 == pytest.approx(area, rel=1e-9)
 
 
+@pytest.mark.slow
 def test_build_reproduces_committed_files(tmp_path):
     files = build_demo(tmp_path)
     for name in (SPEC_NAME, DRAPE_NAME, BODY_NAME):
@@ -302,6 +305,7 @@ def test_demo_garment_matches_design():
     }
 
 
+@pytest.mark.slow
 def test_mirrored_build_keeps_every_property():
     # left_x_sign = +1 mirrors the default layout (the wearer's left at +x)
     from garnav.demo.pattern import DemoDimensions
@@ -363,7 +367,7 @@ def test_piece_maps_are_exact_isometries(design):
         cand = lo + rng.random((400, 2)) * (hi - lo)
         pts = cand[shapely.contains_xy(poly, cand[:, 0], cand[:, 1])][:50]
         m = design.maps[piece.name]
-        assert np.abs(m.to_pattern(m.to_world(pts)) - pts).max() < 1e-7, piece.name
+        assert np.abs(m.to_pattern(m.to_world(pts)) - pts).max() < 1e-11, piece.name  # observed 4.0e-13 mm
         h = 1e-3
         jac = np.stack(
             [
@@ -373,13 +377,13 @@ def test_piece_maps_are_exact_isometries(design):
             axis=-1,
         )
         sv = np.linalg.svd(jac, compute_uv=False)
-        assert np.abs(sv - 1.0).max() < 1e-6, piece.name
+        assert np.abs(sv - 1.0).max() < 3e-9, piece.name  # observed 2.1e-10
 
 
 def test_ellipse_arc_length_inverse(design):
     cyl = design.torso
     s = np.linspace(-100.0, 2.5 * cyl.perimeter, 257)
-    assert np.abs(cyl.arc_length(cyl.theta_at(s)) - s).max() < 1e-9
+    assert np.abs(cyl.arc_length(cyl.theta_at(s)) - s).max() < 1e-11  # observed 4.6e-13 mm
     # a quarter of the ellipse is a quarter of the perimeter (symmetry)
     assert float(cyl.arc_length(math.pi / 2)) == pytest.approx(cyl.perimeter / 4, rel=1e-12)
 

@@ -85,6 +85,7 @@ def test_bad_drape_is_one_clear_message(case, tmp_path, capsys):
     assert "Traceback" not in err
 
 
+@pytest.mark.slow
 def test_bad_drape_through_the_real_entry_point(tmp_path):
     g, m = dm.folded_panels()
     spec = tmp_path / "panels.toml"

@@ -13,7 +13,6 @@ from garnav.drape.meshio import save_obj
 SPEC = Path(__file__).resolve().parent.parent / "meshes" / "sensing_top.toml"
 
 
-@pytest.mark.skipif(not SPEC.is_file(), reason="demo files not built")
 def test_check_with_the_specs_own_drape(capsys):
     assert main(["check", str(SPEC), "--drape"]) == 0
     out = capsys.readouterr().out
@@ -49,14 +48,14 @@ def test_import_bad_mesh_is_a_clear_error(tmp_path, capsys):
     assert not (tmp_path / "x.toml").exists()
 
 
-@pytest.mark.skipif(not SPEC.is_file(), reason="demo files not built")
+@pytest.mark.slow
 def test_route_with_the_drape(capsys):
     assert main(["route", str(SPEC), "--from", "cervicale", "--to", "wrist_left", "--drape"]) == 0
     out = capsys.readouterr().out
     assert "3D length" in out and "climb" in out
 
 
-@pytest.mark.skipif(not SPEC.is_file(), reason="demo files not built")
+@pytest.mark.slow
 def test_route_world_points_use_the_specs_drape(capsys):
     assert main(["route", str(SPEC), "--from", "xyz:0,-92,1395", "--to", "omphalion"]) == 0
     assert "seams crossed" in capsys.readouterr().out

@@ -17,11 +17,6 @@ MESHES = Path(__file__).resolve().parent.parent / "meshes"
 SPEC = MESHES / "sensing_top.toml"
 DRAPE = MESHES / "sensing_top_drape.obj"
 
-pytestmark = pytest.mark.skipif(
-    not (SPEC.is_file() and DRAPE.is_file()), reason="demo files not built"
-)
-
-
 @pytest.fixture(scope="module")
 def demo():
     from garnav.spec import load_garment
@@ -35,11 +30,11 @@ def test_demo_drape_report(demo):
     g, m, d = demo
     rep = drape_report(g, d)
     assert [p.piece for p in rep.pieces] == [p.name for p in g.pieces]
-    assert all(p.coverage == pytest.approx(1.0, abs=5e-3) for p in rep.pieces)
+    assert all(p.coverage == pytest.approx(1.0, abs=1e-6) for p in rep.pieces)  # observed 8.8e-8
     # the demo drape is an exact development up to its facets: stretch within ±1 %
     assert 0.99 < rep.stretch.sigma_min <= rep.stretch.sigma_max < 1.01
     assert {c.seam for c in rep.seams} == {s.name for s in g.seams}
-    assert max(c.max_gap_mm for c in rep.seams) < 0.05
+    assert max(c.max_gap_mm for c in rep.seams) < 0.05  # observed 0.0036 mm
 
 
 def test_demo_round_trip(demo):
@@ -58,7 +53,7 @@ def test_demo_round_trip(demo):
         worst = max(worst, float(np.abs(back.pattern - pts).max()))
         total += len(pts)
     assert total == 10000
-    assert worst < 0.01
+    assert worst < 1e-11  # observed 4.6e-13 mm
 
 
 def _vertex_pattern(d, piece_id):
@@ -101,7 +96,7 @@ def test_demo_lifted_segments_match_exact_geodesics(demo):
                 path = lift_polyline(d, name, np.array([vp[int(source)], vp[t]]))
                 pts = d.to_3d(path.face, path.bary)
                 lifted = float(np.linalg.norm(np.diff(pts, axis=0), axis=1).sum())
-                assert lifted == pytest.approx(float(ref), rel=1e-2)
+                assert lifted == pytest.approx(float(ref), rel=1e-7)  # observed 1e-8 relative
                 pairs += 1
     assert pairs >= 20
 
@@ -112,7 +107,7 @@ def test_demo_import_round_trip(demo):
     names = dm.match_pieces(g, imported)
     assert sorted(names.values()) == sorted(p.name for p in g.pieces)
     for p in imported.pieces:
-        assert p.area == pytest.approx(g.piece(names[p.name]).area, rel=5e-3)  # shapely areas
+        assert p.area == pytest.approx(g.piece(names[p.name]).area, rel=5e-6)  # shapely areas (observed 3.4e-7 relative)
     pairs = sorted(tuple(sorted((names[s.a.piece], names[s.b.piece]))) for s in imported.seams)
     assert pairs == sorted(tuple(sorted((s.a.piece, s.b.piece))) for s in g.seams)
     # the imported garment passes the spec's own checks
@@ -143,6 +138,7 @@ def demo_planner(demo):
 @pytest.mark.parametrize(
     "start, goal", [("omphalion", "dock"), ("wrist_left", "cervicale"), ("sternum_left", "wrist_right")]
 )
+@pytest.mark.slow
 def test_demo_planned_routes_lift(demo, demo_planner, start, goal):
     from garnav.drape import lift_route
 
@@ -178,6 +174,7 @@ def test_demo_planned_routes_lift(demo, demo_planner, start, goal):
         assert np.mean(np.einsum("ij,ij->i", lr.normals[sel], out) > 0) > 0.9
 
 
+@pytest.mark.slow
 def test_demo_world_point_through_the_planner(demo_planner):
     from garnav.errors import QueryError
 

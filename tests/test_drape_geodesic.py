@@ -47,5 +47,5 @@ def test_lifted_segments_match_exact_geodesics_on_a_cone():
         exact = float(
             igl.exact_geodesic(d.positions, d.faces, VS=np.array([va]), VT=np.array([vb]))[0]
         )
-        assert lifted == pytest.approx(exact, rel=1e-2)  # observed agreement: better than 1e-6
+        assert lifted == pytest.approx(exact, rel=4e-6)  # observed 3.7e-7 relative
         checked += 1

@@ -61,9 +61,9 @@ def test_lifted_points_lie_on_the_mesh(cyl):
     mesh = trimesh.Trimesh(d.positions, d.faces, process=False)
     # reference: trimesh.proximity.closest_point (trimesh's own BVH query)
     _, dist, _ = trimesh.proximity.closest_point(mesh, pts)
-    assert dist.max() < 1e-6
+    assert dist.max() < 1e-12  # observed 2.9e-14 mm
     # the dense pattern points lie on the input polyline, waypoints exactly
-    np.testing.assert_allclose(path.pattern[path.waypoint_index], pts2, atol=1e-9)
+    np.testing.assert_allclose(path.pattern[path.waypoint_index], pts2, rtol=0, atol=1e-12)  # observed 2.8e-14 mm
 
 
 def test_cone_segment_lifts_to_geodesic(cone):
@@ -77,7 +77,7 @@ def test_cone_segment_lifts_to_geodesic(cone):
     # the straight segment lies in the sector (convex between its radii), so it is the geodesic;
     # its length by the law of cosines in the development plane
     geodesic = math.sqrt(sa**2 + sb**2 - 2 * sa * sb * math.cos(pb - pa))
-    assert _length(pts) == pytest.approx(geodesic, rel=2e-3)
+    assert _length(pts) == pytest.approx(geodesic, rel=4e-4)  # observed 3.6e-5 relative
 
 
 def test_round_trip_pattern_3d_pattern(cyl, cone):
@@ -95,8 +95,8 @@ def test_round_trip_pattern_3d_pattern(cyl, cone):
         xyz = d.pattern_to_3d(name, pts)
         back = surface_to_pattern(d, xyz)
         assert set(back.piece) == {name}
-        assert np.abs(back.pattern - pts).max() < 0.01
-        assert back.distance.max() < 1e-9
+        assert np.abs(back.pattern - pts).max() < 1e-12  # observed 1.1e-13 mm
+        assert back.distance.max() < 1e-12  # observed 6.4e-14 mm
 
 
 def test_route_across_a_folded_seam():
@@ -133,7 +133,7 @@ def test_planned_route_on_folded_panels():
     lr = lift_route(d, g, route)
     # folding is an isometry: the 3D length is the planner's pattern length
     assert lr.length_3d_mm == pytest.approx(route.length_mm, rel=1e-9)
-    assert lr.climb_up_mm == pytest.approx(0.0, abs=1e-9) and lr.climb_down_mm == pytest.approx(0.0, abs=1e-9)
+    assert lr.climb_up_mm == pytest.approx(0.0, abs=1e-12) and lr.climb_down_mm == pytest.approx(0.0, abs=1e-12)  # observed 2.8e-14 mm
     np.testing.assert_allclose(lr.points[0], [150.0, 0.0, 200.0], atol=1e-9)
     np.testing.assert_allclose(lr.points[-1], [300.0, 150.0, 200.0], atol=1e-9)
 
@@ -200,7 +200,7 @@ def test_segment_hugging_the_boundary_follows_it_in_3d(cyl):
 def test_many_segments_including_ones_along_mesh_edges(cyl):
     g, d = cyl
     circ = 2 * math.pi * 50.0
-    cell_x, cell_y = circ / 128, 10.0
+    cell_x = circ / 128
     rng = np.random.default_rng(17)
     segs = [rng.uniform([1, 1], [circ - 1, 299], (2, 2)) for _ in range(40)]
     # along grid lines (mesh edges), along cell diagonals (mesh edges too), and through vertices
@@ -217,9 +217,9 @@ def test_many_segments_including_ones_along_mesh_edges(cyl):
         assert np.all(np.diff(t) > 0) and t[0] == pytest.approx(0) and t[-1] == pytest.approx(1)
         u, v = seg[1] - seg[0], path.pattern - seg[0]
         off = np.abs(u[0] * v[:, 1] - u[1] * v[:, 0]) / np.linalg.norm(u)
-        assert off.max() < 1e-9
+        assert off.max() < 1e-12  # observed 7.9e-14 mm
         # each dense point maps back to the pattern position it came from
-        np.testing.assert_allclose(d.to_pattern(path.face, path.bary), path.pattern, atol=1e-9)
+        np.testing.assert_allclose(d.to_pattern(path.face, path.bary), path.pattern, rtol=0, atol=2e-12)  # observed 2.0e-13 mm
         # consecutive points lie in one triangle (the one holding their midpoint), so each 3D
         # piece is a chord of one flat facet and lies on the surface
         mid = 0.5 * (path.pattern[1:] + path.pattern[:-1])
@@ -229,4 +229,4 @@ def test_many_segments_including_ones_along_mesh_edges(cyl):
         assert barycentric_2d(tri, path.pattern[1:]).min() >= -1e-9
     # reference: trimesh.proximity.closest_point puts the last path on the surface
     _, dist, _ = trimesh.proximity.closest_point(mesh, pts)
-    assert dist.max() < 1e-6
+    assert dist.max() < 1e-13  # observed 7.9e-15 mm

@@ -77,7 +77,7 @@ def test_route_with_confidence_on_the_demo(demo, tmp_path, capsys):
     assert g.name == doc["garment"]
 
 
-def test_drift_simulate_track_commands(demo, tmp_path, capsys):
+def test_drift_simulate_track_commands(demo, tmp_path, capsys, monkeypatch):
     scene, _, routes = demo
     g = scene.garment
     route = tmp_path / "route.json"
@@ -93,8 +93,12 @@ def test_drift_simulate_track_commands(demo, tmp_path, capsys):
     assert (tmp_path / "log.truth.csv").exists()
     tj = tmp_path / "track.json"
     sheet = tmp_path / "sheet.svg"
+    shot = tmp_path / "track.png"
+    monkeypatch.setenv("PYVISTA_OFF_SCREEN", "true")
+    monkeypatch.setenv("VTK_DEFAULT_OPENGL_WINDOW", "vtkEGLRenderWindow")
     assert main(["track", SPEC, str(log), "--plan", str(route), "--json", str(tj),
-                 "--sheet", str(sheet)]) == 0
+                 "--sheet", str(sheet), "--screenshot", str(shot)]) == 0
+    assert shot.read_bytes()[:4] == b"\x89PNG"
     track = json.loads(tj.read_text())
     assert track["format"] == "garnav-track"
     assert [c["seam"] for c in track["crossings"]] == ["armhole_right_back", "yoke_back"]

@@ -28,6 +28,7 @@ def _png_size(data: bytes) -> tuple[int, int]:
     return int.from_bytes(data[16:20], "big"), int.from_bytes(data[20:24], "big")
 
 
+@pytest.mark.slow
 def test_route_between_landmarks(tmp_path, capsys):
     results = _main("route_between_landmarks.py")([str(tmp_path)])
     text = capsys.readouterr().out
@@ -42,6 +43,7 @@ def test_route_between_landmarks(tmp_path, capsys):
     assert results[3]["seams_crossed"] == [] and results[3]["turns"] > 0
 
 
+@pytest.mark.slow
 def test_preview_route(tmp_path, capsys):
     os.environ.setdefault("PYVISTA_OFF_SCREEN", "true")
     os.environ.setdefault("VTK_DEFAULT_OPENGL_WINDOW", "vtkEGLRenderWindow")
@@ -56,6 +58,7 @@ def test_preview_route(tmp_path, capsys):
     assert lifted.length_3d_mm == pytest.approx(route.length_mm, rel=5e-3)
 
 
+@pytest.mark.slow
 def test_export_for_robot(tmp_path, capsys):
     result = _main("export_for_robot.py")([str(tmp_path)])
     text = capsys.readouterr().out
@@ -73,8 +76,6 @@ def test_export_for_robot(tmp_path, capsys):
 
 
 def test_import_pattern(tmp_path, capsys):
-    pytest.importorskip("ezdxf")
-    pytest.importorskip("svgelements")
     import math
 
     from garnav.spec import load_garment
@@ -90,3 +91,14 @@ def test_import_pattern(tmp_path, capsys):
     assert result["route"].length_mm == pytest.approx(math.hypot(170.0, 130.0), abs=1e-6)
     assert result["route"].seams_crossed == ("side_1",)
     assert (tmp_path / "vest.dxf").exists()
+
+
+@pytest.mark.slow
+def test_drivable_routes(tmp_path, capsys):
+    results = _main("drivable_routes.py")([str(tmp_path)])
+    assert json.loads((tmp_path / "drivable.json").read_text()) == results
+    assert all(r["safe"] for r in results)
+    up = next(r for r in results if r["posture"] == "upright" and r["goal"] == "suprasternale")
+    assert up["method"] == "lattice"  # straight up the chest is too steep for the demo drive
+    lying = next(r for r in results if r["posture"] == "supine" and r["goal"] == "suprasternale")
+    assert lying["method"] == "length-optimal" and lying["energy_j"] < up["energy_j"]  # level when lying

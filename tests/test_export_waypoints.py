@@ -53,10 +53,10 @@ def test_schema_is_valid_draft_2020_12():
     jsonschema.Draft202012Validator.check_schema(route_schema())
 
 
-@pytest.mark.parametrize("lifted", [False, True])
+@pytest.mark.parametrize("lifted", [False, pytest.param(True, marks=pytest.mark.slow)])
 def test_every_document_validates_and_round_trips_through_json(lifted):
     count = 0
-    for route, g, robot, lift, doc in _random_docs(50, lifted):
+    for _route, _g, _robot, _lift, doc in _random_docs(50, lifted):
         parsed = json.loads(document_json(doc))
         VALIDATOR.validate(parsed)
         assert parsed == doc
@@ -83,7 +83,7 @@ def test_bad_documents_fail_the_schema():
 
 @pytest.mark.parametrize("lifted", [False, True])
 def test_csv_parses_with_stdlib_and_matches_json(lifted):
-    for route, g, robot, lift, doc in _random_docs(10, lifted):
+    for _route, _g, _robot, _lift, doc in _random_docs(10, lifted):
         rows = list(csv.DictReader(io.StringIO(document_csv(doc))))
         assert tuple(rows[0].keys()) == CSV_COLUMNS
         assert len(rows) == len(doc["waypoints"])
@@ -100,7 +100,7 @@ def test_csv_parses_with_stdlib_and_matches_json(lifted):
 
 def test_quaternions_are_unit_and_their_axes_match_normal_and_travel():
     checked = 0
-    for route, g, robot, lift, doc in _random_docs(20, lifted=True):
+    for _route, _g, robot, _lift, doc in _random_docs(20, lifted=True):
         up = 1.0 if robot.side == "outside" else -1.0
         for w in doc["waypoints"]:
             q = np.array(w["orientation_xyzw"])
@@ -131,7 +131,7 @@ def test_quaternion_from_matrix_matches_scipy():
 
 def test_body_frame_is_right_handed():
     f = body_frame(np.array([1.0, 1.0, 0.2]), np.array([0.0, 0.0, 2.0]))
-    assert np.allclose(f.T @ f, np.eye(3)) and np.linalg.det(f) == pytest.approx(1.0)
+    assert np.allclose(f.T @ f, np.eye(3)) and np.linalg.det(f) == pytest.approx(1.0, abs=1e-14)  # observed 1.1e-16
     assert np.allclose(f[:, 2], [0, 0, 1]) and abs(f[:, 0] @ [0, 0, 1]) < 1e-15
     with pytest.raises(ValueError):
         body_frame(np.array([0.0, 0.0, 1.0]), np.array([0.0, 0.0, 1.0]))

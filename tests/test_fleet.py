@@ -454,3 +454,18 @@ def test_meeting_slot_out_of_reach():
                             "spacing_mm": 30.0, "heading_deg": 90.0}]}, g)
     with pytest.raises(FleetError, match=r"meeting 'm': robot 'a' cannot reach its slot even alone"):
         FleetPlanner(g, t)
+
+
+def test_through_seam_distance_on_a_straight_seam_is_the_unfolded_distance():
+    """Two panels side by side, a straight seam: the fabric distance through it is the plane
+    distance with the right panel laid next to the left one (reflection argument)."""
+    from garnav.fleet.unfold import seam_sides, through_seam_distance
+
+    g = two_panels()
+    sd = next(s for s in seam_sides(g)["right"] if s.to_piece == "left")
+    rng = np.random.default_rng(5)
+    b = rng.uniform([0, 50], [60, 350], (50, 2))        # on 'right'
+    a = rng.uniform([240, 50], [300, 350], (50, 2))     # on 'left'
+    got = through_seam_distance(sd, g, b, a)
+    want = np.hypot(b[:, 0] + 300.0 - a[:, 0], b[:, 1] - a[:, 1])
+    assert np.max(np.abs(got - want)) < 1e-4  # observed 1e-5 mm

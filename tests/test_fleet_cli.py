@@ -139,6 +139,7 @@ def test_drape_animation_frames(tmp_path):
     assert im.n_frames == 3 and im.size == (200, 160)
 
 
+@pytest.mark.slow
 def test_cli_pictures_and_robot_files(tmp_path, capsys):
     save_garment(two_panels(), tmp_path / "g.toml")
     (tmp_path / "mini.toml").write_text('[robot]\nname = "mini"\nradius_mm = 8.0\nspeed_mm_s = 30.0\n')
@@ -161,4 +162,21 @@ def test_robot_file_problems_name_the_file(tmp_path, capsys):
     (tmp_path / "tasks.toml").write_text(TASKS.replace('gap_mm = 2.0\n', 'gap_mm = 2.0\nrobot_files = ["bad.toml"]\n'))
     assert main(["fleet", str(tmp_path / "tasks.toml")]) == 2
     err = capsys.readouterr().err
-    assert "bad.toml: robot 'bad': 'radius_mm' must be > 0" in err
+    assert "bad.toml: robot: 'radius_mm' must be > 0" in err
+
+
+def test_energy_with_a_physics_profile(tmp_path, capsys):
+    """Level-fabric energy = power · driving time + idle power · standing time (the physics
+    profile's own powers; hand-worked identity)."""
+    save_garment(two_panels(), tmp_path / "g.toml")
+    (tmp_path / "phys.toml").write_text('[robot]\nname = "phys"\nradius_mm = 10.0\nspeed_mm_s = 20.0\n'
+                                        '[robot.physics]\ndrive_power_w = 0.5\nidle_power_w = 0.1\n')
+    (tmp_path / "tasks.toml").write_text(TASKS.replace('gap_mm = 2.0\n', 'gap_mm = 2.0\nrobot_files = ["phys.toml"]\n')
+                                         .replace('name = "b"\n', 'name = "b"\nrobot = "phys"\n'))
+    assert main(["fleet", str(tmp_path / "tasks.toml"), "--json", str(tmp_path / "s.json")]) == 0
+    doc = json.loads((tmp_path / "s.json").read_text())
+    a, b = doc["robots"]
+    assert a["energy_j"] is None
+    want = 0.6 * b["driving_s"] + 0.1 * (b["arrive_s"] - b["driving_s"])
+    assert b["energy_j"] == pytest.approx(want, rel=1e-6)
+    assert "J (level)" in capsys.readouterr().out

@@ -57,6 +57,7 @@ def _welded_submesh(drape, pieces) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     return used, drape.positions[used], faces.reshape(-1, 3)
 
 
+@pytest.mark.slow
 def test_routes_across_side_seams_match_exact_geodesics(open_torso):
     garment, drape, planner = open_torso
     used, sub_pos, sub_faces = _welded_submesh(drape, ("front", "back"))
@@ -91,7 +92,7 @@ def test_routes_across_side_seams_match_exact_geodesics(open_torso):
                 VT=np.searchsorted(used, [gv]),
             )[0]
         )
-        assert lifted.length_3d_mm == pytest.approx(exact, rel=1e-3)  # observed ~1e-6
+        assert lifted.length_3d_mm == pytest.approx(exact, rel=6e-5)  # observed 5.7e-6 relative
         checked += 1
         crossed += len(route.crossings) > 0
     assert checked == 8
@@ -99,6 +100,7 @@ def test_routes_across_side_seams_match_exact_geodesics(open_torso):
 
 
 
+@pytest.mark.slow
 def test_routes_across_an_armhole_match_exact_geodesics(open_torso):
     """Across the curved armhole (a crease between cone and cylinder) the refined crossing keeps
     the route locally shortest; it must match the exact geodesic on the welded front + back +

@@ -185,3 +185,16 @@ def test_every_returned_segment_keeps_the_independently_recomputed_limits(quat, 
         return
     normal = rot @ np.array([0.0, 0.0, 1.0])
     assert np.all(_independent_limits(r.lifted.points, normal, np.array([0.0, 0.0, -1.0]), p))
+
+
+def test_energy_and_time_costs():
+    # energy: never more than the shortest drivable route's energy (it is one of the candidates);
+    # time at constant speed is length / v (definition)
+    p = dataclasses.replace(EASY, rolling_resistance=0.02)
+    pp, short = planned(35.0, p, start="panel:100,100", goal="panel:500,700")
+    _, cheap = planned(35.0, p, start="panel:100,100", goal="panel:500,700", cost="energy")
+    assert cheap.mechanics.safe
+    assert cheap.mechanics.total_energy_j <= short.mechanics.total_energy_j * (1 + 1e-9)
+    _, fast = planned(35.0, p, start="panel:100,100", goal="panel:500,700", cost="time")
+    assert fast.mechanics.total_time_s == pytest.approx(fast.mechanics.length_mm.sum() / 20.0, rel=1e-12)
+    assert fast.route.length_mm == pytest.approx(short.route.length_mm, rel=1e-12)

@@ -29,11 +29,11 @@ from garnav.errors import QueryError  # noqa: E402
 from garnav.export.waypoints import route_document, write_route_json  # noqa: E402
 from garnav.page import plan_page, route_figures  # noqa: E402
 from garnav.page.encode import dequantise, quantisation, quantise  # noqa: E402
-from garnav.page.figures import table_columns  # noqa: E402
+from garnav.page.figures import cell_text, table_columns  # noqa: E402
 from garnav.page.geometry import BodyZone, ScenePart  # noqa: E402
 from garnav.spec import save_garment  # noqa: E402
 
-html5lib = pytest.importorskip("html5lib", reason="html5lib (test extra) is needed to check the HTML")
+import html5lib  # a test extra: missing means a broken install
 
 SVG = "{http://www.w3.org/2000/svg}"
 XHTML = "{http://www.w3.org/1999/xhtml}"
@@ -137,15 +137,20 @@ def test_physics_and_drift_figures_are_shown_when_present(cylinder_page):
     _, docs, _ = cylinder_page
     doc = dict(docs[0][1])
     doc["physics"] = {"posture": "upright", "energy_j": 12.5, "energy_mah": 0.94, "battery_used_fraction": 0.0094,
-                      "min_grip_margin": 2.4, "min_hold_margin": 1.7, "min_drive_margin": 3.1,
-                      "unsafe_segments": []}
+                      "charge_left_fraction": 0.99, "battery_ok": True, "time_s": 20.0,
+                      "min_grip_margin": 2.4, "min_hold_margin": 1.7, "min_drive_margin": 1.2,
+                      "safety_factor": 1.5, "drive_safety_factor": 1.1, "unsafe_segments": []}
     doc["drift"] = {"overall_contact_probability": 0.012, "runs": 10000}
     row = route_figures("r0", doc)
     assert (row.energy_j, row.energy_mah, row.battery_used_fraction) == (12.5, 0.94, 0.0094)
-    assert row.worst_margin == ("hold", 1.7) and row.unsafe_segments == 0 and row.risk == 0.012
+    # closest to its requirement: drive 1.2 / 1.1 = 1.09, before hold 1.7 / 1.5 = 1.13 (docs/physics.md)
+    assert row.worst_margin == ("drive", 1.2) and row.unsafe_segments == 0 and row.risk == 0.012
+    assert cell_text(row, "margin") == "1.20 drive (needs ≥ 1.1)"
+    assert cell_text(row, "battery") == "0.9 % (99.0 % left)"
     assert ("physics.posture", "upright") in row.more and ("drift.runs", "10000") in row.more
+    assert not any(k in ("physics.time_s", "physics.safety_factor") for k, _ in row.more)
     keys = [k for k, _ in table_columns([row, route_figures("r1", docs[1][1])])]
-    assert keys[-6:] == ["energy", "battery", "margin", "unsafe", "risk", "more"]
+    assert keys[-5:] == ["energy", "battery", "margin", "unsafe", "risk"]
     bad = dict(doc, physics=[1, 2])
     with pytest.raises(QueryError, match=r"r0.json: 'physics' must be an object, not list"):
         route_figures("r0", bad, source="r0.json")
@@ -240,3 +245,110 @@ def test_cli_page_of_the_committed_demo_spec_with_drape_and_mannequin(tmp_path, 
     assert {"garment", "body", "keepouts", "edges", "landmarks", "route-0"} <= groups
     body = next(p for p in scene["parts"] if p["group"] == "body")
     assert body["triangle_count"] <= 10000 and "The mannequin was simplified for this page from 23,424" in text
+
+
+@pytest.mark.parametrize(
+    "change, message",
+    [
+        ({"summary": "fast"}, "'summary' must be an object, not str"),
+        ({"length_mm": "long"}, "'length_mm' and 'summary.estimated_time_s' must be numbers"),
+        ({"drift": 0.5}, "'drift' must be an object, not float"),
+    ],
+)
+def test_cli_refuses_route_figures_of_the_wrong_type(page_files, tmp_path, capsys, change, message):
+    spec, route = page_files
+    doc = json.loads(route.read_text())
+    doc.update(change)
+    bad = tmp_path / "bad.json"
+    bad.write_text(json.dumps(doc))
+    out = tmp_path / "plan.html"
+    assert main(["page", str(spec), str(bad), "--out", str(out)]) == 2
+    err = capsys.readouterr().err
+    assert f"{bad}: {message}" in err and len(err.strip().splitlines()) == 1 and not out.exists()
+
+
+def test_cli_page_shows_the_contact_risk_of_garnav_drift(page_files, tmp_path, capsys):
+    spec, route = page_files
+    drift = tmp_path / "drift.json"
+    assert main(["drift", str(route), "--garment", str(spec), "--runs", "300", "--seed", "1",
+                 "--json", str(drift)]) == 0
+    capsys.readouterr()
+    d = json.loads(drift.read_text())
+    out = tmp_path / "plan.html"
+    assert main(["page", str(spec), str(route), "--drift", str(drift), "--out", str(out)]) == 0
+    text = out.read_text(encoding="utf-8")
+    assert "Contact risk" in text
+    p, hi = d["overall"]["probability"], d["overall"]["ci95"][1]
+    assert f"{100 * p:.2g} % (95 % ≤ {100 * hi:.2g} %)" in text
+    assert "drift.runs: 300" in text
+    # a drift file of another route is refused, naming it
+    other = tmp_path / "other.json"
+    d["distance_mm"] += 50.0
+    other.write_text(json.dumps(d))
+    assert main(["page", str(spec), str(route), "--drift", str(other), "--out", str(out)]) == 2
+    err = capsys.readouterr().err
+    assert f"{other}: matches none of the routes given" in err and "Traceback" not in err
+    assert main(["page", str(spec), str(route), "--drift", str(route), "--out", str(out)]) == 2
+    assert "not a garnav-drift document" in capsys.readouterr().err
+
+
+def test_a_sweep_document_shows_its_coverage(cylinder_page):
+    _, docs, _ = cylinder_page
+    doc = dict(docs[0][1], sweep={"swath_mm": 10.0, "covered_fraction": 0.9412, "lanes": 7})
+    row = route_figures("sweep", doc)
+    assert ("coverage", "Covered (sweep)") in table_columns([row])
+    assert cell_text(row, "coverage") == "94.1 % of reachable, 10 mm swath"
+
+
+def _schedule(garment_name: str) -> dict:
+    # a hand-made garnav-fleet-schedule (docs/fleet.md): robot 'a' drives on 'left', waits 2 s,
+    # crosses the seam 'middle' at x = 300 (left) / x = 0 (right) and ends on 'right'
+    wps = [
+        {"t_s": 0.0, "piece": "left", "x_mm": 200.0, "y_mm": 100.0, "heading_deg": 0.0},
+        {"t_s": 5.0, "piece": "left", "x_mm": 300.0, "y_mm": 100.0, "heading_deg": 0.0},
+        {"t_s": 5.0, "piece": "right", "x_mm": 0.0, "y_mm": 100.0, "heading_deg": 0.0},
+        {"t_s": 7.0, "piece": "right", "x_mm": 0.0, "y_mm": 100.0, "heading_deg": 0.0},
+        {"t_s": 12.0, "piece": "right", "x_mm": 100.0, "y_mm": 100.0, "heading_deg": 0.0},
+    ]
+    robot = {"name": "a", "profile": {"name": "r", "radius_mm": 10.0, "speed_mm_s": 20.0, "side": "outside"},
+             "depart_s": 0.0, "arrive_s": 12.0, "driving_s": 10.0, "waiting_s": 2.0, "length_mm": 200.0,
+             "waypoints": wps, "commands": [{"op": "go", "distance_mm": 100.0},
+                                            {"op": "cross", "seam": "middle", "at_mm": 100.0},
+                                            {"op": "go", "distance_mm": 100.0}]}
+    return {"format": "garnav-fleet-schedule", "version": 1, "garment": garment_name, "robots": [robot]}
+
+
+def test_cli_page_shows_each_robot_of_a_fleet_schedule(tmp_path, capsys):
+    g = garments.two_panels()
+    spec = tmp_path / "two.toml"
+    save_garment(g, spec)
+    sched = tmp_path / "sched.json"
+    sched.write_text(json.dumps(_schedule(g.name)))
+    out = tmp_path / "plan.html"
+    assert main(["page", str(spec), "--fleet", str(sched), "--out", str(out)]) == 0
+    text = out.read_text(encoding="utf-8")
+    html5lib.HTMLParser(strict=True).parse(text)
+    assert "sched:<wbr>a" not in text and "sched:a" in text  # no underscore, no break
+    assert "200.0 mm" in text and "12.0 s" in text and ">middle<" in text
+    assert "fleet.waiting_s: 2" in text
+    svg = DET.fromstring(re.search(r"<svg .*?</svg>", text, re.S).group(0).encode("utf-8"))
+    legs = [e for e in svg.iter(SVG + "path") if e.get("class") == "route-leg"]
+    assert len(legs) == 2  # one leg per piece; the wait adds no geometry
+    bad = dict(_schedule(g.name), garment="other_top")
+    sched.write_text(json.dumps(bad))
+    assert main(["page", str(spec), "--fleet", str(sched), "--out", str(out)]) == 2
+    assert "planned on garment 'other_top'" in capsys.readouterr().err
+    assert main(["page", str(spec), "--out", str(out)]) == 2
+    assert "give at least one ROUTE.json or --fleet" in capsys.readouterr().err
+
+
+def test_3d_figures_of_a_route_lifted_for_the_page():
+    from garnav.page.build import _with_3d_figures
+
+    doc = {"length_mm": 7.0, "length_3d_mm": None, "summary": {"estimated_time_s": 1.0}}
+    pts = np.array([[0.0, 0.0, 0.0], [3.0, 0.0, 4.0], [3.0, 0.0, 2.0]])
+    out = _with_3d_figures(doc, pts)
+    # by hand: |(3, 0, 4)| = 5 (Pythagoras) plus 2; climbs 4 up, 2 down
+    assert out["length_3d_mm"] == pytest.approx(7.0)
+    assert (out["summary"]["climb_up_mm"], out["summary"]["climb_down_mm"]) == (4.0, 2.0)
+    assert doc["length_3d_mm"] is None  # the input is not changed

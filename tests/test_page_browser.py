@@ -48,22 +48,28 @@ def test_demo_page_is_under_15_mb_and_well_formed(demo_page):
 
     assert demo_page.name == PAGE_NAME
     size = demo_page.stat().st_size
-    assert size < 15e6  # observed 2.4 MB
-    html5lib = pytest.importorskip("html5lib", reason="html5lib (test extra) is needed to check the HTML")
+    assert size < 15e6  # observed 2.5 MB
+    import html5lib  # a test extra: missing means a broken install
     # reference: html5lib's strict parser (WHATWG algorithm) raises on any parse error
     html5lib.HTMLParser(strict=True).parse(demo_page.read_text(encoding="utf-8"))
 
 
 @pytest.fixture(scope="module")
-def browser():
-    sync_api = pytest.importorskip("playwright.sync_api", reason="playwright (test extra) is not installed")
+def playwright():
+    from playwright import sync_api  # a test extra: missing means a broken install
+
     if CHROMIUM is None:
         pytest.skip("no chromium on this machine (Debian: apt-get install chromium); .ci/run installs it")
-    # Playwright starts the browser with a new, empty profile folder of its own
     with sync_api.sync_playwright() as pw:
-        chromium = pw.chromium.launch(executable_path=CHROMIUM, headless=True, args=FLAGS)
-        yield chromium
-        chromium.close()
+        yield pw
+
+
+@pytest.fixture(scope="module")
+def browser(playwright):
+    # Playwright starts the browser with a new, empty profile folder of its own
+    chromium = playwright.chromium.launch(executable_path=CHROMIUM, headless=True, args=FLAGS)
+    yield chromium
+    chromium.close()
 
 
 def _pixels(png: bytes) -> np.ndarray:
@@ -164,3 +170,23 @@ def test_the_checks_catch_a_request_and_a_console_error(browser, tmp_path):
     context.close()
     assert requests == ["http://garnav.invalid/x.png"]
     assert "boom" in errors
+
+
+def test_without_webgl_the_page_says_so_and_keeps_the_rest(playwright, demo_page):
+    chromium = playwright.chromium.launch(executable_path=CHROMIUM, headless=True,
+                                          args=FLAGS + ["--disable-webgl", "--disable-3d-apis"])
+    try:
+        context, page, _, requests, errors = _open(chromium, demo_page, DESKTOP)
+        assert page.get_attribute("#viewer", "data-state") == "no-webgl"
+        assert "cannot draw the 3D view" in page.inner_text("#viewer-status")
+        from garnav.demo.run import DEMO_ROUTES
+
+        assert page.locator("table tbody tr:not(.more)").count() == len(DEMO_ROUTES)
+        assert page.locator(".sheet-wrap svg").count() == 1
+        # the toggles still show and hide the sheet's layers
+        page.locator('input[data-toggle="route-1"]').set_checked(False)
+        assert page.locator("#layer-route-1").evaluate("e => getComputedStyle(e).display") == "none"
+        context.close()
+    finally:
+        chromium.close()
+    assert requests == [] and errors == []

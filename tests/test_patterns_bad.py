@@ -11,8 +11,6 @@ import os
 
 import pytest
 
-pytest.importorskip("ezdxf")
-pytest.importorskip("svgelements")
 import ezdxf  # noqa: E402
 
 from garnav.cli import main  # noqa: E402

@@ -6,8 +6,6 @@ from pathlib import Path
 
 import pytest
 
-pytest.importorskip("ezdxf")
-pytest.importorskip("svgelements")
 
 from garnav.cli import build_parser, main  # noqa: E402
 from garnav.spec import load_garment  # noqa: E402

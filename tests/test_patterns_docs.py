@@ -45,7 +45,6 @@ def test_caps_and_tolerance_match_code():
 
 def test_example_messages(tmp_path):
     """Each example message in the table is produced (file names and handles aside)."""
-    pytest.importorskip("svgelements")
     from garnav.errors import SpecError
     from garnav.patterns import read_pattern
 

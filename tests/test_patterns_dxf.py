@@ -14,7 +14,7 @@ import numpy as np
 import pytest
 import shapely
 
-ezdxf = pytest.importorskip("ezdxf")
+import ezdxf  # a test extra: missing means a broken install
 
 from garnav.patterns import DxfOptions, read_pattern  # noqa: E402
 from garnav.patterns.dxf_read import read_dxf  # noqa: E402

@@ -15,8 +15,6 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-pytest.importorskip("ezdxf")
-pytest.importorskip("svgelements")
 
 from garnav.patterns import read_pattern, write_dxf, write_svg  # noqa: E402
 from garnav.patterns.dxf_write import boundary_kinds  # noqa: E402

@@ -10,7 +10,6 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-pytest.importorskip("svgelements")
 
 from garnav.cli import main  # noqa: E402
 from garnav.errors import SpecError  # noqa: E402

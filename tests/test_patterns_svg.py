@@ -14,7 +14,6 @@ import numpy as np
 import pytest
 import shapely
 
-pytest.importorskip("svgelements")
 
 from garnav.patterns import SvgOptions, read_pattern  # noqa: E402
 

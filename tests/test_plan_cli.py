@@ -51,6 +51,7 @@ def test_cli_route_writes_json_and_csv(tmp_path, capsys):
     assert len(rows) == len(data["waypoints"])
 
 
+@pytest.mark.slow
 def test_cli_route_on_demo_spec(capsys):
     assert main(["route", str(MESHES / "sensing_top.toml"), "--from", "wrist_left", "--to", "sternum_left"]) == 0
     assert "armhole_left" in capsys.readouterr().out

@@ -10,13 +10,16 @@ boundary never matters. Courses whose free space falls apart are skipped (pyvisg
 of separate components).
 """
 
+import copy
+
 import numpy as np
 import pyvisgraph as vg
 import pytest
 import shapely
 
 from garnav.plan import PiecePoint, Planner
-from plan_courses import course
+from garnav.testing import validate_route
+from plan_courses import LazyCases, course, fast_then_slow
 
 BOX = shapely.box(60.0, 60.0, 540.0, 740.0)
 
@@ -37,19 +40,27 @@ def _courses(count=50):
         count -= 1
 
 
-@pytest.mark.parametrize("seed, planner, rng", list(_courses(50)), ids=lambda v: str(v) if isinstance(v, int) else "")
-def test_route_length_equals_pyvisgraph(seed, planner, rng):
+@pytest.fixture(scope="module")
+def courses():
+    return LazyCases(_courses(50))
+
+
+@pytest.mark.parametrize("k", fast_then_slow(50, fast=2))
+def test_route_length_equals_pyvisgraph(courses, k):
+    seed, planner, rng = courses[k]
+    rng = copy.deepcopy(rng)  # the course's own stream, unchanged by earlier runs
     region = planner.free["panel"].region
     while True:
         s, g = rng.uniform([60, 60], [540, 740], size=(2, 2))
         if region.covers(shapely.Point(*s)) and region.covers(shapely.Point(*g)):
             break
     route = planner.route(PiecePoint("panel", *s), PiecePoint("panel", *g))
+    validate_route(route, planner.garment, planner.free, start=("panel", *s), goal=("panel", *g))
     polys = [[vg.Point(x, y) for x, y in np.asarray(r.coords)[:-1]] for r in region.interiors]
     ref = vg.VisGraph()
     ref.build(polys, workers=1, status=False)
     path = ref.shortest_path(vg.Point(*s), vg.Point(*g))
     ref_len = sum(np.hypot(a.x - b.x, a.y - b.y) for a, b in zip(path[:-1], path[1:]))
-    assert route.length_mm == pytest.approx(ref_len, rel=1e-6)
+    assert route.length_mm == pytest.approx(ref_len, rel=3e-14)  # observed 2.2e-15 relative
     # the route stayed in the box where the outer boundary cannot matter
     assert BOX.covers(shapely.LineString(route.legs[0].points))

@@ -7,6 +7,7 @@ inside [60, 540] x [60, 340] so that the outer boundary (which pyvisgraph does n
 matters.
 """
 
+import copy
 import dataclasses
 
 import numpy as np
@@ -18,6 +19,8 @@ from shapely import affinity
 import garments
 from garnav import Circle, KeepOut, Rectangle
 from garnav.plan import PiecePoint, Planner
+from garnav.testing import validate_route
+from plan_courses import LazyCases, fast_then_slow
 
 BOX = shapely.box(60.0, 60.0, 540.0, 340.0)
 
@@ -62,17 +65,25 @@ def _cases(count=30):
         count -= 1
 
 
-@pytest.mark.parametrize("seed, planner, holes, rng", list(_cases()), ids=lambda v: str(v) if isinstance(v, int) else "")
-def test_route_across_seam_equals_pyvisgraph_unfolded(seed, planner, holes, rng):
+@pytest.fixture(scope="module")
+def cases():
+    return LazyCases(_cases(30))
+
+
+@pytest.mark.parametrize("k", fast_then_slow(30, fast=1))
+def test_route_across_seam_equals_pyvisgraph_unfolded(cases, k):
+    seed, planner, holes, rng = cases[k]
+    rng = copy.deepcopy(rng)  # the course's own stream, unchanged by earlier runs
     while True:
         s = rng.uniform([60, 60], [290, 340])
         t = rng.uniform([310, 60], [540, 340])
         if planner.free["left"].covers(s[None])[0] and planner.free["right"].covers((t - [300, 0])[None])[0]:
             break
     route = planner.route(PiecePoint("left", *s), PiecePoint("right", *(t - [300.0, 0.0])))
+    validate_route(route, planner.garment, planner.free, start=("left", *s), goal=("right", *(t - [300.0, 0.0])))
     polys = [[vg.Point(x, y) for x, y in np.asarray(p.exterior.coords)[:-1]] for p in shapely.get_parts(holes)]
     ref = vg.VisGraph()
     ref.build(polys, workers=1, status=False)
     path = ref.shortest_path(vg.Point(*s), vg.Point(*t))
     ref_len = sum(np.hypot(a.x - b.x, a.y - b.y) for a, b in zip(path[:-1], path[1:]))
-    assert route.length_mm == pytest.approx(ref_len, rel=1e-6)
+    assert route.length_mm == pytest.approx(ref_len, rel=2e-8)  # observed 1.5e-9 relative (crossing refinement)

@@ -15,6 +15,7 @@ import garments
 from garnav import Circle, KeepOut, Rectangle
 from garnav.demo import demo_garment
 from garnav.plan import Planner
+from garnav.testing import validate_route
 from plan_courses import random_free_points
 
 
@@ -64,10 +65,12 @@ def demo_planner():
     return Planner(demo_garment())
 
 
+@pytest.mark.slow
 def test_astar_equals_dijkstra_demo(demo_planner):
     _check_against_dijkstra(demo_planner, np.random.default_rng(3), 100)
 
 
+@pytest.mark.slow
 def test_heuristic_is_a_lower_bound_demo(demo_planner):
     """h(n) <= exact cost to the goal for every node (multi-source Dijkstra from the goal)."""
     from garnav.plan.search import heuristic_values
@@ -93,6 +96,7 @@ def test_nearest_picks_cheapest_goal():
     planner = Planner(_two_panels_with_keepouts())
     goals = ["right:250,350", "left:40,40", "right:60,60"]
     k, route = planner.nearest("left:100,100", goals)
+    validate_route(route, planner.garment, planner.free, start="left:100,100", goal=goals[k])
     costs = [planner.route("left:100,100", g).cost for g in goals]
     assert k == int(np.argmin(costs))
     assert route.cost == pytest.approx(min(costs), rel=1e-9)
@@ -104,6 +108,8 @@ def test_via_points_join_legs():
     b = planner.route("left:50,50", "right:250,350", via=["left:280,380"])
     first = planner.route("left:50,50", "left:280,380")
     second = planner.route("left:280,380", "right:250,350")
+    for r in (a, b):
+        validate_route(r, planner.garment, planner.free, start="left:50,50", goal="right:250,350")
     assert b.length_mm == pytest.approx(first.length_mm + second.length_mm)
     assert b.length_mm >= a.length_mm - 1e-9
     assert len(b.turns_deg) == len(b.waypoints()) - 2 - len(b.crossings)

@@ -88,3 +88,21 @@ def test_empty_and_invalid_regions():
     bow = shapely.Polygon([(0, 0), (2, 2), (2, 0), (0, 2)])  # invalid: shapely answers
     want = shapely.covers(bow, shapely.linestrings(np.stack([a, b], 1)))
     assert (segments_in_region(bow, a, b) == want).all()
+
+
+def test_the_free_space_keeps_its_own_index():
+    # The index lives on the free space that owns the region (no module-level cache): built once,
+    # the same answers as shapely.covers, and refused for another region.
+    from garnav.plan.freespace import build_free_space
+    from garnav.plan.segtest import boundary_index
+    import garments
+
+    g = garments.two_panels()
+    fs = build_free_space(g, g.robot)["left"]
+    assert fs.boundary_index is fs.boundary_index
+    rng = np.random.default_rng(11)
+    a, b = rng.uniform(-20, 320, (2, 200, 2))
+    want = shapely.covers(fs.region, shapely.linestrings(np.stack([a, b], axis=1)))
+    assert (fs.segments_free(a, b) == want).all()
+    with pytest.raises(ValueError, match="another region"):
+        segments_in_region(fs.region, a, b, index=boundary_index(shapely.box(0, 0, 1, 1)))

@@ -78,7 +78,6 @@ def test_route_polyline_uses_path3d():
 
 
 def test_route_polyline_lifts_a_route_without_3d_path_through_the_drape():
-    pytest.importorskip("garnav.drape.lift")  # runs once the drape module is in the package
     import garnav.drape as drape_mod
     g = garments.two_panels()
     d = cylinder_drape(g)

@@ -164,9 +164,10 @@ def _ring_area(d):
 
 
 def test_sheet_shades_the_planners_free_space():
-    freespace = pytest.importorskip("garnav.plan.freespace")  # once the planner is in the package
+    from garnav.plan.freespace import build_free_space
+
     g = er.turned_panels()
-    fs = freespace.build_free_space(g)
+    fs = build_free_space(g)
     root = _parse(sheet_svg(sheet_drawing(g, free_space=fs)))
     for piece in ("a", "b"):
         free = [e for e in root.iter(SVG + "path") if e.get("class") == "free" and e.get("data-piece") == piece]

@@ -45,11 +45,11 @@ def with_piece(g: Garment, piece: Piece) -> Garment:
                                                for p in g.pieces))
 
 
-def poly_piece(name: str, ring, placement=Placement(10.0, 10.0)) -> Piece:
+def poly_piece(name: str, ring, placement: Placement | None = None) -> Piece:
     """A piece with one edge per side of ``ring`` named e0, e1, ..."""
     n = len(ring)
     edges = tuple(Edge(f"e{i}", (tuple(ring[i]), tuple(ring[(i + 1) % n]))) for i in range(n))
-    return Piece(name, edges, placement=placement)
+    return Piece(name, edges, placement=Placement(10.0, 10.0) if placement is None else placement)
 
 
 # -- pieces --------------------------------------------------------------------------------------

@@ -59,17 +59,6 @@ def test_doc_example_mesh_note(tmp_path, capsys):
     assert "two_panel_vest_drape.obj: found" in capsys.readouterr().out
 
 
-def test_module_doctests():
-    import doctest
-
-    import garnav.spec.fields
-    import garnav.spec.writer
-
-    for module in (garnav.spec.fields, garnav.spec.writer):
-        result = doctest.testmod(module)
-        assert result.failed == 0 and result.attempted > 0
-
-
 def test_doc_lists_every_key():
     text = DOC.read_text(encoding="utf-8")
     for section, fields in SECTIONS.items():

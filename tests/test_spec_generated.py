@@ -7,6 +7,7 @@ import re
 import tomllib
 from pathlib import Path
 
+import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
@@ -122,6 +123,7 @@ def garments(draw):
 
 @SETTINGS
 @given(garments())
+@pytest.mark.slow
 def test_generated_garments_round_trip(g):
     assert garment_problems(g) == []
     text = dumps_garment(g)
@@ -143,6 +145,7 @@ VALUES = ["0", "-1", '"x"', "true", "nan", "inf", "[]", "[1.0]", "[[1.0, 2.0]]",
 @given(st.lists(st.tuples(st.integers(0, len(LINES) - 1), st.integers(0, 2),
                           st.sampled_from(VALUES), st.integers(0, len(LINES) - 1)),
                 min_size=1, max_size=4))
+@pytest.mark.slow
 def test_mutated_example_gives_spec_error_or_garment(edits):
     """Deleting, duplicating or re-valuing lines of a valid file yields a garment or a SpecError,
     never any other exception."""

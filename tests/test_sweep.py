@@ -164,7 +164,7 @@ def test_disc_headland_lap_covers_at_least_99_percent():
     g = _board()
     s = plan_sweep(g, DISC_REGION, swath_mm=20.0, headland="on")
     cov = measured_coverage(s.route, s.reachable, 20.0)
-    assert cov >= 0.99  # observed 0.999998
+    assert cov >= 0.99  # observed 0.99874 (the lap, simplified to w/100, sags up to 0.2 mm inside)
     assert s.laps == 1
     auto = plan_sweep(g, DISC_REGION, swath_mm=20.0)  # auto chooses the lap here
     assert auto.laps == 1
@@ -283,3 +283,59 @@ def test_sensor_swath_round_trips_through_the_spec():
     plain = Garment("board", (rect_piece("p", 100, 100),), robot=Robot())
     assert "sensor_swath_mm" not in dumps(plain)
     assert loads(dumps(plain)).robot.sensor_swath_mm is None
+
+
+def test_sweep_is_deterministic():
+    g = two_panels()
+    region = parse_region(["pieces:left", "pieces:right"])
+    a = plan_sweep(g, region, swath_mm=20.0)
+    b = plan_sweep(g, region, swath_mm=20.0)
+    assert len(a.route.legs) == len(b.route.legs)
+    for la, lb in zip(a.route.legs, b.route.legs, strict=True):
+        assert la.piece == lb.piece and np.array_equal(la.points, lb.points)
+
+
+def test_split_among_robots_balances_time_and_keeps_the_route():
+    from garnav.sweep.split import split_sweep
+
+    g = _board()
+    s = plan_sweep(g, RECT, swath_mm=20.0, headland="off")
+    robot = g.robot
+    # hand-worked: 2980 mm at the cruise speed plus 18 turns of 90 degrees in place, each
+    # (π/2)·wheel_base/(2·speed) (Siegwart & Nourbakhsh §3.2)
+    total = 2980.0 / robot.speed_mm_s + 18 * (math.pi / 2) * robot.wheel_base_mm / (2 * robot.speed_mm_s)
+    one = split_sweep(g, s, 1)
+    assert one.times_s[0] == pytest.approx(total, rel=1e-12)
+    assert route_document(s.route, g)["summary"]["estimated_time_s"] == pytest.approx(total, rel=1e-12)
+    two = split_sweep(g, s, 2)
+    assert sum(two.times_s) == pytest.approx(total, rel=1e-12)
+    assert two.balance <= 1.05  # observed 1.006 (cut at the nearest waypoint)
+    assert sum(r.length_mm for r in two.routes) == pytest.approx(s.route.length_mm, rel=1e-12)
+    # the stretches join end to start and cover what the one route covers
+    assert np.array_equal(two.routes[0].legs[-1].points[-1], two.routes[1].legs[0].points[0])
+    union = shapely.union_all([shapely.LineString(r.legs[0].points).buffer(10, cap_style="flat", join_style="round")
+                               for r in two.routes])
+    assert union.intersection(s.reachable["p"]).area >= 0.98 * s.reachable_area_mm2  # observed 0.9856
+    # lanes 1-5 and 6-10: the robots stay 90 mm apart (fleet checker, garnav.fleet)
+    assert two.check is not None and two.check.ok and two.check.min_gap_mm > 50.0
+    with pytest.raises(QueryError, match="whole number"):
+        split_sweep(g, s, 0)
+
+
+def test_cli_sweep_robots_writes_one_document_per_robot(tmp_path, capsys):
+    from garnav.cli import main
+    from garnav.spec import save_garment
+
+    spec = tmp_path / "two.toml"
+    save_garment(two_panels(), spec)
+    out = tmp_path / "s.json"
+    rc = main(["sweep", str(spec), "--region", "pieces:left,right", "--swath", "20", "--json", str(out),
+               "--commands", str(tmp_path / "s.cmd"), "--robots", "2"])
+    assert rc == 0
+    text = capsys.readouterr().out
+    assert "robot 1:" in text and "robot 2:" in text and "smallest gap between robots" in text
+    for j in (1, 2):
+        doc = json.loads((tmp_path / f"s.robot_{j}.json").read_text())
+        jsonschema.Draft202012Validator(route_schema()).validate(doc)
+        assert (tmp_path / f"s.robot_{j}.cmd").read_text().startswith("garnav-commands 1")
+    assert main(["sweep", str(spec), "--region", "pieces:left", "--swath", "20", "--json", str(out), "--robots", "0"]) == 2

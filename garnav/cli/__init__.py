@@ -1,7 +1,9 @@
 """The ``garnav`` command line: a thin layer over the public Python API.
 
 Each sub-command lives in its own module with ``register(subparsers)`` (adds its parser and sets
-``func``) and a ``run(args) -> int``. Errors of the :class:`~garnav.errors.GarnavError` family are
+``func``) and a ``run(args) -> int``. A command module that fails to import stops the CLI with an
+``ImportError`` naming the command (never a silently missing command). Command modules import
+the heavy parts (planner, drape, export, rendering) inside ``run`` so that ``--help`` stays fast. Errors of the :class:`~garnav.errors.GarnavError` family are
 printed as one clear message on stderr with exit status 2; they never show a traceback.
 """
 
@@ -31,10 +33,8 @@ def build_parser() -> argparse.ArgumentParser:
     for name in COMMANDS:
         try:
             module = importlib.import_module(f"garnav.cli.{name}")
-        except ModuleNotFoundError as exc:
-            if exc.name == f"garnav.cli.{name}":
-                continue  # command not part of this build
-            raise
+        except ImportError as exc:  # a broken installation: say which command, never skip it
+            raise ImportError(f"garnav: the '{name}' command cannot be loaded (garnav.cli.{name}): {exc}") from exc
         module.register(sub)
     return parser
 

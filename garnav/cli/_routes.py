@@ -2,11 +2,13 @@
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import dataclasses
 
 from garnav.errors import QueryError
-from garnav.export.commands import CommandList, route_commands
-from garnav.export.waypoints import document_route, read_route_document
+if TYPE_CHECKING:  # loaded when the command runs (a fast --help)
+    from garnav.export.commands import CommandList
 from garnav.model import Garment, Robot
 
 __all__ = ["route_inputs", "add_garment_option"]
@@ -19,6 +21,9 @@ def add_garment_option(parser) -> None:
 
 def route_inputs(route_path: str, garment_path: str | None) -> tuple[Garment, Robot, CommandList, dict]:
     """Read a route JSON and its garment; the robot is the garment's with the route's radius."""
+    from garnav.export.commands import route_commands
+    from garnav.export.waypoints import document_route, read_route_document
+
     doc = read_route_document(route_path)
     name = doc["garment"]["name"]
     if garment_path:

@@ -8,12 +8,11 @@ import math
 
 from garnav.atomic import write_text_atomic
 from garnav.model import Robot
-from garnav.uncertainty.calibrate import calibrated_robot, read_runs, robot_toml, umbmark
 
 __all__ = ["register", "run"]
 
 
-def register(subparsers: argparse._SubParsersAction) -> None:
+def register(subparsers) -> None:
     parser = subparsers.add_parser(
         "calibrate",
         help="UMBmark calibration: wheel-diameter ratio and wheel-base corrections from square runs",
@@ -30,6 +29,8 @@ def register(subparsers: argparse._SubParsersAction) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
+    from garnav.uncertainty.calibrate import calibrated_robot, read_runs, robot_toml, umbmark
+
     cw, ccw, side, base = read_runs(args.runs)
     robot = Robot()
     if args.garment:

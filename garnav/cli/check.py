@@ -15,7 +15,7 @@ from garnav.spec.summary import format_summary
 __all__ = ["register", "run"]
 
 
-def register(subparsers: argparse._SubParsersAction) -> None:
+def register(subparsers) -> None:
     parser = subparsers.add_parser(
         "check",
         help="validate a garment spec (TOML) and summarise its pieces, seams and keep-outs",

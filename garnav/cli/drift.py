@@ -12,15 +12,14 @@ import argparse
 import json
 
 from garnav.atomic import write_text_atomic
-from garnav.cli._routes import add_garment_option, route_inputs
 from garnav.errors import QueryError
-from garnav.uncertainty.model import OdometryModel
-from garnav.uncertainty.report import drift_lines, drift_report
 
 __all__ = ["register", "run"]
 
 
-def register(subparsers: argparse._SubParsersAction) -> None:
+def register(subparsers) -> None:
+    from garnav.cli._routes import add_garment_option
+
     parser = subparsers.add_parser(
         "drift",
         help="dead-reckoning drift and contact probabilities along a planned route",
@@ -40,6 +39,10 @@ def register(subparsers: argparse._SubParsersAction) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
+    from garnav.cli._routes import route_inputs
+    from garnav.uncertainty.model import OdometryModel
+    from garnav.uncertainty.report import drift_lines, drift_report
+
     if args.runs < 2 or args.runs > 5_000_000:
         raise QueryError(f"--runs must be within 2..5000000, got {args.runs}")
     garment, robot, commands, _ = route_inputs(args.route, args.garment)

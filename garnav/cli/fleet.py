@@ -21,7 +21,7 @@ CAUTION = ("Caution: several magnet-held robots on one wearer multiply the risks
            "within reach. garnav plans; it certifies nothing.")
 
 
-def register(subparsers: argparse._SubParsersAction) -> None:
+def register(subparsers) -> None:
     parser = subparsers.add_parser(
         "fleet",
         help="plan timed, conflict-free schedules for several robots on one garment",
@@ -66,7 +66,8 @@ def run(args: argparse.Namespace) -> int:
           f"({schedule.orders_tried} tried)")
     for p in schedule.plans:
         print(f"  {p.name:<14} depart {p.depart_s:7.2f} s  arrive {p.arrive_s:7.2f} s  drive {p.driving_s:7.2f} s  "
-              f"wait {p.waiting_s:6.2f} s  {p.length_mm:8.1f} mm")
+              f"wait {p.waiting_s:6.2f} s  {p.length_mm:8.1f} mm"
+              + (f"  {p.energy_j:.1f} J (level)" if p.energy_j is not None else ""))
     print(report.text())
     if args.json:
         from garnav.fleet.document import write_schedule_json

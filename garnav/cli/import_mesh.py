@@ -9,8 +9,6 @@ import os
 from pathlib import Path
 
 from garnav.cli.import_pattern import add_pattern_arguments, is_pattern_file, run_pattern
-from garnav.drape.import_mesh import garment_from_mesh
-from garnav.drape.meshio import load_uv_mesh
 from garnav.errors import QueryError
 
 __all__ = ["register", "run", "parse_uv_scale"]
@@ -61,6 +59,9 @@ def parse_uv_scale(text: str | None) -> tuple[float, float] | None:
 
 
 def run(args) -> int:
+    from garnav.drape.import_mesh import garment_from_mesh
+    from garnav.drape.meshio import load_uv_mesh
+
     from garnav.spec import save_garment
 
     if is_pattern_file(args.mesh):

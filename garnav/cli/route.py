@@ -50,7 +50,7 @@ def default_cache_dir() -> Path:
 __all__ = ["register", "run", "route_summary", "default_cache_dir"]
 
 
-def register(subparsers: argparse._SubParsersAction) -> None:
+def register(subparsers) -> None:
     parser = subparsers.add_parser(
         "route",
         help="plan the shortest safe route between two points of a garment",

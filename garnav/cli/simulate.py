@@ -10,23 +10,22 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from garnav.cli._routes import add_garment_option, route_inputs
 from garnav.errors import QueryError
-from garnav.telemetry.logfile import write_log, write_truth
-from garnav.telemetry.simulate import simulate_run
-from garnav.uncertainty.model import OdometryModel
 
 __all__ = ["register", "run"]
 
 
-def register(subparsers: argparse._SubParsersAction) -> None:
+def register(subparsers) -> None:
+    from garnav.cli._routes import add_garment_option
+
     parser = subparsers.add_parser(
         "simulate",
         help="simulate a robot driving a route and write its telemetry log and ground truth",
         description="Drive the route's commands with odometry errors sampled from the robot's "
         "[robot.odometry] model (docs/uncertainty.md) and write the telemetry log a real robot "
         "would send — time, left and right encoder ticks (wrapping counters), gyro rate about the "
-        "surface normal, seam-bump flag — and, separately, the ground truth (docs/telemetry.md).",
+        "surface normal, seam-bump flag — and, separately, the ground truth (docs/telemetry.md). "
+        "A simulation shows the model, not that a robot is safe on a body.",
     )
     parser.add_argument("route", metavar="ROUTE.json", help="a garnav-route document (garnav route --json)")
     add_garment_option(parser)
@@ -39,6 +38,11 @@ def register(subparsers: argparse._SubParsersAction) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
+    from garnav.cli._routes import route_inputs
+    from garnav.telemetry.logfile import write_log, write_truth
+    from garnav.telemetry.simulate import simulate_run
+    from garnav.uncertainty.model import OdometryModel
+
     if not 0.1 <= args.rate <= 1000.0:
         raise QueryError(f"--rate must be within 0.1..1000 Hz, got {args.rate:g}")
     garment, robot, commands, _ = route_inputs(args.route, args.garment)

@@ -13,16 +13,8 @@ import argparse
 import dataclasses
 from pathlib import Path
 
-from garnav.drape.inverse import pattern_locator
-from garnav.drape.lift import lift_route
-from garnav.drape.sources import garment_and_drape, is_mesh_path, spec_drape_locator
 from garnav.errors import MeshError, QueryError
-from garnav.export.commands import route_commands, write_commands
-from garnav.export.waypoints import write_route_csv, write_route_json
 from garnav.model import Robot
-from garnav.plan import Planner
-from garnav.sweep import coverage_face_mask, figures_lines, parse_region, plan_sweep, resolve_region, sweep_document
-from garnav.sweep.plan import swath_of
 
 __all__ = ["register", "run"]
 
@@ -33,7 +25,7 @@ CAUTION = (
 )
 
 
-def register(subparsers: argparse._SubParsersAction) -> None:
+def register(subparsers) -> None:
     parser = subparsers.add_parser(
         "sweep",
         help="plan a route whose sensor covers a region of the garment",
@@ -59,6 +51,11 @@ def register(subparsers: argparse._SubParsersAction) -> None:
     drape.add_argument("--drape", metavar="MESH", nargs="?", const="",
                        help="the drape mesh (without MESH: the spec's own, used anyway when the spec names one)")
     drape.add_argument("--no-drape", action="store_true", help="do not use the spec's own drape")
+    parser.add_argument("--posture", metavar="NAME", help="wearer's posture for the energy figure (needs a "
+                        "[robot.physics] profile and a drape): upright (default), or another of docs/physics.md")
+    parser.add_argument("--robots", type=int, default=1, metavar="K",
+                        help="also cut the sweep into K stretches of balanced time, one per robot, and write "
+                        "FILE.robot_J.json (and .cmd) for each; their closest approach is checked, not avoided")
     parser.add_argument("--json", metavar="FILE", required=True, help="write the sweep's route document (JSON)")
     parser.add_argument("--csv", metavar="FILE", help="write the waypoints as CSV")
     parser.add_argument("--commands", metavar="FILE", help="write the robot commands as text (docs/commands.md)")
@@ -68,6 +65,17 @@ def register(subparsers: argparse._SubParsersAction) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
+    from garnav.drape.inverse import pattern_locator
+    from garnav.drape.lift import lift_route
+    from garnav.drape.sources import spec_drape_locator
+    from garnav.export.commands import route_commands, write_commands
+    from garnav.export.waypoints import write_route_csv, write_route_json
+    from garnav.plan import Planner
+    from garnav.sweep import coverage_face_mask, figures_lines, parse_region, plan_sweep, resolve_region, sweep_document
+    from garnav.mechanics import parse_gravity
+    from garnav.sweep.energy import sweep_energy_J
+    from garnav.sweep.plan import swath_of
+
     if args.sheet and Path(args.sheet).suffix.lower() not in (".svg", ".png"):
         raise QueryError(f"--sheet {args.sheet}: use a .svg or .png file name")
     region = parse_region(args.region)
@@ -80,6 +88,9 @@ def run(args: argparse.Namespace) -> int:
         robot = dataclasses.replace(robot, radius_mm=float(args.radius))
     if not args.clearance >= 0:
         raise QueryError(f"--clearance must be zero or more mm, got {args.clearance:g}")
+    posture, gravity = parse_gravity(None, args.posture)  # a bad posture fails before any work
+    if args.robots < 1:
+        raise QueryError(f"--robots must be 1 or more, got {args.robots}")
     if args.screenshot and drape is None:
         raise QueryError("--screenshot needs a drape (the spec's own drape, or --drape MESH)")
     swath_of(robot, args.swath)  # a missing or bad swath fails before the planner is built
@@ -88,7 +99,10 @@ def run(args: argparse.Namespace) -> int:
     sweep = plan_sweep(garment, areas, swath_mm=args.swath, headland=args.headland, planner=planner,
                        drape=drape, start=args.start)
     lifted = lift_route(drape, garment, sweep.route) if drape is not None else None
-    doc = sweep_document(sweep, garment, robot, lifted, region_text=args.region)
+    energy = sweep_energy_J(sweep, robot, drape, lifted, gravity)
+    physics = getattr(robot, "physics", None)
+    doc = sweep_document(sweep, garment, robot, lifted, region_text=args.region, energy_J=energy,
+                         battery_j=physics.battery_j if physics is not None else None)
     print("\n".join(figures_lines(doc["sweep"])))
     write_route_json(args.json, doc)
     if args.csv:
@@ -96,6 +110,8 @@ def run(args: argparse.Namespace) -> int:
     if args.commands:
         comment = f"sweep of {' + '.join(args.region)} on garment '{garment.name}', robot '{robot.name}'"
         write_commands(args.commands, route_commands(sweep.route, garment, robot), comment=comment)
+    if args.robots > 1:
+        _write_split(args, garment, robot, drape, sweep)
     if args.sheet:
         from garnav.preview.sheet import sheet_drawing, write_sheet_png, write_sheet_svg
 
@@ -119,8 +135,35 @@ def run(args: argparse.Namespace) -> int:
     return 0
 
 
+def _write_split(args: argparse.Namespace, garment, robot, drape, sweep) -> None:
+    """Per-robot route documents (and commands) of the sweep cut into --robots stretches."""
+    from garnav.drape.lift import lift_route
+    from garnav.export.commands import route_commands, write_commands
+    from garnav.export.waypoints import route_document, write_route_json
+    from garnav.sweep import split_sweep
+
+    split = split_sweep(garment, sweep, args.robots, robot)
+    for j, route in enumerate(split.routes, start=1):
+        lifted = lift_route(drape, garment, route) if drape is not None else None
+        stem = Path(args.json)
+        out = stem.with_name(f"{stem.stem}.robot_{j}{stem.suffix or '.json'}")
+        write_route_json(out, route_document(route, garment, robot, lifted))
+        line = f"robot {j}: {split.times_s[j - 1]:.0f} s, {route.length_mm:.0f} mm -> {out}"
+        if args.commands:
+            cstem = Path(args.commands)
+            cout = cstem.with_name(f"{cstem.stem}.robot_{j}{cstem.suffix or '.cmd'}")
+            write_commands(cout, route_commands(route, garment, robot), comment=f"sweep stretch {j} of {args.robots}")
+            line += f", {cout}"
+        print(line)
+    if split.check is not None:
+        print(split.check.text() + ("" if split.check.ok else
+              " — the robots would come too close if started together: start them with delays or plan them with garnav fleet"))
+
+
 def _garment_and_drape(args: argparse.Namespace):
     """The garment and its drape: --drape MESH, else the spec's own (unless --no-drape)."""
+    from garnav.drape.sources import garment_and_drape, is_mesh_path
+
     if is_mesh_path(args.garment):
         if args.no_drape:
             raise QueryError(f"--no-drape: {args.garment} is a mesh, which is its own drape")

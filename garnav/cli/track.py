@@ -15,15 +15,11 @@ from pathlib import Path
 from garnav.atomic import write_text_atomic
 from garnav.errors import MeshError, QueryError
 from garnav.model import Robot
-from garnav.telemetry.logfile import TelemetryError, read_log
-from garnav.telemetry.report import sample_xyz, track_document, track_lines
-from garnav.telemetry.track import compare_to_plan, track_log
-from garnav.uncertainty.model import OdometryModel
 
 __all__ = ["register", "run"]
 
 
-def register(subparsers: argparse._SubParsersAction) -> None:
+def register(subparsers) -> None:
     parser = subparsers.add_parser(
         "track",
         help="replay a telemetry log into a track on the garment; compare it with a plan",
@@ -42,11 +38,16 @@ def register(subparsers: argparse._SubParsersAction) -> None:
     parser.add_argument("--no-drape", action="store_true", help="do not lift the track onto the spec's drape")
     parser.add_argument("--json", metavar="OUT", help="write the track document as JSON")
     parser.add_argument("--sheet", metavar="FILE", help="draw plan and track on the pattern sheet (.svg or .png)")
-    parser.add_argument("--screenshot", metavar="PNG", help="render plan and track on the drape to a PNG (needs a drape)")
+    parser.add_argument("--screenshot", metavar="PNG", help="render plan and track on the drape to a PNG, front and back views side by side (needs a drape)")
     parser.set_defaults(func=run)
 
 
 def run(args: argparse.Namespace) -> int:
+    from garnav.telemetry.logfile import TelemetryError, read_log
+    from garnav.telemetry.report import sample_xyz, track_document, track_lines
+    from garnav.telemetry.track import compare_to_plan, track_log
+    from garnav.uncertainty.model import OdometryModel
+
     from garnav.drape.sources import garment_and_drape
 
     if not args.tolerance > 0:
@@ -119,7 +120,8 @@ def _draw(args, garment, drape, track, plan_doc) -> None:
         print(f"sheet       {args.sheet}")
     if args.screenshot:
         from garnav.drape.lift import lift_route
-        from garnav.preview.scene import SceneRoute, build_plotter, off_screen_environment, write_screenshot
+        from garnav.atomic import write_bytes_atomic
+        from garnav.preview.scene import SceneRoute, build_plotter, off_screen_environment, views_png
 
         off_screen_environment()
         routes = []
@@ -128,7 +130,7 @@ def _draw(args, garment, drape, track, plan_doc) -> None:
             routes.append(SceneRoute(name, lifted.points, lifted.normals))
         plotter = build_plotter(garment, drape, None, routes, off_screen=True, size=(900, 900))
         try:
-            write_screenshot(args.screenshot, plotter)
+            write_bytes_atomic(args.screenshot, views_png(plotter, ("front", "back")))
         finally:
             plotter.close()
         print(f"3D view     {args.screenshot}")

@@ -14,6 +14,7 @@ from functools import cached_property
 
 import numpy as np
 import shapely
+from scipy.spatial import cKDTree
 
 from garnav.drape.locate import TriangleLocator, barycentric_2d
 from garnav.drape.meshio import UVMesh, load_uv_mesh, signed_area_2d
@@ -21,7 +22,7 @@ from garnav.drape.uvtopo import NEXT, UVTopology, uv_topology
 from garnav.errors import MeshError, QueryError, did_you_mean
 from garnav.model import Garment
 
-__all__ = ["Drape", "link_drape", "load_drape", "PieceHits"]
+__all__ = ["Drape", "link_drape", "load_drape", "PieceHits", "PieceLocator", "SurfaceIndex"]
 
 #: An island is assigned to a piece when at least this share of its UV area lies on the piece.
 MAJORITY = 0.5
@@ -54,6 +55,39 @@ class PieceHits:
     face: np.ndarray
     bary: np.ndarray
     snap: np.ndarray
+
+
+@dataclass(frozen=True, eq=False)
+class PieceLocator:
+    """Point location on one piece of a drape.
+
+    Attributes
+    ----------
+    faces : (k,) int array
+        Global indices of the piece's triangles, ascending.
+    locator : TriangleLocator
+        Over those triangles' pattern corners; its triangle ``i`` is global face ``faces[i]``.
+    """
+
+    faces: np.ndarray
+    locator: TriangleLocator
+
+
+class SurfaceIndex:
+    """Centroid k-d tree of a surface's triangles with their largest bounding radius (world mm),
+    for exact closest-point queries (:func:`garnav.drape.inverse.closest_surface_points`).
+
+    Parameters
+    ----------
+    triangles : (F, 3, 3) float array
+        Corner positions, world mm.
+    """
+
+    def __init__(self, triangles: np.ndarray):
+        self.tri = np.asarray(triangles, dtype=float)
+        self.centroid = self.tri.mean(axis=1)
+        self.rmax = float(np.linalg.norm(self.tri - self.centroid[:, None], axis=2).max())
+        self.tree = cKDTree(self.centroid)
 
 
 @dataclass(frozen=True, eq=False)
@@ -137,10 +171,32 @@ class Drape:
         norm = np.linalg.norm(acc, axis=1, keepdims=True)
         return _ro(acc / np.where(norm > 0, norm, 1.0))
 
+    # ------------------------------------------------------------------ search structures
+    # Built on first use and kept on the (immutable) drape that owns them.
+
     @cached_property
-    def _cache(self) -> dict:
-        """Lazily built search structures (per-piece locators, the 3D surface index)."""
+    def _piece_locators(self) -> dict[str, PieceLocator]:
         return {}
+
+    def piece_locator(self, piece: str) -> PieceLocator:
+        """Point location on the triangles of ``piece`` (built on first use, then kept).
+
+        Raises
+        ------
+        QueryError
+            When the drape has no such piece.
+        """
+        found = self._piece_locators.get(piece)
+        if found is None:
+            ids = self.piece_faces(piece)
+            found = PieceLocator(_ro(ids), TriangleLocator.build(self.corner_pattern[ids]))
+            self._piece_locators[piece] = found
+        return found
+
+    @cached_property
+    def surface_index(self) -> SurfaceIndex:
+        """The 3D search structure for closest-point queries on the surface (built on first use)."""
+        return SurfaceIndex(self.positions[self.faces])
 
     def piece_faces(self, piece: str) -> np.ndarray:
         """Global indices of the triangles on ``piece``."""
@@ -154,13 +210,6 @@ class Drape:
             raise QueryError(
                 f"{self.source}: no piece '{piece}' on the drape" + (f"; {hint}" if hint else "")
             ) from None
-
-    def _locator(self, piece: str) -> tuple[np.ndarray, TriangleLocator]:
-        key = ("locator", piece)
-        if key not in self._cache:
-            ids = self.piece_faces(piece)
-            self._cache[key] = (ids, TriangleLocator.build(self.corner_pattern[ids]))
-        return self._cache[key]
 
     def boundary_segments(self, piece: str) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         """The piece's island boundary: segment ends (B, 2, 2) in pattern mm, their triangle
@@ -204,7 +253,8 @@ class Drape:
             Unknown piece, or a point farther than ``snap_mm`` from the piece's triangles.
         """
         pts = np.asarray(points, dtype=float).reshape(-1, 2)
-        ids, loc = self._locator(piece)
+        pl = self.piece_locator(piece)
+        ids, loc = pl.faces, pl.locator
         local, bary = loc.locate(pts)
         face = np.where(local >= 0, ids[np.maximum(local, 0)], -1)
         snap = np.zeros(len(pts))

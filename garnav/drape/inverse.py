@@ -12,7 +12,6 @@ from dataclasses import dataclass
 
 import numpy as np
 import trimesh
-from scipy.spatial import cKDTree
 
 from garnav.drape.drape import Drape
 from garnav.errors import QueryError
@@ -61,25 +60,6 @@ class SurfaceHits:
     pattern: np.ndarray
 
 
-class _Index:
-    """Centroid k-d tree with each triangle's bounding radius."""
-
-    def __init__(self, drape: Drape):
-        tri = drape.positions[drape.faces]
-        self.tri = tri
-        self.centroid = tri.mean(axis=1)
-        self.rmax = float(np.linalg.norm(tri - self.centroid[:, None], axis=2).max())
-        self.tree = cKDTree(self.centroid)
-
-
-def _index(drape: Drape) -> _Index:
-    # cached on the (immutable) drape, built on first use
-    cache = drape._cache
-    if "surface_index" not in cache:
-        cache["surface_index"] = _Index(drape)
-    return cache["surface_index"]
-
-
 def closest_surface_points(drape: Drape, xyz: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Exact closest points on the drape.
 
@@ -95,7 +75,7 @@ def closest_surface_points(drape: Drape, xyz: np.ndarray) -> tuple[np.ndarray, n
     face : (n,) int array
     """
     pts = np.asarray(xyz, dtype=float).reshape(-1, 3)
-    idx = _index(drape)
+    idx = drape.surface_index
     _, first = idx.tree.query(pts)
     first_pt = trimesh.triangles.closest_point(idx.tri[first], pts)
     bound = np.linalg.norm(first_pt - pts, axis=1)

@@ -150,7 +150,8 @@ def _lift_split(drape: Drape, piece: str, hits, target: np.ndarray, snap_mm: flo
     """Dense points of the polyline through ``target`` (n >= 2, on the mesh) by splitting all its
     segments at once. Returns (xy (M, 2), face (M,), bary (M, 3), waypoint rows (n,)), or None
     when a piece between split points does not lie in its triangle (then walk)."""
-    ids, loc = drape._locator(piece)
+    pl = drape.piece_locator(piece)
+    ids, loc = pl.faces, pl.locator
     local = np.searchsorted(ids, hits.face)
     sp = split_segments(loc, target[:-1], target[1:], local[:-1], local[1:], _TOL, _MERGE_MM)
     n_g = len(sp.seg)

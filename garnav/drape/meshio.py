@@ -32,6 +32,7 @@ from scipy.spatial import cKDTree
 
 from garnav.atomic import write_text_atomic
 from garnav.errors import MeshError
+from garnav.textio import file_problem, read_text
 
 __all__ = [
     "UVMesh",
@@ -417,20 +418,17 @@ def load_uv_mesh(path: str | os.PathLike, *, weld_tol_mm: float = 1e-4) -> UVMes
     """
     p = Path(path)
     source = str(path)
-    if not p.is_file():
-        raise MeshError(f"{source}: file not found")
+    problem = file_problem(p)
+    if problem is not None:
+        raise MeshError(f"{source}: {problem}")
     suffix = p.suffix.lower()
     if suffix not in MESH_SUFFIXES:
         raise MeshError(
             f"{source}: unknown mesh format '{suffix}'; use one of " + ", ".join(MESH_SUFFIXES)
         )
     if suffix == ".obj":
-        try:
-            text = p.read_text(encoding="utf-8", errors="strict")
-        except UnicodeDecodeError:
-            raise MeshError(f"{source}: not a mesh file (an OBJ file is text, this is binary)") from None
-        except OSError as exc:
-            raise MeshError(f"{source}: cannot read: {exc.strerror or exc}") from None
+        text = read_text(p, lambda reason: MeshError(f"{source}: {reason}"),
+                         binary_reason="is not a mesh file (an OBJ file is text, this is binary)")
         positions, faces, corner = parse_obj(text, source)
     else:
         positions, faces, corner = _trimesh_arrays(p, source)

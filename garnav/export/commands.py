@@ -41,8 +41,10 @@ import numpy as np
 from garnav.atomic import write_text_atomic
 from garnav.errors import GarnavError, QueryError, did_you_mean
 from garnav.export.path import ZERO_STEP_MM
-from garnav.export.seams import run_side, seam_transfer
+from garnav.export.seams import seam_transfer
 from garnav.model import Garment, Robot
+from garnav.plan.route import crossing_side
+from garnav.textio import read_text
 
 __all__ = [
     "Turn",
@@ -155,18 +157,6 @@ class CommandList:
 # --------------------------------------------------------------------------- route -> commands
 
 
-def _crossing_side(garment: Garment, crossing) -> str:
-    seam = garment.seam(crossing.seam)
-    try:
-        side, dist = run_side(garment, seam, crossing.from_piece, crossing.point_from)
-    except KeyError:
-        raise QueryError(
-            f"route crossing at seam '{crossing.seam}': piece '{crossing.from_piece}' is on "
-            f"neither run of the seam"
-        ) from None
-    return side
-
-
 def route_commands(route, garment: Garment, robot: Robot | None = None) -> CommandList:
     """Turn-and-go commands that drive ``route``.
 
@@ -235,7 +225,7 @@ def route_commands(route, garment: Garment, robot: Robot | None = None) -> Comma
             seam = garment.seam(c.seam)
         except KeyError:
             raise QueryError(f"route crosses seam '{c.seam}', which the garment does not have") from None
-        side = _crossing_side(garment, c)
+        side = crossing_side(garment, c)
         tr = seam_transfer(garment, seam, side, np.asarray(c.point_from, dtype=float))
         gap = float(np.hypot(*(tr.point_to - np.asarray(c.point_to, dtype=float))))
         if tr.to_piece != c.to_piece or gap > 1e-6:
@@ -523,12 +513,7 @@ def write_commands(path, commands: CommandList, comment: str | None = None):
 def read_commands(path) -> CommandList:
     """Read a ``garnav-commands`` file."""
     p = Path(path)
-    try:
-        text = p.read_text(encoding="utf-8")
-    except OSError as exc:
-        raise CommandSyntaxError(f"{p}: cannot read: {exc.strerror or exc}") from None
-    except UnicodeDecodeError as exc:
-        raise CommandSyntaxError(f"{p}: not UTF-8 text ({exc.reason} at byte {exc.start})") from None
+    text = read_text(p, lambda reason: CommandSyntaxError(f"{p}: {reason}"))
     return parse_commands(text, source=str(p))
 
 

@@ -24,7 +24,7 @@ from garnav.errors import QueryError
 from garnav.export.path import wrap_deg
 from garnav.export.commands import CommandList, Cross, Go, Start, Turn, Wait
 from garnav.export.seams import locate_on_run, seam_transfer
-from garnav.model import Garment
+from garnav.model import SEAM_SIDES, Garment, SeamSide
 
 __all__ = ["Pose", "ReplayCrossing", "Replay", "ReplayError", "replay_commands"]
 
@@ -106,7 +106,7 @@ class _Boundary:
     a: np.ndarray  # (m, 2) segment starts
     e: np.ndarray  # (m, 2) segment vectors, oriented so the fabric lies on their left
     label: tuple[str, ...]  # edge or opening name per segment
-    runs: tuple[tuple[str, str, np.ndarray], ...]  # (seam, side, run polyline) on this piece
+    runs: tuple[tuple[str, SeamSide, np.ndarray], ...]  # (seam, side, run polyline) on this piece
     polygon: shapely.Geometry  # the piece, openings as holes
 
 
@@ -131,9 +131,9 @@ def _boundaries(garment: Garment) -> dict[str, _Boundary]:
             labels += [f"opening '{opening.name}'"] * len(ring)
         runs = []
         for seam in garment.seams:
-            for side, run in (("a", seam.a), ("b", seam.b)):
-                if run.piece == piece.name:
-                    runs.append((seam.name, side, garment.run_polyline(run)))
+            for side in SEAM_SIDES:
+                if seam.run(side).piece == piece.name:
+                    runs.append((seam.name, side, garment.run_polyline(seam.run(side))))
         out[piece.name] = _Boundary(np.vstack(starts), np.vstack(vecs), tuple(labels), tuple(runs), piece.polygon)
     return out
 
@@ -163,7 +163,7 @@ def _first_exit(bound: _Boundary, p: np.ndarray, u: np.ndarray, reach: float):
     return None
 
 
-def _runs_under(bound: _Boundary, q: np.ndarray) -> list[tuple[float, str, str]]:
+def _runs_under(bound: _Boundary, q: np.ndarray) -> list[tuple[float, str, SeamSide]]:
     """Seam runs of the piece passing within ON_RUN_TOL_MM of q: (distance, seam, side), nearest first."""
     out = []
     for seam_name, side, pts in bound.runs:
@@ -207,103 +207,123 @@ def replay_commands(garment: Garment, commands: CommandList, start: Start | None
     bounds = _boundaries(garment)
     if start.piece not in bounds:
         raise ReplayError(f"start piece '{start.piece}' is not in garment '{garment.name}'")
-    crossable = {s.name: s.crossable for s in garment.seams}
-    sign = 1.0 if commands.side == "outside" else -1.0
-
-    piece = start.piece
-    p = np.array([start.x_mm, start.y_mm], dtype=float)
-    heading = math.radians(start.heading_deg)
-    poses: list[Pose] = [_pose(piece, p, heading)]
-    crossings: list[ReplayCrossing] = []
-    unmatched: list[Cross] = []
-    notices: list[Cross] = []
-    travelled = 0.0
+    state = _Drive(garment, bounds, start, 1.0 if commands.side == "outside" else -1.0)
     waited = 0.0
-
     for cmd in commands.commands:
         if isinstance(cmd, Wait):
             waited += float(cmd.seconds)
         elif isinstance(cmd, Turn):
-            heading += sign * math.radians(cmd.angle_deg)
-            last = poses[-1]
-            poses[-1] = Pose(last.piece, last.x_mm, last.y_mm, wrap_deg(heading))
+            state.turn(cmd)
         elif isinstance(cmd, Cross):
-            notices.append(cmd)
+            state.notices.append(cmd)
         elif isinstance(cmd, Go):
-            remaining = float(cmd.distance_mm)
-            done = 0.0
-            ended_on_transfer = False
-            stalls = 0
-
-            def cross(match) -> None:
-                nonlocal piece, p, heading
-                seam_name, side, notice = match
-                if notice is not None:
-                    notices.remove(notice)
-                tr = seam_transfer(garment, garment.seam(seam_name), side, p)
-                last = poses[-1]
-                if last.piece != piece or math.hypot(last.x_mm - p[0], last.y_mm - p[1]) > END_TOL_MM:
-                    poses.append(_pose(piece, p, heading))
-                crossings.append(
-                    ReplayCrossing(seam_name, piece, tr.to_piece, (float(p[0]), float(p[1])),
-                                   (float(tr.point_to[0]), float(tr.point_to[1])), travelled + done,
-                                   notice is not None, crossable.get(seam_name, True))
-                )
-                piece, p = tr.to_piece, tr.point_to.astype(float)
-                heading = heading + tr.rotation_rad
-                poses.append(_pose(piece, p, heading))
-
-            while True:
-                u = np.array([math.cos(heading), math.sin(heading)])
-                bound = bounds[piece]
-                hit = _first_exit(bound, p, u, remaining + END_TOL_MM)
-                if hit is None:
-                    break
-                t, seg = hit
-                q = p + max(t, 0.0) * u
-                at_end = t >= remaining - END_TOL_MM
-                runs = _runs_under(bound, q)
-                if not runs:
-                    if at_end:
-                        break
-                    raise ReplayError(
-                        f"after {travelled + done + t:.3f} mm the robot drives off piece '{piece}' "
-                        f"through open {bound.label[seg]} at ({q[0]:.3f}, {q[1]:.3f}) mm"
-                    )
-                step = min(max(t, 0.0), remaining)
-                match = _announced(runs, notices, done + step)
-                if match is None:
-                    if at_end:
-                        break
-                    match = (runs[0][1], runs[0][2], None)
-                done += step
-                remaining -= step
-                p = q
-                cross(match)
-                # further crossings announced at the same place: seams meeting at a corner
-                while (chained := _announced(_runs_under(bounds[piece], p), notices, done)) is not None:
-                    cross(chained)
-                if remaining <= END_TOL_MM:
-                    remaining, ended_on_transfer = 0.0, True
-                    break
-                stalls = stalls + 1 if step <= END_TOL_MM else 0
-                if stalls > _MAX_STALLS:
-                    raise ReplayError(
-                        f"after {travelled + done:.3f} mm the robot is at a point of piece '{piece}' "
-                        f"({p[0]:.3f}, {p[1]:.3f}) mm where several seams meet, and its heading leads "
-                        f"out across each of them in turn; no crossing there was announced"
-                    )
-            if not ended_on_transfer:
-                p = p + remaining * np.array([math.cos(heading), math.sin(heading)])
-                done += remaining
-                poses.append(_pose(piece, p, heading))
-            travelled += done
-            unmatched.extend(notices)
-            notices = []
+            state.go(cmd)
         else:  # pragma: no cover - CommandList is typed
             raise TypeError(f"not a command: {cmd!r}")
-    unmatched.extend(notices)
-    return Replay(tuple(poses), tuple(crossings), travelled, tuple(unmatched), waited)
+    state.unmatched.extend(state.notices)
+    return Replay(tuple(state.poses), tuple(state.crossings), state.travelled, tuple(state.unmatched), waited)
+
+
+class _Drive:
+    """The robot's state during one replay (local to :func:`replay_commands`): where it is, what it
+    has done, and the crossing notices still pending. One method per phase of a command."""
+
+    def __init__(self, garment: Garment, bounds: dict[str, _Boundary], start: Start, sign: float):
+        self.garment = garment
+        self.bounds = bounds
+        self.crossable = {s.name: s.crossable for s in garment.seams}
+        self.sign = sign  # +1 outside, -1 inside (mirrored turns)
+        self.piece = start.piece
+        self.p = np.array([start.x_mm, start.y_mm], dtype=float)
+        self.heading = math.radians(start.heading_deg)
+        self.poses: list[Pose] = [_pose(self.piece, self.p, self.heading)]
+        self.crossings: list[ReplayCrossing] = []
+        self.unmatched: list[Cross] = []
+        self.notices: list[Cross] = []
+        self.travelled = 0.0  # mm, over the finished goes
+
+    def turn(self, cmd: Turn) -> None:
+        """Turn in place: the last pose takes the new heading."""
+        self.heading += self.sign * math.radians(cmd.angle_deg)
+        last = self.poses[-1]
+        self.poses[-1] = Pose(last.piece, last.x_mm, last.y_mm, wrap_deg(self.heading))
+
+    def cross(self, match: tuple[str, SeamSide, Cross | None], done: float) -> None:
+        """Carry the robot over seam ``match`` = (seam, side, announcing notice or None), ``done`` mm
+        into the current go."""
+        seam_name, side, notice = match
+        if notice is not None:
+            self.notices.remove(notice)
+        tr = seam_transfer(self.garment, self.garment.seam(seam_name), side, self.p)
+        piece, p = self.piece, self.p
+        last = self.poses[-1]
+        if last.piece != piece or math.hypot(last.x_mm - p[0], last.y_mm - p[1]) > END_TOL_MM:
+            self.poses.append(_pose(piece, p, self.heading))
+        self.crossings.append(
+            ReplayCrossing(seam_name, piece, tr.to_piece, (float(p[0]), float(p[1])),
+                           (float(tr.point_to[0]), float(tr.point_to[1])), self.travelled + done,
+                           notice is not None, self.crossable.get(seam_name, True))
+        )
+        self.piece, self.p = tr.to_piece, tr.point_to.astype(float)
+        self.heading = self.heading + tr.rotation_rad
+        self.poses.append(_pose(self.piece, self.p, self.heading))
+
+    def go(self, cmd: Go) -> None:
+        """Drive straight ``cmd.distance_mm``, crossing seams where the line meets them."""
+        remaining, done, ended_on_transfer = self._drive(float(cmd.distance_mm))
+        if not ended_on_transfer:
+            self.p = self.p + remaining * np.array([math.cos(self.heading), math.sin(self.heading)])
+            done += remaining
+            self.poses.append(_pose(self.piece, self.p, self.heading))
+        self.travelled += done
+        self.unmatched.extend(self.notices)
+        self.notices = []
+
+    def _drive(self, remaining: float) -> tuple[float, float, bool]:
+        """Drive from exit to exit of the pieces until the go is used up or ends inside a piece:
+        (distance still to drive on the last piece, distance done, whether the go ended exactly on
+        a seam transfer)."""
+        done = 0.0
+        stalls = 0
+        while True:
+            u = np.array([math.cos(self.heading), math.sin(self.heading)])
+            bound = self.bounds[self.piece]
+            hit = _first_exit(bound, self.p, u, remaining + END_TOL_MM)
+            if hit is None:
+                return remaining, done, False
+            t, seg = hit
+            q = self.p + max(t, 0.0) * u
+            at_end = t >= remaining - END_TOL_MM
+            runs = _runs_under(bound, q)
+            if not runs:
+                if at_end:
+                    return remaining, done, False
+                raise ReplayError(
+                    f"after {self.travelled + done + t:.3f} mm the robot drives off piece '{self.piece}' "
+                    f"through open {bound.label[seg]} at ({q[0]:.3f}, {q[1]:.3f}) mm"
+                )
+            step = min(max(t, 0.0), remaining)
+            match = _announced(runs, self.notices, done + step)
+            if match is None:
+                if at_end:
+                    return remaining, done, False
+                match = (runs[0][1], runs[0][2], None)
+            done += step
+            remaining -= step
+            self.p = q
+            self.cross(match, done)
+            # further crossings announced at the same place: seams meeting at a corner
+            while (chained := _announced(_runs_under(self.bounds[self.piece], self.p), self.notices, done)) is not None:
+                self.cross(chained, done)
+            if remaining <= END_TOL_MM:
+                return 0.0, done, True
+            stalls = stalls + 1 if step <= END_TOL_MM else 0
+            if stalls > _MAX_STALLS:
+                raise ReplayError(
+                    f"after {self.travelled + done:.3f} mm the robot is at a point of piece '{self.piece}' "
+                    f"({self.p[0]:.3f}, {self.p[1]:.3f}) mm where several seams meet, and its heading leads "
+                    f"out across each of them in turn; no crossing there was announced"
+                )
 
 
 def _pose(piece: str, p: np.ndarray, heading: float) -> Pose:

@@ -15,15 +15,13 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import Literal
-
 import numpy as np
 
-from garnav.model import Garment, Seam
+from garnav.model import Garment, Seam, SeamSide, other_side
 from garnav.plan.freespace import run_frame
 from garnav.polyline import cumulative_length
 
-__all__ = ["SeamTransfer", "locate_on_run", "seam_transfer", "run_side"]
+__all__ = ["SeamTransfer", "locate_on_run", "seam_transfer"]
 
 @dataclass(frozen=True)
 class SeamTransfer:
@@ -46,7 +44,7 @@ class SeamTransfer:
     """
 
     seam: str
-    side: Literal["a", "b"]
+    side: SeamSide
     from_piece: str
     to_piece: str
     point_from: np.ndarray
@@ -80,30 +78,13 @@ def locate_on_run(points: np.ndarray, point: np.ndarray) -> tuple[float, float]:
     return float(cum[k] + t[k] * math.sqrt(dd[k])), float(dist[k])
 
 
-def run_side(garment: Garment, seam: Seam, piece: str, point: np.ndarray) -> tuple[str, float]:
-    """Which run of ``seam`` on ``piece`` passes nearest to ``point``: ("a" or "b", distance mm).
-
-    Raises KeyError when neither run lies on ``piece``.
-    """
-    best: tuple[str, float] | None = None
-    for side, run in (("a", seam.a), ("b", seam.b)):
-        if run.piece != piece:
-            continue
-        _, dist = locate_on_run(garment.run_polyline(run), point)
-        if best is None or dist < best[1]:
-            best = (side, dist)
-    if best is None:
-        raise KeyError(piece)
-    return best
-
-
-def seam_transfer(garment: Garment, seam: Seam, side: Literal["a", "b"], point: np.ndarray) -> SeamTransfer:
+def seam_transfer(garment: Garment, seam: Seam, side: SeamSide, point: np.ndarray) -> SeamTransfer:
     """Carry ``point`` (on run ``side`` of ``seam``, mm) over to the other run.
 
     The point is first projected onto its run; its fraction of the run's arc length picks the
     partner point at the same fraction of the other run.
     """
-    own, other = (seam.a, seam.b) if side == "a" else (seam.b, seam.a)
+    own, other = seam.run(side), seam.run(other_side(side))
     own_pts = garment.run_polyline(own)
     own_len = float(cumulative_length(own_pts)[-1])
     s, _ = locate_on_run(own_pts, point)

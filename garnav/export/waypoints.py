@@ -35,6 +35,7 @@ from garnav.errors import QueryError
 from garnav.export.commands import CommandList, Turn, commands_to_json, route_commands
 from garnav.export.path import Waypoint, route_waypoints
 from garnav.model import Garment, Robot
+from garnav.textio import read_text
 
 __all__ = [
     "FORMAT_NAME",
@@ -411,12 +412,7 @@ def read_route_document(path) -> dict:
         Naming the file and the problem.
     """
     p = Path(path)
-    try:
-        text = p.read_text(encoding="utf-8")
-    except OSError as exc:
-        raise QueryError(f"{p}: cannot read: {exc.strerror or exc}") from None
-    except UnicodeDecodeError as exc:
-        raise QueryError(f"{p}: not UTF-8 text (bad byte at offset {exc.start})") from None
+    text = read_text(p, lambda reason: QueryError(f"{p}: {reason}"))
     try:
         doc = json.loads(text)
     except json.JSONDecodeError as exc:
@@ -442,9 +438,10 @@ def read_route_document(path) -> dict:
             f"pattern_length_mm; path_3d); plan the route again to write length_mm, x, y, xyz, path3d"
         )
     for i, w in enumerate(wps):
-        for key, kind in (("leg", int), ("piece", str), ("x", (int, float)), ("y", (int, float))):
+        for key, kind, what in (("leg", int, "int"), ("piece", str, "str"), ("x", (int, float), "a number"),
+                                ("y", (int, float), "a number")):
             if not isinstance(w, dict) or not isinstance(w.get(key), kind) or isinstance(w.get(key), bool):
-                raise QueryError(f"{p}: waypoint {i}: '{key}' is missing or not {'a number' if key in ('x', 'y') else kind.__name__}")
+                raise QueryError(f"{p}: waypoint {i}: '{key}' is missing or not {what}")
     path3d = doc.get("path3d")
     if path3d is not None:
         if not isinstance(path3d, list) or not all(isinstance(q, list) and len(q) == 3 for q in path3d):
@@ -458,8 +455,8 @@ def read_route_document(path) -> dict:
 
 def document_route(document: dict):
     """A Route-shaped view of a route document: ``legs`` (piece, points (n, 2) mm) and
-    ``crossings`` (seam, from_piece, to_piece, point_from, point_to, fraction, angle_deg), enough to
-    draw or lift it."""
+    ``crossings`` (seam, from_piece, to_piece, point_from, point_to, fraction, angle_deg) and the
+    document's own ``headings_deg`` (one per waypoint), enough to draw, lift or export it."""
     from types import SimpleNamespace
 
     legs: dict[int, list] = {}
@@ -481,4 +478,5 @@ def document_route(document: dict):
         )
         for c in document.get("crossings", [])
     )
-    return SimpleNamespace(legs=leg_objs, crossings=crossings)
+    headings = np.array([float(w["heading_deg"]) for w in document["waypoints"]], dtype=float)
+    return SimpleNamespace(legs=leg_objs, crossings=crossings, headings_deg=headings)

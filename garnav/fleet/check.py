@@ -4,8 +4,9 @@ The checker does not use the planner's interval arithmetic. It interpolates each
 waypoints on its own, and at every sample measures
 
 * the **gap** between every two robots: centre distance minus both radii, in the pattern through
-  a seam where they are on two pieces joined by one (:func:`garnav.fleet.unfold.unfolded_distance`,
-  carried at each sample's own nearest seam point),
+  a seam where they are on two pieces joined by one: the shortest two straight pieces meeting at
+  one seam point (:func:`garnav.fleet.unfold.through_seam_distance`, for robots within reach of
+  the seam),
 * the **keep-out margin** of every robot: distance from its centre to every hard keep-out of its
   piece (exact shape) minus its radius and the keep-out's clearance.
 
@@ -22,7 +23,7 @@ import shapely
 
 from garnav.fleet.motion import Move
 from garnav.fleet.schedule import RobotPlan, Schedule
-from garnav.fleet.unfold import carry_points, seam_sides
+from garnav.fleet.unfold import carry_points, seam_sides, through_seam_distance
 from garnav.model import Garment
 
 __all__ = ["CheckReport", "check_schedule", "sample_positions", "first_conflict", "DEFAULT_STEP_S"]
@@ -88,9 +89,11 @@ def _pair_distance(garment, sides, pa, xa, pb, xb, band) -> np.ndarray:
                 sel = np.flatnonzero((second == piece) & (first == sd.to_piece))
                 if not len(sel):
                     continue
-                q, _, dist = carry_points(sd, x2[sel])
-                d = np.where(dist <= band, np.hypot(*(x1[sel] - q).T), np.inf)
-                out[sel] = np.minimum(out[sel], d)
+                _, _, dist = carry_points(sd, x2[sel])
+                near = sel[dist <= band]
+                if len(near):
+                    d = through_seam_distance(sd, garment, x2[near], x1[near])
+                    out[near] = np.minimum(out[near], d)
     return out
 
 

@@ -38,6 +38,7 @@ def schedule_document(garment: Garment, schedule: Schedule, report: CheckReport 
             "driving_s": _f(p.driving_s),
             "waiting_s": _f(p.waiting_s),
             "length_mm": _f(p.length_mm),
+            "energy_j": None if p.energy_j is None else _f(p.energy_j),
             "lower_bound_s": _f(p.lower_bound_s),
             "final_heading_deg": _f(p.final_heading_deg),
             "waypoints": [{"t_s": _f(t), "piece": piece, "x_mm": _f(x), "y_mm": _f(y), "heading_deg": _f(h)}

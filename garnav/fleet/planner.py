@@ -39,21 +39,16 @@ from garnav.fleet.roadmap import Roadmap, build_roadmap
 from garnav.fleet.schedule import FleetError, FleetPlanError, RobotPlan, Schedule
 from garnav.fleet.sipp import SearchTimeout, SippProblem, sipp
 from garnav.fleet.tasks import FleetTasks, Meeting, Task
-from garnav.fleet.unfold import carry_points, seam_sides, unfolded_distance
+from garnav.fleet.unfold import carry_points, seam_sides, side_maps, unfolded_distance
 from garnav.model import Garment, Robot
 from garnav.plan import PiecePoint, Planner, Route, resolve_point
 from garnav.plan.route import crossing_side
 
-__all__ = ["FleetPlanner", "plan_fleet", "CARRY_STEP_MM"]
+__all__ = ["FleetPlanner", "plan_fleet", "CARRY_SEAM_STEP_MM"]
 
-# Moves near a seam are carried across it in steps of at most this length (mm): on a curved seam
-# the rigid carry of one step is off by about step² · curvature / 8 at its ends.
-CARRY_STEP_MM = 4.0
-# Carried copies keep this much more (mm): the checker carries each sample with the map at its own
-# nearest seam point, the planner one step at a time; on the demo's curved armholes the two
-# pictures of the fabric distance differ by up to about 0.1 mm (observed 0.05 - 0.24 mm before
-# this margin with 4 - 40 mm steps).
-CARRY_MARGIN_MM = 0.5
+# Moves near a seam are carried across it with the seam's map at samples this far apart (mm); the
+# copies keep a margin of half a step, more where the seam turns between samples.
+CARRY_SEAM_STEP_MM = 4.0
 
 
 def _class_key(r: Robot) -> tuple:
@@ -114,6 +109,7 @@ class FleetPlanner:
         self.agents = self._resolve()
         self._check_overlaps()
         self.sides = seam_sides(garment)
+        self._side_maps: dict = {}
         self.rmax = max(radii)
         self._route_seeds()
         self._build_roadmap()
@@ -224,7 +220,7 @@ class FleetPlanner:
             if self.seed_routes and a.route is not None:
                 seeds.extend((leg.piece, leg.points) for leg in a.route.legs)
                 for c in a.route.crossings:
-                    side = "a" if crossing_side(self.garment, c) == 0 else "b"
+                    side = crossing_side(self.garment, c)
                     crossings.append((c.seam, side, c.fraction, c.from_piece, c.point_from, c.to_piece, c.point_to))
         free = {name: pl.free for name, pl in self.planners.items()}
         self.roadmap: Roadmap = build_roadmap(self.garment, free, seeds, crossings, self.spacing)
@@ -283,24 +279,28 @@ class FleetPlanner:
                 sel = np.flatnonzero(dist - half <= band)
                 if not len(sel):
                     continue
-                # cut the moves near the seam into steps of at most CARRY_STEP_MM, each carried
-                # rigidly with the map at its own middle (the seam correspondence is first-order)
-                k = np.maximum(np.ceil(2 * half[sel] / CARRY_STEP_MM).astype(int), 1)
-                rep = np.repeat(sel, k)
-                j = np.concatenate([np.arange(n) for n in k])
-                kk = np.repeat(k, k)
-                span = np.where(np.isfinite(t1[rep]), t1[rep] - t0[rep], 0.0)
-                s0 = t0[rep] + span * j / kk
-                s1 = np.where(np.isfinite(t1[rep]), t0[rep] + span * (j + 1) / kk, np.inf)
-                a0 = p0[rep] + (p1[rep] - p0[rep]) * (j / kk)[:, None]
-                a1 = p0[rep] + (p1[rep] - p0[rep]) * ((j + 1) / kk)[:, None]
-                m_mid = 0.5 * (a0 + a1)
-                q_mid, lin, _ = carry_points(sd, m_mid)
-                q0 = q_mid + np.einsum("mij,mj->mi", lin, a0 - m_mid)
-                vq = np.einsum("mij,mj->mi", lin, v[rep])
+                # one copy per seam sample within reach, each carried rigidly with that sample's
+                # map: for a robot at a on the partner piece, the copy made at the seam point
+                # nearest the best crossing point s* is within the margin of |a - T_s*(b)|, which
+                # is never more than the distance through the seam (triangle inequality)
+                seam_pts, lin, off, turn = self._maps(sd)
+                reachd = np.linalg.norm(mid[sel][:, None, :] - seam_pts[None], axis=2)
+                mi, ki = np.nonzero(reachd <= (band + half[sel])[:, None] + CARRY_SEAM_STEP_MM)
+                rep = sel[mi]
+                q0 = np.einsum("mij,mj->mi", lin[ki], p0[rep]) + off[ki]
+                vq = np.einsum("mij,mj->mi", lin[ki], v[rep])
+                margin = 0.5 * CARRY_SEAM_STEP_MM * (1.0 + turn / CARRY_SEAM_STEP_MM * (band + half[rep]))
                 out.setdefault(pidx[sd.to_piece], []).append(
-                    MoveSet(s0, s1, q0, vq, np.full(len(rep), reach + CARRY_MARGIN_MM), own[rep]))
+                    MoveSet(t0[rep], t1[rep], q0, vq, reach + margin, own[rep]))
         return out
+
+    def _maps(self, sd):
+        key = (sd.seam, sd.side)
+        got = self._side_maps.get(key)
+        if got is None:
+            got = side_maps(sd, CARRY_SEAM_STEP_MM)
+            self._side_maps[key] = got
+        return got
 
     # ------------------------------------------------------------------ search
 
@@ -379,7 +379,7 @@ class FleetPlanner:
             )
             res = sipp(pb)
             if res is None:
-                return plans, (a, "no conflict-free path")
+                return plans, (a, "finds no conflict-free path")
             plan = self._robot_plan(a, res)
             if a.task.arrive_by_s is not None and plan.arrive_s > a.task.arrive_by_s + 1e-9:
                 return plans, (a, f"arrives at {plan.arrive_s:.1f} s, after its arrive_by_s {a.task.arrive_by_s:g} s")

@@ -9,7 +9,7 @@ Nodes are pattern points (piece, x, y). They come from
 * starts, goals and meeting slots,
 * pairs of seam portals every ``h`` along each crossable seam (the two frames of one fabric point).
 
-Edges are straight segments of at most ``2.05 h`` inside one piece (the lattice's 12 directions,
+Edges are straight segments of at most ``1.8 h`` inside one piece (the lattice's 12 directions,
 any-angle within 15°, as in the any-angle roadmaps of Yakovlev & Andreychuk 2017), the steps of the
 seed routes, and zero-length crossings between portal pairs. Robots of different size share the
 nodes; each size class keeps only the nodes and edges inside its own free space
@@ -35,6 +35,9 @@ __all__ = ["Roadmap", "ClassGraph", "build_roadmap", "seam_portals"]
 # Free regions are widened by this much for point and segment tests, so that points exactly on a
 # seam edge (where the free space ends) count as inside, mm.
 ON_EDGE_TOL_MM = 1e-6
+# Nodes closer than this many lattice spacings are joined: the lattice's first two rings (h and
+# √3·h, 12 directions 30° apart); the third ring (2h) only repeats the first ring's directions.
+NEIGHBOUR_REACH = 1.8
 
 
 @dataclass(eq=False)
@@ -186,7 +189,7 @@ def build_roadmap(
         if len(ids) < 2:
             continue
         tree = cKDTree(xy[ids])
-        pr = tree.query_pairs(2.05 * h, output_type="ndarray")
+        pr = tree.query_pairs(NEIGHBOUR_REACH * h, output_type="ndarray")
         if len(pr):
             pairs.append(ids[pr])
     if chain_edges:

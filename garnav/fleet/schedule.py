@@ -74,6 +74,16 @@ class RobotPlan:
         return max(0.0, self.arrive_s - self.depart_s - self.driving_s)
 
     @property
+    def energy_j(self) -> float | None:
+        """Electrical energy from time 0 to the arrival on level fabric, J, when the robot has a
+        physics profile (docs/physics.md): driving at ``power_w``, standing at ``idle_power_w``.
+        Climbs against gravity need the drape (:func:`garnav.mechanics.evaluate.route_mechanics`)."""
+        phys = getattr(self.robot, "physics", None)
+        if phys is None:
+            return None
+        return float(phys.power_w * self.driving_s + phys.idle_power_w * (self.arrive_s - self.driving_s))
+
+    @property
     def length_mm(self) -> float:
         return float(sum(math.dist(m.p0, m.p1) for m in self.moves))
 

@@ -31,7 +31,7 @@ __all__ = ["SippProblem", "SippResult", "SearchTimeout", "sipp"]
 
 # Departures are moved this far past the end of a colliding window (s): 10 µs at 25 mm/s is 0.25 µm.
 STEP_S = 1e-5
-_BISECT = 40
+_BISECT = 30
 
 
 class SearchTimeout(Exception):
@@ -220,12 +220,14 @@ def sipp(pb: SippProblem) -> SippResult | None:
     best: dict[tuple[int, int], float] = {(pb.start, k0): 0.0}
     parent: dict[tuple[int, int], tuple[tuple[int, int], float] | None] = {(pb.start, k0): None}
     ready = {(pb.start, k0): pb.depart_s}  # earliest time a state may be left
-    heap = [(pb.h[pb.start] + pb.depart_s, 0.0, 0, pb.start, k0)]
+    # ties on f go to the deeper state (larger g): the heuristic is exact where nobody is in the way
+    heap = [(pb.h[pb.start] + pb.depart_s, -0.0, 0, pb.start, k0)]
     counter = 1
     expanded = 0
     closed: set[tuple[int, int]] = set()
     while heap:
-        f, g, _, u, ku = heapq.heappop(heap)
+        f, neg_g, _, u, ku = heapq.heappop(heap)
+        g = -neg_g
         key = (u, ku)
         if key in closed:
             continue
@@ -260,7 +262,7 @@ def sipp(pb: SippProblem) -> SippResult | None:
                     continue
                 best[vk] = arr
                 parent[vk] = (key, tau)
-                heapq.heappush(heap, (arr + pb.h[v], arr, counter, v, kv))
+                heapq.heappush(heap, (arr + pb.h[v], -arr, counter, v, kv))
                 counter += 1
     return None
 

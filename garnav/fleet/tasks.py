@@ -7,7 +7,7 @@ Format (docs/fleet.md)::
     garment = "../meshes/sensing_top.toml"   # relative to this file
     gap_mm = 2.0                             # kept between any two robots beyond their radii
 
-    robot_files = ["mini.toml"]              # robot files: a [robot] table each (relative paths)
+    robot_files = ["mini.toml"]              # robot files (garnav.spec.robot), relative paths
 
     [[robot]]                                # extra profiles: the keys of the spec's [robot]
     name = "mini"
@@ -43,7 +43,8 @@ from typing import Any
 
 from garnav.errors import Problem, SpecError, did_you_mean
 from garnav.model import Robot
-from garnav.spec.fields import SECTIONS, range_problem
+from garnav.spec.reader import robot_from_table
+from garnav.spec.robot import load_robot
 
 __all__ = ["Task", "Meeting", "FleetTasks", "load_tasks", "tasks_from_dict", "FORMAT", "VERSION"]
 
@@ -153,24 +154,13 @@ class _Collect:
 
 
 def _robot(c: _Collect, data: Any, index: int) -> Robot | None:
-    name = data.get("name") if isinstance(data, dict) else None
-    item = f"robot '{name}'" if isinstance(name, str) else f"robot #{index + 1}"
-    fields = {k: f for k, f in SECTIONS["robot"].items() if f.type in ("str", "float")}
-    v = c.table(data, {k: f.type for k, f in fields.items()}, item, ("name",))
-    if v is None:
+    """A [[robot]] table through the spec reader's own robot checks
+    (:func:`garnav.spec.reader.robot_from_table`, sub-tables such as [robot.physics] included)."""
+    try:
+        return robot_from_table(data, c.source)
+    except SpecError as exc:
+        c.problems.extend(exc.problems)
         return None
-    ok = True
-    for k, val in v.items():
-        f = fields[k]
-        if f.type == "float":
-            why = range_problem("robot", k, val)
-            if why:
-                c.add(item, f"'{k}' {why}")
-                ok = False
-        elif f.choices and val not in f.choices:
-            c.add(item, f"'{k}' must be one of {', '.join(f.choices)}, found {val!r}")
-            ok = False
-    return Robot(**v) if ok else None
 
 
 def tasks_from_dict(data: dict, source: str = "<memory>", spec_robot: Robot | None = None) -> FleetTasks:
@@ -201,27 +191,21 @@ def tasks_from_dict(data: dict, source: str = "<memory>", spec_robot: Robot | No
     robots: dict[str, Robot] = {}
     if spec_robot is not None:
         robots[spec_robot.name] = spec_robot
-    tables = [(c, t) for t in _list(c, data, "robot")]
+    tables = list(_list(c, data, "robot"))
     files = data.get("robot_files", [])
     if not isinstance(files, list) or not all(isinstance(f, str) for f in files):
         c.add("top level", f"'robot_files' must be an array of paths, found {files!r}")
         files = []
+    loaded: list[Robot | None] = []
     for f in files:
         path = Path(source).parent / f if source != "<memory>" else Path(f)
-        fc = _Collect(str(path))
         try:
-            table = tomllib.loads(path.read_text(encoding="utf-8")).get("robot")
-        except (OSError, UnicodeDecodeError, tomllib.TOMLDecodeError) as exc:
-            c.add(f"robot file '{f}'", f"cannot be read: {exc}")
-            continue
-        if not isinstance(table, dict):
-            c.add(f"robot file '{f}'", "has no [robot] table")
-            continue
-        tables.append((fc, table))
-    for i, (cc, t) in enumerate(tables):
-        r = _robot(cc, t, i)
-        if cc is not c:
-            c.problems.extend(cc.problems)
+            loaded.append(load_robot(path))  # the standalone robot file (garnav.spec.robot)
+        except SpecError as exc:
+            c.problems.extend(exc.problems)
+    for i, t in enumerate(tables):
+        loaded.append(_robot(c, t, i))
+    for r in loaded:
         if r is None:
             continue
         if r.name in robots:

@@ -1,9 +1,11 @@
 """Distances between robots on different pieces, measured in the pattern through the seam.
 
-Two robots near a seam on pieces A and B are compared by carrying B's position into A's frame
-with the seam correspondence (:func:`garnav.plan.freespace.seam_transform`: run tangent onto run
-tangent, B's fabric continuing beyond A's seam edge) at the point of the seam nearest to B, and
-taking the Euclidean distance there. This is the distance *on the fabric*: a disc robot's
+The distance of two points a, b on pieces joined by a seam is the shortest path of two straight
+pieces meeting at one seam point σ: min over σ of |a − σ_a| + |σ_b − b|
+(:func:`through_seam_distance`). For planning, B's moves are carried into A's frame with the seam
+correspondence (:func:`garnav.plan.freespace.seam_transform`: run tangent onto run tangent, B's
+fabric continuing beyond A's seam edge) at a seam point; a rigid map at σ never over-states the
+distance through σ (triangle inequality). This is the distance *on the fabric*: a disc robot's
 footprint lies on the fabric, fabric barely stretches, and on the body's convex surfaces two
 robots tilt apart, so the drape's 3D chord (shorter than the fabric distance by about d³κ²/24 on a
 surface of curvature κ) would report touching robots that do not touch. The 3D distance also
@@ -24,9 +26,10 @@ import numpy as np
 from garnav.export.seams import locate_on_run
 from garnav.model import Garment
 from garnav.plan.freespace import seam_transform
-from garnav.polyline import cumulative_length
+from garnav.polyline import cumulative_length, point_at_length
 
-__all__ = ["SeamSide", "seam_sides", "carry_matrix", "carry_points", "unfolded_distance"]
+__all__ = ["SeamSide", "seam_sides", "carry_matrix", "carry_points", "side_maps", "through_seam_distance",
+           "unfolded_distance"]
 
 
 @dataclass(frozen=True, eq=False)
@@ -134,3 +137,44 @@ def carry_points(side: SeamSide, xy: np.ndarray) -> tuple[np.ndarray, np.ndarray
     off = pa - np.einsum("mij,mj->mi", lin, pb)
     carried = np.einsum("mij,mj->mi", lin, xy) + off
     return carried, lin, dist[np.arange(len(xy)), k]
+
+
+def side_maps(side: SeamSide, step_mm: float) -> tuple[np.ndarray, np.ndarray, np.ndarray, float]:
+    """Carry maps of ``side`` at seam points every ``step_mm``: seam points (K, 2) on this piece,
+    linear parts (K, 2, 2), offsets (K, 2), and a bound (mm per mm of distance from the seam) on how
+    much the map turns between two neighbouring samples (the run's largest turning per step)."""
+    k = max(int(np.ceil(side.length / step_mm)), 1)
+    frac = np.linspace(0.0, 1.0, k + 1)
+    pa, ta, na = _frames(side.partner, side.partner_reverse, frac)
+    pb, tb, nb = _frames(side.polyline, side.reverse, frac)
+    lin = np.einsum("mi,mj->mij", ta, tb) - np.einsum("mi,mj->mij", na, nb)
+    off = pa - np.einsum("mij,mj->mi", lin, pb)
+    turn = 0.0
+    for t in (ta, tb):
+        if len(t) > 1:
+            turn = max(turn, float(np.max(np.arccos(np.clip(np.einsum("ij,ij->i", t[1:], t[:-1]), -1, 1)))))
+    return pb, lin, off, 2.0 * turn
+
+
+def through_seam_distance(side: SeamSide, garment: Garment, xy_b: np.ndarray, xy_a: np.ndarray,
+                          step_mm: float = 0.5) -> np.ndarray:
+    """Pattern distance through the seam (m,) from points ``xy_b`` (m, 2) on ``side.piece`` to
+    points ``xy_a`` (m, 2) on ``side.to_piece``: the shortest two straight pieces meeting at one
+    seam point, min over seam points σ of |b − σ_b| + |σ_a − a| (seam sampled every ``step_mm``)."""
+    k = max(int(np.ceil(side.length / step_mm)), 1)
+    frac = np.linspace(0.0, 1.0, k + 1)
+    sb = point_at_length(side.polyline, frac * side.length)
+    sa = point_at_length(side.partner, frac * float(cumulative_length(side.partner)[-1]))
+    db = np.linalg.norm(xy_b[:, None, :] - sb[None], axis=2)
+    da = np.linalg.norm(xy_a[:, None, :] - sa[None], axis=2)
+    best = np.argmin(db + da, axis=1)
+    # refine around the best sample (the sum is smooth there): 41 points over its two neighbours
+    lo = frac[np.maximum(best - 1, 0)]
+    hi = frac[np.minimum(best + 1, k)]
+    u = np.linspace(0.0, 1.0, 41)
+    fr = (lo[:, None] + (hi - lo)[:, None] * u[None]).ravel()
+    lb = float(cumulative_length(side.partner)[-1])
+    fb = point_at_length(side.polyline, fr * side.length).reshape(len(xy_b), len(u), 2)
+    fa = point_at_length(side.partner, fr * lb).reshape(len(xy_b), len(u), 2)
+    tot = np.linalg.norm(xy_b[:, None, :] - fb, axis=2) + np.linalg.norm(xy_a[:, None, :] - fa, axis=2)
+    return np.min(tot, axis=1)

@@ -60,7 +60,9 @@ class RouteMechanics:
         3D length and rise against gravity of each segment (k = M − 1).
     face : (k,) int array
     piece_names : tuple of str
-        The piece of each segment.
+        The drape's piece names.
+    piece_index : (k,) int array
+        Index into ``piece_names`` of each segment's piece.
     magnet_n : (k,) float array
         Holding force at each segment's fabric gap, N.
     balance : Balance
@@ -77,6 +79,7 @@ class RouteMechanics:
     rise_mm: np.ndarray
     face: np.ndarray
     piece_names: tuple[str, ...]
+    piece_index: np.ndarray
     magnet_n: np.ndarray
     balance: Balance
     time_s: np.ndarray
@@ -264,7 +267,7 @@ def route_mechanics(
     for i in np.flatnonzero((bal.grip_margin < p.safety_factor) | (bal.hold_margin < p.safety_factor)
                             | (bal.drive_margin < p.drive_safety_factor)):
         unsafe.append((int(i), _reason(bal, int(i), p, names[fpiece[i]], pts[i])))
-    return RouteMechanics(posture, g, length, rise, face, tuple(names[k] for k in fpiece), magnet,
+    return RouteMechanics(posture, g, length, rise, face, names, fpiece, magnet,
                           bal, time_s, energy, tuple(unsafe), physics)
 
 

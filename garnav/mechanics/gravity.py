@@ -19,7 +19,7 @@ seated      +20° about x: sitting, torso leaning 20° back          (0, −sin 
 
 The seated recline of 20° is a typical backrest angle (common practice, no source).
 
->>> gravity_vector("supine").round(12).tolist()
+>>> (gravity_vector("supine").round(12) + 0.0).tolist()  # + 0.0: no negative zero
 [0.0, -1.0, 0.0]
 """
 

@@ -16,7 +16,7 @@ piece of fabric can be the weakest place on a garment.
 >>> round(p.weight_n, 3), round(p.drive_force_n, 2)
 (0.49, 0.6)
 >>> physics_problems(RobotPhysics(mass_kg=0.0))
-["'mass_kg' must be > 0, found 0"]
+["'mass_kg' must be > 0 and <= 10, found 0"]
 """
 
 from __future__ import annotations

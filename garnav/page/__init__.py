@@ -5,6 +5,8 @@
 * :mod:`~garnav.page.geometry` — the 3D view as triangle meshes (garment, mannequin, routes, marks).
 * :mod:`~garnav.page.encode` — 16-bit quantised, base64 scene data.
 * :mod:`~garnav.page.figures` — the route table from route documents.
+* :mod:`~garnav.page.risk` — `garnav drift` documents paired with their routes.
+* :mod:`~garnav.page.fleet` — each robot of a `garnav fleet` schedule as a route.
 * :mod:`~garnav.page.html` — the HTML text, the cautions, the packaged viewer (three.js, MIT).
 
 See docs/page.md.

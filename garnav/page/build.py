@@ -13,13 +13,16 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Sequence
 
+import numpy as np
+
 from garnav.atomic import write_text_atomic
 from garnav.errors import QueryError
 from garnav.model import Garment, Robot
 from garnav.page.encode import pack_scene, quantisation
 from garnav.page.figures import RouteFigures, route_figures
-from garnav.page.geometry import BodyZone, decimate_body, scene_content
+from garnav.page.geometry import BodyZone, decimate_body, scene_content, scene_scale
 from garnav.page.html import PageText, page_html
+from garnav.polyline import polyline_length
 
 __all__ = ["PlanPage", "plan_page", "write_plan_page", "read_routes", "PAGE_VIEWS", "MAX_BODY_TRIANGLES"]
 
@@ -97,6 +100,17 @@ def _robot_line(garment: Garment, documents: Sequence[tuple[str, dict]]) -> str:
     return f"robot {r.name} (radius {r.radius_mm:g} mm, {r.speed_mm_s:g} mm/s)"
 
 
+def _with_3d_figures(document: dict, points) -> dict:
+    """A copy of a route document with the 3D length and climbs (world z) of its lifted polyline,
+    for documents written without a drape (``--no-drape``, fleet robots)."""
+    pts = np.asarray(points, dtype=float)
+    dz = np.diff(pts[:, 2])
+    summary = dict(document.get("summary") or {})
+    summary["climb_up_mm"] = float(dz[dz > 0].sum())
+    summary["climb_down_mm"] = float(-dz[dz < 0].sum())
+    return dict(document, length_3d_mm=polyline_length(pts), summary=summary)
+
+
 def plan_page(
     garment: Garment,
     documents: Sequence[tuple[str, dict]],
@@ -142,9 +156,9 @@ def plan_page(
     from garnav.preview.scene import route_polyline
     from garnav.preview.sheet import sheet_drawing, sheet_svg
 
+    documents = list(documents)
     names = [n for n, _ in documents]
     srcs = list(sources) if sources is not None else names
-    figures = tuple(route_figures(n, d, i, srcs[i]) for i, (n, d) in enumerate(documents))
     drawing = sheet_drawing(garment, [document_route(d) for _, d in documents], free_space,
                             route_names=names)
     svg = sheet_svg(drawing)
@@ -154,12 +168,19 @@ def plan_page(
     parts = triangles = vertices = 0
     q_err = 0.0
     if drape is not None or body is not None:
-        lifted = []
+        lifted: list[tuple] = []
         for i, (n, d) in enumerate(documents):
             if drape is None and not d.get("path3d"):
                 continue  # drawn on the sheet only
             pts, nrm = route_polyline(d, drape, garment, source=srcs[i])
-            lifted.append((n, pts, nrm))
+            if d.get("length_3d_mm") is None:  # lifted here: its 3D figures follow from the lift
+                documents[i] = (n, _with_3d_figures(d, pts))
+            sweep = d.get("sweep")
+            swath = sweep.get("swath_mm") if isinstance(sweep, dict) else None
+            if isinstance(swath, (int, float)) and swath > 0:  # lanes a swath apart stay apart
+                lifted.append((n, pts, nrm, min(0.004 * scene_scale(drape, body), swath / 8.0)))
+            else:
+                lifted.append((n, pts, nrm))
         if body is not None:
             before = len(body[1])
             body = decimate_body(body[0], body[1], max_body_triangles)
@@ -173,6 +194,7 @@ def plan_page(
         vertices = sum(p["vertex_count"] for p in scene["parts"])
         q_err = quantisation(content.parts).max_error_mm
 
+    figures = tuple(route_figures(n, d, i, srcs[i]) for i, (n, d) in enumerate(documents))
     hard = sum(1 for k in garment.keepouts if k.hard)
     notes = [
         "Units: millimetres and degrees; times in seconds. The 3D view is the garment's drape in the world "

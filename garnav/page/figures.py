@@ -7,9 +7,13 @@ left out when it does not:
 * a ``physics`` object (robot on a body: ``energy_j``, ``energy_mah``, ``battery_used_fraction``,
   ``min_grip_margin``, ``min_hold_margin``, ``min_drive_margin``, ``unsafe_segments``);
 * a drift / risk object (``drift``, ``risk`` or ``uncertainty``) whose keys containing
-  ``probability`` give the chance of touching a keep-out or leaving the fabric.
+  ``probability`` give the chance of touching a keep-out or leaving the fabric (``garnav page
+  --drift`` adds one from ``garnav drift --json`` files: :mod:`garnav.page.risk`).
 
-Other numbers in those objects are listed as they are, with their key names. A present object of
+* a ``sweep`` object (a coverage sweep, docs/sweeps.md): the covered share of the reachable region
+  and the swath.
+
+Other numbers in the physics and risk objects are listed as they are, with their key names. A present object of
 the wrong type is refused with one message naming the file and the key.
 """
 
@@ -23,9 +27,11 @@ from garnav.preview.sheet import ROUTE_COLOURS
 
 __all__ = ["RouteFigures", "route_figures", "table_columns", "cell_text", "PHYSICS_KEYS", "RISK_OBJECTS"]
 
-#: physics keys with their own column (the rest are listed under "more").
-PHYSICS_KEYS = ("energy_j", "energy_mah", "battery_used_fraction", "min_grip_margin", "min_hold_margin",
-                "min_drive_margin", "unsafe_segments")
+#: physics keys shown in their own columns or used there (the other scalars are listed under "more";
+#: ``time_s`` repeats the route's time estimate).
+PHYSICS_KEYS = ("energy_j", "energy_mah", "battery_used_fraction", "charge_left_fraction", "battery_ok",
+                "min_grip_margin", "min_hold_margin", "min_drive_margin", "unsafe_segments", "safety_factor",
+                "drive_safety_factor", "time_s")
 #: Names of the objects that may carry contact probabilities, in the order they are looked for.
 RISK_OBJECTS = ("drift", "risk", "uncertainty")
 
@@ -48,15 +54,25 @@ class RouteFigures:
     energy_j: float | None = None
     energy_mah: float | None = None
     battery_used_fraction: float | None = None
+    charge_left_fraction: float | None = None
+    battery_ok: bool | None = None
     margins: tuple[tuple[str, float], ...] = ()
+    required: tuple[tuple[str, float], ...] = ()
     unsafe_segments: int | None = None
     risk: float | None = None
+    risk_upper: float | None = None
+    coverage: float | None = None
+    swath_mm: float | None = None
     more: tuple[tuple[str, str], ...] = ()
 
     @property
     def worst_margin(self) -> tuple[str, float] | None:
-        """(which, value) of the smallest margin, or None without physics."""
-        return min(self.margins, key=lambda m: m[1]) if self.margins else None
+        """(which, value) of the margin closest to its requirement (the smallest margin when the
+        requirements are not known), or None without physics."""
+        if not self.margins:
+            return None
+        need = dict(self.required)
+        return min(self.margins, key=lambda m: m[1] / need.get(m[0], 1.0))
 
 
 def _number(v) -> float | None:
@@ -124,8 +140,15 @@ def route_figures(name: str, document: dict, index: int = 0, source: str = "rout
     more: list[tuple[str, str]] = []
     physics = _object(document, "physics", source)
     if physics is not None:
-        for key in ("energy_j", "energy_mah", "battery_used_fraction"):
+        for key in ("energy_j", "energy_mah", "battery_used_fraction", "charge_left_fraction"):
             fig[key] = _number(physics.get(key))
+        if isinstance(physics.get("battery_ok"), bool):
+            fig["battery_ok"] = physics["battery_ok"]
+        # grip and hold must reach safety_factor, drive drive_safety_factor (docs/physics.md)
+        need = [(m, v) for m, key in (("grip", "safety_factor"), ("hold", "safety_factor"),
+                                      ("drive", "drive_safety_factor"))
+                if (v := _number(physics.get(key))) is not None]
+        fig["required"] = tuple(need)
         fig["margins"] = tuple(
             (key[4:-7], float(v)) for key in ("min_grip_margin", "min_hold_margin", "min_drive_margin")
             if (v := _number(physics.get(key))) is not None
@@ -145,21 +168,30 @@ def route_figures(name: str, document: dict, index: int = 0, source: str = "rout
         overall = [p for k, p in probs if "overall" in k or k in ("probability", "contact_probability")]
         if overall or probs:
             fig["risk"] = overall[0] if overall else max(p for _, p in probs)
+        fig["risk_upper"] = _number(risk.get("contact_ci95_upper"))
         more += [(f"{key}.{k}", _fmt(v)) for k, v in risk.items()
-                 if not isinstance(v, (dict, list)) and v is not None and not (overall and "overall" in k)]
+                 if not isinstance(v, (dict, list)) and v is not None and k != "contact_ci95_upper"
+                 and not (overall and "overall" in k)]
         break
+    fleet = _object(document, "fleet", source)  # a robot of a fleet schedule (garnav.page.fleet)
+    if fleet is not None:
+        more += [(f"fleet.{k}", _fmt(v)) for k, v in fleet.items() if not isinstance(v, (dict, list))]
+    sweep = _object(document, "sweep", source)  # a coverage sweep (docs/sweeps.md)
+    if sweep is not None:
+        fig["coverage"] = _number(sweep.get("covered_fraction"))
+        fig["swath_mm"] = _number(sweep.get("swath_mm"))
     fig["more"] = tuple(more)
     return RouteFigures(**fig)
 
 
 def table_columns(rows: list[RouteFigures]) -> list[tuple[str, str]]:
     """(key, heading) of the table's columns: the fixed ones, then physics and risk columns when
-    any route carries them."""
+    any route carries them. The "more" figures go on a line of their own under each route."""
     cols = [
         ("name", "Route"),
         ("seams", "Seams crossed"),
-        ("length", "Length on pattern"),
-        ("length3d", "Length on body (3D)"),
+        ("length", "Length (pattern)"),
+        ("length3d", "Length (3D)"),
         ("climb", "Climb up / down"),
         ("turns", "Turns"),
         ("time", "Time"),
@@ -174,8 +206,8 @@ def table_columns(rows: list[RouteFigures]) -> list[tuple[str, str]]:
         cols.append(("unsafe", "Unsafe segments"))
     if any(r.risk is not None for r in rows):
         cols.append(("risk", "Contact risk"))
-    if any(r.more for r in rows):
-        cols.append(("more", "More figures"))
+    if any(r.coverage is not None for r in rows):
+        cols.append(("coverage", "Covered (sweep)"))
     return cols
 
 
@@ -206,14 +238,32 @@ def cell_text(row: RouteFigures, key: str) -> str:
             parts.append(f"{row.energy_mah:.2f} mAh")
         return " / ".join(parts) or "—"
     if key == "battery":
-        return "—" if row.battery_used_fraction is None else f"{100 * row.battery_used_fraction:.1f} %"
+        if row.battery_used_fraction is None:
+            return "—"
+        text = f"{100 * row.battery_used_fraction:.1f} %"
+        if row.charge_left_fraction is not None:
+            text += f" ({100 * row.charge_left_fraction:.1f} % left)"
+        if row.battery_ok is False:
+            text += " — NOT ENOUGH"
+        return text
     if key == "margin":
         worst = row.worst_margin
-        return "—" if worst is None else f"{worst[1]:.2f} ({worst[0]})"
+        if worst is None:
+            return "—"
+        need = dict(row.required).get(worst[0])
+        return f"{worst[1]:.2f} {worst[0]}" + ("" if need is None else f" (needs ≥ {need:g})")
     if key == "unsafe":
         return "—" if row.unsafe_segments is None else str(row.unsafe_segments)
     if key == "risk":
-        return "—" if row.risk is None else f"{100 * row.risk:.2g} %"
+        if row.risk is None:
+            return "—"
+        upper = "" if row.risk_upper is None else f" (95 % ≤ {100 * row.risk_upper:.2g} %)"
+        return f"{100 * row.risk:.2g} %{upper}"
+    if key == "coverage":
+        if row.coverage is None:
+            return "—"
+        swath = "" if row.swath_mm is None else f", {row.swath_mm:g} mm swath"
+        return f"{100 * row.coverage:.1f} % of reachable{swath}"
     if key == "more":
         return "; ".join(f"{k}: {v}" for k, v in row.more) or "—"
     raise KeyError(key)

@@ -235,12 +235,15 @@ def _garment_parts(garment: Garment, drape, scale: float, style: SceneStyle) -> 
 
 
 def route_parts(index: int, name: str, points: np.ndarray, normals: np.ndarray | None,
-                scale: float) -> list[ScenePart]:
-    """Tube, direction cones, start sphere and goal cube of one route (colour by ``index``)."""
+                scale: float, radius: float | None = None) -> list[ScenePart]:
+    """Tube, direction cones, start sphere and goal cube of one route (colour by ``index``).
+
+    ``radius`` (mm) of the tube defaults to 0.4 % of the scene's size, as in the desktop preview.
+    """
     import pyvista as pv
 
     colour = ROUTE_COLOURS[index % len(ROUTE_COLOURS)]
-    radius = 0.004 * scale
+    radius = 0.004 * scale if radius is None else float(radius)
     pts = np.asarray(points, dtype=float)
     if normals is not None:
         pts = pts + 1.2 * radius * np.asarray(normals, dtype=float)
@@ -287,7 +290,7 @@ def scene_content(
     garment: Garment,
     drape=None,
     body=None,
-    routes: Sequence[tuple[str, np.ndarray, np.ndarray | None]] = (),
+    routes: Sequence[tuple] = (),
     zones: Sequence[BodyZone] = (),
     style: SceneStyle | None = None,
 ) -> SceneContent:
@@ -299,7 +302,7 @@ def scene_content(
     drape : garnav.drape.Drape, optional
     body : (vertices (B, 3), faces (G, 3)), optional
         The mannequin, world mm.
-    routes : sequence of (name, points (M, 3), normals (M, 3) or None)
+    routes : sequence of (name, points (M, 3), normals (M, 3) or None[, tube radius mm])
         Lifted routes, in route-colour order.
     zones : sequence of BodyZone
     style : SceneStyle, optional
@@ -329,8 +332,9 @@ def scene_content(
             parts.append(ScenePart("landmarks", "landmarks", style.landmark, p, f))
             for m, n, nrm in zip(marks, names, normals, strict=True):
                 labels.append(PageLandmark(n, _xyz(m), None if nrm is None else _xyz(nrm)))
-    for ri, (name, pts, nrm) in enumerate(routes):
-        parts += route_parts(ri, name, pts, nrm, scale)
+    for ri, route in enumerate(routes):
+        name, pts, nrm = route[:3]
+        parts += route_parts(ri, name, pts, nrm, scale, *route[3:4])
     if zones:
         balls = [_triangles(pv.Sphere(radius=z.radius_mm, center=z.centre_mm, theta_resolution=32, phi_resolution=16))
                  for z in zones]

@@ -161,13 +161,29 @@ def _table(routes: Sequence[RouteFigures]) -> str:
         cells = []
         for key, _ in cols:
             value = escape(cell_text(r, key))
-            if key == "name":
-                cells.append(f'<th scope="row">{_swatch(r.colour)}{value}</th>')
+            if key == "name":  # long file stems may break after an underscore
+                cells.append(f'<th scope="row">{_swatch(r.colour)}{value.replace("_", "_<wbr>")}</th>')
             else:
                 label = escape(dict(cols)[key])
-                cells.append(f'<td class="{"wide" if key in ("seams", "more") else "num"}" data-label="{label}">{value}</td>')
+                kind = "wide" if key == "seams" else "wrap" if key in ("energy", "battery", "margin", "risk") else "num"
+                cells.append(f'<td class="{kind}" data-label="{label}">{value}</td>')
         body.append("<tr>" + "".join(cells) + "</tr>")
+        if r.more:
+            body.append(f'<tr class="more"><td colspan="{len(cols)}" data-label="More figures">'
+                        f'{escape(cell_text(r, "more"))}</td></tr>')
     return f'<div class="table-wrap"><table><thead><tr>{head}</tr></thead><tbody>{"".join(body)}</tbody></table></div>'
+
+
+def _margin_note(routes: Sequence[RouteFigures]) -> str:
+    notes = []
+    if any(r.margins for r in routes):
+        notes.append(" A margin is what the robot has over what it needs (grip: friction over the force to hold "
+                     "its track; hold: magnet pull over the weight pulling it off; drive: tractive force over "
+                     "the force needed); the tightest is the one closest to the factor it must reach.")
+    if any(r.risk is not None for r in routes):
+        notes.append(" Contact risk is the simulated chance that the robot's disc touches a hard keep-out or "
+                     "an open edge, from its dead-reckoning error model.")
+    return escape("".join(notes))
 
 
 def _sheet_legend() -> str:
@@ -251,7 +267,7 @@ This file works offline: everything it shows is inside it.</p>
 <p class="note">Length on pattern is what the wheel encoders count; the 3D length is the route on the draped
 garment. Climbs are height gained and lost (world z, the wearer upright). Times are driving plus turning in
 place at the robot's cruise speed, without acceleration. Figures are estimates from a model of the robot and
-the garment, not measurements.</p>
+the garment, not measurements.{_margin_note(text.routes)}</p>
 </section>
 <section class="sheet" aria-labelledby="sheet-h">
 <h2 id="sheet-h">Pattern sheet</h2>

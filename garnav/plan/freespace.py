@@ -50,14 +50,16 @@ from __future__ import annotations
 import dataclasses
 import math
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 import shapely
 import shapely.ops
 from shapely import affinity
 
-from garnav.model import Circle, Garment, Robot, Seam, SeamRun
-from garnav.polyline import cumulative_length, point_at_length, sub_polyline
+from garnav.model import SEAM_SIDES, Circle, Garment, Robot, Seam, SeamRun, SeamSide, other_side
+from garnav.plan.segtest import BoundaryIndex, boundary_index, segments_in_region
+from garnav.polyline import cumulative_length, point_at_length, sub_polyline, tangent_at
 
 __all__ = [
     "DEFAULT_QUAD_SEGS",
@@ -174,6 +176,18 @@ class PieceFreeSpace:
     obstacles: tuple[Obstacle, ...]
     soft: tuple[SoftZone, ...]
 
+    @cached_property
+    def boundary_index(self) -> BoundaryIndex | None:
+        """The grid index of the region's boundary edges for batch segment tests, built on first
+        use and kept with this free space (None for an empty or invalid region)."""
+        return boundary_index(self.region)
+
+    def segments_free(self, a: np.ndarray, b: np.ndarray) -> np.ndarray:
+        """Whether each segment a[i] → b[i] (each (m, 2), mm) lies in the free space (boundary
+        included), with this free space's own index; (m,) bool. Exact (see
+        :mod:`garnav.plan.segtest`)."""
+        return segments_in_region(self.region, a, b, index=self.boundary_index)
+
     def covers(self, points: np.ndarray) -> np.ndarray:
         """Whether each point (m, 2) lies in the free space (boundary included); (m,) bool."""
         pts = shapely.points(np.asarray(points, dtype=float).reshape(-1, 2))
@@ -220,26 +234,20 @@ def run_frame(garment: Garment, run: SeamRun, fraction: float) -> tuple[np.ndarr
     has it on its right.
     """
     pts = garment.run_polyline(run)
-    cum = cumulative_length(pts)
-    s = float(np.clip(fraction, 0.0, 1.0)) * cum[-1]
+    s = float(np.clip(fraction, 0.0, 1.0)) * cumulative_length(pts)[-1]
     point = point_at_length(pts, s)
-    seg = int(np.clip(np.searchsorted(cum, s, side="right") - 1, 0, len(pts) - 2))
-    # skip zero-length segments
-    while seg < len(pts) - 2 and cum[seg + 1] - cum[seg] <= 0:
-        seg += 1
-    d = pts[seg + 1] - pts[seg]
-    t = d / max(np.linalg.norm(d), 1e-300)
+    t = tangent_at(pts, s)
     left = np.array([-t[1], t[0]])
     normal = -left if run.reverse else left
     return point, t, normal
 
 
-def seam_transform(garment: Garment, seam: Seam, to_side: str, fraction: float) -> np.ndarray:
+def seam_transform(garment: Garment, seam: Seam, to_side: SeamSide, fraction: float) -> np.ndarray:
     """Affine map (3, 3) from the partner piece's frame into the ``to_side`` piece's frame,
     aligning the two runs at ``fraction``: tangent onto tangent, and the partner's inward normal
     onto the *outward* normal of ``to_side`` (the partner's fabric continues beyond the seam).
     """
-    this, other = (seam.a, seam.b) if to_side == "a" else (seam.b, seam.a)
+    this, other = seam.run(to_side), seam.run(other_side(to_side))
     pa, ta, na = run_frame(garment, this, fraction)
     pb, tb, nb = run_frame(garment, other, fraction)
     lin = np.outer(ta, tb) - np.outer(na, nb)
@@ -301,8 +309,8 @@ def _carried(garment: Garment, own: dict[str, list], quad_segs: int) -> dict[str
     piece's frame and clipped to the band of their growth width along the seam."""
     carried: dict[str, list] = {p.name: [] for p in garment.pieces}
     for seam in sorted(garment.seams, key=lambda s: s.name):
-        for side in ("a", "b"):
-            this, other = (seam.a, seam.b) if side == "a" else (seam.b, seam.a)
+        for side in SEAM_SIDES:
+            this, other = seam.run(side), seam.run(other_side(side))
             other_line = shapely.LineString(garment.run_polyline(other))
             this_line = shapely.LineString(garment.run_polyline(this))
             for item in own[other.piece]:

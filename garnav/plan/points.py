@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass
-from typing import Callable, Union
+from typing import Any, Callable, Union
 
 import numpy as np
 import shapely
@@ -45,7 +45,7 @@ class PiecePoint:
 PointLike = Union[str, PiecePoint, tuple]
 
 
-def parse_point(text: str) -> tuple[str, object]:
+def parse_point(text: str) -> tuple[str, Any]:
     """Classify a point text: ("xyz", (x, y, z)), ("piece", (piece, x, y)) or ("landmark", name).
 
     >>> parse_point("front:120,85.5")
@@ -97,6 +97,7 @@ def resolve_point(
                 extra = f"; {hint}" if hint else (f"; known landmarks: {', '.join(sorted(names))}" if names else "; the garment has no landmarks")
                 raise QueryError(f"unknown landmark '{value}'{extra}") from None
             if lm.on_pattern:
+                assert lm.piece is not None and lm.x is not None and lm.y is not None  # on_pattern says so
                 pp = PiecePoint(lm.piece, float(lm.x), float(lm.y), label=f"landmark '{lm.name}'")
             else:
                 pp = _from_xyz(lm.xyz, locate_3d, f"landmark '{lm.name}'")

@@ -244,35 +244,39 @@ class BoundaryIndex:
         return crossing, delicate, on_edge
 
 
-_INDEX_CACHE: dict[int, tuple[shapely.Geometry, BoundaryIndex | None]] = {}
-
-
 def boundary_index(region: shapely.Geometry) -> BoundaryIndex | None:
-    """The (remembered) index of a region; None when the region is not valid (then only the exact
-    test is used)."""
-    hit = _INDEX_CACHE.get(id(region))
-    if hit is not None and hit[0] is region:
-        return hit[1]
-    index = BoundaryIndex(region) if (not region.is_empty and region.is_valid) else None
-    if len(_INDEX_CACHE) >= 256:
-        _INDEX_CACHE.clear()
-    _INDEX_CACHE[id(region)] = (region, index)
-    return index
+    """A new index of a region; None when the region is empty or not valid (then only the exact
+    test is used). Build it once per region and keep it with the region's owner (e.g.
+    :attr:`garnav.plan.freespace.PieceFreeSpace.boundary_index`)."""
+    return BoundaryIndex(region) if (not region.is_empty and region.is_valid) else None
 
 
-def segments_in_region(region: shapely.Geometry, a: np.ndarray, b: np.ndarray, chunk: int = 4096) -> np.ndarray:
+def segments_in_region(
+    region: shapely.Geometry,
+    a: np.ndarray,
+    b: np.ndarray,
+    chunk: int = 4096,
+    index: BoundaryIndex | None = None,
+) -> np.ndarray:
     """Whether each segment a[i] → b[i] (each (m, 2), mm) lies in the closed ``region``; (m,) bool.
 
     Same answer as ``shapely.covers(region, LineString([a[i], b[i]]))`` (see module docstring);
     batches of up to ``SMALL_BATCH`` segments are handed to ``covers`` directly (the numpy walk
-    has a fixed cost of a few hundred microseconds).
+    has a fixed cost of a few hundred microseconds). ``index`` is the region's
+    :class:`BoundaryIndex`; without it a larger batch builds one for this call (about 0.5 ms on a
+    demo piece), so callers testing the same region often pass the one its owner keeps.
     """
     a = np.asarray(a, dtype=float).reshape(-1, 2)
     b = np.asarray(b, dtype=float).reshape(-1, 2)
     out = np.zeros(len(a), dtype=bool)
     if not len(a) or region.is_empty:
         return out
-    index = boundary_index(region) if len(a) > SMALL_BATCH else None
+    if len(a) <= SMALL_BATCH:
+        index = None
+    elif index is None:
+        index = boundary_index(region)
+    elif index.region is not region:
+        raise ValueError("segments_in_region: the index was built for another region")
     if index is None:
         return shapely.covers(region, shapely.linestrings(np.stack([a, b], axis=1)))
     for s0 in range(0, len(a), chunk):

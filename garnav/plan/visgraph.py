@@ -30,7 +30,7 @@ from dataclasses import dataclass
 import numpy as np
 import shapely
 
-from garnav.plan.segtest import segments_in_region
+from garnav.plan.segtest import BoundaryIndex, segments_in_region
 
 __all__ = [
     "Corners",
@@ -145,15 +145,22 @@ def tangent_mask(v: np.ndarray, u: np.ndarray, w: np.ndarray, p: np.ndarray, tol
     return s1 * s2 >= 0
 
 
-def segments_free(region: shapely.Geometry, a: np.ndarray, b: np.ndarray, chunk: int = 4096) -> np.ndarray:
+def segments_free(
+    region: shapely.Geometry,
+    a: np.ndarray,
+    b: np.ndarray,
+    chunk: int = 4096,
+    index: BoundaryIndex | None = None,
+) -> np.ndarray:
     """Whether each segment a[i] → b[i] lies in the (closed) region; (m,) bool.
 
     Exact: the same answer as ``shapely.covers(region, LineString)``, computed by a numpy crossing
     test against a bucket index of the region's boundary edges with ``covers`` kept for the few
     delicate segments (see :mod:`garnav.plan.segtest`). ``region`` should be prepared
-    (``shapely.prepare``) for speed.
+    (``shapely.prepare``) for speed; ``index`` is its boundary index, kept by the region's owner
+    (:attr:`garnav.plan.freespace.PieceFreeSpace.boundary_index`), built for the call when omitted.
     """
-    return segments_in_region(region, a, b, chunk)
+    return segments_in_region(region, a, b, chunk, index)
 
 
 def _side_terms(corners: Corners) -> tuple[np.ndarray, ...]:
@@ -178,7 +185,9 @@ def _not_tangent(c1: np.ndarray, c2: np.ndarray, e1: np.ndarray, e2: np.ndarray)
     return ((c1 > e1) & (c2 < -e2)) | ((c1 < -e1) & (c2 > e2))
 
 
-def bitangent_pairs(region: shapely.Geometry, corners: Corners) -> tuple[np.ndarray, np.ndarray]:
+def bitangent_pairs(
+    region: shapely.Geometry, corners: Corners, index: BoundaryIndex | None = None
+) -> tuple[np.ndarray, np.ndarray]:
     """Edges (i, j), i < j, of the reduced visibility graph on ``corners``, sorted.
 
     Tangency at both ends is tested for all pairs by blocks of rows; each side test is a matrix
@@ -209,17 +218,17 @@ def bitangent_pairs(region: shapely.Geometry, corners: Corners) -> tuple[np.ndar
     j = np.concatenate(jj)
     keep = ~_through_inner_discs(region, xy[i], xy[j])
     i, j = i[keep], j[keep]
-    keep = segments_free(region, xy[i], xy[j])
+    keep = segments_free(region, xy[i], xy[j], index=index)
     return i[keep], j[keep]
 
 
 def inner_discs(region: shapely.Geometry) -> tuple[np.ndarray, np.ndarray]:
     """One open disc inside each hole of the region (centre (h, 2), radius (h,)): the hole's
     centroid and its distance to the hole's ring, where the centroid lies inside the hole."""
-    holes = [shapely.Polygon(r) for poly in shapely.get_parts(region) if not poly.is_empty for r in poly.interiors]
-    if not holes:
+    rings = [shapely.Polygon(r) for poly in shapely.get_parts(region) if not poly.is_empty for r in poly.interiors]
+    if not rings:
         return np.zeros((0, 2)), np.zeros(0)
-    holes = np.array(holes, dtype=object)
+    holes = np.array(rings, dtype=object)
     cent = shapely.centroid(holes)
     inside = shapely.contains_properly(holes, cent)
     radius = shapely.distance(cent, shapely.boundary(holes))
@@ -250,6 +259,7 @@ def point_links(
     corners: Corners,
     points: np.ndarray,
     allowed: np.ndarray | None = None,
+    index: BoundaryIndex | None = None,
 ) -> tuple[np.ndarray, np.ndarray]:
     """Visible links from query points to corners, tangent at the corner end.
 
@@ -258,6 +268,8 @@ def point_links(
     points : (m, 2) array
     allowed : (m, k) bool array, optional
         Extra filter applied before the visibility test (e.g. a seam-angle limit).
+    index : BoundaryIndex, optional
+        The region's boundary index (see :func:`segments_free`).
 
     Returns
     -------
@@ -271,5 +283,5 @@ def point_links(
     if allowed is not None:
         ok &= allowed
     q, n = np.nonzero(ok)
-    keep = segments_free(region, points[q], corners.xy[n])
+    keep = segments_free(region, points[q], corners.xy[n], index=index)
     return q[keep], n[keep]

@@ -27,6 +27,7 @@ import shapely
 from garnav.atomic import write_bytes_atomic
 from garnav.errors import GarnavError, MeshError
 from garnav.model import Garment
+from garnav.polyline import point_at_length, polyline_length, tangent_at
 from garnav.preview.sheet import ROUTE_COLOURS
 
 __all__ = [
@@ -296,7 +297,7 @@ def build_plotter(
                 # with normals known, set_view labels only the landmarks on the side of the garment
                 # it looks at (labels are drawn on top of everything)
                 known = all(n is not None for n in normals)
-                plotter._garnav_labels = (np.array(marks), names, np.array(normals) if known else None, style)
+                _add_label_anchors(plotter, np.array(marks), names, np.array(normals) if known else None, style)
 
     radius = 0.004 * scale
     bar = False
@@ -328,12 +329,8 @@ def build_plotter(
         plotter.add_mesh(pv.Cube(center=pts[-1], x_length=4 * radius, y_length=4 * radius, z_length=4 * radius),
                          color=colour, lighting=False, name=f"route-{ri}-goal")
         # direction cones every ~8 % of the route length
-        seg = np.linalg.norm(np.diff(pts, axis=0), axis=1)
-        cum = np.r_[0.0, np.cumsum(seg)]
-        for s in np.arange(0.08, 0.95, 0.12) * cum[-1]:
-            k = int(np.clip(np.searchsorted(cum, s) - 1, 0, len(seg) - 1))
-            d = pts[k + 1] - pts[k]
-            c = pts[k] + d * ((s - cum[k]) / seg[k] if seg[k] > 0 else 0.0)
+        at = np.arange(0.08, 0.95, 0.12) * polyline_length(pts)
+        for c, d in zip(point_at_length(pts, at), tangent_at(pts, at)):
             plotter.add_mesh(pv.Cone(center=c, direction=d, height=5 * radius, radius=2 * radius, resolution=16),
                              color=colour, lighting=False)
     set_view(plotter, "front")
@@ -421,22 +418,45 @@ def set_view(plotter, view: str = "front") -> None:
     _view_labels(plotter, direction)
 
 
+LABEL_ANCHORS = "landmark-label-anchors"  # name of the hidden actor holding what labels need
+
+
+def _add_label_anchors(plotter, marks: np.ndarray, names: list[str], normals: np.ndarray | None,
+                       style: SceneStyle) -> None:
+    """Keep the landmark label data in the scene itself: a hidden point set (one point per
+    landmark, world mm) with the outward normals (when known), the names and the text colour."""
+    import pyvista as pv
+
+    anchors = pv.PolyData(np.asarray(marks, dtype=float))
+    if normals is not None:
+        # field data, not point data: point vectors would become the mesh's active scalars
+        anchors.field_data["outward_normal"] = np.asarray(normals, dtype=float)
+    anchors.field_data["names"] = np.array(names, dtype=str)
+    anchors.field_data["text_colour"] = np.array([style.landmark], dtype=str)
+    actor = plotter.add_mesh(anchors, name=LABEL_ANCHORS)
+    actor.SetVisibility(False)
+
+
 def _view_labels(plotter, direction: np.ndarray) -> None:
     """(Re)draw the landmark labels facing ``direction`` (all of them when normals are unknown).
 
     The label set is replaced, not hidden: VTK's label placement keeps what it placed at the first
     render even when its actor is switched off.
     """
-    data = getattr(plotter, "_garnav_labels", None)
-    if data is None:
+    actor = plotter.actors.get(LABEL_ANCHORS)
+    if actor is None:
         return
-    marks, names, normals, style = data
+    anchors = actor.mapper.dataset
+    marks = np.asarray(anchors.points)
+    names = [str(n) for n in anchors.field_data["names"]]
+    normals = np.asarray(anchors.field_data["outward_normal"]) if "outward_normal" in anchors.field_data else None
+    colour = str(anchors.field_data["text_colour"][0])
     for part in ("points", "labels"):  # pyvista names the two actors of a label set so
         plotter.remove_actor(f"landmark-labels-{part}", render=False)
     sel = np.ones(len(marks), dtype=bool) if normals is None else normals @ direction > 0.0
     if np.any(sel):
         plotter.add_point_labels(marks[sel], [n for n, k in zip(names, sel) if k], font_size=12,
-                                 text_color=style.landmark, point_size=1, shape_opacity=0.6,
+                                 text_color=colour, point_size=1, shape_opacity=0.6,
                                  shape_color="white", always_visible=True, name="landmark-labels",
                                  render=False)
 

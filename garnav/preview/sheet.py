@@ -27,7 +27,7 @@ import shapely
 
 from garnav.atomic import write_bytes_atomic, write_text_atomic
 from garnav.model import Garment, Piece, Robot
-from garnav.polyline import cumulative_length, point_at_length, sub_polyline
+from garnav.polyline import cumulative_length, point_at_length, sub_polyline, tangent_at
 
 __all__ = [
     "Area",
@@ -158,20 +158,22 @@ def notch_fractions(length_a: float, length_b: float, spacing: float) -> np.ndar
     """Fractions (k,) along a seam where partner notches go: evenly spaced, about ``spacing`` mm
     apart on the shorter run, never at the ends, at least one.
 
-    >>> notch_fractions(300.0, 280.0, 100.0).tolist()
+    The shorter run is cut into ``round(length / spacing)`` equal gaps (at least two), with a
+    notch between each two.
+
+    >>> notch_fractions(300.0, 280.0, 100.0).tolist()  # 3 gaps of 93.3 mm on the 280 mm run
     [0.3333333333333333, 0.6666666666666666]
+    >>> notch_fractions(40.0, 45.0, 100.0).tolist()  # a short seam still gets one
+    [0.5]
     """
-    n = max(1, int(round(min(length_a, length_b) / spacing)))
-    return np.arange(1, n + 1) / (n + 1) if n > 1 else np.array([0.5])
+    gaps = max(2, int(round(min(length_a, length_b) / spacing)))
+    return np.arange(1, gaps) / gaps
 
 
 def _normal_at(points: np.ndarray, s: float) -> np.ndarray:
-    cum = cumulative_length(points)
-    k = int(np.clip(np.searchsorted(cum, s, side="right") - 1, 0, len(points) - 2))
-    d = points[k + 1] - points[k]
-    n = np.array([-d[1], d[0]])
-    norm = np.hypot(*n)
-    return n / norm if norm > 0 else np.array([0.0, 1.0])
+    """Unit left normal of a polyline at arc length ``s`` (+y where it has no direction)."""
+    t = tangent_at(points, s)
+    return np.array([-t[1], t[0]]) if t.any() else np.array([0.0, 1.0])
 
 
 def _to_sheet(piece: Piece, pts) -> np.ndarray:
@@ -221,16 +223,37 @@ def sheet_drawing(
     """
     robot = robot or garment.robot
     pieces = {p.name: p for p in garment.pieces}
-    layers: list[tuple[str, tuple]] = []
+    layers: list[tuple[str, tuple]] = [
+        ("pieces", _layer_pieces(garment, style)),
+        ("open-edges", _layer_open_edges(garment, pieces, style)),
+        ("free-space", _layer_free_space(free_space, pieces, style)),
+        ("keepouts", _layer_keepouts(garment, pieces, free_space, robot, style)),
+        ("seams", _layer_seams(garment, pieces, style)),
+        ("names", _layer_names(garment, style)),
+        ("landmarks", _layer_landmarks(garment, pieces, style)),
+    ]
+    if coverage:
+        layers.append(("coverage", _layer_coverage(coverage, pieces, style)))
+    for ri, route in enumerate(routes):
+        layers.append((f"route-{ri}", tuple(_route_items(route, ri, pieces, style, route_names))))
 
+    layers.append(("scale", tuple(_scale_bar(garment.sheet_size_mm, style))))
+    w, h = garment.sheet_size_mm
+    return SheetDrawing(float(w), float(h), garment.name, style.paper, tuple(layers))
+
+
+def _layer_pieces(garment: Garment, style: SheetStyle) -> tuple:
+    """The pieces, their openings cut out."""
     base = []
     for p in garment.pieces:
         poly = shapely.Polygon(_to_sheet(p, p.outline), [_to_sheet(p, o.array) for o in p.openings])
         base += _polygon_areas(poly, style.piece_fill, style.piece_edge, style.edge_width, kind="piece",
                                info=(("piece", p.name),))
-    layers.append(("pieces", tuple(base)))
+    return tuple(base)
 
-    # open edges: heavier lines
+
+def _layer_open_edges(garment: Garment, pieces: dict[str, Piece], style: SheetStyle) -> tuple:
+    """Open edges (hems, cuffs, openings): heavier lines."""
     opens = []
     for run in garment.open_runs():
         p = pieces[run.piece]
@@ -243,8 +266,11 @@ def sheet_drawing(
             ring = np.vstack([o.array, o.array[:1]])
             opens.append(Line(_to_sheet(p, ring), style.open_edge, style.open_width, kind="open-edge",
                               info=(("piece", p.name), ("opening", o.name))))
-    layers.append(("open-edges", tuple(opens)))
+    return tuple(opens)
 
+
+def _layer_free_space(free_space, pieces: dict[str, Piece], style: SheetStyle) -> tuple:
+    """The planner's free space, grown keep-outs and soft zones (empty without a free space)."""
     zones = []
     if free_space is not None:
         for name in sorted(free_space.pieces):
@@ -258,8 +284,11 @@ def sheet_drawing(
                                         kind="soft", info=(("piece", name), ("zone", sz.name)))
             zones += _polygon_areas(_place(p, pfs.region), style.free_fill, opacity=0.75, kind="free",
                                     info=(("piece", name),))
-    layers.append(("free-space", tuple(zones)))
+    return tuple(zones)
 
+
+def _layer_keepouts(garment: Garment, pieces: dict[str, Piece], free_space, robot: Robot | None, style: SheetStyle) -> tuple:
+    """The keep-outs themselves (and, without a free space, their grown outline as a guide)."""
     kos = []
     for k in garment.keepouts:
         p = pieces[k.piece]
@@ -274,10 +303,13 @@ def sheet_drawing(
             kos.append(Line(ring, fill, 0.5, dash=(3.0, 2.0), kind="keepout-grown", info=(("keepout", k.name),)))
         c = _to_sheet(p, [[exact.centroid.x, exact.centroid.y]])[0]
         kos.append(Label((float(c[0]), float(c[1])), k.name, style.label_size * 0.6, style.text))
-    layers.append(("keepouts", tuple(kos)))
+    return tuple(kos)
 
+
+def _layer_seams(garment: Garment, pieces: dict[str, Piece], style: SheetStyle) -> tuple:
+    """Seam runs, partner notches and seam names."""
     seams = []
-    for si, seam in enumerate(garment.seams):
+    for seam in garment.seams:
         runs = [garment.run_polyline(seam.a), garment.run_polyline(seam.b)]
         lengths = [float(cumulative_length(r)[-1]) for r in runs]
         fracs = notch_fractions(lengths[0], lengths[1], style.notch_spacing)
@@ -300,8 +332,11 @@ def sheet_drawing(
             inward = n if p.polygon.contains(shapely.Point(*(mid + n * 0.5))) else -n
             at = _to_sheet(p, [mid + inward * (style.notch_len + style.label_size)])[0]
             seams.append(Label((float(at[0]), float(at[1])), seam.name, style.label_size * 0.55, style.seam))
-    layers.append(("seams", tuple(seams)))
+    return tuple(seams)
 
+
+def _layer_names(garment: Garment, style: SheetStyle) -> tuple:
+    """Piece names with their grainline arrows."""
     names = []
     for p in garment.pieces:
         rp = p.polygon.representative_point()
@@ -314,8 +349,11 @@ def sheet_drawing(
                           angle=math.atan2(d[1], d[0]), kind="grainline-head"))
         at = _to_sheet(p, [c + [0, span + 1.6 * style.label_size]])[0]
         names.append(Label((float(at[0]), float(at[1])), p.name, style.label_size * 1.3, style.text, bold=True))
-    layers.append(("names", tuple(names)))
+    return tuple(names)
 
+
+def _layer_landmarks(garment: Garment, pieces: dict[str, Piece], style: SheetStyle) -> tuple:
+    """Landmarks on the pattern."""
     lms = []
     for lm in garment.landmarks:
         if not lm.on_pattern or lm.piece not in pieces:
@@ -325,22 +363,17 @@ def sheet_drawing(
                         info=(("landmark", lm.name),)))
         lms.append(Label((float(at[0]), float(at[1]) - 0.9 * style.label_size), lm.name, style.label_size * 0.6,
                          style.landmark))
-    layers.append(("landmarks", tuple(lms)))
+    return tuple(lms)
 
-    if coverage:  # ground a sweep's sensor covers: piece -> polygon (piece frame, mm), shaded
-        cov = []
-        for name, geom in coverage.items():
-            if name in pieces:
-                cov += _polygon_areas(_place(pieces[name], geom.intersection(pieces[name].polygon)), style.coverage_fill,
-                                      opacity=0.55, kind="coverage", info=(("piece", name),))
-        layers.append(("coverage", tuple(cov)))
 
-    for ri, route in enumerate(routes):
-        layers.append((f"route-{ri}", tuple(_route_items(route, ri, pieces, style, route_names))))
-
-    layers.append(("scale", tuple(_scale_bar(garment.sheet_size_mm, style))))
-    w, h = garment.sheet_size_mm
-    return SheetDrawing(float(w), float(h), garment.name, style.paper, tuple(layers))
+def _layer_coverage(coverage, pieces: dict[str, Piece], style: SheetStyle) -> tuple:
+    """The ground a sweep's sensor covers (piece -> polygon, piece frame, mm), shaded."""
+    cov = []
+    for name, geom in coverage.items():
+        if name in pieces:
+            cov += _polygon_areas(_place(pieces[name], geom.intersection(pieces[name].polygon)), style.coverage_fill,
+                                  opacity=0.55, kind="coverage", info=(("piece", name),))
+    return tuple(cov)
 
 
 def _route_items(route, ri: int, pieces: dict[str, Piece], style: SheetStyle, names) -> list:

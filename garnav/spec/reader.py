@@ -12,7 +12,6 @@ from __future__ import annotations
 import datetime
 import os
 import tomllib
-from pathlib import Path
 from typing import Any
 
 from garnav.errors import Problem, SpecError, did_you_mean
@@ -34,6 +33,7 @@ from garnav.model import (
 from garnav.spec.fields import FORMAT, SECTIONS, SHAPE_FIELDS, SHAPES, VERSION, Field
 from garnav.spec.geometry_checks import geometry_problems
 from garnav.mechanics.profile import physics_from_table
+from garnav.textio import read_text
 
 __all__ = ["parse_toml", "garment_from_dict", "loads_garment", "load_garment", "robot_from_table"]
 
@@ -75,20 +75,7 @@ def loads_garment(text: str, source: str = "<string>") -> Garment:
 def load_garment(path: str | os.PathLike) -> Garment:
     """Read and validate the garment spec file at ``path`` (UTF-8 TOML)."""
     source = str(path)
-    try:
-        raw = Path(path).read_bytes()
-    except FileNotFoundError:
-        raise SpecError([Problem(source, "file", "does not exist")]) from None
-    except IsADirectoryError:
-        raise SpecError([Problem(source, "file", "is a folder, not a garment spec file")]) from None
-    except OSError as exc:
-        raise SpecError([Problem(source, "file", f"cannot be read: {exc.strerror or exc}")]) from None
-    try:
-        text = raw.decode("utf-8")
-    except UnicodeDecodeError as exc:
-        raise SpecError(
-            [Problem(source, "file", f"is not UTF-8 text (bad byte at offset {exc.start})")]
-        ) from None
+    text = read_text(path, lambda reason: SpecError([Problem(source, "file", reason)]))
     return loads_garment(text, source)
 
 

@@ -4,9 +4,9 @@ The route part is exactly :func:`garnav.export.waypoints.route_document` (docs/r
 every reader of route files reads a sweep; the ``sweep`` key adds the region and the coverage
 figures of :meth:`garnav.sweep.Sweep.figures`.
 
-Energy: a hook only. When the robot profile carries a physics model and the caller passes an
-``energy_J`` figure for the route (the mechanics stage computes it), it is written; otherwise
-``energy_J`` is null.
+Energy: when the robot profile carries a physics model and the route is lifted onto a drape,
+:func:`garnav.sweep.energy.sweep_energy_J` computes it and the caller passes it as ``energy_J``;
+otherwise ``energy_J`` is null.
 """
 
 from __future__ import annotations
@@ -26,6 +26,7 @@ def sweep_document(
     lifted=None,
     region_text: Sequence[str] = (),
     energy_J: float | None = None,
+    battery_j: float | None = None,
 ) -> dict:
     """Route document of a sweep with its ``sweep`` figures (JSON-ready dict).
 
@@ -40,9 +41,11 @@ def sweep_document(
         The region as given (e.g. ``["pieces:back"]``), recorded in the document.
     energy_J : float, optional
         Energy of the route from a physics profile, J (None: not known).
+    battery_j : float, optional
+        The battery's capacity, J, for the share of it the sweep uses.
     """
     doc = route_document(sweep.route, garment, robot, lifted)
-    figures = sweep.figures(doc["summary"], energy_J=energy_J)
+    figures = sweep.figures(doc["summary"], energy_J=energy_J, battery_j=battery_j)
     doc["sweep"] = {"region": [str(t) for t in region_text], **figures}
     return doc
 
@@ -61,7 +64,9 @@ def figures_lines(figures: dict) -> list[str]:
         ("length", f"{figures['length_mm']:.0f} mm ({ratio:.2f} × area / swath)" if ratio else f"{figures['length_mm']:.0f} mm"),
         ("turns", f"{figures['turn_count']}, {figures['sharp_turn_count']} of them over 45° (total {figures['turn_total_deg']:.0f}°)"),
         ("time", f"{figures['time_s']:.0f} s (turning in place included)"),
-        ("energy", "not known (no physics profile)" if figures["energy_J"] is None else f"{figures['energy_J']:.1f} J"),
+        ("energy", "not known (needs a [robot.physics] profile and a drape)" if figures["energy_J"] is None
+         else f"{figures['energy_J']:.1f} J" + (f" ({100 * figures['battery_used_fraction']:.0f} % of the battery)"
+                                                  if figures.get("battery_used_fraction") is not None else "")),
     ]
     width = max(len(k) for k, _ in rows)
     return [f"{k:<{width}}  {v}" for k, v in rows]

@@ -100,7 +100,8 @@ class Sweep:
     region, reachable, centre_domain, covered : dict piece → shapely geometry
         The region asked for, its part the sensor can reach, where lanes may run, and the ground
         the footprint covers (the route buffered by ``w/2``, flat ends), piece frame, mm.
-    cells, lanes, laps : int
+    cells, lanes, laps, spurs : int
+        Boustrophedon cells, lanes, headland laps and corner spurs planned.
     """
 
     route: Route
@@ -135,9 +136,11 @@ class Sweep:
         a = self.reachable_area_mm2
         return self.covered_area_mm2 / a if a > 0 else 0.0
 
-    def figures(self, summary: Mapping[str, Any] | None = None, energy_J: float | None = None) -> dict:
+    def figures(self, summary: Mapping[str, Any] | None = None, energy_J: float | None = None,
+                battery_j: float | None = None) -> dict:
         """Coverage figures (JSON-ready). ``summary`` is the route document's summary (turns and
-        time); ``energy_J`` comes from a physics profile when there is one (None otherwise)."""
+        time); ``energy_J`` comes from a physics profile when there is one (None otherwise), and
+        ``battery_j`` (the battery's capacity, J) turns it into the share of the battery used."""
         length = float(self.route.length_mm)
         reach = self.reachable_area_mm2
         bound = reach / self.swath_mm
@@ -162,6 +165,7 @@ class Sweep:
             "sharp_turn_count": int(np.sum(np.abs(self.route.turns_deg) > SHARP_TURN_DEG)),
             "time_s": None if summary is None else float(summary["estimated_time_s"]),
             "energy_J": energy_J,
+            "battery_used_fraction": energy_J / battery_j if energy_J is not None and battery_j else None,
         }
         return out
 
@@ -209,10 +213,16 @@ def _reaim(domain: shapely.Polygon, cell, w: float, inset: float):
     return cell
 
 
-def _lap_items(piece: str, domain: shapely.Polygon) -> list[SweepItem]:
+def _lap_items(piece: str, domain: shapely.Polygon, free: shapely.Geometry, w: float) -> list[SweepItem]:
+    """One closed lap along each ring of the domain. A ring is simplified (Douglas–Peucker,
+    tolerance w/100) where the simpler ring still lies in the free space: a curved border drawn with
+    many short edges then costs far fewer small turns, and the footprint moves by at most w/100."""
     items = []
     for ring in [domain.exterior, *domain.interiors]:
         pts = np.asarray(ring.coords, dtype=float)
+        simple = shapely.LinearRing(pts).simplify(w / 100.0, preserve_topology=True)
+        if len(simple.coords) >= 4 and free.covers(shapely.LineString(simple.coords)):
+            pts = np.asarray(simple.coords, dtype=float)
         if len(pts) >= 4:
             items.append(SweepItem(piece, (pts,), closed=True))
     return items
@@ -226,7 +236,8 @@ def _plain_coverage(items: list[SweepItem], target: shapely.Geometry, w: float) 
     return float(cov.intersection(target).area / target.area)
 
 
-def _piece_items(piece: str, domain: shapely.Geometry, reach: shapely.Geometry, w: float, headland: str, target: float):
+def _piece_items(piece: str, domain: shapely.Geometry, reach: shapely.Geometry, free: shapely.Geometry, w: float,
+                 headland: str, target: float):
     items: list[SweepItem] = []
     laps = 0
     for part in _parts(domain):
@@ -238,7 +249,7 @@ def _piece_items(piece: str, domain: shapely.Geometry, reach: shapely.Geometry, 
         if not want_lap:
             items += plain
             continue
-        lap = _lap_items(piece, part)
+        lap = _lap_items(piece, part, free, w)
         laps += len(lap)
         items += lap
         # lanes over the whole part, the outermost w/2 inside its extremes: the lap covers the
@@ -355,7 +366,7 @@ def plan_sweep(
         fs = free[piece].region
         reachable[piece] = area.intersection(fs.buffer(w / 2))
         domains[piece] = area.buffer(-w / 2).intersection(fs)
-        got, n = _piece_items(piece, domains[piece], reachable[piece], w, headland, coverage_target)
+        got, n = _piece_items(piece, domains[piece], reachable[piece], fs, w, headland, coverage_target)
         spurs = _spur_items(piece, got, reachable[piece], domains[piece], fs, w) if corner_spurs and headland != "off" else []
         items += got + spurs
         laps += n

@@ -150,11 +150,13 @@
       todo.forEach(function (t) {
         t.L.el.style.display = "";
         var bw = t.L.el.offsetWidth, bh = t.L.el.offsetHeight;
-        var box = { x0: t.x + 8, y0: t.y - 9, x1: t.x + 8 + bw, y1: t.y - 9 + bh };
+        var left = t.x + 8 + bw > w;  // no room on the right: put the label left of its point
+        var x0 = left ? t.x - 8 - bw : t.x + 8, y0 = t.y - bh / 2;
+        var box = { x0: x0, y0: y0, x1: x0 + bw, y1: y0 + bh };
         var clash = placed.some(function (b) { return box.x0 < b.x1 && b.x0 < box.x1 && box.y0 < b.y1 && b.y0 < box.y1; });
         if (clash) { t.L.el.style.display = "none"; return; }
         placed.push(box);
-        t.L.el.style.transform = "translate(" + t.x.toFixed(1) + "px," + t.y.toFixed(1) + "px)";
+        t.L.el.style.transform = "translate(" + x0.toFixed(1) + "px," + y0.toFixed(1) + "px)";
       });
     }
 

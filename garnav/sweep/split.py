@@ -1,0 +1,167 @@
+"""Several robots on one sweep: the sweep's route cut into k stretches of balanced time.
+
+The sweep is planned once (:func:`garnav.sweep.plan_sweep`); its route is cut at waypoints into k
+consecutive stretches whose driving-plus-turning times are as equal as the waypoints allow, and
+robot j drives stretch j, all starting at once. Together they cover exactly what the one route
+covers. Consecutive stretches of a boustrophedon lie side by side, so robots work in neighbouring
+areas: the stretches are checked against each other with the fleet planner's checker
+(:func:`garnav.fleet.check_schedule`, every robot starting at t = 0), and the report says how close
+two robots come. They are **not** rescheduled to keep apart: when the check fails, start them with
+delays or plan them with ``garnav fleet``.
+
+Times: a straight go of d mm takes d / speed; a turn in place by θ takes |θ|·wheel_base/(2·speed)
+(Siegwart & Nourbakhsh §3.2), spent standing at the vertex.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from garnav.errors import QueryError
+from garnav.model import Garment, Robot
+from garnav.plan import Leg, Route
+from garnav.plan.route import crossing_side, make_route
+
+__all__ = ["SweepSplit", "split_sweep"]
+
+
+@dataclass(frozen=True, eq=False)
+class SweepSplit:
+    """k robots' stretches of one sweep.
+
+    Attributes
+    ----------
+    routes : tuple of Route
+        Robot j's stretch, in driving order along the sweep.
+    times_s : tuple of float
+        Each stretch's driving-plus-turning time, s.
+    check : garnav.fleet.CheckReport or None
+        Closest approach of the robots when all start at t = 0 (None when the fleet package is
+        not available).
+    """
+
+    routes: tuple[Route, ...]
+    times_s: tuple[float, ...]
+    check: object = None
+
+    @property
+    def balance(self) -> float:
+        """Longest stretch time over the mean (1 = perfectly balanced)."""
+        mean = sum(self.times_s) / len(self.times_s)
+        return max(self.times_s) / mean if mean > 0 else 1.0
+
+
+def _vertex_times(route: Route, robot: Robot) -> tuple[list[tuple[int, int]], np.ndarray]:
+    """(leg, point) of every waypoint (a crossing's arrival point skipped) and the time (s) at
+    which the robot leaves it."""
+    v = float(robot.speed_mm_s)
+    ids: list[tuple[int, int]] = []
+    pts: list[np.ndarray] = []
+    for li, leg in enumerate(route.legs):
+        for k in range(len(leg.points)):
+            if li > 0 and k == 0:
+                continue  # the same place as the previous leg's last point
+            ids.append((li, k))
+            pts.append(np.asarray(leg.points[k], dtype=float))
+    xy = np.array(pts)
+    step = np.hypot(*np.diff(xy, axis=0).T)
+    # across a crossing the two frames differ: take the in-leg steps only
+    for j in range(1, len(ids)):
+        if ids[j][0] != ids[j - 1][0]:
+            leg = route.legs[ids[j][0]]
+            step[j - 1] = float(np.hypot(*(leg.points[ids[j][1]] - leg.points[0])))
+    turn = np.zeros(len(ids))
+    for j in range(1, len(ids) - 1):
+        a, b, c = xy[j - 1], xy[j], xy[j + 1]
+        if ids[j - 1][0] == ids[j][0] == ids[j + 1][0]:
+            d0, d1 = b - a, c - b
+            if np.hypot(*d0) > 1e-9 and np.hypot(*d1) > 1e-9:
+                ang = math.atan2(d0[0] * d1[1] - d0[1] * d1[0], float(d0 @ d1))
+                turn[j] = abs(ang) * robot.wheel_base_mm / (2.0 * v)
+    t = np.concatenate([[0.0], np.cumsum(step / v)]) + np.cumsum(turn)
+    return ids, t
+
+
+def _stretch(garment: Garment, robot: Robot, route: Route, a: tuple[int, int], b: tuple[int, int]) -> Route:
+    """The part of ``route`` from waypoint ``a`` to waypoint ``b`` (each (leg, point))."""
+    legs = []
+    for li in range(a[0], b[0] + 1):
+        pts = route.legs[li].points
+        lo = a[1] if li == a[0] else 0
+        hi = b[1] + 1 if li == b[0] else len(pts)
+        legs.append(Leg(route.legs[li].piece, np.asarray(pts[lo:hi], dtype=float)))
+    data = [(c.seam, c.fraction, crossing_side(garment, c)) for c in route.crossings[a[0]:b[0]]]
+    length = float(sum(leg.length_mm for leg in legs))
+    return make_route(garment, robot, legs, data, length)
+
+
+def split_sweep(garment: Garment, sweep, k: int, robot: Robot | None = None, *, check: bool = True) -> SweepSplit:
+    """Cut a planned sweep into ``k`` stretches of balanced time, one per robot.
+
+    Parameters
+    ----------
+    garment : Garment
+    sweep : garnav.sweep.Sweep
+    k : int
+        Number of robots (>= 1), all with the same profile.
+    robot : Robot, optional
+        Defaults to ``garment.robot`` or ``Robot()``.
+    check : bool
+        Check the stretches against each other (all starting at t = 0) with the fleet checker.
+    """
+    robot = robot or garment.robot or Robot()
+    if not (isinstance(k, int) and k >= 1):
+        raise QueryError(f"the number of robots must be a whole number >= 1, got {k!r}")
+    route = sweep.route
+    ids, t = _vertex_times(route, robot)
+    if k > len(ids) - 1:
+        raise QueryError(f"a sweep with {len(ids)} waypoints cannot be split among {k} robots")
+    cuts = [0]
+    for j in range(1, k):
+        c = int(np.argmin(np.abs(t - t[-1] * j / k)))
+        cuts.append(min(max(c, cuts[-1] + 1), len(ids) - 1 - (k - j)))
+    cuts.append(len(ids) - 1)
+    routes = tuple(_stretch(garment, robot, route, ids[cuts[j]], ids[cuts[j + 1]]) for j in range(k))
+    times = tuple(float(t[cuts[j + 1]] - t[cuts[j]]) for j in range(k))
+    report = _check(garment, robot, routes) if check and k > 1 else None
+    return SweepSplit(routes, times, report)
+
+
+def _check(garment: Garment, robot: Robot, routes: tuple[Route, ...]):
+    """The fleet checker's closest approach of the stretches, all starting at t = 0."""
+    from garnav.fleet import RobotPlan, Schedule, check_schedule
+    from garnav.fleet.motion import Move
+
+    plans = []
+    for j, r in enumerate(routes):
+        moves: list[Move] = []
+        now = 0.0
+        prev_dir = None
+        for leg in r.legs:
+            pts = np.asarray(leg.points, dtype=float)
+            for a, b in zip(pts[:-1], pts[1:], strict=True):
+                d = b - a
+                n = float(np.hypot(*d))
+                if n <= 1e-9:
+                    continue
+                if prev_dir is not None:
+                    ang = abs(math.atan2(prev_dir[0] * d[1] - prev_dir[1] * d[0], float(prev_dir @ d)))
+                    wait = ang * robot.wheel_base_mm / (2.0 * robot.speed_mm_s)
+                    if wait > 0:
+                        here = (float(a[0]), float(a[1]))
+                        moves.append(Move(leg.piece, now, now + wait, here, here))
+                        now += wait
+                dt = n / robot.speed_mm_s
+                moves.append(Move(leg.piece, now, now + dt, (float(a[0]), float(a[1])), (float(b[0]), float(b[1]))))
+                now += dt
+                prev_dir = d
+            prev_dir = None  # a new leg's frame: the turn at a crossing is left out (small)
+        end = r.legs[-1].points[-1]
+        moves.append(Move(r.legs[-1].piece, now, math.inf, (float(end[0]), float(end[1])), (float(end[0]), float(end[1]))))
+        plans.append(RobotPlan(f"robot_{j + 1}", robot, tuple(moves), 0.0, 0.0))
+    names = tuple(p.name for p in plans)
+    schedule = Schedule(tuple(plans), 0.0, names, 0, 0.0, "sweep stretches, all starting at t = 0 (not coordinated)")
+    return check_schedule(garment, schedule)
