@@ -51,7 +51,7 @@ def _queries(garment, robot, planner, opts, count: int):
         return (name, *C.sample_pairs(main, 1, rng, min_dist_mm=0.0)[0, 0])
 
     point_on(names[0]), point_on(names[1])  # the warm-up query of run_demo
-    out = []
+    out: list[tuple[Any, Any, Any]] = []
     tries = 0
     while len(out) < count and tries < 20 * count:
         tries += 1
@@ -70,8 +70,8 @@ def run_seam_optimality(opts, log) -> dict[str, Any]:
     planner, t_build = timed(lambda: Planner(garment, robot))
     dense, t_dense = timed(lambda: Planner(garment, robot, portal_spacing_mm=2.0))
     out["build_s"], out["build_2mm_s"] = t_build, t_dense
-    rows = []
-    times = []
+    rows: list[dict[str, Any]] = []
+    times: list[float] = []
     for start, goal, via in _queries(garment, robot, planner, opts, opts.demo_queries):
         try:
             (route, _), dt = timed(lambda: G.route_points(planner, start, goal, via=via))  # noqa: B023
