@@ -12,6 +12,7 @@ from __future__ import annotations
 import argparse
 import dataclasses
 from pathlib import Path
+from typing import Any
 
 from garnav.errors import MeshError, QueryError
 from garnav.model import Robot
@@ -144,7 +145,7 @@ def _write_split(args: argparse.Namespace, garment, robot, drape, sweep) -> None
 
     split = split_sweep(garment, sweep, args.robots, robot)
     for j, route in enumerate(split.routes, start=1):
-        lifted = lift_route(drape, garment, route) if drape is not None else None
+        lifted: Any = lift_route(drape, garment, route) if drape is not None else None
         stem = Path(args.json)
         out = stem.with_name(f"{stem.stem}.robot_{j}{stem.suffix or '.json'}")
         write_route_json(out, route_document(route, garment, robot, lifted))

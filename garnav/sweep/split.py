@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -45,7 +46,7 @@ class SweepSplit:
 
     routes: tuple[Route, ...]
     times_s: tuple[float, ...]
-    check: object = None
+    check: Any = None
 
     @property
     def balance(self) -> float:
