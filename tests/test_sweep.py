@@ -307,7 +307,9 @@ def test_split_among_robots_balances_time_and_keeps_the_route():
     one = split_sweep(g, s, 1)
     assert one.times_s[0] == pytest.approx(total, rel=1e-12)
     assert route_document(s.route, g)["summary"]["estimated_time_s"] == pytest.approx(total, rel=1e-12)
-    two = split_sweep(g, s, 2)
+    from garnav.cli.sweep import check_stretches
+
+    two = split_sweep(g, s, 2, check=check_stretches)
     assert sum(two.times_s) == pytest.approx(total, rel=1e-12)
     assert two.balance <= 1.05  # observed 1.006 (cut at the nearest waypoint)
     assert sum(r.length_mm for r in two.routes) == pytest.approx(s.route.length_mm, rel=1e-12)

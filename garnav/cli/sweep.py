@@ -12,11 +12,12 @@ from __future__ import annotations
 import argparse
 import dataclasses
 from pathlib import Path
+from typing import Any
 
 from garnav.errors import MeshError, QueryError
 from garnav.model import Robot
 
-__all__ = ["register", "run"]
+__all__ = ["register", "run", "check_stretches"]
 
 CAUTION = (
     "caution: a sweep drives the robot over a whole area of the wearer's body. Keep magnets away "
@@ -135,6 +136,21 @@ def run(args: argparse.Namespace) -> int:
     return 0
 
 
+def check_stretches(garment, robot, routes):
+    """The fleet checker's closest approach of sweep stretches driven at once from t = 0
+    (:func:`garnav.sweep.split.stretch_moves` as :class:`garnav.fleet.Move` s)."""
+    from garnav.fleet import Move, RobotPlan, Schedule, check_schedule
+    from garnav.sweep.split import stretch_moves
+
+    plans = tuple(
+        RobotPlan(f"robot_{j + 1}", robot, tuple(Move(*m) for m in stretch_moves(r, robot)), 0.0, 0.0)
+        for j, r in enumerate(routes)
+    )
+    schedule = Schedule(plans, 0.0, tuple(p.name for p in plans), 0, 0.0,
+                        "sweep stretches, all starting at t = 0 (not coordinated)")
+    return check_schedule(garment, schedule)
+
+
 def _write_split(args: argparse.Namespace, garment, robot, drape, sweep) -> None:
     """Per-robot route documents (and commands) of the sweep cut into --robots stretches."""
     from garnav.drape.lift import lift_route
@@ -142,9 +158,9 @@ def _write_split(args: argparse.Namespace, garment, robot, drape, sweep) -> None
     from garnav.export.waypoints import route_document, write_route_json
     from garnav.sweep import split_sweep
 
-    split = split_sweep(garment, sweep, args.robots, robot)
+    split = split_sweep(garment, sweep, args.robots, robot, check=check_stretches)
     for j, route in enumerate(split.routes, start=1):
-        lifted = lift_route(drape, garment, route) if drape is not None else None
+        lifted: Any = lift_route(drape, garment, route) if drape is not None else None
         stem = Path(args.json)
         out = stem.with_name(f"{stem.stem}.robot_{j}{stem.suffix or '.json'}")
         write_route_json(out, route_document(route, garment, robot, lifted))

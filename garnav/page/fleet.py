@@ -79,7 +79,9 @@ def _route_document(robot: dict, garment: str) -> dict:
                 leg += 1  # a seam crossing: the same place in the next piece's frame
             elif math.hypot(last["x"] - x, last["y"] - y) < 1e-9:
                 continue  # a wait: no new geometry
-        waypoints.append({"index": len(waypoints), "leg": leg, "piece": w["piece"], "x": x, "y": y})
+        heading = float(w["heading_deg"]) if _num(w.get("heading_deg")) else 0.0
+        waypoints.append({"index": len(waypoints), "leg": leg, "piece": w["piece"], "x": x, "y": y,
+                          "heading_deg": heading})
     given = robot.get("commands")
     commands: list = given if isinstance(given, list) else []
     turns = [float(c["angle_deg"]) for c in commands

@@ -4,9 +4,10 @@ The sweep is planned once (:func:`garnav.sweep.plan_sweep`); its route is cut at
 consecutive stretches whose driving-plus-turning times are as equal as the waypoints allow, and
 robot j drives stretch j, all starting at once. Together they cover exactly what the one route
 covers. Consecutive stretches of a boustrophedon lie side by side, so robots work in neighbouring
-areas: the stretches are checked against each other with the fleet planner's checker
-(:func:`garnav.fleet.check_schedule`, every robot starting at t = 0), and the report says how close
-two robots come. They are **not** rescheduled to keep apart: when the check fails, start them with
+areas: :func:`stretch_moves` gives each stretch as timed moves, and the caller may check them
+against each other (the command line uses the fleet planner's checker,
+:func:`garnav.fleet.check_schedule`, every robot starting at t = 0); the report says how close two
+robots come. They are **not** rescheduled to keep apart: when the check fails, start them with
 delays or plan them with ``garnav fleet``.
 
 Times: a straight go of d mm takes d / speed; a turn in place by θ takes |θ|·wheel_base/(2·speed)
@@ -17,6 +18,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -25,7 +27,7 @@ from garnav.model import Garment, Robot
 from garnav.plan import Leg, Route
 from garnav.plan.route import crossing_side, make_route
 
-__all__ = ["SweepSplit", "split_sweep"]
+__all__ = ["SweepSplit", "split_sweep", "stretch_moves"]
 
 
 @dataclass(frozen=True, eq=False)
@@ -45,7 +47,7 @@ class SweepSplit:
 
     routes: tuple[Route, ...]
     times_s: tuple[float, ...]
-    check: object = None
+    check: Any = None
 
     @property
     def balance(self) -> float:
@@ -98,7 +100,7 @@ def _stretch(garment: Garment, robot: Robot, route: Route, a: tuple[int, int], b
     return make_route(garment, robot, legs, data, length)
 
 
-def split_sweep(garment: Garment, sweep, k: int, robot: Robot | None = None, *, check: bool = True) -> SweepSplit:
+def split_sweep(garment: Garment, sweep, k: int, robot: Robot | None = None, *, check=None) -> SweepSplit:
     """Cut a planned sweep into ``k`` stretches of balanced time, one per robot.
 
     Parameters
@@ -109,8 +111,11 @@ def split_sweep(garment: Garment, sweep, k: int, robot: Robot | None = None, *, 
         Number of robots (>= 1), all with the same profile.
     robot : Robot, optional
         Defaults to ``garment.robot`` or ``Robot()``.
-    check : bool
-        Check the stretches against each other (all starting at t = 0) with the fleet checker.
+    check : callable, optional
+        ``check(garment, robot, routes) -> report``: checks the stretches against each other, all
+        starting at t = 0 (the command line passes the fleet planner's checker, see
+        ``garnav.cli.sweep.check_stretches``; this package sits below the fleet and does not
+        import it).
     """
     robot = robot or garment.robot or Robot()
     if not (isinstance(k, int) and k >= 1):
@@ -126,42 +131,37 @@ def split_sweep(garment: Garment, sweep, k: int, robot: Robot | None = None, *, 
     cuts.append(len(ids) - 1)
     routes = tuple(_stretch(garment, robot, route, ids[cuts[j]], ids[cuts[j + 1]]) for j in range(k))
     times = tuple(float(t[cuts[j + 1]] - t[cuts[j]]) for j in range(k))
-    report = _check(garment, robot, routes) if check and k > 1 else None
+    report = check(garment, robot, routes) if check is not None and k > 1 else None
     return SweepSplit(routes, times, report)
 
 
-def _check(garment: Garment, robot: Robot, routes: tuple[Route, ...]):
-    """The fleet checker's closest approach of the stretches, all starting at t = 0."""
-    from garnav.fleet import RobotPlan, Schedule, check_schedule
-    from garnav.fleet.motion import Move
-
-    plans = []
-    for j, r in enumerate(routes):
-        moves: list[Move] = []
-        now = 0.0
-        prev_dir = None
-        for leg in r.legs:
-            pts = np.asarray(leg.points, dtype=float)
-            for a, b in zip(pts[:-1], pts[1:], strict=True):
-                d = b - a
-                n = float(np.hypot(*d))
-                if n <= 1e-9:
-                    continue
-                if prev_dir is not None:
-                    ang = abs(math.atan2(prev_dir[0] * d[1] - prev_dir[1] * d[0], float(prev_dir @ d)))
-                    wait = ang * robot.wheel_base_mm / (2.0 * robot.speed_mm_s)
-                    if wait > 0:
-                        here = (float(a[0]), float(a[1]))
-                        moves.append(Move(leg.piece, now, now + wait, here, here))
-                        now += wait
-                dt = n / robot.speed_mm_s
-                moves.append(Move(leg.piece, now, now + dt, (float(a[0]), float(a[1])), (float(b[0]), float(b[1]))))
-                now += dt
-                prev_dir = d
-            prev_dir = None  # a new leg's frame: the turn at a crossing is left out (small)
-        end = r.legs[-1].points[-1]
-        moves.append(Move(r.legs[-1].piece, now, math.inf, (float(end[0]), float(end[1])), (float(end[0]), float(end[1]))))
-        plans.append(RobotPlan(f"robot_{j + 1}", robot, tuple(moves), 0.0, 0.0))
-    names = tuple(p.name for p in plans)
-    schedule = Schedule(tuple(plans), 0.0, names, 0, 0.0, "sweep stretches, all starting at t = 0 (not coordinated)")
-    return check_schedule(garment, schedule)
+def stretch_moves(route: Route, robot: Robot) -> list[tuple[str, float, float, tuple[float, float], tuple[float, float]]]:
+    """A stretch as timed straight moves (piece, t0 s, t1 s, p0 mm, p1 mm) from t = 0: each segment
+    at the cruise speed, each turn in place as a wait at its vertex, and a last endless wait at the
+    end (``t1 = inf``) — the trajectory form of the fleet planner (:class:`garnav.fleet.Move`). The
+    turn at a seam crossing (a change of frame) is left out; it is small."""
+    moves: list[tuple[str, float, float, tuple[float, float], tuple[float, float]]] = []
+    now = 0.0
+    for leg in route.legs:
+        pts = np.asarray(leg.points, dtype=float)
+        prev = None
+        for a, b in zip(pts[:-1], pts[1:], strict=True):
+            d = b - a
+            n = float(np.hypot(*d))
+            if n <= 1e-9:
+                continue
+            pa, pb = (float(a[0]), float(a[1])), (float(b[0]), float(b[1]))
+            if prev is not None:
+                ang = abs(math.atan2(prev[0] * d[1] - prev[1] * d[0], float(prev @ d)))
+                wait = ang * robot.wheel_base_mm / (2.0 * robot.speed_mm_s)
+                if wait > 0:
+                    moves.append((leg.piece, now, now + wait, pa, pa))
+                    now += wait
+            dt = n / robot.speed_mm_s
+            moves.append((leg.piece, now, now + dt, pa, pb))
+            now += dt
+            prev = d
+    end = route.legs[-1].points[-1]
+    pe = (float(end[0]), float(end[1]))
+    moves.append((route.legs[-1].piece, now, math.inf, pe, pe))
+    return moves
