@@ -4,6 +4,8 @@ from __future__ import annotations
 
 from typing import Any
 
+from benchmarks.seams import SEAM_TARGETS, seam_targets
+
 __all__ = ["TARGETS", "evaluate_targets", "format_report", "markdown_report"]
 
 # (key, description); thresholds live in evaluate_targets
@@ -24,7 +26,7 @@ TARGETS = (
     ("drift_replay_36000", "replay of 36,000 samples (reading the CSV included) under 1 s"),
     ("physics_planning", "demo routes planned with the physics profile in at most 3x the length-only query time"),
     ("physics_lift_mechanics", "lift + mechanics of ~5,000 points on ~100k triangles under 30 ms (median)"),
-)
+) + SEAM_TARGETS
 
 
 def _get(d: dict, *keys, default=None):
@@ -172,6 +174,7 @@ def evaluate_targets(res: dict[str, Any]) -> list[dict[str, Any]]:
                       f"{lm['mechanics_only']['median'] * 1e3:.1f} ms)"))
     else:
         out.append(_t("physics_lift_mechanics", "N/A", None, lm.get("error", "not run")))
+    out.extend(seam_targets(res))
     return out
 
 

@@ -37,7 +37,7 @@ from benchmarks.measure import growth_exponent, machine_info, peak_memory, summa
 from benchmarks.report import evaluate_targets, format_report, markdown_report
 from benchmarks.single import run_single
 
-ALL_CASES = ("single", "demo", "lift", "cli", "sweep", "drift", "physics")
+ALL_CASES = ("single", "demo", "lift", "cli", "sweep", "drift", "physics", "seams")
 FULL_N = (10, 50, 200, 500)
 QUICK_N = (2, 4)
 
@@ -372,6 +372,16 @@ def run(opts: Options, which: tuple[str, ...], log=print, checkpoint=None) -> di
             results["cases"]["drift"] = run_drift(opts.quick, opts.seed, log)
         except Exception as exc:
             results["cases"]["drift"] = {"kind": "drift", "error": _err(exc)}
+    if "seams" in which:
+        from benchmarks.seams import run_cli_cache, run_seam_optimality
+
+        for key, fn in (("seams_optimality", run_seam_optimality), ("cli_cache", run_cli_cache)):
+            log(f"case {key} ...")
+            try:
+                results["cases"][key] = fn(opts, log)
+            except Exception as exc:
+                results["cases"][key] = {"kind": key, "error": _err(exc)}
+            save(results)
     results["targets"] = evaluate_targets(results)
     results["total_s"] = time.perf_counter() - t_all
     try:

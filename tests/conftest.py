@@ -23,6 +23,15 @@ sys.path.insert(0, str(Path(__file__).parent))
 import garments  # noqa: E402
 
 
+@pytest.fixture(autouse=True, scope="session")
+def _graph_cache_in_a_temporary_folder(tmp_path_factory):
+    """`garnav route` caches graphs in the user's cache folder by default: tests use their own."""
+    mp = pytest.MonkeyPatch()
+    mp.setenv("GARNAV_CACHE_DIR", str(tmp_path_factory.mktemp("navgraph-cache")))
+    yield
+    mp.undo()
+
+
 @pytest.fixture
 def single_panel():
     return garments.single_panel()

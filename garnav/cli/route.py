@@ -13,22 +13,41 @@ drape, the route is one the robot can drive in the chosen posture (``--posture N
 is too steep, and ``--cost length|time|energy`` (docs/physics.md). The summary adds energy,
 battery, the worst margin and whether the nearest dock can still be reached; the JSON adds its
 ``physics`` object.
+
+The navigation graph is kept in a per-user cache folder (``platformdirs.user_cache_dir``, or
+``GARNAV_CACHE_DIR`` when set, or ``--cache-dir``) under a key of the content of spec, robot and
+options, so a repeated call on the same garment skips the build; ``--no-cache`` builds afresh and
+writes nothing. Heavy modules are imported inside :func:`run` so that the parser stays quick.
 """
 
 from __future__ import annotations
 
 import argparse
 import dataclasses
+import os
 from pathlib import Path
 from typing import TYPE_CHECKING
 
 from garnav.errors import MeshError, QueryError
-from garnav.model import Robot
 
-if TYPE_CHECKING:  # the planner, drape and export load when the command runs (fast --help)
+if TYPE_CHECKING:
+    from garnav.model import Robot
     from garnav.plan import Planner, Route
 
-__all__ = ["register", "run", "route_summary"]
+CACHE_ENV = "GARNAV_CACHE_DIR"
+
+
+def default_cache_dir() -> Path:
+    """Folder of the on-disk graph cache: ``$GARNAV_CACHE_DIR`` if set, else the per-user cache
+    folder of the platform (``platformdirs.user_cache_dir("garnav")``) / ``navgraph``."""
+    env = os.environ.get(CACHE_ENV)
+    if env:
+        return Path(env)
+    import platformdirs
+
+    return Path(platformdirs.user_cache_dir("garnav")) / "navgraph"
+
+__all__ = ["register", "run", "route_summary", "default_cache_dir"]
 
 
 def register(subparsers) -> None:
@@ -88,21 +107,34 @@ def register(subparsers) -> None:
         help="grow clearances and re-plan until the Monte Carlo contact probability of the robot's "
         "odometry model is at most 1 - P (e.g. 0.99; docs/uncertainty.md)",
     )
+    cache = parser.add_mutually_exclusive_group()
+    cache.add_argument(
+        "--cache-dir",
+        metavar="DIR",
+        help=f"folder of the navigation-graph cache (default: ${CACHE_ENV}, else the per-user cache folder)",
+    )
+    cache.add_argument("--no-cache", action="store_true", help="build the navigation graph afresh; read and write no cache")
+    parser.add_argument(
+        "--exact-seams",
+        action="store_true",
+        help="choose seams and crossings by the certified (slower) branch-and-bound search (docs/planning.md)",
+    )
     parser.set_defaults(func=run)
 
 
 def run(args: argparse.Namespace) -> int:
-    if getattr(args, "posture", None) or getattr(args, "gravity", None):
-        from garnav.mechanics.gravity import parse_gravity
-
-        parse_gravity(args.gravity, args.posture)  # a bad posture fails before any work
     from garnav.drape.inverse import pattern_locator
     from garnav.drape.lift import lift_route
     from garnav.drape.sources import spec_drape_locator
     from garnav.export.commands import route_commands, write_commands
     from garnav.export.waypoints import route_document, write_route_csv, write_route_json
+    from garnav.model import Robot
     from garnav.plan import Planner
 
+    if getattr(args, "posture", None) or getattr(args, "gravity", None):
+        from garnav.mechanics.gravity import parse_gravity
+
+        parse_gravity(args.gravity, args.posture)  # a bad posture fails before any work
     garment, drape = _garment_and_drape(args)
     if drape is not None:
         locate = pattern_locator(drape, garment)
@@ -119,10 +151,20 @@ def run(args: argparse.Namespace) -> int:
         robot = dataclasses.replace(robot, radius_mm=float(args.radius))
     if not args.clearance >= 0:
         raise QueryError(f"--clearance must be zero or more mm, got {args.clearance:g}")
-    planner = Planner(garment, robot, extra_clearance_mm=args.clearance, locate_3d=locate)
+    cache_dir = None
+    if not getattr(args, "no_cache", False):
+        cache_dir = Path(args.cache_dir) if getattr(args, "cache_dir", None) else default_cache_dir()
+    planner = Planner(
+        garment,
+        robot,
+        extra_clearance_mm=args.clearance,
+        locate_3d=locate,
+        cache_dir=cache_dir,
+        exact_seams=getattr(args, "exact_seams", False),
+    )
     texts = [args.start, *args.via, args.goal]
     roles = ["start"] + ["via point"] * len(args.via) + ["goal"]
-    stops = [planner.point(t, snap=args.snap, role=r) for t, r in zip(texts, roles)]
+    stops = [planner.point(t, snap=args.snap, role=r) for t, r in zip(texts, roles, strict=False)]
     physics = _physics_planner(args, planner, drape, robot)
     mechanics = dock = None
     confident = None
@@ -147,7 +189,7 @@ def run(args: argparse.Namespace) -> int:
     print(route_summary(route, args.start, args.goal))
     if confident is not None:
         print("\n".join(confident.lines()))
-    for text, pp in zip(texts, stops):
+    for text, pp in zip(texts, stops, strict=False):
         if pp.label.endswith("(snapped)"):
             print(f"note: {text} moved to the nearest free point {pp.piece}:{pp.x:.1f},{pp.y:.1f}")
     if lifted is None and drape is not None:

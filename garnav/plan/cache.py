@@ -13,6 +13,7 @@ import hashlib
 import io
 import json
 from pathlib import Path
+from typing import Any
 
 import networkx as nx
 import numpy as np
@@ -21,7 +22,7 @@ import shapely
 from garnav.atomic import write_bytes_atomic
 from garnav.model import Garment, Robot
 from garnav.plan.freespace import FreeSpace
-from garnav.plan.navgraph import NavGraph
+from garnav.plan.navgraph import NavGraph, seam_run_points
 from garnav.plan.visgraph import Corners
 
 __all__ = ["cache_key", "save_nav_graph", "load_nav_graph", "cache_path"]
@@ -91,7 +92,7 @@ def load_nav_graph(path: str | Path, garment: Garment, free: FreeSpace, key: str
             meta = json.loads(str(data["meta"]))
             if meta.get("key") != key:
                 return None
-            arrays = {name: np.array(data[name]) for name in _NODE_ARRAYS}
+            arrays: dict[str, Any] = {name: np.array(data[name]) for name in _NODE_ARRAYS}
             prev, nxt = np.array(data["corner_prev"]), np.array(data["corner_next"])
             edges = [np.array(data[n]) for n in ("edge_i", "edge_j", "edge_length", "edge_weight", "edge_crossing")]
     except (OSError, ValueError, KeyError, json.JSONDecodeError):
@@ -113,7 +114,7 @@ def load_nav_graph(path: str | Path, garment: Garment, free: FreeSpace, key: str
     i, j, ln, w, cr = edges
     g.add_edges_from(
         (int(a), int(b), {"length": float(c), "weight": float(d), "crossing": bool(e)})
-        for a, b, c, d, e in zip(i, j, ln, w, cr)
+        for a, b, c, d, e in zip(i, j, ln, w, cr, strict=False)
     )
     return NavGraph(
         garment=garment,
@@ -127,6 +128,7 @@ def load_nav_graph(path: str | Path, garment: Garment, free: FreeSpace, key: str
         intervals={k: [tuple(iv) for iv in v] for k, v in meta["intervals"].items()},
         spacing_mm=float(meta["spacing_mm"]),
         approach_mm=float(meta["approach_mm"]),
+        run_points=seam_run_points(garment, seams),
         stats=dict(meta["stats"], cached=True),
         **arrays,
     )

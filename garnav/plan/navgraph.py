@@ -25,7 +25,7 @@ import shapely
 
 from garnav.model import Garment
 from garnav.plan.freespace import FreeSpace, PieceFreeSpace
-from garnav.plan.portals import angle_ok, approach_points, free_intervals, portal_fractions, seam_sides
+from garnav.plan.portals import SeamSides, angle_ok, approach_points, free_intervals, portal_fractions, seam_sides
 from garnav.plan.visgraph import (
     Corners,
     bitangent_pairs,
@@ -39,6 +39,11 @@ from garnav.plan.visgraph import (
 __all__ = [
     "NavGraph",
     "build_nav_graph",
+    "seam_run_points",
+    "seam_portals",
+    "place_nodes",
+    "graph_edges",
+    "assemble_graph",
     "edge_costs",
     "free_point_links",
     "point_pairs",
@@ -95,6 +100,7 @@ class NavGraph:
     portal_nodes, approach_nodes : dict piece → node ids
     intervals : dict seam name → free fraction intervals
     approach_mm : float, length of the straight approach at the smallest crossing angle
+    run_points : dict seam name → (run a, run b) polylines, piece frames, mm
     """
 
     garment: Garment
@@ -116,10 +122,29 @@ class NavGraph:
     intervals: dict[str, list[tuple[float, float]]]
     spacing_mm: float
     approach_mm: float
+    run_points: dict[str, tuple[np.ndarray, np.ndarray]] = field(default_factory=dict)
     stats: dict = field(default_factory=dict)
+    _adjacency: list[list[tuple[int, float]]] | None = field(default=None, repr=False, compare=False)
 
     def piece_index(self, piece: str) -> int:
         return self.pieces.index(piece)
+
+    def neighbours(self, node: int) -> list[tuple[int, float]]:
+        """(neighbour, cost) pairs of a node, in insertion (sorted) order; the list is built once
+        for all nodes on first use and owned by this graph."""
+        if self._adjacency is None:
+            g = self.graph
+            self._adjacency = [[(m, d["weight"]) for m, d in g.adj[n].items()] for n in range(g.number_of_nodes())]
+        return self._adjacency[node]
+
+    def is_corner(self, node: int) -> bool:
+        """Whether a node is a corner (not a portal or approach point)."""
+        return bool(self.portal_seam[node] < 0 and self.approach_of[node] < 0)
+
+    def seam_sides(self, seam_index: int, t: np.ndarray) -> SeamSides:
+        """Both runs of seam ``seam_index`` at fractions ``t`` (:func:`garnav.plan.portals.seam_sides`)."""
+        seam = self.seams[seam_index]
+        return seam_sides(self.garment, seam, t, runs=self.run_points.get(seam.name))
 
     def min_angle(self, node: int) -> float:
         s = int(self.portal_seam[node])
@@ -140,30 +165,61 @@ def build_nav_graph(
     """Build the navigation graph of ``garment`` for the free space ``free``.
 
     ``approach_mm`` (default: the robot radius) is the straight run kept at the smallest crossing
-    angle on each side of a seam before the robot may turn.
+    angle on each side of a seam before the robot may turn. Four phases: seam portals
+    (:func:`seam_portals`), nodes (:func:`place_nodes`), edges (:func:`graph_edges`) and the
+    graph itself (:func:`assemble_graph`).
     """
     seams = tuple(sorted(garment.seams, key=lambda s: s.name))
-    pieces = tuple(p.name for p in garment.pieces)
     approach = float(free.robot.radius_mm if approach_mm is None else approach_mm)
+    runs = seam_run_points(garment, seams)
+    intervals, portal_rows = seam_portals(garment, free, seams, spacing_mm, runs)
+    ng = place_nodes(garment, free, seams, intervals, portal_rows, spacing_mm, approach, runs)
+    assemble_graph(ng, graph_edges(ng))
+    return ng
 
-    # portals per seam: (seam idx, side, t, xy, tangent, inward)
+
+def seam_run_points(garment: Garment, seams: tuple) -> dict[str, tuple[np.ndarray, np.ndarray]]:
+    """Run polylines of every seam: name → (run a (m, 2), run b (k, 2)), piece frames, mm."""
+    return {s.name: (garment.run_polyline(s.a), garment.run_polyline(s.b)) for s in seams}
+
+
+def seam_portals(garment: Garment, free: FreeSpace, seams: tuple, spacing_mm: float, runs: dict):
+    """Free intervals of every seam and the portal rows of every piece.
+
+    Returns (intervals: seam name → [(t0, t1)], rows: piece → [(seam index, side, t, xy, tangent,
+    inward)]).
+    """
     intervals: dict[str, list[tuple[float, float]]] = {}
-    portal_rows: dict[str, list[tuple]] = {p: [] for p in pieces}
+    portal_rows: dict[str, list[tuple]] = {p.name: [] for p in garment.pieces}
     for si, seam in enumerate(seams):
         if not seam.crossable:
             intervals[seam.name] = []
             continue
-        ivs = free_intervals(garment, seam, free)
+        ivs = free_intervals(garment, seam, free, runs=runs[seam.name])
         intervals[seam.name] = ivs
         t = portal_fractions(ivs, garment.run_length(seam.a), spacing_mm)
         if len(t) == 0:
             continue
-        sides = seam_sides(garment, seam, t)
+        sides = seam_sides(garment, seam, t, runs=runs[seam.name])
         for side, run in enumerate((seam.a, seam.b)):
             xy, tan, inward = sides.side(side)
             for k in range(len(t)):
                 portal_rows[run.piece].append((si, side, float(t[k]), xy[k], tan[k], inward[k]))
+    return intervals, portal_rows
 
+
+def place_nodes(
+    garment: Garment,
+    free: FreeSpace,
+    seams: tuple,
+    intervals: dict,
+    portal_rows: dict,
+    spacing_mm: float,
+    approach: float,
+    runs: dict,
+) -> NavGraph:
+    """Number the nodes piece by piece (corners, portals, approach points): a NavGraph without edges."""
+    pieces = tuple(p.name for p in garment.pieces)
     cols: dict[str, list] = {k: [] for k in ("xy", "piece", "seam", "side", "t", "tan", "in", "of")}
     corners: dict[str, tuple[Corners, int]] = {}
     portal_nodes: dict[str, np.ndarray] = {}
@@ -171,7 +227,7 @@ def build_nav_graph(
     offset = 0
 
     def add(xy, pi, seam=-1, side=-1, t=np.nan, tan=(0.0, 0.0), inward=(0.0, 0.0), of=-1):
-        for key, val in zip(cols, (xy, pi, seam, side, t, tan, inward, of)):
+        for key, val in zip(cols, (xy, pi, seam, side, t, tan, inward, of), strict=False):
             cols[key].append(val)
 
     for pi, name in enumerate(pieces):
@@ -197,7 +253,7 @@ def build_nav_graph(
             want = np.stack([amin > 0, (amin > 0) & (amin < 90.0)], axis=1)  # at 90° the two coincide
             k, e = np.nonzero(want)
             ok = segments_free(fs.region, pxy[k], ends[k, e])
-            for kk, ee in zip(k[ok].tolist(), e[ok].tolist()):
+            for kk, ee in zip(k[ok].tolist(), e[ok].tolist(), strict=False):
                 add(ends[kk, ee], pi, of=first_portal + kk)
                 app.append(nxt)
                 nxt += 1
@@ -207,7 +263,7 @@ def build_nav_graph(
     def arr(key, shape=None, dtype=float):
         return np.array(cols[key], dtype=dtype).reshape(shape) if cols[key] else np.zeros(shape if shape else 0, dtype)
 
-    ng = NavGraph(
+    return NavGraph(
         garment=garment,
         free=free,
         seams=seams,
@@ -227,10 +283,14 @@ def build_nav_graph(
         intervals=intervals,
         spacing_mm=float(spacing_mm),
         approach_mm=approach,
+        run_points=runs,
     )
 
+
+def graph_edges(ng: NavGraph) -> list[tuple[int, int, float, float, bool]]:
+    """Every edge (i, j, length, cost, crossing), i < j: in-piece links, then crossing edges."""
     edges: list[tuple[int, int, float, float, bool]] = []
-    for name in pieces:
+    for name in ng.pieces:
         edges.extend(_piece_edges(ng, name))
     # crossing edges: portal (seam, side 0, t) <-> (seam, side 1, t)
     portal_ids = np.nonzero(ng.portal_seam >= 0)[0]
@@ -238,11 +298,14 @@ def build_nav_graph(
     for (si, side, t), n in sorted(key.items()):
         if side == 0:
             m = key[(si, 1, t)]
-            cost = float(seams[si].crossing_cost_mm)
+            cost = float(ng.seams[si].crossing_cost_mm)
             edges.append((min(n, m), max(n, m), 0.0, cost, True))
+    return edges
 
-    # one edge per node pair (a seam joining a piece to itself may give a pair both an in-piece
-    # link and a crossing): keep the cheaper
+
+def assemble_graph(ng: NavGraph, edges: list[tuple[int, int, float, float, bool]]) -> None:
+    """Fill ``ng.graph`` (sorted, one edge per node pair: the cheaper, since a seam joining a piece
+    to itself may give a pair both an in-piece link and a crossing) and ``ng.stats``."""
     best: dict[tuple[int, int], tuple[float, float, bool]] = {}
     for i, j, ln, w, crossing in edges:
         if (i, j) not in best or w < best[(i, j)][1]:
@@ -255,11 +318,10 @@ def build_nav_graph(
     ng.stats = {
         "nodes": g.number_of_nodes(),
         "edges": g.number_of_edges(),
-        "corners": int(sum(len(c) for c, _ in corners.values())),
-        "portals": int(len(portal_ids)),
-        "approach_points": int(sum(len(a) for a in approach_nodes.values())),
+        "corners": int(sum(len(c) for c, _ in ng.corners.values())),
+        "portals": int(np.count_nonzero(ng.portal_seam >= 0)),
+        "approach_points": int(sum(len(a) for a in ng.approach_nodes.values())),
     }
-    return ng
 
 
 def free_point_links(ng: NavGraph, piece: str, xy: np.ndarray, limit_tan: np.ndarray | None = None, limit_deg=0.0):
@@ -299,22 +361,22 @@ def _piece_edges(ng: NavGraph, name: str) -> list[tuple[int, int, float, float, 
     fs = ng.free[name]
     c, off = ng.corners[name]
     i, j = bitangent_pairs(fs.region, c)
-    ia, ib = [i + off], [j + off]
+    la, lb = [i + off], [j + off]
     # free points: portals (angle limit at them) and approach points (none)
     fp = np.concatenate([ng.portal_nodes[name], ng.approach_nodes[name]]).astype(int)
     if len(fp):
         xy, tan, amin = ng.xy[fp], ng.portal_tan[fp], ng.min_angles(fp)
         q, n = free_point_links(ng, name, xy, tan, amin)
-        ia.append(fp[q])
-        ib.append(n)
+        la.append(fp[q])
+        lb.append(n)
         pa, pb = point_pairs(fs, xy, tan, amin)
-        ia.append(fp[pa])
-        ib.append(fp[pb])
+        la.append(fp[pa])
+        lb.append(fp[pb])
         # each approach point to its own portal (exactly at the angle limit)
         own = ng.approach_nodes[name]
-        ia.append(ng.approach_of[own])
-        ib.append(own)
-    ia, ib = np.concatenate(ia).astype(int), np.concatenate(ib).astype(int)
+        la.append(ng.approach_of[own])
+        lb.append(own)
+    ia, ib = np.concatenate(la).astype(int), np.concatenate(lb).astype(int)
     length, cost = edge_costs(fs, ng.xy[ia], ng.xy[ib])
     lo, hi = np.minimum(ia, ib), np.maximum(ia, ib)
-    return [(i, j, ln, w, False) for i, j, ln, w in zip(lo.tolist(), hi.tolist(), length.tolist(), cost.tolist())]
+    return [(i, j, ln, w, False) for i, j, ln, w in zip(lo.tolist(), hi.tolist(), length.tolist(), cost.tolist(), strict=False)]

@@ -7,7 +7,8 @@
 
 A query runs A* (:mod:`garnav.plan.search`) on the navigation graph plus temporary links from the
 start and goal points, then refines the crossings (:mod:`garnav.plan.refine`) and assembles a
-:class:`~garnav.plan.route.Route`.
+:class:`~garnav.plan.route.Route`. With ``exact_seams=True`` the seam sequence and crossings come
+from the certified branch-and-bound search of :mod:`garnav.plan.exact` instead.
 """
 
 from __future__ import annotations
@@ -18,27 +19,33 @@ from typing import Callable, Sequence
 import numpy as np
 import scipy.sparse as sp
 
-from garnav.errors import NoRouteError, QueryError
+from garnav.errors import GarnavError, NoRouteError, QueryError
 from garnav.model import Garment, Robot
 from garnav.plan.cache import cache_key, cache_path, load_nav_graph, save_nav_graph
 from garnav.plan.explain import check_free, explain_no_route
 from garnav.plan.freespace import DEFAULT_QUAD_SEGS, build_free_space
 from garnav.plan.navgraph import (
     DEFAULT_PORTAL_SPACING_MM,
+    NavGraph,
     build_nav_graph,
     edge_costs,
     free_point_links,
     point_pairs,
 )
 from garnav.plan.points import PiecePoint, PointLike, resolve_point
+from garnav.plan.exact import ExactResult, SeamSearch
 from garnav.plan.refine import refine
 from garnav.plan.route import Leg, Route, join_routes, make_route
-from garnav.plan.search import PortalGraph, astar, heuristic_values
+from garnav.plan.search import NodePortalTable, PortalGraph, astar, lazy_heuristic
 from garnav.plan.visgraph import segments_free
 
 __all__ = ["Planner", "plan_route", "PLANNER_VERSION"]
 
 PLANNER_VERSION = "1"
+
+#: An alternative seam sequence is refined when its graph cost is at most the refined cost of the
+#: first route plus twice what refining that route gained plus this fraction of its graph cost.
+ALTERNATIVE_MARGIN = 0.002
 
 
 class Planner:
@@ -62,6 +69,12 @@ class Planner:
         radius).
     cache_dir : path, optional
         Folder for the on-disk graph cache (:mod:`garnav.plan.cache`); None = no cache.
+    exact_seams : bool
+        Choose seam sequences and crossings by the branch-and-bound search of
+        :mod:`garnav.plan.exact` (certified within ``rel_tol``; slow on large garments, see
+        docs/planning.md) instead of A* on the portals followed by crossing refinement.
+    rel_tol : float
+        Relative optimality tolerance of the exact cross-seam search.
     """
 
     def __init__(
@@ -75,13 +88,15 @@ class Planner:
         locate_3d: Callable | None = None,
         approach_mm: float | None = None,
         cache_dir: str | Path | None = None,
+        exact_seams: bool = False,
+        rel_tol: float = 1e-4,
     ):
         self.garment = garment
         self.robot = robot or garment.robot or Robot()
         self.locate_3d = locate_3d
         self.free = build_free_space(garment, self.robot, quad_segs=quad_segs, extra_clearance_mm=extra_clearance_mm)
-        self.nav = None
-        self.cache_file = None
+        nav: NavGraph | None = None
+        self.cache_file: Path | None = None
         if cache_dir is not None:
             options = {
                 "quad_segs": quad_segs,
@@ -91,15 +106,23 @@ class Planner:
             }
             key = cache_key(garment, self.robot, options, PLANNER_VERSION)
             self.cache_file = cache_path(cache_dir, key)
-            self.nav = load_nav_graph(self.cache_file, garment, self.free, key)
-        if self.nav is None:
-            self.nav = build_nav_graph(garment, self.free, portal_spacing_mm, approach_mm)
+            nav = load_nav_graph(self.cache_file, garment, self.free, key)
+        if nav is None:
+            nav = build_nav_graph(garment, self.free, portal_spacing_mm, approach_mm)
             if self.cache_file is not None:
-                save_nav_graph(self.nav, self.cache_file, key)
+                try:
+                    save_nav_graph(nav, self.cache_file, key)
+                except GarnavError:
+                    self.cache_file = None  # a cache that cannot be written only costs time
+        self.nav: NavGraph = nav
         self.portal_graph = PortalGraph(self.nav)
-        g = self.nav.graph
-        self._adj = [[(m, d["weight"]) for m, d in g.adj[n].items()] for n in range(g.number_of_nodes())]
+        self.node_portal_table = NodePortalTable(self.portal_graph)
         self._corner_mats: dict = {}
+        self.exact_seams = bool(exact_seams)
+        self._spacing_mm = float(portal_spacing_mm)
+        self._rel_tol = float(rel_tol)
+        self._seam_search: SeamSearch | None = None
+        self.last_search: ExactResult | None = None
 
     def corner_matrix(self, piece: str):
         """(k, k) sparse matrix of the corner–corner edge costs of one piece (upper triangle)."""
@@ -109,7 +132,7 @@ class Planner:
             k = len(corners)
             rows, cols, vals = [], [], []
             for n in range(off, off + k):
-                for m, w in self._adj[n]:
+                for m, w in self.nav.neighbours(n):
                     if n < m < off + k:
                         rows.append(n - off)
                         cols.append(m - off)
@@ -158,7 +181,7 @@ class Planner:
         if not nodes:
             return []
         _, cost = edge_costs(fs, np.repeat(xy, len(nodes), axis=0), ng.xy[nodes])
-        return list(zip(nodes, cost.tolist()))
+        return list(zip(nodes, cost.tolist(), strict=False))
 
     def direct(self, p: PiecePoint, q: PiecePoint) -> float | None:
         """Cost of the straight segment p → q when both lie on one piece and it is free, else None."""
@@ -194,7 +217,8 @@ class Planner:
                 edges.append((n0, gid, d))
         return edges
 
-    def _search(self, start: PiecePoint, goals: Sequence[PiecePoint]):
+    def _search(self, start: PiecePoint, goals: Sequence[PiecePoint], banned: frozenset[int] = frozenset()):
+        """A* as in :meth:`search`; crossings of the seams (indices) in ``banned`` are left out."""
         ng = self.nav
         n0 = ng.graph.number_of_nodes()
         extra: dict[int, list[tuple[int, float]]] = {}
@@ -202,16 +226,24 @@ class Planner:
             extra.setdefault(u, []).append((v, w))
             extra.setdefault(v, []).append((u, w))
         goal_pairs = [(ng.piece_index(g.piece), g.xy) for g in goals]
-        xy = np.vstack([ng.xy, start.xy[None], np.array([g.xy for g in goals]).reshape(-1, 2)])
-        piece = np.concatenate([ng.node_piece, [ng.piece_index(start.piece)], [p for p, _ in goal_pairs]]).astype(int)
-        h = heuristic_values(self.portal_graph, goal_pairs, xy, piece)
-        h[n0 + 1 :] = 0.0
+        h_at = lazy_heuristic(self.node_portal_table, goal_pairs)
+        si = ng.piece_index(start.piece)
+
+        def h(n: int) -> float:
+            if n > n0:
+                return 0.0
+            if n == n0:
+                return h_at(n, si, start.xy)
+            return h_at(n, int(ng.node_piece[n]), ng.xy[n])
 
         def neighbors(n: int):
-            base = self._adj[n] if n < n0 else []
+            base = ng.neighbours(n) if n < n0 else []
+            if banned and n < n0 and int(ng.portal_seam[n]) in banned:
+                s = ng.portal_seam[n]
+                base = [(m, w) for m, w in base if not (m < n0 and ng.portal_seam[m] == s and ng.graph[n][m]["crossing"])]
             return base + sorted(extra.get(n, []))
 
-        found = astar(neighbors, {n0: 0.0}, set(range(n0 + 1, n0 + 1 + len(goals))), lambda n: h[n])
+        found = astar(neighbors, {n0: 0.0}, set(range(n0 + 1, n0 + 1 + len(goals))), h)
         if found is None:
             return None, np.inf, -1
         path, cost = found
@@ -224,7 +256,7 @@ class Planner:
         stops = [self.point(start, snap=snap, role="start")]
         stops += [self.point(v, snap=snap, role="via point") for v in via]
         stops.append(self.point(goal, snap=snap, role="goal"))
-        parts = [self._route_between(a, [b])[1] for a, b in zip(stops[:-1], stops[1:])]
+        parts = [self._route_between(a, [b])[1] for a, b in zip(stops[:-1], stops[1:], strict=False)]
         return parts[0] if len(parts) == 1 else join_routes(self.garment, self.robot, parts)
 
     def nearest(self, start: PointLike, goals: Sequence[PointLike], *, snap: bool = False) -> tuple[int, Route]:
@@ -235,10 +267,22 @@ class Planner:
         gs = [self.point(g, snap=snap, role="goal") for g in goals]
         return self._route_between(s, gs)
 
+    @property
+    def seam_search(self) -> SeamSearch:
+        """The exact cross-seam searcher of this planner (built on first use)."""
+        if self._seam_search is None:
+            self._seam_search = SeamSearch(self, spacing_mm=self._spacing_mm, rel_tol=self._rel_tol)
+        return self._seam_search
+
     def _route_between(self, start: PiecePoint, goals: list[PiecePoint]) -> tuple[int, Route]:
-        path, cost, k = self.search(start, goals)
-        legs, crossings = self._split(path, start, goals[k])
-        legs, crossings, cost = refine(self, legs, crossings)
+        if self.exact_seams:
+            found = self.seam_search.search(start, goals)
+            if found is None:
+                raise NoRouteError(explain_no_route(self, start, goals))
+            self.last_search = found
+            legs, crossings, cost, k = found.legs, found.crossings, found.cost_mm, found.goal
+        else:
+            legs, crossings, cost, k = self._portal_route(start, goals)
         route = make_route(
             self.garment,
             self.robot,
@@ -247,6 +291,33 @@ class Planner:
             cost,
         )
         return k, route
+
+    def _portal_route(self, start: PiecePoint, goals: list[PiecePoint]):
+        """A* on the portals, refinement, then the same for the seam sequences found with each
+        crossed seam left out in turn, when their graph cost is close enough to the first's (see
+        ``ALTERNATIVE_MARGIN``): the seam sequence is chosen on sampled portals, so a sequence that wins only
+        after refinement may rank second on the graph (e.g. round a corner where several seams
+        meet). Returns the cheapest (legs, crossings, cost, goal index)."""
+        path, first_cost, k = self.search(start, goals)
+        legs, crossings = self._split(path, start, goals[k])
+        best = (*refine(self, legs, crossings), k)
+        tried = {tuple((s, side) for s, _, side in best[1])}
+        for seam in sorted({s for s, _, _ in best[1]}):
+            alt, alt_cost, ak = self._search(start, goals, frozenset([seam]))
+            # worth refining only if it could win after gaining as much as the first route did
+            # (twice over, plus ALTERNATIVE_MARGIN of its cost)
+            reach = best[2] + 2.0 * max(first_cost - best[2], 0.0) + ALTERNATIVE_MARGIN * first_cost
+            if alt is None or alt_cost > reach:
+                continue
+            a_legs, a_cross = self._split(alt, start, goals[ak])
+            key = tuple((s, side) for s, _, side in a_cross)
+            if key in tried:
+                continue
+            tried.add(key)
+            cand = refine(self, a_legs, a_cross)
+            if cand[2] < best[2] - 1e-12:
+                best = (*cand, ak)
+        return best
 
     def _split(self, path: list[int], start: PiecePoint, goal: PiecePoint):
         """Node path → legs [(piece, (n, 2) points)] and crossings [(seam index, t, from side)]."""
@@ -258,7 +329,7 @@ class Planner:
 
         legs: list[tuple[str, list[np.ndarray]]] = [(start.piece, [start.xy])]
         crossings = []
-        for u, v in zip(path[:-1], path[1:]):
+        for u, v in zip(path[:-1], path[1:], strict=False):
             if u < n0 and v < n0 and ng.graph[u][v]["crossing"]:
                 crossings.append((int(ng.portal_seam[u]), float(ng.portal_t[u]), int(ng.portal_side[u])))
                 legs.append((ng.pieces[ng.node_piece[v]], [ng.xy[v]]))

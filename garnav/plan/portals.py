@@ -62,24 +62,17 @@ def _tangents(pts: np.ndarray, t: np.ndarray) -> np.ndarray:
     return d / np.where(n > 0, n, 1.0)
 
 
-_RUN_CACHE: dict = {}
-
-
-def _run_points(garment: Garment, run) -> np.ndarray:
-    """``garment.run_polyline(run)``, remembered per (piece edge, run): seams are sampled many
-    times during refinement. The key holds the edge's points, so a changed garment misses."""
-    edge = garment.piece(run.piece).edge(run.edge)
-    key = (edge.points, run)
-    pts = _RUN_CACHE.get(key)
-    if pts is None:
-        if len(_RUN_CACHE) > 4096:
-            _RUN_CACHE.clear()
-        pts = _RUN_CACHE[key] = garment.run_polyline(run)
-    return pts
-
-
-def seam_sides(garment: Garment, seam: Seam, t: np.ndarray, inset_mm: float = INSET_MM) -> SeamSides:
+def seam_sides(
+    garment: Garment,
+    seam: Seam,
+    t: np.ndarray,
+    inset_mm: float = INSET_MM,
+    runs: tuple[np.ndarray, np.ndarray] | None = None,
+) -> SeamSides:
     """Points and tangents of both runs of ``seam`` at fractions ``t`` (m,).
+
+    ``runs`` are the run polylines ``(garment.run_polyline(seam.a), garment.run_polyline(seam.b))``
+    when the caller keeps them (the navigation graph does: :attr:`NavGraph.run_points`).
 
     Each point is moved ``inset_mm`` into its own piece along the inward normal: a point computed
     on a slanted or curved edge may otherwise land a rounding error outside the piece polygon, and
@@ -88,8 +81,9 @@ def seam_sides(garment: Garment, seam: Seam, t: np.ndarray, inset_mm: float = IN
     """
     t = np.asarray(t, dtype=float)
     out = []
-    for run in (seam.a, seam.b):
-        pts = _run_points(garment, run)
+    if runs is None:
+        runs = (garment.run_polyline(seam.a), garment.run_polyline(seam.b))
+    for run, pts in zip((seam.a, seam.b), runs, strict=False):
         length = cumulative_length(pts)[-1]
         tan = _tangents(pts, t)
         inward = np.stack([-tan[:, 1], tan[:, 0]], axis=1) * (-1.0 if run.reverse else 1.0)
@@ -99,7 +93,9 @@ def seam_sides(garment: Garment, seam: Seam, t: np.ndarray, inset_mm: float = IN
     return SeamSides(seam, t, a_xy, b_xy, a_tan, b_tan, a_in, b_in, la)
 
 
-def approach_points(xy: np.ndarray, tangent: np.ndarray, inward: np.ndarray, min_angle_deg: float, length_mm: float) -> np.ndarray:
+def approach_points(
+    xy: np.ndarray, tangent: np.ndarray, inward: np.ndarray, min_angle_deg: float | np.ndarray, length_mm: float
+) -> np.ndarray:
     """The two ends of the straight approach to a crossing at the smallest allowed angle.
 
     A robot crossing a seam drives straight over it at an angle of at least ``min_angle_deg`` to
@@ -118,19 +114,36 @@ def approach_points(xy: np.ndarray, tangent: np.ndarray, inward: np.ndarray, min
     return np.stack(out, axis=1)
 
 
-def free_intervals(garment: Garment, seam: Seam, free: FreeSpace, step_mm: float = 0.5) -> list[tuple[float, float]]:
+def free_intervals(
+    garment: Garment,
+    seam: Seam,
+    free: FreeSpace,
+    step_mm: float = 0.5,
+    runs: tuple[np.ndarray, np.ndarray] | None = None,
+) -> list[tuple[float, float]]:
     """Fraction intervals ``[t0, t1]`` of ``seam`` where the robot fits on both sides.
 
-    Sampled every ``step_mm`` along run a; interval ends are then bisected to 1e-9 of the run.
+    Sampled every ``step_mm`` along run a; all interval ends are then bisected together (one
+    batched fit test per step, 40 steps: 1e-12 of the sample gap).
     """
     la = garment.run_length(seam.a)
     m = max(int(math.ceil(la / step_mm)) + 1, 3)
     t = np.linspace(0.0, 1.0, m)
-    ok = _fits(garment, seam, free, t)
-
-    def fits1(x: float) -> bool:
-        return bool(_fits(garment, seam, free, np.array([x]))[0])
-
+    ok = _fits(garment, seam, free, t, runs)
+    if not ok.any():
+        return []
+    change = np.nonzero(ok[1:] != ok[:-1])[0]  # ok[k] != ok[k + 1]
+    # every change is bracketed by (bad, good) sample fractions; bisect them all at once
+    good = np.where(ok[change], t[change], t[change + 1])
+    bad = np.where(ok[change], t[change + 1], t[change])
+    for _ in range(40):
+        if not len(change):
+            break
+        mid = 0.5 * (bad + good)
+        fit = _fits(garment, seam, free, mid, runs)
+        good = np.where(fit, mid, good)
+        bad = np.where(fit, bad, mid)
+    ends = dict(zip(change.tolist(), good.tolist(), strict=False))
     out = []
     k = 0
     while k < m:
@@ -140,28 +153,15 @@ def free_intervals(garment: Garment, seam: Seam, free: FreeSpace, step_mm: float
         j = k
         while j + 1 < m and ok[j + 1]:
             j += 1
-        lo, hi = t[k], t[j]
-        if k > 0:
-            lo = _bisect(fits1, t[k - 1], t[k])
-        if j < m - 1:
-            hi = _bisect(fits1, t[j + 1], t[j])
+        lo = ends[k - 1] if k > 0 else float(t[k])
+        hi = ends[j] if j < m - 1 else float(t[j])
         out.append((float(lo), float(hi)))
         k = j + 1
     return out
 
 
-def _bisect(fits, bad: float, good: float, iters: int = 40) -> float:
-    for _ in range(iters):
-        mid = 0.5 * (bad + good)
-        if fits(mid):
-            good = mid
-        else:
-            bad = mid
-    return good
-
-
-def _fits(garment: Garment, seam: Seam, free: FreeSpace, t: np.ndarray) -> np.ndarray:
-    sides = seam_sides(garment, seam, t)
+def _fits(garment: Garment, seam: Seam, free: FreeSpace, t: np.ndarray, runs=None) -> np.ndarray:
+    sides = seam_sides(garment, seam, t, runs=runs)
     return free[seam.a.piece].covers(sides.a_xy) & free[seam.b.piece].covers(sides.b_xy)
 
 

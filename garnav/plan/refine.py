@@ -16,7 +16,8 @@ the seam that holds t: a coarse sampling, a finer sampling around the best sampl
 bounded Brent method between its neighbours. Where the seam has a smallest crossing angle, a path
 may also reach x over its straight approach (:func:`garnav.plan.portals.approach_points`), and
 leave an anchor over the anchor's. The move is kept only if it lowers the cost, so the
-loop ends; it stops when a full round gains less than 1e-9 mm. The legs are then re-planned
+loop ends; it stops when a full round gains less than 1e-9 mm. A crossing is placed again only when
+one of its neighbours moved since it was last placed (otherwise its cost function is unchanged). The legs are then re-planned
 (A* inside the piece) between their new ends.
 
 On a straight seam with no obstacle or angle limit in the way, the optimum keeps the route's angle
@@ -34,11 +35,11 @@ from scipy.sparse.csgraph import dijkstra
 
 from garnav.plan.navgraph import edge_costs, point_pairs
 from garnav.plan.points import PiecePoint
-from garnav.plan.portals import angle_ok, approach_points, seam_sides
+from garnav.plan.portals import angle_ok, approach_points
 from garnav.plan.search import astar
 from garnav.plan.visgraph import segments_free, tangent_mask
 
-__all__ = ["refine", "piece_path", "DistanceField", "Anchor"]
+__all__ = ["refine", "plan_legs", "piece_path", "DistanceField", "Anchor"]
 
 _MAX_ROUNDS = 30
 
@@ -55,7 +56,7 @@ class Anchor:
 
     def approaches(self, approach_mm: float) -> np.ndarray:
         """(0..2, 2) ends of the straight approach at the angle limit (none without a limit)."""
-        if self.min_angle <= 0 or approach_mm <= 0:
+        if self.min_angle <= 0 or approach_mm <= 0 or self.tangent is None or self.inward is None:
             return np.zeros((0, 2))
         ends = approach_points(self.xy[None], self.tangent[None], self.inward[None], self.min_angle, approach_mm)[0]
         return ends[:1] if self.min_angle >= 90.0 else ends
@@ -71,7 +72,7 @@ def _sources(planner, piece: str, anchor: Anchor) -> list[tuple[np.ndarray, floa
         a = np.repeat(anchor.xy[None], len(ends), axis=0)
         ok = segments_free(fs.region, a, ends)
         cost = edge_costs(fs, a, ends)[1]
-        out += [(e, float(c), Anchor(e)) for e, c, k in zip(ends, cost, ok) if k]
+        out += [(e, float(c), Anchor(e)) for e, c, k in zip(ends, cost, ok, strict=False) if k]
     return out
 
 
@@ -195,13 +196,13 @@ def piece_path(planner, piece: str, start: Anchor, end: Anchor):
     pa, pb = point_pairs(fs, xy, tans, amin)
     if len(pa):
         w = edge_costs(fs, xy[pa], xy[pb])[1]
-        for i, j, c in zip(pa.tolist(), pb.tolist(), w.tolist()):
+        for i, j, c in zip(pa.tolist(), pb.tolist(), w.tolist(), strict=False):
             link(n0 + i, n0 + j, c)
     for u, v, c in own:
         link(u, v, c)
 
     def neighbors(n: int):
-        base = [(m, w) for m, w in planner._adj[n] if lo <= m < hi] if n < n0 else []
+        base = [(m, w) for m, w in ng.neighbours(n) if lo <= m < hi] if n < n0 else []
         return base + sorted(extra.get(n, []))
 
     def pos(n: int) -> np.ndarray:
@@ -217,11 +218,14 @@ def piece_path(planner, piece: str, start: Anchor, end: Anchor):
 def _seam_geometry(planner, seam_index: int, t, from_side: int):
     """Crossing points, tangents and inward normals on the leaving (from) and arriving side."""
     seam = planner.nav.seams[seam_index]
-    sides = seam_sides(planner.garment, seam, np.atleast_1d(np.asarray(t, dtype=float)))
+    sides = planner.nav.seam_sides(seam_index, np.atleast_1d(np.asarray(t, dtype=float)))
     return sides.side(from_side), sides.side(1 - from_side), seam.min_crossing_angle_deg
 
 
-def _move_crossing(planner, seam_index: int, t0: float, from_side: int, field_in: DistanceField, field_out: DistanceField) -> float:
+def _move_crossing(
+    planner, seam_index: int, t0: float, from_side: int, field_in: DistanceField, field_out: DistanceField
+) -> tuple[float, float]:
+    """Best fraction for one crossing with the others fixed, and the cost it gains: (t, gain)."""
     ng = planner.nav
     seam = ng.seams[seam_index]
     lo, hi = next(((a, b) for a, b in ng.intervals[seam.name] if a - 1e-12 <= t0 <= b + 1e-12), (t0, t0))
@@ -279,15 +283,26 @@ def refine(planner, legs: list[tuple[str, np.ndarray]], crossings: list[tuple[in
     legs = [(p, np.array(pts, dtype=float)) for p, pts in legs]
     crossings = list(crossings)
     if crossings:
+        # stale[i]: an anchor of crossing i (crossing i - 1 or i + 1) moved since i was last placed;
+        # a crossing whose neighbours did not move has the same cost function as when it was
+        # placed, so placing it again cannot gain (skipped: the result is unchanged)
+        stale = [True] * len(crossings)
         for _ in range(_MAX_ROUNDS):
             gain = 0.0
             for i, (s, t, side) in enumerate(crossings):
+                if not stale[i]:
+                    continue
+                stale[i] = False
                 f_in = DistanceField(planner, legs[i][0], _anchor(planner, legs, crossings, i, "start"))
                 f_out = DistanceField(planner, legs[i + 1][0], _anchor(planner, legs, crossings, i + 1, "end"))
                 t_new, g = _move_crossing(planner, s, t, side, f_in, f_out)
                 gain += g
+                if t_new != t:
+                    for j in (i - 1, i + 1):
+                        if 0 <= j < len(crossings):
+                            stale[j] = True
                 crossings[i] = (s, t_new, side)
-            if gain < 1e-9:
+            if gain < 1e-9 or not any(stale):
                 break
         # re-plan every leg between its (new) ends
         for i, (piece, pts) in enumerate(legs):
@@ -300,3 +315,27 @@ def refine(planner, legs: list[tuple[str, np.ndarray]], crossings: list[tuple[in
                 new_pts = np.vstack([a0.xy, pts[1:-1], a1.xy])
             legs[i] = (piece, new_pts)
     return legs, crossings, _total(planner, legs, crossings)
+
+
+def plan_legs(planner, start: PiecePoint, goal: PiecePoint, crossings: list[tuple[int, float, int]]):
+    """Legs of the least-cost route from ``start`` to ``goal`` that crosses exactly at
+    ``crossings`` [(seam index, t, from side)], each leg planned inside its piece with the angle
+    rules (:func:`piece_path`). Returns (legs [(piece, (n, 2))], cost); cost is inf when a leg has
+    no path."""
+    ng = planner.nav
+    pieces = [start.piece]
+    for s, _, side in crossings:
+        seam = ng.seams[s]
+        pieces.append((seam.b if side == 0 else seam.a).piece)
+    stub = [(p, np.zeros((2, 2))) for p in pieces]
+    stub[0] = (start.piece, np.array([start.xy, start.xy]))
+    stub[-1] = (pieces[-1], np.array([goal.xy, goal.xy]))
+    legs = []
+    for i, piece in enumerate(pieces):
+        a0 = _anchor(planner, stub, crossings, i, "start") if i else Anchor(start.xy)
+        a1 = _anchor(planner, stub, crossings, i, "end") if i < len(pieces) - 1 else Anchor(goal.xy)
+        pts, _ = piece_path(planner, piece, a0, a1)
+        if pts is None:
+            return [], math.inf
+        legs.append((piece, pts))
+    return legs, _total(planner, legs, crossings)

@@ -41,7 +41,7 @@ from scipy.sparse.csgraph import dijkstra
 
 from garnav.plan.navgraph import NavGraph
 
-__all__ = ["astar", "portal_lower_bounds", "heuristic_values", "PortalGraph"]
+__all__ = ["astar", "portal_lower_bounds", "heuristic_values", "PortalGraph", "min_matrix", "NodePortalTable", "lazy_heuristic"]
 
 
 class PortalGraph:
@@ -51,7 +51,7 @@ class PortalGraph:
         self.ng = ng
         self.portals = np.nonzero(ng.portal_seam >= 0)[0]
         rows, cols, vals = [], [], []
-        for piece, nodes in ng.portal_nodes.items():
+        for _piece, nodes in ng.portal_nodes.items():
             if len(nodes) < 2:
                 continue
             a, b = np.triu_indices(len(nodes), 1)
@@ -61,7 +61,7 @@ class PortalGraph:
             vals.append(d)
         crossing = [(n, m, d["weight"]) for n, m, d in ng.graph.edges(data=True) if d["crossing"]]
         if crossing:
-            n, m, w = (np.array(x) for x in zip(*crossing))
+            n, m, w = (np.array(x) for x in zip(*crossing, strict=False))
             rows.append(np.searchsorted(self.portals, n))
             cols.append(np.searchsorted(self.portals, m))
             vals.append(w.astype(float))
@@ -76,10 +76,10 @@ class PortalGraph:
         # zero weights are dropped by csgraph: store a tiny positive stand-in (still a lower bound
         # after subtracting, see portal_lower_bounds)
         self._eps = 1e-12
-        self.matrix = _min_matrix(r, c, v + self._eps, p + 1)
+        self.matrix = min_matrix(r, c, v + self._eps, p + 1)
 
 
-def _min_matrix(r: np.ndarray, c: np.ndarray, v: np.ndarray, size: int) -> sp.csr_matrix:
+def min_matrix(r: np.ndarray, c: np.ndarray, v: np.ndarray, size: int) -> sp.csr_matrix:
     """Sparse (size, size) matrix keeping the SMALLEST value of duplicate (r, c) entries (scipy
     would add them), stored in the upper triangle."""
     lo, hi = np.minimum(r, c), np.maximum(r, c)
@@ -131,6 +131,74 @@ def heuristic_values(pg: PortalGraph, goals: list[tuple[int, np.ndarray]], nodes
     return h
 
 
+class NodePortalTable:
+    """Straight distances (mm) from the nodes of a piece to the portals of that piece, one
+    (k, q) block per piece, computed when a query first needs the piece and kept (the heuristic's
+    table). Nodes are numbered piece by piece, so a piece's nodes are one contiguous id range."""
+
+    def __init__(self, pg: PortalGraph):
+        self.pg = pg
+        ng = pg.ng
+        self.first = np.searchsorted(ng.node_piece, np.arange(len(ng.pieces) + 1))
+        self.portal_piece = ng.node_piece[pg.portals] if len(pg.portals) else np.zeros(0, int)
+        self._blocks: dict[int, tuple[np.ndarray, np.ndarray]] = {}
+
+    def block(self, pi: int) -> tuple[np.ndarray, np.ndarray]:
+        """(portal indices into ``pg.portals`` on piece ``pi`` (q,), distances (k, q))."""
+        got = self._blocks.get(pi)
+        if got is None:
+            ng = self.pg.ng
+            on = np.nonzero(self.portal_piece == pi)[0]
+            xy = ng.xy[self.first[pi] : self.first[pi + 1]]
+            q = ng.xy[self.pg.portals[on]]
+            got = self._blocks[pi] = (on, np.linalg.norm(xy[:, None, :] - q[None, :, :], axis=2))
+        return got
+
+
+def lazy_heuristic(table: NodePortalTable, goals: list[tuple[int, np.ndarray]]) -> Callable[[int, int, np.ndarray], float]:
+    """h(n) of the module docstring, evaluated per piece on first use.
+
+    Returns ``h(node, piece index, xy)``: for a graph node (id below N) the value comes from its
+    piece's block of the table (computed once per query and piece); for another point (id N or
+    more, e.g. the start) it is computed from ``xy``. Same values as :func:`heuristic_values`, but
+    a query touches only the pieces its search reaches (a same-piece query no longer pays for the
+    whole garment)."""
+    pg = table.pg
+    ng = pg.ng
+    n0 = len(ng.xy)
+    lb = portal_lower_bounds(pg, goals)
+    cache: dict[int, np.ndarray] = {}
+
+    def piece_values(pi: int) -> np.ndarray:
+        got = cache.get(pi)
+        if got is None:
+            xy = ng.xy[table.first[pi] : table.first[pi + 1]]
+            best = np.full(len(xy), np.inf)
+            for gp, g in goals:
+                if gp == pi:
+                    best = np.minimum(best, np.linalg.norm(xy - g, axis=1))
+            on, dist = table.block(pi)
+            if len(on):
+                best = np.minimum(best, (dist + lb[on][None, :]).min(axis=1))
+            got = cache[pi] = best
+        return got
+
+    def h(n: int, pi: int, xy: np.ndarray) -> float:
+        if n < n0:
+            return float(piece_values(pi)[n - table.first[pi]])
+        best = np.inf
+        for gp, g in goals:
+            if gp == pi:
+                best = min(best, float(np.linalg.norm(xy[None, :] - g, axis=1)[0]))
+        on = np.nonzero(table.portal_piece == pi)[0]
+        if len(on):
+            q = ng.xy[pg.portals[on]]
+            best = min(best, float((np.linalg.norm(xy[None, None, :] - q[None, :, :], axis=2) + lb[on][None, :]).min()))
+        return best
+
+    return h
+
+
 def astar(
     neighbors: Callable[[int], Iterable[tuple[int, float]]],
     sources: dict[int, float],
@@ -160,8 +228,8 @@ def astar(
             continue
         if n in goals:
             path = [n]
-            while parent[path[-1]] is not None:
-                path.append(parent[path[-1]])
+            while (up := parent[path[-1]]) is not None:
+                path.append(up)
             return path[::-1], g
         closed.add(n)
         for m, w in neighbors(n):
