@@ -137,3 +137,20 @@ def test_demo_into_an_unwritable_place_is_a_clear_error(tmp_path, capsys):
     assert main(["demo", "--out", str(blocker / "sub")]) == 2
     err = capsys.readouterr().err
     assert "cannot write" in err and "Traceback" not in err
+
+
+def test_demo_fleet_scenario_writes_schedule_commands_and_pictures(tmp_path):
+    """``garnav demo --fleet``: the invented three-robot scenario, checked by the fleet's own 10 ms
+    sampler (garnav.fleet.check), with its schedule, per-robot commands (with ``wait``) and pictures."""
+    from garnav.cli.demo import _fleet
+    from garnav.spec import load_garment
+
+    out = tmp_path / "garnav-demo" / "fleet"
+    lines = _fleet(load_garment(MESHES / "sensing_top.toml"), out)
+    assert lines[0].startswith("fleet: 3 robots") and lines[0].endswith(": pass")
+    names = {p.name for p in out.iterdir()}
+    assert {"fleet_schedule.json", "fleet_sheet.gif", "fleet_chart.png"} <= names
+    cmds = sorted(n for n in names if n.endswith(".cmd"))
+    assert len(cmds) == 3
+    schedule = json.loads((out / "fleet_schedule.json").read_text())
+    assert len(schedule["robots"]) == 3

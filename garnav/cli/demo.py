@@ -5,6 +5,9 @@ lifts them onto the drape and writes route files, a 3D picture, the pattern shee
 web page (``plan.html``, docs/page.md) into DIR
 (default ``garnav-demo/`` in the current folder), then prints a summary table and the safety
 cautions (:func:`garnav.demo.run.run_demo`).
+``garnav demo --fleet`` adds the invented three-robot scenario (:mod:`garnav.fleet.scenario`): a
+timed, conflict-free schedule with its command files, the robots animated on the pattern sheet and
+a space-time chart, in ``DIR/fleet/`` (docs/fleet.md).
 ``garnav demo --rebuild [--out DIR]`` writes the demo files (spec, drape mesh, mannequin mesh).
 """
 
@@ -43,6 +46,9 @@ def register(subparsers) -> None:
         "prints a summary and safety cautions.",
     )
     parser.add_argument("--rebuild", action="store_true", help="write the demo spec and meshes instead")
+    parser.add_argument("--fleet", action="store_true",
+                        help="also plan the invented three-robot scenario and write its schedule, "
+                        "commands, sheet animation (GIF) and space-time chart into DIR/fleet/ (docs/fleet.md)")
     parser.add_argument(
         "--out",
         metavar="DIR",
@@ -79,7 +85,18 @@ def _rebuild(out: Path) -> int:
     return 0
 
 
-def _demo(out: Path) -> int:
+def _fleet(garment, out: Path) -> list[str]:
+    """The demo's several-robot scenario (invented): schedule, checker line and files written."""
+    from garnav.fleet.scenario import run_fleet_demo
+
+    result = run_fleet_demo(garment, out)
+    s = result["schedule"]
+    lines = [f"fleet: {len(s.plans)} robots, makespan {s.makespan_s:.1f} s — {result['check'].text()}"]
+    lines += [f"  {Path(f).relative_to(out.parent)}" for f in result["files"]]
+    return lines
+
+
+def _demo(out: Path, fleet: bool = False) -> int:
     from tqdm import tqdm
 
     from garnav.demo.run import DEMO_STEPS, run_demo, summary_table
@@ -88,6 +105,7 @@ def _demo(out: Path) -> int:
     began = time.perf_counter()
     with tqdm(total=len(DEMO_STEPS), desc="garnav demo", unit="step", leave=False, disable=None) as bar:
         result = run_demo(out, progress=lambda label: (bar.set_postfix_str(label), bar.update(1)))
+    fleet_lines = _fleet(result.garment, out / "fleet") if fleet else []
     seconds = time.perf_counter() - began
     garment = result.garment
     print(f"demo garment '{garment.name}': {len(garment.pieces)} pieces, {len(garment.seams)} seams, "
@@ -102,6 +120,8 @@ def _demo(out: Path) -> int:
     for role in ("screenshot", "sheet_svg", "sheet_png", "page", "spec", "drape", "body"):
         if role in result.files:
             print(f"  {result.files[role].name}")
+    if fleet_lines:
+        print("\n".join(fleet_lines))
     for note in result.notes:
         print(f"note: {note}")
     spec = result.files["spec"]
@@ -114,4 +134,4 @@ def _demo(out: Path) -> int:
 def run(args: argparse.Namespace) -> int:
     if args.rebuild:
         return _rebuild(Path(args.out) if args.out else _default_out())
-    return _demo(Path(args.out) if args.out else Path(DEFAULT_OUT))
+    return _demo(Path(args.out) if args.out else Path(DEFAULT_OUT), fleet=args.fleet)
