@@ -27,7 +27,8 @@ LAYERS = [
     {"uncertainty"},
     {"telemetry"},
     {"preview"},
-    {"fleet", "page", "sweep"},  # a sweep split among robots is checked with the fleet checker
+    {"fleet", "page"},
+    {"sweep"},  # a sweep split among robots is checked with the fleet's checker
     {"demo"},
     {"cli", "__main__", "testing"},
 ]

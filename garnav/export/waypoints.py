@@ -35,6 +35,7 @@ from garnav.errors import QueryError
 from garnav.export.commands import CommandList, Turn, commands_to_json, route_commands
 from garnav.export.path import Waypoint, route_waypoints
 from garnav.model import Garment, Robot
+from garnav.plan.route import route_headings_deg
 from garnav.textio import read_text
 
 __all__ = [
@@ -456,7 +457,8 @@ def read_route_document(path) -> dict:
 def document_route(document: dict):
     """A Route-shaped view of a route document: ``legs`` (piece, points (n, 2) mm) and
     ``crossings`` (seam, from_piece, to_piece, point_from, point_to, fraction, angle_deg) and the
-    document's own ``headings_deg`` (one per waypoint), enough to draw, lift or export it."""
+    document's ``headings_deg`` (one per waypoint; computed by :func:`garnav.plan.route.route_headings_deg`
+    where the document has none), enough to draw, lift or export it."""
     from types import SimpleNamespace
 
     legs: dict[int, list] = {}
@@ -478,5 +480,9 @@ def document_route(document: dict):
         )
         for c in document.get("crossings", [])
     )
-    headings = np.array([float(w["heading_deg"]) for w in document["waypoints"]], dtype=float)
+    wps = document["waypoints"]
+    if all("heading_deg" in w for w in wps):
+        headings = np.array([float(w["heading_deg"]) for w in wps], dtype=float)
+    else:  # a document without headings (e.g. a fleet schedule's routes): the route convention
+        headings = route_headings_deg(leg_objs)
     return SimpleNamespace(legs=leg_objs, crossings=crossings, headings_deg=headings)
