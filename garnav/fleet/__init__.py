@@ -1,11 +1,13 @@
 """Several robots on one garment: timed, conflict-free schedules (docs/fleet.md).
 
->>> from garnav.spec import load_garment                          # doctest: +SKIP
->>> from garnav.fleet import load_tasks, plan_fleet, check_schedule  # doctest: +SKIP
->>> garment = load_garment("meshes/sensing_top.toml")             # doctest: +SKIP
->>> tasks = load_tasks("examples/fleet_tasks.toml", garment.robot)  # doctest: +SKIP
->>> schedule = plan_fleet(garment, tasks)                         # doctest: +SKIP
->>> print(check_schedule(garment, schedule).text())               # doctest: +SKIP
+Usage, from a checkout (see docs/fleet.md)::
+
+    from garnav.spec import load_garment
+    from garnav.fleet import load_tasks, plan_fleet, check_schedule
+    garment = load_garment("meshes/sensing_top.toml")
+    tasks = load_tasks("examples/fleet_tasks.toml", garment.robot)
+    schedule = plan_fleet(garment, tasks)
+    print(check_schedule(garment, schedule).text())
 """
 
 from garnav.fleet.check import CheckReport, check_schedule

@@ -1,9 +1,11 @@
 """The planner: built once per (garment, robot), answers many route queries.
 
->>> import garnav.plan as plan                                    # doctest: +SKIP
->>> planner = plan.Planner(garment)                               # doctest: +SKIP
->>> route = planner.route("wrist_left", "sternum_left")           # doctest: +SKIP
->>> route = plan.plan_route(garment, "front:100,200", "dock")     # doctest: +SKIP
+Usage (needs a garment; see README)::
+
+    import garnav.plan as plan
+    planner = plan.Planner(garment)
+    route = planner.route("wrist_left", "sternum_left")
+    route = plan.plan_route(garment, "front:100,200", "dock")
 
 A query runs A* (:mod:`garnav.plan.search`) on the navigation graph plus temporary links from the
 start and goal points, then refines the crossings (:mod:`garnav.plan.refine`) and assembles a
