@@ -32,7 +32,6 @@ from garnav.plan.visgraph import (
     merge_corners,
     point_links,
     reflex_corners,
-    segments_free,
     zone_corners,
 )
 
@@ -252,7 +251,7 @@ def place_nodes(
             ends = approach_points(pxy, ptan, pin, amin[:, None], approach)  # (p, 2, 2)
             want = np.stack([amin > 0, (amin > 0) & (amin < 90.0)], axis=1)  # at 90° the two coincide
             k, e = np.nonzero(want)
-            ok = segments_free(fs.region, pxy[k], ends[k, e])
+            ok = fs.segments_free(pxy[k], ends[k, e])
             for kk, ee in zip(k[ok].tolist(), e[ok].tolist(), strict=False):
                 add(ends[kk, ee], pi, of=first_portal + kk)
                 app.append(nxt)
@@ -353,7 +352,7 @@ def point_pairs(fs: PieceFreeSpace, xy: np.ndarray, tan: np.ndarray, amin: np.nd
     ok = angle_ok(d, tan[pa], amin[pa]) & angle_ok(-d, tan[pb], amin[pb])
     ok &= np.linalg.norm(d, axis=1) > 0
     pa, pb = pa[ok], pb[ok]
-    vis = segments_free(fs.region, xy[pa], xy[pb])
+    vis = fs.segments_free(xy[pa], xy[pb])
     return pa[vis], pb[vis]
 
 

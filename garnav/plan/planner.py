@@ -39,7 +39,6 @@ from garnav.plan.exact import ExactResult, SeamSearch
 from garnav.plan.refine import refine
 from garnav.plan.route import Leg, Route, join_routes, make_route
 from garnav.plan.search import NodePortalTable, PortalGraph, astar, lazy_heuristic
-from garnav.plan.visgraph import segments_free
 
 __all__ = ["Planner", "plan_route", "PLANNER_VERSION"]
 
@@ -190,7 +189,7 @@ class Planner:
         if p.piece != q.piece:
             return None
         fs = self.free[p.piece]
-        if not segments_free(fs.region, p.xy[None], q.xy[None])[0]:
+        if not fs.segments_free(p.xy[None], q.xy[None])[0]:
             return None
         return float(edge_costs(fs, p.xy[None], q.xy[None])[1][0])
 

@@ -17,7 +17,7 @@ import numpy as np
 
 from garnav.model import Garment, Seam
 from garnav.plan.freespace import FreeSpace
-from garnav.polyline import cumulative_length, point_at_length
+from garnav.polyline import cumulative_length, point_at_length, tangent_at
 
 INSET_MM = 1e-7
 
@@ -54,12 +54,8 @@ class SeamSides:
 
 
 def _tangents(pts: np.ndarray, t: np.ndarray) -> np.ndarray:
-    cum = cumulative_length(pts)
-    s = np.clip(t, 0.0, 1.0) * cum[-1]
-    seg = np.clip(np.searchsorted(cum, s, side="right") - 1, 0, len(pts) - 2)
-    d = pts[seg + 1] - pts[seg]
-    n = np.linalg.norm(d, axis=1, keepdims=True)
-    return d / np.where(n > 0, n, 1.0)
+    """Unit tangents (m, 2) of the run ``pts`` at fractions ``t`` (m,) of its length."""
+    return tangent_at(pts, np.clip(np.asarray(t, dtype=float), 0.0, 1.0) * cumulative_length(pts)[-1])
 
 
 def seam_sides(

@@ -37,7 +37,7 @@ from garnav.plan.navgraph import edge_costs, point_pairs
 from garnav.plan.points import PiecePoint
 from garnav.plan.portals import angle_ok, approach_points
 from garnav.plan.search import astar
-from garnav.plan.visgraph import segments_free, tangent_mask
+from garnav.plan.visgraph import tangent_mask
 
 __all__ = ["refine", "plan_legs", "piece_path", "DistanceField", "Anchor"]
 
@@ -70,7 +70,7 @@ def _sources(planner, piece: str, anchor: Anchor) -> list[tuple[np.ndarray, floa
     ends = anchor.approaches(planner.nav.approach_mm)
     if len(ends):
         a = np.repeat(anchor.xy[None], len(ends), axis=0)
-        ok = segments_free(fs.region, a, ends)
+        ok = fs.segments_free(a, ends)
         cost = edge_costs(fs, a, ends)[1]
         out += [(e, float(c), Anchor(e)) for e, c, k in zip(ends, cost, ok, strict=False) if k]
     return out
@@ -112,7 +112,7 @@ class DistanceField:
             idx = np.nonzero(ok)[0]
             if len(idx):
                 src = np.repeat(xy[None], len(idx), axis=0)
-                vis = segments_free(self.fs.region, src, x[idx])
+                vis = self.fs.segments_free(src, x[idx])
                 cost = c0 + edge_costs(self.fs, src[vis], x[idx[vis]])[1]
                 best[idx[vis]] = np.minimum(best[idx[vis]], cost)
         c = self.corners
@@ -141,7 +141,7 @@ class DistanceField:
                     sel = remaining & (rank < k)
                     if sel.any():
                         qs, ns = q[sel], n[sel]
-                        vis = segments_free(self.fs.region, c.xy[ci[ns]], x[qs])
+                        vis = self.fs.segments_free(c.xy[ci[ns]], x[qs])
                         qs, ns = qs[vis], ns[vis]
                         np.minimum.at(best, qs, self.dist[ci[ns]] + edge_costs(self.fs, c.xy[ci[ns]], x[qs])[1])
                         remaining &= ~sel
@@ -158,7 +158,7 @@ class DistanceField:
             ends = approach_points(x, tangent, inward, min_angle, self.planner.nav.approach_mm)
             for k in range(1 if min_angle >= 90.0 else 2):
                 y = ends[:, k, :]
-                vis = segments_free(self.fs.region, y, x)
+                vis = self.fs.segments_free(y, x)
                 if vis.any():
                     idx = np.nonzero(vis)[0]
                     cost = self._eval(y[idx], None, 0.0) + edge_costs(self.fs, y[idx], x[idx])[1]
