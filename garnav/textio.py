@@ -12,7 +12,7 @@ import os
 from collections.abc import Callable
 from pathlib import Path
 
-__all__ = ["read_text", "file_problem", "NOT_UTF8"]
+__all__ = ["read_text", "read_json_document", "file_problem", "NOT_UTF8"]
 
 NOT_UTF8 = "is not UTF-8 text"
 
@@ -60,3 +60,47 @@ def read_text(
         return raw.decode("utf-8")
     except UnicodeDecodeError as exc:
         raise error(binary_reason or f"{NOT_UTF8} (bad byte at offset {exc.start})") from None
+
+
+def read_json_document(
+    path: str | os.PathLike,
+    error: Callable[[str], Exception],
+    format_name: str,
+    version: int,
+    *,
+    writer_hint: str = "",
+) -> dict:
+    """A garnav JSON document (an object with ``format`` and ``version``) read through
+    :func:`read_text`, with one style of message for every document kind.
+
+    Parameters
+    ----------
+    path : str or path-like
+    error : callable
+        Makes the exception to raise from a whole message (``"<path>: <reason>"``).
+    format_name, version
+        The ``format`` string and the ``version`` number this reader knows.
+    writer_hint : str, optional
+        Appended to the wrong-format message, e.g. ``"; write one with 'garnav drift --json'"``.
+    """
+    p = Path(path)
+    doc = json_object_or_value(read_text(p, lambda reason: error(f"{p}: {reason}")), p, error)
+    if not isinstance(doc, dict) or doc.get("format") != format_name:
+        found = doc.get("format") if isinstance(doc, dict) else type(doc).__name__
+        raise error(f"{p}: not a {format_name} document (format is {found!r}){writer_hint}")
+    if doc.get("version") != version:
+        raise error(f"{p}: {format_name} version {doc.get('version')!r} is not supported "
+                    f"(this reader knows {version})")
+    return doc
+
+
+def json_object_or_value(text: str, path: Path, error: Callable[[str], Exception]):
+    """``json.loads(text)``, a syntax error given as ``"<path>: not JSON: <msg> at line L, column C"``."""
+    import json
+
+    try:
+        return json.loads(text)
+    except json.JSONDecodeError as exc:
+        raise error(f"{path}: not JSON: {exc.msg} at line {exc.lineno}, column {exc.colno}") from None
+    except RecursionError:
+        raise error(f"{path}: not JSON this reader can take: nested too deeply") from None

@@ -36,7 +36,7 @@ from garnav.export.commands import CommandList, Turn, commands_to_json, route_co
 from garnav.export.path import Waypoint, route_waypoints
 from garnav.model import Garment, Robot
 from garnav.plan.route import route_headings_deg
-from garnav.textio import read_text
+from garnav.textio import read_json_document
 
 __all__ = [
     "FORMAT_NAME",
@@ -413,16 +413,7 @@ def read_route_document(path) -> dict:
         Naming the file and the problem.
     """
     p = Path(path)
-    text = read_text(p, lambda reason: QueryError(f"{p}: {reason}"))
-    try:
-        doc = json.loads(text)
-    except json.JSONDecodeError as exc:
-        raise QueryError(f"{p}: not JSON: {exc.msg} at line {exc.lineno}, column {exc.colno}") from None
-    if not isinstance(doc, dict) or doc.get("format") != FORMAT_NAME:
-        found = doc.get("format") if isinstance(doc, dict) else type(doc).__name__
-        raise QueryError(f"{p}: not a {FORMAT_NAME} document (format is {found!r})")
-    if doc.get("version") != FORMAT_VERSION:
-        raise QueryError(f"{p}: {FORMAT_NAME} version {doc.get('version')!r} is not supported (this reader knows {FORMAT_VERSION})")
+    doc = read_json_document(p, QueryError, FORMAT_NAME, FORMAT_VERSION)
     garment = doc.get("garment")
     if not isinstance(garment, dict) or not isinstance(garment.get("name"), str):
         raise QueryError(f"{p}: 'garment' must be an object with a 'name' string")

@@ -10,12 +10,12 @@ time from departure to arrival (waits included), turns and seams from the comman
 
 from __future__ import annotations
 
-import json
 import math
 import os
 from pathlib import Path
 
 from garnav.errors import QueryError
+from garnav.textio import read_json_document
 
 __all__ = ["FLEET_FORMAT", "read_fleet_document", "fleet_routes"]
 
@@ -35,19 +35,7 @@ def read_fleet_document(path: str | os.PathLike) -> dict:
         Naming the file, the robot or waypoint and the problem.
     """
     p = Path(path)
-    try:
-        doc = json.loads(p.read_text(encoding="utf-8"))
-    except OSError as exc:
-        raise QueryError(f"{p}: cannot read: {exc.strerror or exc}") from None
-    except UnicodeDecodeError as exc:
-        raise QueryError(f"{p}: not UTF-8 text (bad byte at offset {exc.start})") from None
-    except json.JSONDecodeError as exc:
-        raise QueryError(f"{p}: not JSON: {exc.msg} at line {exc.lineno}, column {exc.colno}") from None
-    if not isinstance(doc, dict) or doc.get("format") != FLEET_FORMAT:
-        found = doc.get("format") if isinstance(doc, dict) else type(doc).__name__
-        raise QueryError(f"{p}: not a {FLEET_FORMAT} document (format is {found!r}); write one with 'garnav fleet --json'")
-    if doc.get("version") != 1:
-        raise QueryError(f"{p}: {FLEET_FORMAT} version {doc.get('version')!r} is not supported (this reader knows 1)")
+    doc = read_json_document(p, QueryError, FLEET_FORMAT, 1, writer_hint="; write one with 'garnav fleet --json'")
     robots = doc.get("robots")
     if not isinstance(doc.get("garment"), str) or not isinstance(robots, list) or not robots:
         raise QueryError(f"{p}: 'garment' must be a name and 'robots' a non-empty list")

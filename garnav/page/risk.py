@@ -10,13 +10,13 @@ largest cross-track spread.
 
 from __future__ import annotations
 
-import json
 import math
 import os
 from pathlib import Path
 from typing import Sequence
 
 from garnav.errors import QueryError
+from garnav.textio import read_json_document
 
 __all__ = ["read_drift_document", "attach_drift", "DRIFT_FORMAT", "MATCH_MM"]
 
@@ -38,19 +38,7 @@ def read_drift_document(path: str | os.PathLike) -> dict:
         Naming the file and the problem.
     """
     p = Path(path)
-    try:
-        doc = json.loads(p.read_text(encoding="utf-8"))
-    except OSError as exc:
-        raise QueryError(f"{p}: cannot read: {exc.strerror or exc}") from None
-    except UnicodeDecodeError as exc:
-        raise QueryError(f"{p}: not UTF-8 text (bad byte at offset {exc.start})") from None
-    except json.JSONDecodeError as exc:
-        raise QueryError(f"{p}: not JSON: {exc.msg} at line {exc.lineno}, column {exc.colno}") from None
-    if not isinstance(doc, dict) or doc.get("format") != DRIFT_FORMAT:
-        found = doc.get("format") if isinstance(doc, dict) else type(doc).__name__
-        raise QueryError(f"{p}: not a {DRIFT_FORMAT} document (format is {found!r}); write one with 'garnav drift --json'")
-    if doc.get("version") != 1:
-        raise QueryError(f"{p}: {DRIFT_FORMAT} version {doc.get('version')!r} is not supported (this reader knows 1)")
+    doc = read_json_document(p, QueryError, DRIFT_FORMAT, 1, writer_hint="; write one with 'garnav drift --json'")
     end = doc.get("end")
     overall = doc.get("overall")
     if not isinstance(doc.get("garment"), str) or not _num(doc.get("distance_mm")):
