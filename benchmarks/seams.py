@@ -103,7 +103,7 @@ def _wall(cmd: list[str], env: dict[str, str]) -> tuple[float, int]:
 
 
 def run_cli_cache(opts, log) -> dict[str, Any]:
-    args = ["route", str(ROOT / "meshes" / "sensing_top.toml"), "--from", "wrist_left", "--to", "sternum_left"]
+    args = ["route", "meshes/sensing_top.toml", "--from", "wrist_left", "--to", "sternum_left"]  # cwd=ROOT
     cmd = [sys.executable, "-c", "import sys; from garnav.cli import main; sys.exit(main(sys.argv[1:]))", *args]
     out: dict[str, Any] = {"kind": "cli_cache", "command": " ".join(["garnav", *cmd[-6:]])}
     with tempfile.TemporaryDirectory() as folder:
