@@ -307,14 +307,9 @@ def _list(c: _Collect, data: dict, key: str) -> list:
 
 def read_tasks_toml(path: str | os.PathLike) -> tuple[dict, str]:
     """Read and parse a tasks file; problems as :class:`SpecError`. Returns (dict, source)."""
-    p = Path(path)
-    source = str(p)
-    try:
-        text = p.read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise SpecError([Problem(source, "file", "not found")]) from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise SpecError([Problem(source, "file", f"cannot be read: {exc}")]) from None
+    from garnav.spec.reader import read_toml_text
+
+    text, source = read_toml_text(path)
     try:
         return tomllib.loads(text), source
     except tomllib.TOMLDecodeError as exc:

@@ -27,7 +27,7 @@ from garnav.model import Placement
 from garnav.patterns import conventions as cv
 from garnav.patterns.extra import require
 from garnav.patterns.flatten import arc_steps
-from garnav.patterns.raw import RawKeepOut, RawLandmark, RawPattern, RawPiece, pattern_error
+from garnav.patterns.raw import RawKeepOut, RawLandmark, RawPattern, RawPiece, pattern_error, checked_pattern_path
 
 __all__ = ["DxfOptions", "read_dxf", "arc_points"]
 
@@ -450,17 +450,7 @@ def read_dxf(path: str | os.PathLike, options: DxfOptions = DxfOptions()) -> Raw
         unreadable, unknown units, no pieces, open boundaries, zero-length curves, NaN.
     """
     ezdxf = require("ezdxf")
-    file = str(path)
-    p = Path(path)
-    if not p.is_file():
-        raise pattern_error(file, "file", "not found")
-    size = p.stat().st_size
-    if size > options.max_bytes:
-        raise pattern_error(file, "file", f"is {size} bytes, more than the {options.max_bytes} "
-                            "bytes garnav reads from a pattern file")
-    if not (options.tolerance_mm > 0 and math.isfinite(options.tolerance_mm)):
-        raise pattern_error(file, "tolerance", f"chord tolerance must be > 0 mm, got "
-                            f"{options.tolerance_mm}")
+    file, p = checked_pattern_path(path, options.max_bytes, options.tolerance_mm)
     try:
         doc = ezdxf.readfile(p)
     except (OSError, ezdxf.DXFError, UnicodeDecodeError, ValueError) as exc:

@@ -8,7 +8,9 @@ sheet. :mod:`garnav.patterns.build` makes a :class:`~garnav.model.Garment` of it
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
+from pathlib import Path
 
 import numpy as np
 
@@ -120,3 +122,19 @@ class RawPattern:
 def pattern_error(file: str, item: str, reason: str, where=None, hint: str | None = None):
     """A :class:`SpecError` with one problem: file, the element or entity, the reason."""
     return SpecError([Problem(str(file), item, reason, where, hint)])
+
+
+def checked_pattern_path(path, max_bytes: int, tolerance_mm: float) -> tuple[str, Path]:
+    """(file name, path) of a pattern file that exists, is within ``max_bytes`` and is read with a
+    positive finite chord tolerance; otherwise the :func:`pattern_error` that says which."""
+    file = str(path)
+    p = Path(path)
+    if not p.is_file():
+        raise pattern_error(file, "file", "not found")
+    size = p.stat().st_size
+    if size > max_bytes:
+        raise pattern_error(file, "file", f"is {size} bytes, more than the {max_bytes} "
+                            "bytes garnav reads from a pattern file")
+    if not (tolerance_mm > 0 and math.isfinite(tolerance_mm)):
+        raise pattern_error(file, "tolerance", f"chord tolerance must be > 0 mm, got {tolerance_mm}")
+    return file, p

@@ -17,7 +17,6 @@ from __future__ import annotations
 
 import os
 from dataclasses import dataclass
-from pathlib import Path
 from typing import Any
 
 import numpy as np
@@ -38,15 +37,9 @@ _POINT_RUN_KEYS = {"piece", "from", "to", "reverse"}
 def load_seams(path: str | os.PathLike) -> list[dict[str, Any]]:
     """The ``[[seam]]`` tables of a seams file, structure checked (runs are checked on apply)."""
     from garnav.spec import parse_toml
+    from garnav.spec.reader import read_toml_text
 
-    source = str(path)
-    p = Path(path)
-    try:
-        text = p.read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise SpecError([Problem(source, "file", "not found")]) from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise SpecError([Problem(source, "file", f"cannot be read: {exc}")]) from None
+    text, source = read_toml_text(path)
     data = parse_toml(text, source)
     problems = []
     for key in data:

@@ -27,7 +27,7 @@ from garnav.model import KEEPOUT_KINDS
 from garnav.patterns import conventions as cv
 from garnav.patterns.extra import require
 from garnav.patterns.flatten import arc_steps, bezier_points
-from garnav.patterns.raw import RawKeepOut, RawLandmark, RawPattern, RawPiece, pattern_error
+from garnav.patterns.raw import RawKeepOut, RawLandmark, RawPattern, RawPiece, pattern_error, checked_pattern_path
 
 __all__ = ["SvgOptions", "read_svg", "parse_svg_bytes", "check_xml"]
 
@@ -429,15 +429,5 @@ def read_svg(path: str | os.PathLike, options: SvgOptions = SvgOptions()) -> Raw
         external entities, unknown units, open outlines, zero-length curves, NaN, marks that lie
         on no piece.
     """
-    file = str(path)
-    p = Path(path)
-    if not p.is_file():
-        raise pattern_error(file, "file", "not found")
-    size = p.stat().st_size
-    if size > options.max_bytes:
-        raise pattern_error(file, "file", f"is {size} bytes, more than the {options.max_bytes} "
-                            "bytes garnav reads from a pattern file")
-    if not (options.tolerance_mm > 0 and math.isfinite(options.tolerance_mm)):
-        raise pattern_error(file, "tolerance", f"chord tolerance must be > 0 mm, got "
-                            f"{options.tolerance_mm}")
+    file, p = checked_pattern_path(path, options.max_bytes, options.tolerance_mm)
     return parse_svg_bytes(file, p.read_bytes(), options)

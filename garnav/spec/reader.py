@@ -35,7 +35,7 @@ from garnav.spec.geometry_checks import geometry_problems
 from garnav.mechanics.profile import physics_from_table
 from garnav.textio import read_text
 
-__all__ = ["parse_toml", "garment_from_dict", "loads_garment", "load_garment", "robot_from_table"]
+__all__ = ["parse_toml", "read_toml_text", "garment_from_dict", "loads_garment", "load_garment", "robot_from_table"]
 
 
 def parse_toml(text: str, source: str = "<string>") -> dict[str, Any]:
@@ -72,11 +72,16 @@ def loads_garment(text: str, source: str = "<string>") -> Garment:
     return garment_from_dict(parse_toml(text, source), source)
 
 
+def read_toml_text(path: str | os.PathLike) -> tuple[str, str]:
+    """(text, source) of a TOML input file (spec, robot, tasks, seams): a file that cannot be read
+    raises :class:`SpecError` with the reason of :func:`garnav.textio.read_text`."""
+    source = str(path)
+    return read_text(path, lambda reason: SpecError([Problem(source, "file", reason)])), source
+
+
 def load_garment(path: str | os.PathLike) -> Garment:
     """Read and validate the garment spec file at ``path`` (UTF-8 TOML)."""
-    source = str(path)
-    text = read_text(path, lambda reason: SpecError([Problem(source, "file", reason)]))
-    return loads_garment(text, source)
+    return loads_garment(*read_toml_text(path))
 
 
 def garment_from_dict(data: dict[str, Any], source: str = "<string>") -> Garment:

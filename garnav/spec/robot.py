@@ -63,20 +63,9 @@ def loads_robot(text: str, source: str = "<string>") -> Robot:
 
 def load_robot(path: str | os.PathLike) -> Robot:
     """Read and validate the robot file at ``path`` (UTF-8 TOML)."""
-    source = str(path)
-    try:
-        raw = Path(path).read_bytes()
-    except FileNotFoundError:
-        raise SpecError([Problem(source, "file", "does not exist")]) from None
-    except IsADirectoryError:
-        raise SpecError([Problem(source, "file", "is a folder, not a robot file")]) from None
-    except OSError as exc:
-        raise SpecError([Problem(source, "file", f"cannot be read: {exc.strerror or exc}")]) from None
-    try:
-        text = raw.decode("utf-8")
-    except UnicodeDecodeError as exc:
-        raise SpecError([Problem(source, "file", f"is not UTF-8 text (bad byte at offset {exc.start})")]) from None
-    return loads_robot(text, source)
+    from garnav.spec.reader import read_toml_text
+
+    return loads_robot(*read_toml_text(path))
 
 
 def dumps_robot(robot: Robot) -> str:
