@@ -20,7 +20,7 @@ This module does no I/O and no validation beyond what construction needs; the sp
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from functools import cached_property
 from typing import TYPE_CHECKING, Literal
 
@@ -32,6 +32,7 @@ from garnav.polyline import cumulative_length, point_at_length, rotation_matrix,
 if TYPE_CHECKING:  # the profiles' own modules; imported only for type checkers
     from garnav.mechanics.profile import RobotPhysics
     from garnav.uncertainty.model import OdometryModel
+    from garnav.zones.model import BodyZone
 
 __all__ = [
     "Point2",
@@ -78,6 +79,7 @@ KEEPOUT_KINDS = (
     "sensor",
     "dock",
     "custom",
+    "body_zone",  # projected from a [[body_zone]] through a drape (garnav.zones)
 )
 
 
@@ -412,7 +414,9 @@ class Garment:
     """A whole garment: pieces, seams, keep-outs, landmarks and (optionally) a robot and a drape.
 
     ``sheet_size_mm`` is the (width, height) of the sheet in mm: UV = sheet position / size.
-    ``drape`` and ``body`` are mesh paths relative to the spec file (or None).
+    ``drape`` and ``body`` are mesh paths relative to the spec file (or None). ``body_zones``
+    are zones on the body (world frame, :mod:`garnav.zones.model`); a drape turns them into
+    keep-outs (:func:`garnav.zones.with_zone_keepouts`).
     """
 
     name: str
@@ -425,6 +429,7 @@ class Garment:
     drape: str | None = None
     body: str | None = None
     description: str = ""
+    body_zones: tuple[BodyZone, ...] = ()
 
     def piece(self, name: str) -> Piece:
         """The piece called ``name``; KeyError if there is none."""
@@ -443,6 +448,16 @@ class Garment:
         for lm in self.landmarks:
             if lm.name == name:
                 return lm
+        raise KeyError(name)
+
+    def with_keepouts(self, extra: tuple[KeepOut, ...]) -> Garment:
+        """The same garment with the keep-outs ``extra`` added after its own."""
+        return replace(self, keepouts=self.keepouts + tuple(extra))
+
+    def body_zone(self, name: str) -> BodyZone:
+        for z in self.body_zones:
+            if z.name == name:
+                return z
         raise KeyError(name)
 
     def keepouts_on(self, piece: str) -> tuple[KeepOut, ...]:

@@ -17,13 +17,13 @@ MAX_LINES = 600
 LAYERS = [
     {"errors", "polyline"},
     {"atomic", "textio"},
-    {"mechanics.profile", "uncertainty.model"},  # robot profile sub-tables (model and spec read them)
+    {"mechanics.profile", "uncertainty.model", "zones.model"},  # spec sub-tables (model and spec read them)
     {"model"},
     {"garnav"},  # the package's own __init__ (re-exports the model)
     {"spec"},
     {"plan", "patterns"},
     {"drape"},
-    {"export", "mechanics"},
+    {"export", "mechanics", "zones"},
     {"uncertainty"},
     {"telemetry"},
     {"preview"},

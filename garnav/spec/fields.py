@@ -137,6 +137,8 @@ SECTIONS: dict[str, dict[str, Field]] = {
         Field("seam", "tables", section="seam", doc="seams joining edge runs"),
         Field("keepout", "tables", section="keepout", doc="zones the robot keeps out of"),
         Field("landmark", "tables", section="landmark", doc="named points"),
+        Field("body_zone", "tables", doc="zones on the body kept away from through the drape: "
+              "[[body_zone]] (docs/zones.md)"),
     ),
     "robot": _fields(
         Field("name", "str", default="robot", doc="robot name"),

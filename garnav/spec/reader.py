@@ -150,7 +150,7 @@ def _is_number(v: Any) -> bool:
 _MAX_INT = 2**63 - 1  # TOML integers are 64-bit; tomllib accepts longer ones
 
 
-_SECTION_ORDER = ("file", "top level", "robot", "piece", "seam", "keepout", "landmark")
+_SECTION_ORDER = ("file", "top level", "robot", "piece", "seam", "keepout", "landmark", "body_zone")
 
 
 def _section_rank(problem: Problem) -> int:
@@ -279,6 +279,15 @@ class _Reader:
         landmarks = [
             m for i, t in enumerate(v["landmark"] or ()) if (m := self.landmark(t, i)) is not None
         ]
+        body_zones: tuple = ()
+        if v["body_zone"] is not None:  # [[body_zone]]: garnav.zones.model
+            from garnav.zones.model import parse_body_zones
+
+            known = {m.name: True for m in landmarks}
+            known.update({t["name"]: True for t in (v["landmark"] or ()) if isinstance(t.get("name"), str)})
+            body_zones, found = parse_body_zones(v["body_zone"], self.source, known)
+            for item, reason, hint in found:
+                self.add(item, reason, hint=hint)
         garment = Garment(
             name=v["name"] if isinstance(v["name"], str) else "",
             pieces=tuple(pieces),
@@ -290,6 +299,7 @@ class _Reader:
             drape=v["drape"],
             body=v["body"],
             description=v["description"] or "",
+            body_zones=body_zones,
         )
         self.problems.extend(
             geometry_problems(

@@ -139,6 +139,10 @@ def garment_to_dict(garment: Garment) -> dict[str, Any]:
         d["keepout"] = [_keepout(k) for k in g.keepouts]
     if g.landmarks:
         d["landmark"] = [_landmark(m) for m in g.landmarks]
+    if g.body_zones:  # [[body_zone]]: garnav.zones.model
+        from garnav.zones.model import body_zone_to_table
+
+        d["body_zone"] = [body_zone_to_table(z) for z in g.body_zones]
     return d
 
 
@@ -202,7 +206,7 @@ def dumps_garment(garment: Garment) -> str:
     format = "garnav-garment"
     """
     d = garment_to_dict(garment)
-    top = {k: v for k, v in d.items() if k not in ("robot", "piece", "seam", "keepout", "landmark")}
+    top = {k: v for k, v in d.items() if k not in ("robot", "piece", "seam", "keepout", "landmark", "body_zone")}
     out = _body(top)
     if "robot" in d:
         out += robot_lines(d["robot"])
@@ -212,7 +216,7 @@ def dumps_garment(garment: Garment) -> str:
             out += ["", "[[piece.edge]]"] + _body(e)
         for o in p.get("opening", ()):
             out += ["", "[[piece.opening]]"] + _body(o)
-    for section in ("seam", "keepout", "landmark"):
+    for section in ("seam", "keepout", "landmark", "body_zone"):
         for t in d.get(section, ()):
             out += ["", f"[[{section}]]"] + _body(t)
     return "\n".join(out) + "\n"
