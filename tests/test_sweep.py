@@ -252,7 +252,7 @@ def test_region_text_forms_and_errors():
         resolve_region(g, parse_region("polygon:left:500,500;600,500;600,600"))
     with pytest.raises(QueryError, match="needs a drape"):
         resolve_region(g, NearPointRegion((0.0, 0.0, 0.0), 50.0))
-    with pytest.raises(QueryError, match="no body zones are defined"):
+    with pytest.raises(QueryError, match="defines no body zones"):
         resolve_region(g, parse_region("zone:upper_back"))
 
 

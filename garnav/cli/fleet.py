@@ -40,6 +40,9 @@ def register(subparsers) -> None:
     parser.add_argument("--frames", type=int, default=120, metavar="N", help="most frames per animation (default 120)")
     parser.add_argument("--time-limit", type=float, metavar="S", help="give up after S seconds of planning")
     parser.add_argument("--spacing", type=float, metavar="MM", help="roadmap lattice spacing, mm")
+    from garnav.zones.sources import add_ignore_zones_option
+
+    add_ignore_zones_option(parser)
     parser.set_defaults(func=run)
 
 
@@ -56,6 +59,17 @@ def run(args: argparse.Namespace) -> int:
             raise QueryError(f"{source}: top level: no 'garment' path in the file; give one there or with --garment SPEC")
         spec = str(Path(source).parent / g)
     garment = load_garment(spec)
+    if garment.body_zones:  # zones become keep-outs through the spec's own drape (docs/zones.md)
+        from garnav.zones.sources import apply_zones, ignored_zones_note
+
+        zone_drape = None
+        if garment.drape is not None and not getattr(args, "ignore_body_zones", False):
+            from garnav.drape.drape import load_drape
+
+            zone_drape = load_drape(garment, folder=str(Path(spec).parent))
+        garment = apply_zones(garment, zone_drape, spec, getattr(args, "ignore_body_zones", False))
+        if (note := ignored_zones_note(garment, zone_drape)) is not None:
+            print(note)
     tasks = tasks_from_dict(data, source, garment.robot)
     planner = FleetPlanner(garment, tasks, spacing_mm=args.spacing)
     schedule = planner.plan(time_limit_s=args.time_limit)

@@ -80,6 +80,9 @@ def run(args: argparse.Namespace) -> int:
     base = spec_path.parent
     if drape is None and garment.drape:
         drape = load_drape(garment, None, str(base))
+    from garnav.zones.sources import apply_zones
+
+    garment = apply_zones(garment, drape, str(spec_path), allow_without_zones=True)  # drawn, not planned
     body = load_body_mesh(base / garment.body) if garment.body and not args.no_body else None
     # free space only for the spec's own robot: another robot would need other margins
     free = build_free_space(garment, garment.robot) if garment.robot is not None else None

@@ -88,6 +88,9 @@ def register(subparsers) -> None:
         help="do not lift the route onto the spec's own drape (world points xyz:... still snap "
         "through it)",
     )
+    from garnav.zones.sources import add_ignore_zones_option
+
+    add_ignore_zones_option(parser)
     parser.add_argument("--robot", metavar="ROBOT.toml", help="use the robot of this robot file (a [robot] table, "
                         "optionally with [robot.physics]) instead of the spec's (docs/physics.md)")
     parser.add_argument("--cost", choices=("length", "time", "energy"), default=None,
@@ -136,6 +139,11 @@ def run(args: argparse.Namespace) -> int:
 
         parse_gravity(args.gravity, args.posture)  # a bad posture fails before any work
     garment, drape = _garment_and_drape(args)
+    from garnav.zones.sources import apply_zones, ignored_zones_note
+
+    garment = apply_zones(garment, drape, args.garment, getattr(args, "ignore_body_zones", False))
+    if (note := ignored_zones_note(garment, drape)) is not None:
+        print(note)
     if drape is not None:
         locate = pattern_locator(drape, garment)
     else:

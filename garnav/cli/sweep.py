@@ -2,7 +2,7 @@
 
 Regions (repeat ``--region`` for a union): ``pieces:NAME[,NAME]``, ``polygon:PIECE:X,Y;X,Y;...``
 (pattern mm), ``near:X,Y,Z:MM`` (fabric within MM of a world point; needs a drape) and
-``zone:NAME`` (body zones: not defined yet). Writes the sweep's route document (``garnav-route``
+``zone:NAME`` (the fabric of a named ``[[body_zone]]`` of the spec, through the drape). Writes the sweep's route document (``garnav-route``
 with a ``sweep`` object of coverage figures, docs/sweeps.md), optionally its CSV, the robot
 commands, the pattern sheet with the covered ground shaded and a 3D picture. All atomically.
 """
@@ -34,7 +34,8 @@ def register(subparsers) -> None:
         "(boustrophedon cells, least-width lane direction, a headland lap along curved borders), "
         "joined by the route planner across seams, and print its coverage figures. REGION is "
         "pieces:NAME[,NAME], polygon:PIECE:X,Y;X,Y;X,Y (pattern mm), near:X,Y,Z:MM (fabric within "
-        "MM of a world point, needs a drape) or zone:NAME (body zones; none are defined yet).",
+        "MM of a world point, needs a drape) or zone:NAME (the fabric of one of the spec's body zones, "
+        "needs a drape; the other zones stay keep-outs).",
         epilog=CAUTION,
     )
     parser.add_argument("garment", metavar="GARMENT", help="garment spec file (.toml) or a UV-mapped mesh")
@@ -52,6 +53,9 @@ def register(subparsers) -> None:
     drape.add_argument("--drape", metavar="MESH", nargs="?", const="",
                        help="the drape mesh (without MESH: the spec's own, used anyway when the spec names one)")
     drape.add_argument("--no-drape", action="store_true", help="do not use the spec's own drape")
+    from garnav.zones.sources import add_ignore_zones_option
+
+    add_ignore_zones_option(parser)
     parser.add_argument("--posture", metavar="NAME", help="wearer's posture for the energy figure (needs a "
                         "[robot.physics] profile and a drape): upright (default), or another of docs/physics.md")
     parser.add_argument("--robots", type=int, default=1, metavar="K",
@@ -81,6 +85,12 @@ def run(args: argparse.Namespace) -> int:
         raise QueryError(f"--sheet {args.sheet}: use a .svg or .png file name")
     region = parse_region(args.region)
     garment, drape = _garment_and_drape(args)
+    from garnav.zones.sources import apply_zones, ignored_zones_note, zone_regions
+
+    plain = garment
+    garment = apply_zones(garment, drape, args.garment, args.ignore_body_zones, except_zones=_zone_names(region))
+    if (note := ignored_zones_note(garment, drape)) is not None:
+        print(note)
     locate = pattern_locator(drape, garment) if drape is not None else spec_drape_locator(garment, Path(args.garment).parent)
     robot = garment.robot or Robot()
     if args.radius is not None:
@@ -95,7 +105,7 @@ def run(args: argparse.Namespace) -> int:
     if args.screenshot and drape is None:
         raise QueryError("--screenshot needs a drape (the spec's own drape, or --drape MESH)")
     swath_of(robot, args.swath)  # a missing or bad swath fails before the planner is built
-    areas = resolve_region(garment, region, drape=drape)  # bad regions fail before the planner is built
+    areas = resolve_region(garment, region, drape=drape, zones=zone_regions(plain))  # bad regions fail before the planner is built
     planner = Planner(garment, robot, extra_clearance_mm=args.clearance, locate_3d=locate)
     sweep = plan_sweep(garment, areas, swath_mm=args.swath, headland=args.headland, planner=planner,
                        drape=drape, start=args.start)
@@ -192,6 +202,14 @@ def _garment_and_drape(args: argparse.Namespace):
         return garment_and_drape(args.garment, "", optional=True)
     except MeshError as exc:
         raise MeshError(f"{exc} (the spec names this drape; --no-drape plans without it)") from None
+
+
+def _zone_names(region) -> tuple[str, ...]:
+    """Names of the body zones a region is made of (``zone:NAME``): they are swept, not kept out."""
+    from garnav.sweep.region import UnionRegion, ZoneRegion
+
+    parts = region.parts if isinstance(region, UnionRegion) else (region,)
+    return tuple(p.name for p in parts if isinstance(p, ZoneRegion))
 
 
 def _mostly_back(doc: dict) -> bool:

@@ -43,13 +43,14 @@ __all__ = [
     "summary_table",
 ]
 
-#: The demo's queries: (start, goal, what the route shows). ``cervicale`` is a body landmark (xyz)
-#: that snaps onto the garment through the drape.
+#: The demo's queries: (start, goal, what the route shows). ``scapula_right`` is a body landmark
+#: (xyz) that snaps onto the garment through the drape. No route ends in (or crosses) the demo's
+#: body zones: the implanted device on the left chest and the neck and face (garnav.zones).
 DEMO_ROUTES: tuple[tuple[str, str, str], ...] = (
-    ("wrist_left", "sternum_left", "sleeve to chest across the left armhole seam"),
+    ("wrist_left", "sternum_left", "sleeve to chest, round the back: the implant zone blocks the front armhole"),
     ("olecranon_right", "dock", "elbow back to the charging dock on the lower back"),
-    ("wrist_right", "cervicale", "over the right shoulder to the neck base, a body landmark"),
-    ("omphalion", "suprasternale", "straight up the chest is too steep for the drive: a switchback"),
+    ("wrist_right", "scapula_right", "across the right armhole to the shoulder blade, a body landmark"),
+    ("omphalion", "sternum_left", "straight up the chest is too steep for the drive: a switchback"),
 )
 
 #: Labels passed to ``progress`` (one call after each step), in order.
@@ -223,8 +224,11 @@ def run_demo(
     scene = demo_scene()
     garment, drape, mesh, body = scene.garment, scene.drape, scene.drape_mesh, scene.body_mesh
     robot = garment.robot or Robot()
+    from garnav.zones import with_zone_keepouts
+
+    zoned = with_zone_keepouts(garment, drape)  # the body zones as keep-outs on this drape
     done("garment and drape")
-    planner = Planner(garment, robot, locate_3d=pattern_locator(drape, garment))
+    planner = Planner(zoned, robot, locate_3d=pattern_locator(drape, zoned))
     physics = None
     if robot.physics is not None:  # -- physics: routes the robot can drive (docs/physics.md)
         from garnav.mechanics.planning import PhysicsPlanner
@@ -297,7 +301,7 @@ def run_demo(
     from garnav.preview.sheet import sheet_drawing, write_sheet_png, write_sheet_svg
 
     drawing = sheet_drawing(
-        garment, [r.route for r in routes], planner.free, robot, route_names=[r.name for r in routes]
+        zoned, [r.route for r in routes], planner.free, robot, route_names=[r.name for r in routes]
     )
     files["sheet_svg"] = Path(write_sheet_svg(out / f"{SHEET_NAME}.svg", drawing))
     files["sheet_png"] = Path(write_sheet_png(out / f"{SHEET_NAME}.png", drawing))
@@ -305,7 +309,7 @@ def run_demo(
 
     from garnav.page import plan_page, write_plan_page
 
-    page = plan_page(garment, [(r.name, r.document) for r in routes], drape, scene.body,
+    page = plan_page(zoned, [(r.name, r.document) for r in routes], drape, scene.body,
                      free_space=planner.free, title=f"Demo plan: robot routes on {garment.name} (invented scenario)")
     files["page"] = write_plan_page(out / PAGE_NAME, page)
     done("page")

@@ -12,8 +12,8 @@ Kinds
   found through the drape: the distance is linear on each drape triangle's corners, so the set is
   the sub-level set ``d <= R`` of a piecewise linear function, cut triangle by triangle in the
   pattern (the marching-triangles construction of an iso-contour).
-* :class:`ZoneRegion` — a named body zone. garnav has no body-zone model yet; the kind is here so
-  that a zone catalogue can plug in: pass ``zones`` (name → region of any kind) to
+* :class:`ZoneRegion` — a named body zone (``[[body_zone]]``, :mod:`garnav.zones`): pass
+  ``zones`` (name → region of any kind, e.g. :func:`garnav.zones.sources.zone_regions`) to
   :func:`resolve_region`. Without one it is a clear :class:`~garnav.errors.QueryError`.
 
 Any object with a ``resolve(context) -> dict[str, shapely geometry]`` method is a region
@@ -24,7 +24,7 @@ Text form (``garnav sweep --region``, see :func:`parse_region`)::
     pieces:back,front                   whole pieces
     polygon:back:10,20;200,20;200,300   a polygon on one piece, vertices x,y mm
     near:0,-95,1400:120                 within 120 mm of world point (0, -95, 1400)
-    zone:upper_back                     a named body zone (needs a zone catalogue)
+    zone:wound_site                     a named body zone of the spec (needs the drape)
 """
 
 from __future__ import annotations
@@ -145,8 +145,8 @@ class ZoneRegion:
     def resolve(self, context: RegionContext) -> dict[str, shapely.Geometry]:
         if not context.zones:
             raise QueryError(
-                f"region zone '{self.name}': no body zones are defined (garnav has no body-zone "
-                f"catalogue yet); give the region as pieces:, polygon: or near: instead"
+                f"region zone '{self.name}': the spec defines no body zones ([[body_zone]], "
+                f"docs/zones.md); give the region as pieces:, polygon: or near: instead"
             )
         if self.name not in context.zones:
             hint = did_you_mean(self.name, list(context.zones))
