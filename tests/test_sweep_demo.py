@@ -135,7 +135,8 @@ def test_cli_sweep_writes_document_commands_and_sheet(flat, tmp_path, capsys):
 
 
 def test_cli_sweep_bad_region_is_one_message(capsys):
-    rc = main(["sweep", str(SPEC), "--region", "pieces:bak", "--swath", "10", "--no-drape", "--json", "/dev/null"])
+    rc = main(["sweep", str(SPEC), "--region", "pieces:bak", "--swath", "10", "--no-drape",
+               "--ignore-body-zones", "--json", "/dev/null"])
     assert rc == 2
     err = capsys.readouterr().err
     assert "unknown piece 'bak'" in err and "Traceback" not in err

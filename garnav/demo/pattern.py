@@ -48,7 +48,7 @@ from garnav.model import (
     SeamRun,
 )
 from garnav.mechanics.profile import RobotPhysics
-from garnav.zones.model import BodyZone
+from garnav.demo.zones import demo_body_zones
 from garnav.polyline import cumulative_length
 
 __all__ = [
@@ -418,31 +418,6 @@ def _keepouts(dims: DemoDimensions, width: float) -> tuple[KeepOut, ...]:
     )
 
 
-def _body_zones(dims: DemoDimensions) -> tuple[BodyZone, ...]:
-    """The demo's body zones (invented): an implanted device on the left side of the chest, kept
-    at the default distance of garnav.zones (at least 15 cm, after the US FDA 2021 consumer
-    guidance; the device maker and the wearer's clinician decide for a real wearer), and the neck
-    and face: a capsule round the neck axis from the neck base up, 50 mm beyond a 45 mm neck."""
-    return (
-        BodyZone(
-            "implant",
-            "implanted_device",
-            "sphere",
-            ((dims.left_x_sign * 110.0, 60.0, dims.shoulder_z - 220.0),),
-            description="invented: an implanted device under the skin of the left side of the chest",
-        ),
-        BodyZone(
-            "neck_and_face",
-            "neck_face",
-            "capsule",
-            ((0.0, dims.neck_centre_y, dims.shoulder_z - 20.0), (0.0, dims.neck_centre_y, dims.shoulder_z + 300.0)),
-            radius_mm=45.0,
-            distance_mm=50.0,
-            description="neck, face and hair: the robot never goes there",
-        ),
-    )
-
-
 def _landmarks(dims: DemoDimensions, width: float, parts: _Parts) -> tuple[Landmark, ...]:
     a, b = dims.half_width, dims.half_depth
     height = dims.shoulder_z - dims.hem_z
@@ -578,7 +553,7 @@ def build_design(dims: DemoDimensions = DemoDimensions()) -> DemoDesign:
         seams=_seams(parts),
         keepouts=_keepouts(dims, width),
         landmarks=_landmarks(dims, width, parts),
-        body_zones=_body_zones(dims),
+        body_zones=demo_body_zones(dims),
         robot=Robot(
             "demo_crawler",
             radius_mm=20.0,

@@ -1,0 +1,37 @@
+"""The demo garment's body zones (invented scenario): an implanted device and the neck and face."""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING
+
+from garnav.zones.model import BodyZone
+
+if TYPE_CHECKING:
+    from garnav.demo.pattern import DemoDimensions
+
+__all__ = ["demo_body_zones"]
+
+
+def demo_body_zones(dims: DemoDimensions) -> tuple[BodyZone, ...]:
+    """The demo's body zones (invented): an implanted device on the left side of the chest, kept
+    at the default distance of garnav.zones (at least 15 cm, after the US FDA 2021 consumer
+    guidance; the device maker and the wearer's clinician decide for a real wearer), and the neck
+    and face: a capsule round the neck axis from the neck base up, 50 mm beyond a 45 mm neck."""
+    return (
+        BodyZone(
+            "implant",
+            "implanted_device",
+            "sphere",
+            ((dims.left_x_sign * 110.0, 60.0, dims.shoulder_z - 220.0),),
+            description="invented: an implanted device under the skin of the left side of the chest",
+        ),
+        BodyZone(
+            "neck_and_face",
+            "neck_face",
+            "capsule",
+            ((0.0, dims.neck_centre_y, dims.shoulder_z - 20.0), (0.0, dims.neck_centre_y, dims.shoulder_z + 300.0)),
+            radius_mm=45.0,
+            distance_mm=50.0,
+            description="neck, face and hair: the robot never goes there",
+        ),
+    )
