@@ -28,6 +28,7 @@ import shapely
 from garnav.atomic import write_bytes_atomic, write_text_atomic
 from garnav.model import Garment, Piece, Robot
 from garnav.polyline import cumulative_length, point_at_length, sub_polyline, tangent_at
+from garnav.preview.zone_layer import zone_items, zone_legend
 
 __all__ = [
     "Area",
@@ -228,6 +229,7 @@ def sheet_drawing(
         ("open-edges", _layer_open_edges(garment, pieces, style)),
         ("free-space", _layer_free_space(free_space, pieces, style)),
         ("keepouts", _layer_keepouts(garment, pieces, free_space, robot, style)),
+        ("body-zones", tuple(zone_items(garment, _to_sheet, Area, Label, style.label_size * 0.6))),
         ("seams", _layer_seams(garment, pieces, style)),
         ("names", _layer_names(garment, style)),
         ("landmarks", _layer_landmarks(garment, pieces, style)),
@@ -238,6 +240,9 @@ def sheet_drawing(
         layers.append((f"route-{ri}", tuple(_route_items(route, ri, pieces, style, route_names))))
 
     layers.append(("scale", tuple(_scale_bar(garment.sheet_size_mm, style))))
+    legend = zone_legend(garment, garment.sheet_size_mm, Area, Label, style.label_size)
+    if legend:
+        layers.append(("zone-legend", tuple(legend)))
     w, h = garment.sheet_size_mm
     return SheetDrawing(float(w), float(h), garment.name, style.paper, tuple(layers))
 
@@ -291,6 +296,8 @@ def _layer_keepouts(garment: Garment, pieces: dict[str, Piece], free_space, robo
     """The keep-outs themselves (and, without a free space, their grown outline as a guide)."""
     kos = []
     for k in garment.keepouts:
+        if k.kind == "body_zone":  # drawn in their own style (garnav.preview.zone_layer)
+            continue
         p = pieces[k.piece]
         exact = k.shape.exact_geometry()
         geom = _place(p, exact)
