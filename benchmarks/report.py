@@ -20,6 +20,7 @@ TARGETS = (
     ("lift_time", "lift of ~5,000 points on ~100k triangles under 15 ms (median)"),
     ("demo_end_to_end", "`garnav demo` end to end under 20 s"),
     ("sweep_back_panel", "sweep of the demo back panel (10 mm swath) under 2 s: at most 2x the route planner build on the same garment"),
+    ("zones_100k", "5 body zones projected onto a ~100k-triangle drape under 1 s: at most 2x link_drape on the same mesh"),
     # dead reckoning (benchmarks/drift.py)
     ("drift_covariance_50", "covariance of a 50-command route under 5 ms"),
     ("drift_monte_carlo_10k", "Monte Carlo 10,000 runs of a demo route under 2 s"),
@@ -147,6 +148,16 @@ def evaluate_targets(res: dict[str, Any]) -> list[dict[str, Any]]:
                       f"covered {100 * g['covered_fraction']:.2f} %"))
     else:
         out.append(_t("sweep_back_panel", "N/A", None, sw.get("error", "not run")))
+    zc = cases.get("zones_100k", {})
+    ratio = _get(zc, "garnav", "over_link")
+    if ratio is not None:
+        g = zc["garnav"]
+        out.append(_t("zones_100k", "PASS" if ratio <= 2.0 else "MISS", ratio,
+                      f"{g['zone_keepouts_s']:.3f} s on {zc['faces']:,} triangles = {ratio:.2f}x link_drape "
+                      f"({zc['reference_link_s']:.2f} s); {g['over_whole_triangles']:.2f}x a whole-triangle union "
+                      f"({zc['reference_whole_triangles_s']:.2f} s)"))
+    else:
+        out.append(_t("zones_100k", "N/A", None, zc.get("error", "not run")))
     drift = {t["key"]: t for t in cases.get("drift", {}).get("targets", [])}
     for key in ("drift_covariance_50", "drift_monte_carlo_10k", "drift_replay_36000"):
         t = drift.get(key)

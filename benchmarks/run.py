@@ -37,7 +37,7 @@ from benchmarks.measure import growth_exponent, machine_info, peak_memory, summa
 from benchmarks.report import evaluate_targets, format_report, markdown_report
 from benchmarks.single import run_single
 
-ALL_CASES = ("single", "demo", "lift", "cli", "sweep", "drift", "physics", "seams")
+ALL_CASES = ("single", "demo", "lift", "cli", "sweep", "drift", "physics", "seams", "zones")
 FULL_N = (10, 50, 200, 500)
 QUICK_N = (2, 4)
 
@@ -363,6 +363,15 @@ def run(opts: Options, which: tuple[str, ...], log=print, checkpoint=None) -> di
             results["cases"]["sweep_back"] = run_sweep(opts, log)
         except Exception as exc:
             results["cases"]["sweep_back"] = {"kind": "sweep", "error": _err(exc)}
+        save(results)
+    if "zones" in which:  # body zones: benchmarks/zones_case.py
+        from benchmarks.zones_case import run_zones
+
+        log("case zones_100k ...")
+        try:
+            results["cases"]["zones_100k"] = run_zones(opts, log)
+        except Exception as exc:
+            results["cases"]["zones_100k"] = {"kind": "zones", "error": _err(exc)}
         save(results)
     if "drift" in which:  # dead reckoning: benchmarks/drift.py
         log("case drift ...")

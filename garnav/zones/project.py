@@ -165,17 +165,22 @@ def _clip_polygons(corners: np.ndarray, values: np.ndarray) -> np.ndarray:
     return ring
 
 
-def _face_polygons(zone: BodyZone, anchors: np.ndarray, drape: Drape) -> tuple[np.ndarray, np.ndarray]:
-    """Conservative pattern polygons of the zone's fabric: (face ids (T,), rings (T, 4, 2))."""
+def _face_polygons(zone: BodyZone, anchors: np.ndarray, drape: Drape, balls=None
+                   ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Conservative pattern polygons of the zone's fabric: face ids (T,), rings (T, 4, 2) and
+    whether each is the whole triangle (T,). ``balls``: :func:`_enclosing_balls` of the drape's
+    triangles, when already computed."""
     faces = np.asarray(drape.faces)
     gv = zone_excess(zone, anchors, drape.positions)
     gc = gv[faces]  # (F, 3)
     if zone.shape == "above_plane":
         cand = np.flatnonzero((gc <= 0).any(axis=1))
         values = gc[cand]
+        whole = (values <= 0).all(axis=1)
     else:
-        tri = np.asarray(drape.positions, dtype=float)[faces]
-        centre, rho = _enclosing_balls(tri)
+        if balls is None:
+            balls = _enclosing_balls(np.asarray(drape.positions, dtype=float)[faces])
+        centre, rho = balls
         g_centre = zone_excess(zone, anchors, centre)
         cand = np.flatnonzero(g_centre - rho <= 0)
         values = gc[cand]
@@ -186,24 +191,41 @@ def _face_polygons(zone: BodyZone, anchors: np.ndarray, drape: Drape) -> tuple[n
         whole = inside | ~ok
         values = np.where(whole[:, None], -1.0, values - delta[:, None])
         hit = (values <= 0).any(axis=1)
-        cand, values = cand[hit], values[hit]
+        cand, values, whole = cand[hit], values[hit], whole[hit]
     corners = np.asarray(drape.corner_pattern, dtype=float)[cand]
-    return cand, _clip_polygons(corners, values)
+    return cand, _clip_polygons(corners, values), whole
 
 
-def zone_areas(zone: BodyZone, garment: Garment, drape: Drape) -> dict[str, shapely.Geometry]:
+def _union(whole: np.ndarray, cut: np.ndarray) -> shapely.Geometry:
+    """Union of whole mesh triangles (k, 3, 2) — a coverage, joined by GEOS's fast coverage union
+    (a plain union if they do not node exactly) — and cut triangles (m, 4, 2)."""
+    parts = []
+    if len(whole):
+        tris = shapely.polygons(whole)
+        try:
+            parts.append(shapely.coverage_union_all(tris))
+        except shapely.errors.GEOSException:
+            parts.append(shapely.union_all(tris))
+    if len(cut):
+        polys = shapely.polygons(cut)
+        parts.extend(polys[shapely.area(polys) > 0])
+    return shapely.union_all(parts)
+
+
+def zone_areas(zone: BodyZone, garment: Garment, drape: Drape, balls=None) -> dict[str, shapely.Geometry]:
     """The zone's fabric on each piece as a conservative polygon (piece frame, mm, holes filled):
     piece → polygon or multipolygon, pieces the zone misses left out."""
     anchors = zone_anchor_points(zone, garment, drape)
-    ids, rings = _face_polygons(zone, anchors, drape)
+    ids, rings, whole = _face_polygons(zone, anchors, drape, balls)
     out: dict[str, shapely.Geometry] = {}
     if not len(ids):
         return out
     piece_of = np.asarray(drape.face_piece)[ids]
     grow = SIMPLIFY_MM / math.cos(math.pi / (4 * _QUAD_SEGS))
+    corner_pattern = np.asarray(drape.corner_pattern, dtype=float)
     for pid in np.unique(piece_of).tolist():
-        polys = shapely.polygons(rings[piece_of == pid])
-        union = shapely.union_all(polys[shapely.area(polys) > 0])
+        on = piece_of == pid
+        union = _union(corner_pattern[ids[on & whole]], rings[on & ~whole])
         parts = []
         for part in shapely.get_parts(union):
             if not isinstance(part, shapely.Polygon) or part.is_empty:
@@ -235,8 +257,12 @@ def zone_keepouts(garment: Garment, drape: Drape, zones: tuple[BodyZone, ...] | 
         Default: ``garment.body_zones``.
     """
     out: list[KeepOut] = []
-    for zone in garment.body_zones if zones is None else zones:
-        for piece, geom in zone_areas(zone, garment, drape).items():
+    todo = garment.body_zones if zones is None else zones
+    balls = None
+    if any(z.shape != "above_plane" for z in todo):  # shared by every sphere and capsule
+        balls = _enclosing_balls(np.asarray(drape.positions, dtype=float)[np.asarray(drape.faces)])
+    for zone in todo:
+        for piece, geom in zone_areas(zone, garment, drape, balls).items():
             for k, part in enumerate(shapely.get_parts(geom)):
                 pts = np.asarray(part.exterior.coords)[:-1]
                 name = f"{zone.name}@{piece}" + (f"#{k + 1}" if k else "")
