@@ -50,6 +50,8 @@ __all__ = [
     "Rectangle",
     "KeepOut",
     "KEEPOUT_KINDS",
+    "BODY_ZONE_KIND",
+    "ALL_KEEPOUT_KINDS",
     "Landmark",
     "Robot",
     "Garment",
@@ -79,8 +81,13 @@ KEEPOUT_KINDS = (
     "sensor",
     "dock",
     "custom",
-    "body_zone",  # projected from a [[body_zone]] through a drape (garnav.zones)
 )
+
+#: The kind of the keep-outs a drape projects from a ``[[body_zone]]`` (:mod:`garnav.zones`); never
+#: written in a spec file, so not one of :data:`KEEPOUT_KINDS`.
+BODY_ZONE_KIND = "body_zone"
+#: Every kind a :class:`KeepOut` may have in memory.
+ALL_KEEPOUT_KINDS = KEEPOUT_KINDS + (BODY_ZONE_KIND,)
 
 
 @dataclass(frozen=True)

@@ -26,7 +26,7 @@ import numpy as np
 import shapely
 
 from garnav.atomic import write_bytes_atomic, write_text_atomic
-from garnav.model import Garment, Piece, Robot
+from garnav.model import BODY_ZONE_KIND, Garment, Piece, Robot
 from garnav.polyline import cumulative_length, point_at_length, sub_polyline, tangent_at
 from garnav.preview.zone_layer import zone_items, zone_legend
 
@@ -296,7 +296,7 @@ def _layer_keepouts(garment: Garment, pieces: dict[str, Piece], free_space, robo
     """The keep-outs themselves (and, without a free space, their grown outline as a guide)."""
     kos = []
     for k in garment.keepouts:
-        if k.kind == "body_zone":  # drawn in their own style (garnav.preview.zone_layer)
+        if k.kind == BODY_ZONE_KIND:  # drawn in their own style (garnav.preview.zone_layer)
             continue
         p = pieces[k.piece]
         exact = k.shape.exact_geometry()

@@ -10,7 +10,7 @@ from __future__ import annotations
 import numpy as np
 import shapely
 
-from garnav.model import Garment
+from garnav.model import BODY_ZONE_KIND, Garment
 from garnav.zones.model import BodyZone
 
 __all__ = ["ZONE_COLOURS", "ZONE_WORDS", "zone_items", "zone_legend"]
@@ -56,7 +56,7 @@ def zone_items(garment: Garment, to_sheet, area, label, label_size: float) -> li
     items: list = []
     named: set[str] = set()
     for k in garment.keepouts:
-        if k.kind != "body_zone":
+        if k.kind != BODY_ZONE_KIND:
             continue
         zone = _zone_of(garment, k.name)
         kind = zone.kind if zone is not None else "custom"
@@ -82,7 +82,7 @@ def zone_items(garment: Garment, to_sheet, area, label, label_size: float) -> li
 def zone_legend(garment: Garment, size: tuple[float, float], area, label, label_size: float) -> list:
     """A legend of the drawn zone kinds in the sheet's upper right corner: a swatch and the zone's
     name, kind and distance per body zone that has keep-outs."""
-    drawn = {k.name.split("@", 1)[0] for k in garment.keepouts if k.kind == "body_zone"}
+    drawn = {k.name.split("@", 1)[0] for k in garment.keepouts if k.kind == BODY_ZONE_KIND}
     zones = [z for z in garment.body_zones if z.name in drawn]
     if not zones:
         return []

@@ -203,8 +203,7 @@ SECTIONS: dict[str, dict[str, Field]] = {
     "keepout": _fields(
         Field("name", "str", True, doc="keep-out name, unique"),
         Field("piece", "str", True, doc="piece it lies on"),
-        # body_zone keep-outs come from [[body_zone]] through a drape, never from the file
-        Field("kind", "str", True, choices=tuple(k for k in KEEPOUT_KINDS if k != "body_zone"), doc="what it is"),
+        Field("kind", "str", True, choices=KEEPOUT_KINDS, doc="what it is"),
         Field("shape", "str", True, choices=SHAPES, doc="circle, rectangle or polygon"),
         Field("center", "point2", unit="mm", doc="circle/rectangle centre, piece frame"),
         Field("radius", "float", unit="mm", low=0.0, low_open=True, doc="circle radius"),

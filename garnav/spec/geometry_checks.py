@@ -25,7 +25,7 @@ import shapely
 from garnav.errors import Problem, SpecError, did_you_mean
 from garnav.model import KEEPOUT_KINDS, Circle, Garment, KeepOut, Piece, PolygonShape, Rectangle
 from garnav.polyline import point_at_length
-from garnav.spec.fields import MAX_ABS, ROBOT_SIDES, SECTIONS, range_problem
+from garnav.spec.fields import MAX_ABS, ROBOT_SIDES, range_problem
 
 __all__ = ["garment_problems", "check_garment", "geometry_problems", "robot_problems", "TOL_MM"]
 
@@ -461,10 +461,9 @@ class _Checker:
         self.duplicates("keepout", (k.name for k in self.g.keepouts))
         for k in self.g.keepouts:
             item = f"keepout '{k.name}'"
-            kinds = SECTIONS["keepout"]["kind"].choices or KEEPOUT_KINDS  # body_zone: not in files
-            if k.kind not in kinds:
-                self.add(item, f"unknown kind '{k.kind}'; valid kinds: {', '.join(kinds)}",
-                         hint=did_you_mean(str(k.kind), kinds))
+            if k.kind not in KEEPOUT_KINDS:
+                self.add(item, f"unknown kind '{k.kind}'; valid kinds: {', '.join(KEEPOUT_KINDS)}",
+                         hint=did_you_mean(str(k.kind), KEEPOUT_KINDS))
             self.number("keepout", "clearance_mm", k.clearance_mm, item)
             self.number("keepout", "cost_factor", k.cost_factor, item)
             with np.errstate(over="ignore", invalid="ignore"):  # huge sizes: reported, not warned

@@ -40,7 +40,7 @@ import numpy as np
 import shapely
 
 from garnav.errors import QueryError, did_you_mean
-from garnav.model import Garment, KeepOut, PolygonShape
+from garnav.model import BODY_ZONE_KIND, Garment, KeepOut, PolygonShape
 from garnav.zones.model import BodyZone
 
 if TYPE_CHECKING:
@@ -267,7 +267,7 @@ def zone_keepouts(garment: Garment, drape: Drape, zones: tuple[BodyZone, ...] | 
                 pts = np.asarray(part.exterior.coords)[:-1]
                 name = f"{zone.name}@{piece}" + (f"#{k + 1}" if k else "")
                 shape = PolygonShape(tuple((float(x), float(y)) for x, y in pts))
-                out.append(KeepOut(name, piece, "body_zone", shape, 0.0, zone.hard, zone.cost_factor))
+                out.append(KeepOut(name, piece, BODY_ZONE_KIND, shape, 0.0, zone.hard, zone.cost_factor))
     return tuple(out)
 
 
@@ -280,7 +280,7 @@ def with_zone_keepouts(garment: Garment, drape: Drape) -> Garment:
 
 def zone_of_keepout(garment: Garment, keepout: KeepOut) -> BodyZone | None:
     """The body zone a projected keep-out came from (by its ``ZONE@PIECE`` name), or None."""
-    if keepout.kind != "body_zone":
+    if keepout.kind != BODY_ZONE_KIND:
         return None
     name = keepout.name.split("@", 1)[0]
     for z in garment.body_zones:
