@@ -125,7 +125,7 @@ def test_route_cli_with_robot_file_cost_and_posture(tmp_path, capsys):
     robot.write_text('[robot]\nname = "bot"\nradius_mm = 20.0\nspeed_mm_s = 25.0\n'
                      "[robot.physics]\nmax_drive_force_n = 0.6\n", encoding="utf-8")
     out = tmp_path / "r.json"
-    code = main(["route", str(SPEC), "--from", "omphalion", "--to", "suprasternale", "--robot", str(robot),
+    code = main(["route", str(SPEC), "--from", "omphalion", "--to", "sternum_left", "--robot", str(robot),
                  "--cost", "energy", "--posture", "upright", "--json", str(out), "--csv", str(tmp_path / "r.csv")])
     text = capsys.readouterr().out
     assert code == 0 and "energy" in text and "worst:" in text and "not drivable" in text
@@ -144,12 +144,13 @@ def test_route_cli_with_robot_file_cost_and_posture(tmp_path, capsys):
 @pytest.mark.slow
 def test_route_cli_lying_down_changes_gravity(tmp_path, capsys):
     out = tmp_path / "r.json"
-    assert main(["route", str(SPEC), "--from", "wrist_left", "--to", "sternum_left", "--gravity", "0,-1,0",
+    assert main(["route", str(SPEC), "--from", "wrist_right", "--to", "scapula_right", "--gravity", "0,-1,0",
                  "--json", str(out)]) == 0
     doc = json.loads(out.read_text())
     assert doc["physics"]["posture"] == "custom" and doc["physics"]["gravity"] == [0.0, -1.0, 0.0]
     # lying on the back the sleeve run is level: no climb against gravity, so less energy than upright
-    assert main(["route", str(SPEC), "--from", "wrist_left", "--to", "sternum_left", "--json", str(tmp_path / "u.json")]) == 0
+    # (observed 12.1 J against 12.5 J)
+    assert main(["route", str(SPEC), "--from", "wrist_right", "--to", "scapula_right", "--json", str(tmp_path / "u.json")]) == 0
     up = json.loads((tmp_path / "u.json").read_text())
     assert doc["physics"]["energy_j"] < up["physics"]["energy_j"]
 

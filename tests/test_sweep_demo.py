@@ -115,7 +115,7 @@ def test_cli_sweep_writes_document_commands_and_sheet(flat, tmp_path, capsys):
     cmds = tmp_path / "sweep.txt"
     sheet = tmp_path / "sweep.svg"
     rc = main(["sweep", str(SPEC), "--region", "polygon:back:60,60;260,60;260,200;60,200", "--swath", "15",
-               "--no-drape", "--json", str(out), "--commands", str(cmds), "--sheet", str(sheet)])
+               "--no-drape", "--ignore-body-zones", "--json", str(out), "--commands", str(cmds), "--sheet", str(sheet)])
     assert rc == 0
     text = capsys.readouterr().out
     assert "covered" in text and "caution" in text
