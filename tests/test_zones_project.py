@@ -132,6 +132,7 @@ def test_demo_zones_are_conservative_under_dense_sampling():
     from garnav.demo.run import demo_scene
 
     scene = demo_scene()
+    assert [z.kind for z in scene.garment.body_zones] == ["implanted_device", "neck_face"]
     for zone in scene.garment.body_zones:
         n_inside, worst = _check_conservative(scene.garment, scene.drape, zone, n_per_face=8, seed=1)
         assert n_inside > 100

@@ -100,7 +100,7 @@ class BodyZoneRegion:
     def resolve(self, context) -> dict:
         what = f"region zone '{self.zone.name}'"
         if self.zone.kind in NEVER_SWEPT:
-            raise QueryError(f"{what}: a {self.zone.kind} zone is kept out of, never swept; sweep a "
+            raise QueryError(f"{what}: {self.zone.kind} zones are kept out of, never swept; sweep a "
                              "wound_or_sensor or custom zone, or a polygon beside it")
         if context.drape is None:
             raise QueryError(f"{what}: needs a drape to find the zone's fabric")
