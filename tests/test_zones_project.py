@@ -136,7 +136,7 @@ def test_demo_zones_are_conservative_under_dense_sampling():
     for zone in scene.garment.body_zones:
         n_inside, worst = _check_conservative(scene.garment, scene.drape, zone, n_per_face=8, seed=1)
         assert n_inside > 100
-        assert worst < 2.0  # observed below 1 mm
+        assert worst < 2.0  # observed 0.46 mm (implant), 0.64 mm (neck and face)
 
 
 def test_zone_without_fabric_gives_no_keepout_and_with_zone_keepouts_adds_them():
