@@ -71,3 +71,15 @@ def test_apply_zones_api():
     with pytest.raises(QueryError, match="will not plan without it"):
         apply_zones(g, None, "x.toml")
     assert apply_zones(g, None, "x.toml", allow_without_zones=True) is g
+
+
+def test_check_drape_reports_zones_and_landmarks_in_them(capsys):
+    from pathlib import Path
+
+    spec = Path(__file__).resolve().parents[1] / "meshes" / "sensing_top.toml"
+    assert main(["check", str(spec), "--drape"]) == 0
+    out = capsys.readouterr().out
+    assert "body zones (kept out through the drape):" in out
+    assert "body zone 'implant' (implanted_device, 150 mm): front" in out
+    assert "landmark 'cervicale' lies in body zone 'neck_and_face'" in out
+    assert "landmark 'sternum_left' lies in" not in out

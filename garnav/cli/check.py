@@ -52,7 +52,13 @@ def drape_text(garment, mesh: str, folder: Path) -> str:
     """The drape report of ``mesh`` (or, when empty, of the spec's own drape) for ``garment``."""
     from garnav.drape import drape_report, load_drape
 
-    return drape_report(garment, load_drape(garment, mesh, str(folder))).text()
+    drape = load_drape(garment, mesh, str(folder))
+    text = drape_report(garment, drape).text()
+    if garment.body_zones:  # docs/zones.md
+        from garnav.zones.project import zone_report_lines
+
+        text = text.rstrip("\n") + "\n\n" + "\n".join(zone_report_lines(garment, drape))
+    return text
 
 
 def mesh_notes(garment, folder: Path) -> list[str]:

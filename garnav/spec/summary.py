@@ -159,6 +159,18 @@ def garment_summary(garment: Garment) -> tuple[Section, ...]:
             for m in g.landmarks
         ),
     ))
+    if g.body_zones:  # [[body_zone]]: kept out through the drape (docs/zones.md)
+        sections.append(Section(
+            "body zones (kept out through the drape)",
+            ("zone", "kind", "shape", "anchors", "radius mm", "distance mm", "hard/soft"),
+            tuple(
+                (z.name, z.kind, z.shape,
+                 "; ".join(a if isinstance(a, str) else "(" + ", ".join(f"{v:g}" for v in a) + ")" for a in z.anchors),
+                 f"{z.radius_mm:g}" if z.shape != "above_plane" else "-", f"{z.distance_mm:g}",
+                 "hard" if z.hard else f"soft ×{z.cost_factor:g}")
+                for z in g.body_zones
+            ),
+        ))
     r = g.robot
     sections.append(Section(
         "robot",

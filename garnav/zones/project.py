@@ -54,6 +54,7 @@ __all__ = [
     "zone_keepouts",
     "with_zone_keepouts",
     "zone_of_keepout",
+    "zone_report_lines",
 ]
 
 #: Tolerance of the outline simplification and the outward growth that pays for it, mm.
@@ -276,6 +277,29 @@ def with_zone_keepouts(garment: Garment, drape: Drape) -> Garment:
     if not garment.body_zones:
         return garment
     return garment.with_keepouts(zone_keepouts(garment, drape))
+
+
+def zone_report_lines(garment: Garment, drape: Drape) -> list[str]:
+    """Lines for ``garnav check --drape``: per zone the pieces and area it covers, and every pattern
+    or body landmark whose place on this drape lies in it (a route there would be refused)."""
+    from garnav.drape.inverse import locate_3d
+
+    keepouts = zone_keepouts(garment, drape)
+    out = []
+    for zone in garment.body_zones:
+        mine = [k for k in keepouts if k.name.split("@", 1)[0] == zone.name]
+        where = ", ".join(f"{k.piece} {k.shape.exact_geometry().area / 100:.0f} cm²" for k in mine) or "no fabric"
+        out.append(f"body zone '{zone.name}' ({zone.kind}, {zone.distance_mm:g} mm): {where}")
+        for lm in garment.landmarks:
+            try:
+                piece, x, y = (lm.piece, lm.x, lm.y) if lm.on_pattern else locate_3d(drape, garment, lm.xyz)[:3]
+            except QueryError:
+                continue
+            pt = shapely.Point(x, y)
+            if any(k.piece == piece and k.shape.exact_geometry().covers(pt) for k in mine):
+                out.append(f"  note: landmark '{lm.name}' lies in body zone '{zone.name}': no route may "
+                           "start or end there")
+    return out
 
 
 def zone_of_keepout(garment: Garment, keepout: KeepOut) -> BodyZone | None:
