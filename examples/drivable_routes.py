@@ -25,8 +25,9 @@ from garnav.demo.run import demo_scene
 from garnav.drape.inverse import pattern_locator
 from garnav.mechanics import PhysicsPlanner
 from garnav.plan import Planner
+from garnav.zones import with_zone_keepouts
 
-QUERIES = (("omphalion", "suprasternale"), ("wrist_left", "sternum_left"))
+QUERIES = (("omphalion", "sternum_left"), ("wrist_right", "scapula_right"))
 POSTURES = ("upright", "supine")
 
 
@@ -37,7 +38,8 @@ def main(argv=None) -> list[dict]:
     out = Path(args.out) if args.out else Path(tempfile.mkdtemp(prefix="garnav-example-"))
 
     scene = demo_scene()
-    garment, drape = scene.garment, scene.drape
+    drape = scene.drape
+    garment = with_zone_keepouts(scene.garment, drape)  # the demo's body zones kept out (docs/zones.md)
     planner = Planner(garment, garment.robot, locate_3d=pattern_locator(drape, garment))  # built once
     results = []
     for posture in POSTURES:

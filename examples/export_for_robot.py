@@ -21,18 +21,21 @@ from garnav.export.commands import Cross, Go, Turn, read_commands, route_command
 from garnav.export.replay import replay_commands
 from garnav.export.waypoints import route_document, write_route_csv, write_route_json
 from garnav.plan import Planner
+from garnav.zones import with_zone_keepouts
 
 
 def main(argv=None) -> dict:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("out", nargs="?", help="output folder (default: a new temporary folder)")
     parser.add_argument("--from", dest="start", default="wrist_right", help="start point (default wrist_right)")
-    parser.add_argument("--to", dest="goal", default="cervicale", help="goal point (default cervicale, a body landmark)")
+    parser.add_argument("--to", dest="goal", default="scapula_right",
+                        help="goal point (default scapula_right, a body landmark)")
     args = parser.parse_args(argv)
     out = Path(args.out) if args.out else Path(tempfile.mkdtemp(prefix="garnav-example-"))
 
     scene = demo_scene()
-    garment, drape, robot = scene.garment, scene.drape, scene.garment.robot
+    drape, robot = scene.drape, scene.garment.robot
+    garment = with_zone_keepouts(scene.garment, drape)  # the demo's body zones kept out (docs/zones.md)
     planner = Planner(garment, robot, locate_3d=pattern_locator(drape, garment))
     route = planner.route(args.start, args.goal)
     doc = route_document(route, garment, robot, lift_route(drape, garment, route))

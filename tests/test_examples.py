@@ -62,7 +62,7 @@ def test_preview_route(tmp_path, capsys):
 def test_export_for_robot(tmp_path, capsys):
     result = _main("export_for_robot.py")([str(tmp_path)])
     text = capsys.readouterr().out
-    stem = "wrist_right_to_cervicale"
+    stem = "wrist_right_to_scapula_right"
     doc = json.loads((tmp_path / f"{stem}.json").read_text())
     # reference: jsonschema's Draft 2020-12 validator against the shipped schema
     jsonschema.Draft202012Validator(route_schema()).validate(doc)
@@ -72,7 +72,7 @@ def test_export_for_robot(tmp_path, capsys):
     # the replayed commands end where the route ends, having crossed the same seams
     assert result["miss_mm"] < 1e-3
     assert [c.seam for c in result["replay"].crossings] == doc["summary"]["seams_crossed"]
-    assert "replay: ends on yoke" in text and "crossed armhole_right_back" in text
+    assert "replay: ends on back" in text and "crossed armhole_right_back" in text
 
 
 def test_import_pattern(tmp_path, capsys):
@@ -98,7 +98,7 @@ def test_drivable_routes(tmp_path, capsys):
     results = _main("drivable_routes.py")([str(tmp_path)])
     assert json.loads((tmp_path / "drivable.json").read_text()) == results
     assert all(r["safe"] for r in results)
-    up = next(r for r in results if r["posture"] == "upright" and r["goal"] == "suprasternale")
+    up = next(r for r in results if r["posture"] == "upright" and r["start"] == "omphalion")
     assert up["method"] == "lattice"  # straight up the chest is too steep for the demo drive
-    lying = next(r for r in results if r["posture"] == "supine" and r["goal"] == "suprasternale")
+    lying = next(r for r in results if r["posture"] == "supine" and r["start"] == "omphalion")
     assert lying["method"] == "length-optimal" and lying["energy_j"] < up["energy_j"]  # level when lying
