@@ -83,3 +83,17 @@ def test_check_drape_reports_zones_and_landmarks_in_them(capsys):
     assert "body zone 'implant' (implanted_device, 150 mm): front" in out
     assert "landmark 'cervicale' lies in body zone 'neck_and_face'" in out
     assert "landmark 'sternum_left' lies in" not in out
+
+
+@pytest.mark.slow
+def test_show_sheet_draws_the_zones(spec, tmp_path, capsys):
+    pytest.importorskip("pyvista")
+    from garnav.preview.scene import off_screen_environment
+
+    off_screen_environment()
+    route = tmp_path / "r.json"
+    assert main(["route", str(spec), "--from", "panel:40,150", "--to", "panel:360,150", "--json", str(route)]) == 0
+    sheet = tmp_path / "s.svg"
+    assert main(["show", str(spec), str(route), "--sheet", str(sheet), "--screenshot", str(tmp_path / "v.png")]) == 0
+    text = sheet.read_text()
+    assert text.count('class="body-zone"') == 2 and "pump: implanted device, 60 mm" in text

@@ -61,7 +61,17 @@ def run(args: argparse.Namespace) -> int:
         docs.append((name, doc))
 
     if args.sheet:
-        _write_sheet(garment, docs, Path(args.sheet))
+        sheet_garment = garment
+        if garment.body_zones:  # drawn through the drape when it can be read (docs/zones.md)
+            from garnav.zones.sources import apply_zones
+
+            if drape is None and garment.drape:
+                try:
+                    drape = load_drape(garment, None, str(spec_path.parent))
+                except MeshError as exc:
+                    print(f"note: body zones not drawn: {exc}")
+            sheet_garment = apply_zones(garment, drape, str(spec_path), allow_without_zones=True)
+        _write_sheet(sheet_garment, docs, Path(args.sheet))
 
     if not garment.drape and not garment.body:
         if args.sheet:
