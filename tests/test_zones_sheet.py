@@ -35,9 +35,9 @@ def test_zones_have_their_own_layer_and_legend():
     drawn = shapely.Polygon(g.piece("panel").placement.from_sheet(pump.rings[0]))
     assert abs(drawn.area - expected.area) < 1e-6 * expected.area
     legend = [it.text for it in drawing.items("zone-legend") if hasattr(it, "text")]
-    assert "pump: implanted device, 150 mm" in legend and "dressing: wound or sensor site, 30 mm" in legend
+    assert "pump: implanted device, 152.4 mm" in legend and "dressing: wound or sensor site, 30 mm" in legend
     svg = sheet_svg(drawing)
-    assert 'class="body-zone"' in svg and 'class="zone-legend"' in svg and "implanted device, 150 mm" in svg
+    assert 'class="body-zone"' in svg and 'class="zone-legend"' in svg and "implanted device, 152.4 mm" in svg
 
 
 def test_no_legend_without_zones():

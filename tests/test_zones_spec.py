@@ -39,7 +39,7 @@ def test_zones_are_read_and_round_trip():
     g = loads_garment(_spec(ZONES), "z.toml")
     device, neck = g.body_zones
     # implant default: at least 6 in / 15 cm (US FDA consumer guidance, May 2021)
-    assert device.distance_mm == IMPLANT_DEFAULT_DISTANCE_MM == 150.0
+    assert device.distance_mm == IMPLANT_DEFAULT_DISTANCE_MM == 152.4  # 6 in
     assert neck.anchors == ("nape", (0.0, 5.0, 1700.0)) and neck.reach_mm == 70.0
     assert loads_garment(dumps_garment(g), "again.toml") == g
     assert dumps_garment(loads_garment(dumps_garment(g))) == dumps_garment(g)

@@ -13,7 +13,7 @@ parser the spec reader calls (:func:`parse_body_zones`) and the writer's inverse
 
 Implanted devices
 -----------------
-:data:`IMPLANT_DEFAULT_DISTANCE_MM` = 150 mm follows the US FDA's consumer guidance of May 2021,
+:data:`IMPLANT_DEFAULT_DISTANCE_MM` = 152.4 mm (6 in) follows the US FDA's consumer guidance of May 2021,
 "Magnets in Cell Phones and Smart Watches May Affect Pacemakers and Other Implanted Medical
 Devices": keep consumer electronics with strong magnets at least six inches (15 cm) away from
 implanted medical devices such as pacemakers and defibrillators. That is a floor for phones and
@@ -22,7 +22,7 @@ decide the distance (docs/zones.md).
 
 >>> z = BodyZone("device", "implanted_device", "sphere", ((-80.0, 110.0, 1300.0),))
 >>> z.distance_mm
-150.0
+152.4
 >>> body_zone_problems(BodyZone("n", "neck", "sphere", ((0.0, 0.0, 0.0),), distance_mm=10.0))
 ["kind 'neck' is not one of implanted_device, neck_face, wound_or_sensor, custom"]
 """
@@ -33,6 +33,7 @@ import math
 from dataclasses import dataclass
 from typing import Any
 
+from garnav.cautions import IMPLANT_GUIDANCE_MM
 from garnav.errors import did_you_mean
 
 __all__ = [
@@ -58,8 +59,10 @@ ZONE_SHAPES = tuple(ZONE_ANCHORS)
 
 #: Default distance of an ``implanted_device`` zone, mm: at least 6 in / 15 cm, after the US FDA
 #: consumer guidance "Magnets in Cell Phones and Smart Watches May Affect Pacemakers and Other
-#: Implanted Medical Devices" (May 2021). The device maker and the wearer's clinician decide.
-IMPLANT_DEFAULT_DISTANCE_MM = 150.0
+#: Implanted Medical Devices" (May 2021): the project's one figure,
+#: :data:`garnav.cautions.IMPLANT_GUIDANCE_MM` (6 in = 152.4 mm, the larger of the two). The device
+#: maker and the wearer's clinician decide.
+IMPLANT_DEFAULT_DISTANCE_MM = IMPLANT_GUIDANCE_MM
 
 IMPLANT_GUIDANCE = (
     "US FDA consumer guidance (May 2021), 'Magnets in Cell Phones and Smart Watches May Affect "
