@@ -80,7 +80,7 @@ def test_check_drape_reports_zones_and_landmarks_in_them(capsys):
     assert main(["check", str(spec), "--drape"]) == 0
     out = capsys.readouterr().out
     assert "body zones (kept out through the drape):" in out
-    assert "body zone 'implant' (implanted_device, 150 mm): front" in out
+    assert "body zone 'implant' (implanted_device, 152.4 mm): front" in out
     assert "landmark 'cervicale' lies in body zone 'neck_and_face'" in out
     assert "landmark 'sternum_left' lies in" not in out
 
