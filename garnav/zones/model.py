@@ -23,8 +23,8 @@ decide the distance (docs/zones.md).
 >>> z = BodyZone("device", "implanted_device", "sphere", ((-80.0, 110.0, 1300.0),))
 >>> z.distance_mm
 152.4
->>> body_zone_problems(BodyZone("n", "neck", "sphere", ((0.0, 0.0, 0.0),), distance_mm=10.0))
-["kind 'neck' is not one of implanted_device, neck_face, wound_or_sensor, custom"]
+>>> body_zone_problems(BodyZone("n", "neck_face", "sphere", ((0.0, 0.0, 0.0),), distance_mm=10.0))
+[]
 """
 
 from __future__ import annotations
@@ -34,7 +34,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from garnav.cautions import IMPLANT_GUIDANCE_MM
-from garnav.errors import did_you_mean
+from garnav.errors import Problem, SpecError, did_you_mean
 
 __all__ = [
     "BodyZone",
@@ -117,6 +117,9 @@ class BodyZone:
     def __post_init__(self) -> None:
         if self.distance_mm is None and self.kind == "implanted_device":
             object.__setattr__(self, "distance_mm", IMPLANT_DEFAULT_DISTANCE_MM)
+        found = body_zone_problems(self)  # held to the reader's rules when built in Python
+        if found:
+            raise SpecError([Problem("<memory>", f"body_zone '{self.name}'", reason) for reason in found])
 
     @property
     def reach_mm(self) -> float:
@@ -267,8 +270,12 @@ def parse_body_zones(tables: Any, source: str, landmarks: dict[str, bool] | None
             problems.append((item, f"unknown shape '{values['shape']}'; valid shapes: {', '.join(ZONE_SHAPES)}",
                              did_you_mean(values["shape"], list(ZONE_SHAPES))))
             continue
-        zone = BodyZone(**values)
-        found = body_zone_problems(zone)
+        try:
+            zone = BodyZone(**values)
+        except SpecError as exc:
+            problems.extend((item, p.reason, None) for p in exc.problems)
+            continue
+        found = []
         if landmarks is not None:
             for a in zone.landmark_names:
                 if a not in landmarks:
