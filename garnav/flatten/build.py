@@ -92,8 +92,8 @@ def layout_pieces(flat: list[np.ndarray], gap_mm: float = 20.0) -> tuple[list[np
     width = max(max(s[0] for s in sizes), math.sqrt(sum(s[0] * s[1] for s in sizes)) * 1.5)
     x = y = gap_mm
     row_h = 0.0
-    out = []
-    for (lo, _), size in zip(boxes, sizes):
+    out: list[np.ndarray] = []
+    for (lo, _), size in zip(boxes, sizes, strict=True):
         if x > gap_mm and x + size[0] > width + gap_mm:
             x, y, row_h = gap_mm, y + row_h + gap_mm, 0.0
         out.append(flat[len(out)] - lo + np.array([x, y]))
@@ -144,7 +144,7 @@ def _seam_lengths(garment: Garment, cs: CutSurface, sheet_xy: np.ndarray
     for h in np.flatnonzero(cs.cut).tolist():
         key_of[int(min(a[h], b[h])) * n_v + int(max(a[h], b[h]))] = str(cs.cut_name[h])
     names: dict[str, str] = {}
-    out = []
+    out: list[tuple[str, float]] = []
     for seam in garment.seams:
         piece = garment.piece(seam.a.piece)
         pts = piece.placement.to_sheet(piece.edge(seam.a.edge).array)
@@ -153,7 +153,7 @@ def _seam_lengths(garment: Garment, cs: CutSurface, sheet_xy: np.ndarray
         p3 = s.positions[verts]
         out.append((seam.name, float(np.linalg.norm(np.diff(p3, axis=0), axis=1).sum())))
         cut = [key_of.get(int(min(u, v)) * n_v + int(max(u, v)), "")
-               for u, v in zip(verts[:-1].tolist(), verts[1:].tolist())]
+               for u, v in zip(verts[:-1].tolist(), verts[1:].tolist(), strict=True)]
         best = max(set(cut), key=lambda c: (cut.count(c), c)) if cut else ""
         if best:
             names[seam.name] = best
@@ -245,7 +245,7 @@ def flatten_surface(
         reports.append(FlatPiece(names[p], method, d))
     placed, (w, h) = layout_pieces(flat, gap_mm)
     sheet_xy = np.zeros((len(cs.split_of), 2))
-    for (_, _, verts), xy in zip(meshes, placed):
+    for (_, _, verts), xy in zip(meshes, placed, strict=True):
         sheet_xy[verts] = xy
     corner_uv = sheet_xy[cs.corner_vertex] / np.array([w, h])
     mesh = uv_mesh_from_arrays(surface.positions, surface.faces, corner_uv, source=surface.source)
@@ -256,7 +256,7 @@ def flatten_surface(
     seam_names, lengths3 = _seam_lengths(garment, cs, sheet_xy)
     garment = _rename(garment, {}, seam_names)
     seams = []
-    for seam, (old, l3) in zip(garment.seams, lengths3):
+    for seam, (_, l3) in zip(garment.seams, lengths3, strict=True):
         seams.append(SeamLength(seam.name, seam.a, seam.b,
                                 polyline_length(garment.run_polyline(seam.a)),
                                 polyline_length(garment.run_polyline(seam.b)), l3))

@@ -152,7 +152,7 @@ def cut_paths(s: Surface, cf: CutFile) -> tuple[np.ndarray, np.ndarray]:
         ek = np.minimum(p[:-1], p[1:]) * s.n_vertices + np.maximum(p[:-1], p[1:])
         lo = np.searchsorted(keys, ek, side="left")
         hi = np.searchsorted(keys, ek, side="right")
-        for a, b in zip(lo.tolist(), hi.tolist()):
+        for a, b in zip(lo.tolist(), hi.tolist(), strict=True):
             hs = order[a:b]
             cut[hs] = True
             names[hs] = np.where(names[hs] == "", curve.name, names[hs])
@@ -257,8 +257,8 @@ def _check_discs(cs: CutSurface, where: str) -> None:
     bpiece = cs.face_piece[f]
     n_b = np.bincount(bpiece, minlength=cs.n_pieces)
     chi = n_v - (n_inner + n_b) + n_f
-    loops_of = [set() for _ in range(cs.n_pieces)]
-    for p, lp in zip(bpiece.tolist(), vloop[b_start].tolist()):
+    loops_of: list[set[int]] = [set() for _ in range(cs.n_pieces)]
+    for p, lp in zip(bpiece.tolist(), vloop[b_start].tolist(), strict=True):
         loops_of[p].add(lp)
     src = f"{s.source}" + (f" cut by {where}" if where else "")
     for p in range(cs.n_pieces):

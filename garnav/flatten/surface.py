@@ -230,10 +230,10 @@ def _check_manifold(s: Surface) -> None:
             f"than two triangles (first: from {s.where(int(a[h]))} to {s.where(int(b[h]))}); "
             "a garment surface is a sheet, split or remove the extra triangles")
     twin = s.twin
-    h = np.flatnonzero(twin >= 0)
-    same = a[h] == a[twin[h]]
+    inner = np.flatnonzero(twin >= 0)
+    same = a[inner] == a[twin[inner]]
     if np.any(same):
-        e = int(h[np.flatnonzero(same)[0]])
+        e = int(inner[np.flatnonzero(same)[0]])
         raise MeshError(
             f"{s.source}: the triangles on both sides of the edge from {s.where(int(a[e]))} to "
             f"{s.where(int(b[e]))} are oriented oppositely; orient all faces the same way (a "
@@ -293,9 +293,9 @@ def load_surface(path: str | os.PathLike, *, weld_tol_mm: float = 1e-4, flip: bo
             raise MeshError(f"{source}: not a readable mesh file: {exc}") from None
         positions = np.asarray(getattr(mesh, "vertices", np.zeros((0, 3))), dtype=float)
         faces = np.asarray(getattr(mesh, "faces", np.zeros((0, 3))), dtype=np.int64)
-        uv = getattr(getattr(mesh, "visual", None), "uv", None)
-        if keep_uv and uv is not None and len(uv) == len(positions):
-            corner = np.asarray(uv, dtype=float)[faces]
+        tex = getattr(getattr(mesh, "visual", None), "uv", None)
+        if keep_uv and tex is not None and len(tex) == len(positions):
+            corner = np.asarray(tex, dtype=float)[faces]
     return surface_from_arrays(positions, faces, source=source, corner_uv=corner,
                                weld_tol_mm=weld_tol_mm, flip=flip)
 
