@@ -101,6 +101,7 @@ def test_grain_direction_becomes_piece_y():
     assert np.ptp(run[:, 0]) < 1e-6 and np.ptp(run[:, 1]) == pytest.approx(300.0, rel=1e-9)
 
 
+@pytest.mark.slow
 def test_reflatten_cuts_along_the_uv_seams():
     for build in (dm.cylinder, dm.cone, dm.folded_panels):
         g, m = build()
@@ -210,3 +211,12 @@ def test_non_manifold_edge_and_vertex_and_orientation():
         surface_from_arrays(bow, np.array([[0, 1, 2], [0, 5, 6]]), source="m.obj")
     with pytest.raises(MeshError, match=r"oriented oppositely"):
         surface_from_arrays(pos, np.array([[0, 1, 2], [0, 1, 3]]), source="m.obj")
+
+
+def test_flatten_benchmark_runs_quick():
+    # the speed figure lives in benchmarks/flatten.py; here only its structure is checked
+    from benchmarks.flatten import run_flatten
+
+    res = run_flatten(quick=True, log=lambda *_: None)
+    assert res["kind"] == "flatten" and res["targets"][0]["status"] == "N/A"
+    assert res["ratio"] > 0 and res["reference_uv_finite"]

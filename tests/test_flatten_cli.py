@@ -127,3 +127,18 @@ def test_bad_inputs_get_one_clear_message(box_files, capsys):
     assert f"{obj}: the mesh has no texture coordinates, so it has no UV seams" in err
     err = _bad(tmp, capsys, [obj, "--cut", empty, "--uv-scale", "100"])
     assert "--uv-scale does not apply" in err
+
+
+def test_docs_cut_file_example_reads_and_every_key_is_documented():
+    import re
+    import tomllib
+    from pathlib import Path
+
+    from garnav.flatten.cutfile import _CUT_KEYS, _PIECE_KEYS, _TOP_KEYS, cut_file_from_dict
+
+    text = (Path(__file__).resolve().parent.parent / "docs" / "import-3d.md").read_text()
+    example = re.search(r"```toml\n(.*?)```", text, re.S).group(1)
+    cf = cut_file_from_dict(tomllib.loads(example), "docs/import-3d.md")
+    assert [c.name for c in cf.cuts] == ["side_left", "armhole_left"] and cf.cuts[1].closed
+    for key in _TOP_KEYS + _CUT_KEYS + _PIECE_KEYS:
+        assert re.search(rf"^\[*{key}\]*\b", example, re.M), key
