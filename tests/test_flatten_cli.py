@@ -142,3 +142,10 @@ def test_docs_cut_file_example_reads_and_every_key_is_documented():
     assert [c.name for c in cf.cuts] == ["side_left", "armhole_left"] and cf.cuts[1].closed
     for key in _TOP_KEYS + _CUT_KEYS + _PIECE_KEYS:
         assert re.search(rf"^\[*{key}\]*\b", example, re.M), key
+
+
+def test_cli_default_threshold_is_the_library_default():
+    from garnav.cli.import_cut import DEFAULT_MAX_DISTORTION_PCT
+    from garnav.flatten import DEFAULT_MAX_SCALE_ERROR
+
+    assert DEFAULT_MAX_DISTORTION_PCT == 100 * DEFAULT_MAX_SCALE_ERROR

@@ -12,7 +12,11 @@ from pathlib import Path
 
 from garnav.errors import MeshError, QueryError
 
-__all__ = ["add_cut_arguments", "run_cut", "wants_cut", "report_lines"]
+__all__ = ["add_cut_arguments", "run_cut", "wants_cut", "report_lines", "DEFAULT_MAX_DISTORTION_PCT"]
+
+#: ``--max-distortion`` default, percent: ``garnav.flatten.DEFAULT_MAX_SCALE_ERROR`` × 100 (kept
+#: here so that ``garnav --help`` does not import the flattening code; a test ties the two).
+DEFAULT_MAX_DISTORTION_PCT = 2.0
 
 
 def wants_cut(args) -> bool:
@@ -20,8 +24,6 @@ def wants_cut(args) -> bool:
 
 
 def add_cut_arguments(p) -> None:
-    from garnav.flatten.distortion import DEFAULT_MAX_SCALE_ERROR
-
     g = p.add_argument_group("3D garment surfaces (docs/import-3d.md)")
     g.add_argument("--cut", metavar="CUTS.toml",
                    help="cut the 3D surface along these seam lines (mesh vertices or 3D points) "
@@ -35,10 +37,10 @@ def add_cut_arguments(p) -> None:
     g.add_argument("--drape-out", metavar="DRAPE.obj",
                    help="where to write the UV-mapped drape (default: SPEC_drape.obj beside the "
                         "spec)")
-    g.add_argument("--max-distortion", type=float, default=100 * DEFAULT_MAX_SCALE_ERROR,
+    g.add_argument("--max-distortion", type=float, default=DEFAULT_MAX_DISTORTION_PCT,
                    metavar="PCT",
                    help="refuse a piece whose worst local length scale is off by more than this "
-                        f"(percent; default {100 * DEFAULT_MAX_SCALE_ERROR:g})")
+                        f"(percent; default {DEFAULT_MAX_DISTORTION_PCT:g})")
     g.add_argument("--warn-only", action="store_true",
                    help="write the files even when a piece is above --max-distortion (warn)")
 
