@@ -125,6 +125,9 @@ def test_bad_inputs_get_one_clear_message(box_files, capsys):
     assert "the mesh has texture coordinates (UVs); --cut would replace them: add --reflatten" in err
     err = _bad(tmp, capsys, [obj, "--reflatten"])
     assert f"{obj}: the mesh has no texture coordinates, so it has no UV seams" in err
+    off = fs.write_cuts(tmp / "off.toml", {"side": vertical}, {"lid": [0.0, 0.0, 400.0]})
+    err = _bad(tmp, capsys, [obj, "--cut", off])
+    assert f"{off}: piece 'lid': its point (0.0, 0.0, 400.0) mm is" in err and "not on the mesh" in err
     err = _bad(tmp, capsys, [obj, "--cut", empty, "--uv-scale", "100"])
     assert "--uv-scale does not apply" in err
 

@@ -113,7 +113,13 @@ def _piece_names(cs: CutSurface, cf: CutFile | None) -> list[str]:
     tree = cKDTree(centres)
     taken: dict[int, str] = {}
     for pn in cf.pieces:
-        _, f = tree.query(np.asarray(pn.at))
+        dist, f = tree.query(np.asarray(pn.at))
+        tri = s.positions[s.faces[int(f)]]
+        reach = cf.snap_mm + float(np.linalg.norm(tri - tri.mean(axis=0), axis=1).max())
+        if dist > reach:
+            raise MeshError(f"{cf.source}: piece '{pn.name}': its point {tuple(pn.at)} mm is "
+                            f"{dist:.1f} mm from the centre of the nearest triangle of {s.source}; the point is "
+                            "not on the mesh")
         p = int(cs.face_piece[int(f)])
         if p in taken:
             raise MeshError(f"{cf.source}: piece '{pn.name}': its point lies on the same piece as "
