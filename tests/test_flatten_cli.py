@@ -152,3 +152,17 @@ def test_cli_default_threshold_is_the_library_default():
     from garnav.flatten import DEFAULT_MAX_SCALE_ERROR
 
     assert DEFAULT_MAX_DISTORTION_PCT == 100 * DEFAULT_MAX_SCALE_ERROR
+
+
+def test_ply_and_glb_surfaces_are_read_through_trimesh(tmp_path, capsys):
+    import trimesh
+
+    pos, faces = fs.tube()
+    cuts = fs.write_cuts(tmp_path / "cuts.toml", {"back": [[50.0, 0.0, 0.0], [50.0, 0.0, 300.0]]})
+    for suffix in ("ply", "glb"):
+        path = tmp_path / f"tube.{suffix}"
+        trimesh.Trimesh(pos, faces, process=False).export(path)
+        spec = tmp_path / f"tube_{suffix}.toml"
+        assert main(["import", str(path), "--cut", str(cuts), "-o", str(spec)]) == 0
+        assert "1 pieces, 1 seams, 2 open edges" in capsys.readouterr().out
+        assert main(["check", str(spec), "--drape", ""]) == 0
