@@ -242,3 +242,20 @@ def test_darts_slit_into_a_cap_become_seams_and_cut_its_distortion():
     rep = drape_report(darted.garment, link_drape(darted.garment, darted.mesh))
     # the two sides of a dart differ in flat length by the distortion: sub-0.01 mm gaps
     assert all(c.max_gap_mm < 0.05 for c in rep.seams)  # observed at most 0.0033 mm
+
+
+def test_cut_vertices_are_file_indices_even_where_the_file_repeats_a_position():
+    # a tube written with its seam column twice (as exporters do at a UV seam): the copies weld
+    # into one closed tube, and a cut named by the copies' file indices still opens it there
+    n, m = 32, 10
+    pos, faces = fs.tube(n_around=n, n_along=m)
+    dup = pos[::n]  # column i = 0, one per ring
+    pos2 = np.vstack([pos, dup])
+    faces2 = faces.copy()
+    for j in range(m + 1):  # faces that close the ring use the copy of vertex j·n
+        last = np.isin(faces2, [j * n]) & np.isin(faces2, [j * n + n - 1]).any(axis=1)[:, None]
+        faces2[last] = len(pos) + j
+    s = surface_from_arrays(pos2, faces2)
+    assert s.n_vertices == len(pos)
+    flat = flatten_surface(s, _cut(back=[len(pos) + j for j in range(m + 1)]))
+    assert len(flat.garment.seams) == 1 and _edge_ratio_error(flat) < 1e-6
