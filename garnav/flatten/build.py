@@ -175,7 +175,12 @@ def _seam_lengths(garment: Garment, cs: CutSurface, sheet_xy: np.ndarray
             seen[cname] = seen.get(cname, 0) + 1
             final[sname] = f"{cname}_{seen[cname]}"
     kept = {seam.name for seam in garment.seams if seam.name not in final}
-    final = {k: v for k, v in final.items() if v not in kept}  # never clash with a kept name
+    used: set[str] = set()
+    for k in list(final):  # never clash with a kept name or another cut's numbered name
+        if final[k] in kept or final[k] in used:
+            del final[k]
+        else:
+            used.add(final[k])
     return final, out
 
 
