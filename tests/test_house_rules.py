@@ -23,7 +23,7 @@ LAYERS = [
     {"spec"},
     {"plan", "patterns"},
     {"drape"},
-    {"export", "mechanics"},
+    {"export", "mechanics", "flatten"},
     {"uncertainty"},
     {"telemetry"},
     {"preview"},
