@@ -343,3 +343,11 @@ def test_missing_extra_says_how_to_install(monkeypatch):
     monkeypatch.setattr(extra.importlib, "import_module", fake)
     with pytest.raises(GarnavError, match=r"pip install 'garnav\[cluster\]'"):
         extra.require("pyarrow")
+
+
+def test_example_study_file_prepares():
+    study = load_study(Path(__file__).resolve().parent.parent / "examples" / "study_sizes.toml")
+    prepared = prepare_study(study)
+    assert prepared.n_cases == 55 * 4 * 2  # 11 landmarks' pairs × sizes × postures
+    xl = prepared.inputs["sensing_top@XL"]
+    assert xl.scale == pytest.approx(1.04**2) and xl.mesh("default") is not None
