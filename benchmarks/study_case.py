@@ -5,8 +5,13 @@ piece, seed 0, unordered pairs, the first 2,000 of a seeded draw), measures leng
 chunks of 50 cases. The same prepared study is run
 
 * **serial** — ``workers=1``: one process, no Dask (one planner build, then every query);
-* **local cluster** — ``LocalCluster(n_workers=W, processes=True, threads_per_worker=1)`` on
-  127.0.0.1: W processes, each building its own planner once and answering the chunks it gets.
+* **local cluster** — the study's own local cluster (:func:`garnav.study.cluster.local_cluster`:
+  W processes with one thread each on 127.0.0.1), each building its own planner once and
+  answering the chunks it gets.
+
+Reference measured in the same run, before the serial run and after the cluster run: the speed-up
+W processes can get on the machine at that moment (a pure-Python loop alone and W at once,
+:func:`cpu_ceiling`); other users' load lowers it, and the study's speed-up is read against it.
 
 Both write their Parquet parts; the rows must be equal (checked). Also measured in the same run:
 the cluster's start-up, the Dask round trip of a task that does nothing (``client.map`` of 200
@@ -57,6 +62,30 @@ def _rss_mb() -> float:
     return psutil.Process().memory_info().rss / 2**20
 
 
+def _burn(n: int) -> float:
+    """Seconds of a pure-Python loop of ``n`` steps (CPU only, no memory traffic)."""
+    t0 = time.perf_counter()
+    s = 0
+    for i in range(n):
+        s += i * i
+    return time.perf_counter() - t0
+
+
+def cpu_ceiling(workers: int, n: int = 15_000_000) -> float:
+    """The speed-up ``workers`` processes can get on this machine right now: ``workers`` times the
+    time of one loop alone over the wall time of ``workers`` loops at once (the reference for the
+    study's speed-up; other users' load lowers it)."""
+    import multiprocessing as mp
+
+    alone = _burn(n)
+    with mp.get_context("spawn").Pool(workers) as pool:
+        pool.map(_burn, [1000] * workers)
+        t0 = time.perf_counter()
+        pool.map(_burn, [n] * workers)
+        together = time.perf_counter() - t0
+    return workers * alone / together
+
+
 def _import_time() -> float:
     """Seconds a fresh worker spends importing what a study task needs (done once per worker)."""
     t0 = time.perf_counter()
@@ -94,6 +123,7 @@ def run_study_case(quick: bool = False, workers: int = 2, log=print) -> dict[str
         t0 = time.perf_counter()
         Planner(g, g.robot)
         out["planner_build_s"] = time.perf_counter() - t0
+        out["cpu_ceiling_before"] = cpu_ceiling(workers, 3_000_000 if quick else 15_000_000)
         rss0 = _rss_mb()
         log(f"  study: {prepared.n_cases} queries serial ...")
         serial = run_prepared(prepared, out=Path(tmp) / "serial", workers=1, progress=False)
@@ -103,14 +133,13 @@ def run_study_case(quick: bool = False, workers: int = 2, log=print) -> dict[str
         rate = prepared.n_cases / max(1e-9, serial.seconds - out["planner_build_s"])
         out["rate_queries_per_s_per_worker"] = rate
 
-        import logging
-
-        from distributed import Client, LocalCluster
+        from distributed import Client
 
         log(f"  study: {prepared.n_cases} queries on a local cluster of {workers} workers ...")
         t0 = time.perf_counter()
-        cluster = LocalCluster(n_workers=workers, threads_per_worker=1, processes=True, host="127.0.0.1",
-                               dashboard_address=None, silence_logs=logging.ERROR)
+        from garnav.study.cluster import local_cluster
+
+        cluster = local_cluster(workers)
         client = Client(cluster, timeout=60)
         try:
             client.wait_for_workers(workers, timeout=60)
@@ -128,6 +157,7 @@ def run_study_case(quick: bool = False, workers: int = 2, log=print) -> dict[str
             client.close()
             cluster.close()
         out["cluster_total_s"] = out["cluster_start_s"] + out["cluster_run_s"]
+        out["cpu_ceiling_after"] = cpu_ceiling(workers, 3_000_000 if quick else 15_000_000)
         out["rows_equal"] = bool(read_rows(Path(tmp) / "serial").equals(read_rows(Path(tmp) / "cluster")))
     out["speedup_with_start"] = out["serial_s"] / out["cluster_total_s"]
     out["speedup_without_start"] = out["serial_s"] / out["cluster_run_s"]
@@ -138,6 +168,7 @@ def run_study_case(quick: bool = False, workers: int = 2, log=print) -> dict[str
         out["load_average_at_end"] = [round(v, 2) for v in os.getloadavg()]
     except OSError:
         pass
+    log(f"  study: machine's parallel ceiling {out['cpu_ceiling_before']:.2f}x before, {out['cpu_ceiling_after']:.2f}x after")
     log(f"  study: serial {out['serial_s']:.1f} s, cluster {out['cluster_run_s']:.1f} s + start "
         f"{out['cluster_start_s']:.1f} s: speed-up {out['speedup_with_start']:.2f}x "
         f"({out['speedup_without_start']:.2f}x without start); task overhead {1e3 * out['task_overhead_s']:.1f} ms; "

@@ -29,7 +29,7 @@ from distributed import Client, LocalCluster, WorkerPlugin, as_completed, get_wo
 from garnav.study.cases import Chunk, GarmentInputs
 from garnav.study.worker import Settings, Workbench
 
-__all__ = ["PLUGIN_NAME", "WorkbenchPlugin", "default_workers", "open_client", "run_chunks"]
+__all__ = ["PLUGIN_NAME", "WorkbenchPlugin", "default_workers", "local_cluster", "open_client", "run_chunks"]
 
 PLUGIN_NAME = "garnav-study-workbench"
 #: Seconds to wait for a scheduler connection and for workers to start.
@@ -66,6 +66,17 @@ def run_chunk_on_worker(inputs: GarmentInputs, chunk: Chunk, settings: Settings)
     return chunk.id, rows, bench.builds
 
 
+def local_cluster(workers: int) -> LocalCluster:
+    """A local cluster of ``workers`` processes with one thread each, on 127.0.0.1, without a
+    dashboard and without the workers' statistical profiler (it samples every thread's stack
+    every 10 ms, time taken from the queries; ``distributed.worker.profile.enabled``)."""
+    import dask
+
+    with dask.config.set({"distributed.worker.profile.enabled": False}):
+        return LocalCluster(n_workers=int(workers), threads_per_worker=1, processes=True, host="127.0.0.1",
+                            dashboard_address=None, silence_logs=logging.ERROR)
+
+
 @contextmanager
 def open_client(workers: int | None = None, scheduler: str | None = None) -> Iterator[Client]:
     """A Dask client: on the scheduler at ``scheduler`` (``tcp://HOST:PORT``), else on a new local
@@ -75,8 +86,7 @@ def open_client(workers: int | None = None, scheduler: str | None = None) -> Ite
         client = Client(scheduler, timeout=CONNECT_TIMEOUT_S)
     else:
         n = int(workers or default_workers())
-        cluster = LocalCluster(n_workers=n, threads_per_worker=1, processes=True, host="127.0.0.1",
-                               dashboard_address=None, silence_logs=logging.ERROR)
+        cluster = local_cluster(n)
         try:
             client = Client(cluster, timeout=CONNECT_TIMEOUT_S)
             client.wait_for_workers(n, timeout=CONNECT_TIMEOUT_S)
