@@ -21,6 +21,7 @@ from __future__ import annotations
 
 import logging
 import os
+import uuid
 from contextlib import contextmanager
 from typing import Callable, Iterator
 
@@ -113,8 +114,9 @@ def run_chunks(client: Client, inputs: dict[str, GarmentInputs], chunks: list[Ch
     client.register_plugin(WorkbenchPlugin(max_contexts), name=PLUGIN_NAME)
     try:
         shared = {k: client.scatter(inputs[k], broadcast=True, hash=False) for k in sorted({c.garment for c in chunks})}
+        run_id = uuid.uuid4().hex[:12]  # task keys of this run only, on a scheduler others may share
         futures = [client.submit(run_chunk_on_worker, shared[c.garment], c, settings, pure=False,
-                                 key=f"garnav-study-chunk-{c.id}-{os.getpid()}") for c in chunks]
+                                 key=f"garnav-study-{run_id}-chunk-{c.id}") for c in chunks]
         for _fut, (cid, rows, _built) in as_completed(futures, with_results=True, timeout=timeout_s):
             on_done(cid, rows)
         per_worker = client.run(lambda dask_worker: dask_worker.plugins[PLUGIN_NAME].bench.builds)
