@@ -148,16 +148,6 @@ def evaluate_targets(res: dict[str, Any]) -> list[dict[str, Any]]:
                       f"covered {100 * g['covered_fraction']:.2f} %"))
     else:
         out.append(_t("sweep_back_panel", "N/A", None, sw.get("error", "not run")))
-    st = cases.get("study", {})
-    if "speedup_with_start" in st:
-        r = st["speedup_with_start"]
-        quick_note = " (quick: too few queries to judge)" if quick else ""
-        out.append(_t("study_speedup", "N/A" if quick else ("PASS" if r >= 1.6 else "MISS"), r,
-                      f"serial {st['serial_s']:.1f} s vs cluster {st['cluster_total_s']:.1f} s "
-                      f"(start {st['cluster_start_s']:.1f} s): {r:.2f}x; rows equal: {st['rows_equal']}; "
-                      f"task overhead {1e3 * st['task_overhead_s']:.1f} ms{quick_note}"))
-    else:
-        out.append(_t("study_speedup", "N/A", None, st.get("error", "not run")))
     drift = {t["key"]: t for t in cases.get("drift", {}).get("targets", [])}
     for key in ("drift_covariance_50", "drift_monte_carlo_10k", "drift_replay_36000"):
         t = drift.get(key)
@@ -185,6 +175,16 @@ def evaluate_targets(res: dict[str, Any]) -> list[dict[str, Any]]:
                       f"{lm['mechanics_only']['median'] * 1e3:.1f} ms)"))
     else:
         out.append(_t("physics_lift_mechanics", "N/A", None, lm.get("error", "not run")))
+    st = cases.get("study", {})
+    if "speedup_with_start" in st:
+        r = st["speedup_with_start"]
+        quick_note = " (quick: too few queries to judge)" if quick else ""
+        out.append(_t("study_speedup", "N/A" if quick else ("PASS" if r >= 1.6 else "MISS"), r,
+                      f"serial {st['serial_s']:.1f} s vs cluster {st['cluster_total_s']:.1f} s "
+                      f"(start {st['cluster_start_s']:.1f} s): {r:.2f}x; rows equal: {st['rows_equal']}; "
+                      f"task overhead {1e3 * st['task_overhead_s']:.1f} ms{quick_note}"))
+    else:
+        out.append(_t("study_speedup", "N/A", None, st.get("error", "not run")))
     out.extend(seam_targets(res))
     return out
 
