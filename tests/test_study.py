@@ -304,6 +304,7 @@ def test_report_files_and_plots(small_run):
     assert img.ndim == 3 and img.shape[0] > 200
     md = (done.out / "summary.md").read_text(encoding="utf-8")
     assert "## What blocks the failed cases" in md and "keep-out 'pocket'" in md and "certifies nothing" in md
+    assert "MRI rooms" in md  # the one caution text (garnav.cautions)
 
 
 # ----------------------------------------------------------------------------------- command line
@@ -311,8 +312,8 @@ def test_report_files_and_plots(small_run):
 
 def test_cli_study_serial(small, capsys):
     assert main(["study", str(small), "--workers", "1", "--no-progress"]) == 0
-    out = capsys.readouterr().out
-    assert "40 cases, 40 planned in this process" in out and "caution:" in out
+    cap = capsys.readouterr()
+    assert "40 cases, 40 planned in this process" in cap.out and "Safety cautions:" in cap.err
     assert (small.parent / "small-out" / "summary.md").exists()
     assert main(["study", str(small), "--workers", "1", "--no-progress"]) == 2
     assert "--resume" in capsys.readouterr().err

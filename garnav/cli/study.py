@@ -31,7 +31,8 @@ def register(subparsers) -> None:
         "existing cluster (--scheduler) or serially (--workers 1). Rows go to Parquet part files in the "
         "output folder as they finish (--resume continues a stopped study); a summary report with plots "
         "follows. Needs pip install 'garnav[cluster]'.",
-        epilog=CAUTION,
+        epilog=f"{CAUTION}\n\nexit status: 0 done, 1 some cases failed with an unexpected error (their rows say "
+        "why), 2 bad input, 130 interrupted",
     )
     parser.add_argument("study", metavar="STUDY.toml", help="the study file")
     parser.add_argument("--out", metavar="DIR", help="output folder (default: the study's output)")
@@ -44,6 +45,8 @@ def register(subparsers) -> None:
     parser.add_argument("--timeout", type=float, metavar="S", help="longest wait for all chunks on Dask, seconds")
     parser.add_argument("--no-progress", action="store_true", help="no progress bar")
     parser.add_argument("--no-report", action="store_true", help="write the rows only, no summary or plots")
+    parser.add_argument("--quiet", action="store_true", help="do not print the safety cautions (shown once per run "
+                        "on stderr)")
     parser.set_defaults(func=run)
 
 
@@ -68,7 +71,12 @@ def run(args: argparse.Namespace) -> int:
 
         summary = write_report(done.out, study.name)
         print(f"feasible  {summary['feasible']} of {summary['cases']} cases; report {done.out / 'summary.md'}")
-    print(CAUTION)
+    if not args.quiet:
+        import sys
+
+        from garnav.cautions import caution_lines
+
+        print("\n".join(caution_lines()), file=sys.stderr)
     if done.errors:
         print(f"garnav study: {done.errors} case(s) failed with an unexpected error; their rows say why "
               "(status 'error')")

@@ -22,6 +22,7 @@ from pathlib import Path
 import numpy as np
 
 from garnav.atomic import write_bytes_atomic, write_text_atomic
+from garnav.cautions import cautions_markdown
 from garnav.study.extra import require
 from garnav.study.results import read_rows
 from garnav.study.summary import summarise
@@ -144,7 +145,7 @@ def markdown_report(summary: dict, title: str = "study") -> str:
         lines += ["", "## One reason per status", ""]
         lines += [f"- **{k}**: {v}" for k, v in summary["example_reasons"].items()]
     lines += ["", "## Plots", "", "![feasibility by pair](feasibility_pairs.png)", "",
-              "![energy per pose](energy_by_pose.png)", "", "## Caution", "", SAFETY_NOTE, ""]
+              "![energy per pose](energy_by_pose.png)", "", "## Caution", "", SAFETY_NOTE, "", cautions_markdown(), ""]
     return "\n".join(lines)
 
 
