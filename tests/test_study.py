@@ -352,3 +352,22 @@ def test_example_study_file_prepares():
     assert prepared.n_cases == 55 * 4 * 2  # 11 landmarks' pairs × sizes × postures
     xl = prepared.inputs["sensing_top@XL"]
     assert xl.scale == pytest.approx(1.04**2) and xl.mesh("default") is not None
+
+
+def test_an_unexpected_error_is_recorded_and_the_command_exits_1(small, monkeypatch, capsys):
+    from garnav.study import worker
+
+    real = worker.CaseContext.point
+
+    def broken(self, text, pose, role):
+        if text == "b":
+            raise RuntimeError("simulated fault")
+        return real(self, text, pose, role)
+
+    monkeypatch.setattr(worker.CaseContext, "point", broken)
+    assert main(["study", str(small), "--workers", "1", "--no-progress", "--quiet"]) == 1
+    assert "failed with an unexpected error" in capsys.readouterr().out
+    rows = read_rows(small.parent / "small-out").to_pylist()
+    errs = [r for r in rows if r["status"] == "error"]
+    assert errs and all(r["reason"] == "RuntimeError: simulated fault" for r in errs)
+    assert all("b" in (r["start"], r["goal"]) for r in errs)
