@@ -29,6 +29,7 @@ LAYERS = [
     {"preview"},
     {"fleet", "page"},
     {"sweep"},  # a sweep split among robots is checked with the fleet's checker
+    {"study"},  # many cases at once over the planner, mechanics and uncertainty
     {"demo"},
     {"cli", "__main__", "testing"},
 ]
