@@ -23,12 +23,13 @@ LAYERS = [
     {"spec"},
     {"plan", "patterns"},
     {"drape"},
-    {"export", "mechanics", "zones"},
+    {"export", "mechanics", "flatten", "zones"},
     {"uncertainty"},
     {"telemetry"},
     {"preview"},
     {"fleet", "page"},
     {"sweep"},  # a sweep split among robots is checked with the fleet's checker
+    {"study"},  # many cases at once over the planner, mechanics and uncertainty
     {"demo"},
     {"cli", "__main__", "testing"},
 ]
