@@ -12,7 +12,9 @@ import os
 from collections.abc import Callable
 from pathlib import Path
 
-__all__ = ["read_text", "read_json_document", "file_problem", "NOT_UTF8"]
+from garnav.atomic import active_set, incomplete_mark
+
+__all__ = ["read_text", "read_json_document", "file_problem", "incomplete_reason", "NOT_UTF8"]
 
 NOT_UTF8 = "is not UTF-8 text"
 
@@ -25,6 +27,16 @@ def file_problem(path: str | os.PathLike) -> str | None:
     if not p.exists():
         return "does not exist"
     return None
+
+
+def incomplete_reason(path: str | os.PathLike) -> str | None:
+    """Why the file at ``path`` is not one whole result (its output set was left incomplete by a
+    stopped run: :func:`garnav.atomic.incomplete_mark` exists beside it), or None."""
+    mark = incomplete_mark(os.path.realpath(path))
+    if not mark.exists():
+        return None
+    return (f"belongs to a set of outputs that was not completely written (a run was stopped while "
+            f"writing it; the mark {mark.name} is beside it): write the files again (docs/outputs.md)")
 
 
 def read_text(
@@ -48,7 +60,8 @@ def read_text(
     ------
     Exception
         ``error(reason)`` with reason ``"does not exist"``, ``"is a folder, not a file"``,
-        ``"cannot be read: <system reason>"`` or the not-UTF-8 reason.
+        ``"cannot be read: <system reason>"``, the not-UTF-8 reason, or the reason of
+        :func:`incomplete_reason` for a file of an incompletely written output set.
     """
     p = Path(path)
     try:
@@ -56,6 +69,12 @@ def read_text(
     except OSError as exc:
         reason = file_problem(p) or f"cannot be read: {exc.strerror or exc}"
         raise error(reason) from None
+    reason = incomplete_reason(p)
+    if reason is not None:
+        raise error(reason)
+    writing = active_set()
+    if writing is not None:  # no output of this run may replace what it read
+        writing.add_input(p)
     try:
         return raw.decode("utf-8")
     except UnicodeDecodeError as exc:

@@ -46,10 +46,12 @@ def main(argv: list[str] | None = None) -> int:
     if not getattr(args, "func", None):
         parser.print_help()
         return 2
+    from garnav.cli.outputs import run_planned, terminal_safe
+
     try:
-        return int(args.func(args) or 0)
+        return run_planned(args)  # outputs checked first, written as one set, then printed
     except GarnavError as exc:
-        print(f"garnav {args.command}: error: {exc}", file=sys.stderr)
+        print(terminal_safe(f"garnav {args.command}: error: {exc}"), file=sys.stderr)
         return 2
     except KeyboardInterrupt:
         print("garnav: interrupted", file=sys.stderr)
