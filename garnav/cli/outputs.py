@@ -14,8 +14,8 @@
    error, an interrupt or SIGTERM removes every staged temporary file and leaves the old files.
 3. **Files first, then print**: the command's standard output is held while it works; when it
    returns, the set is committed (all files in place, marked incomplete while being renamed),
-   then the held text is printed with control characters escaped (:func:`terminal_safe`),
-   then one ``wrote FILE`` line per file (one ``wrote DIR/: N files`` line per output folder).
+   then one ``wrote FILE`` line is printed per file (one ``wrote DIR/: N files`` line per output
+   folder), then the held text, with control characters escaped (:func:`terminal_safe`).
    A reader that goes away (``| head -1``) cannot lose a file: they are all in place before the
    first byte is printed.
 
@@ -263,11 +263,8 @@ def run_planned(args: argparse.Namespace) -> int:
         sys.stdout.buffer.write(data)
         sys.stdout.buffer.flush()
     messages = sys.stderr if to_stdout else sys.stdout
-    text = held.getvalue()
     wrote = _wrote_lines(args, [s.shown for s in output_set.files if s.temp is not None])
-    if wrote:
-        text += "".join(f"{line}\n" for line in wrote)
-    _emit(text, messages)
+    _emit("".join(f"{line}\n" for line in wrote) + held.getvalue(), messages)
     return status
 
 

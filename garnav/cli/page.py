@@ -86,6 +86,6 @@ def run(args: argparse.Namespace) -> int:
     page = plan_page(garment, docs, drape, body, free_space=free, title=args.title,
                      sources=sources, max_body_triangles=args.max_body_triangles)
     write_plan_page(out, page)
-    print(f"wrote {out} ({page.size_bytes / 1e6:.1f} MB; {len(docs)} route{'s' if len(docs) != 1 else ''}, "
-          f"{page.triangles:,} triangles in 3D)")
+    print(f"page {out.name}: {page.size_bytes / 1e6:.1f} MB; {len(docs)} route{'s' if len(docs) != 1 else ''}, "
+          f"{page.triangles:,} triangles in 3D")
     return 0

@@ -90,8 +90,7 @@ def run(args: argparse.Namespace) -> int:
     plotter = build_plotter(garment, drape, body, routes, off_screen=off, size=(w, h))
     try:
         if off:
-            out = write_screenshot(args.screenshot, plotter)
-            print(f"wrote {out} ({w} x {h} px)")
+            write_screenshot(args.screenshot, plotter)  # `wrote FILE` comes from the output plan
         else:
             plotter.show(title=f"garnav — {garment.name}")
     finally:
@@ -112,4 +111,3 @@ def _write_sheet(garment, docs, path: Path) -> None:
         write_sheet_svg(path, drawing)
     else:
         write_sheet_png(path, drawing)
-    print(f"wrote {path}")
