@@ -118,8 +118,23 @@ def json_object_or_value(text: str, path: Path, error: Callable[[str], Exception
     import json
 
     try:
-        return json.loads(text)
+        return json.loads(text, parse_constant=_not_a_json_number, parse_float=_finite_float)
     except json.JSONDecodeError as exc:
         raise error(f"{path}: not JSON: {exc.msg} at line {exc.lineno}, column {exc.colno}") from None
+    except ValueError as exc:  # NaN, Infinity, 1e999, an integer of thousands of digits
+        raise error(f"{path}: not JSON this reader can take: {exc}") from None
     except RecursionError:
         raise error(f"{path}: not JSON this reader can take: nested too deeply") from None
+
+
+def _not_a_json_number(name: str):
+    raise ValueError(f"{name} is not a JSON number (RFC 8259 §6 allows finite numbers only)")
+
+
+def _finite_float(text: str) -> float:
+    import math
+
+    value = float(text)
+    if not math.isfinite(value):
+        raise ValueError(f"the number {text[:40]} is too large for a float (it would be infinite)")
+    return value
