@@ -69,9 +69,9 @@ def read_text(
     except OSError as exc:
         reason = file_problem(p) or f"cannot be read: {exc.strerror or exc}"
         raise error(reason) from None
-    reason = incomplete_reason(p)
-    if reason is not None:
-        raise error(reason)
+    incomplete = incomplete_reason(p)
+    if incomplete is not None:
+        raise error(incomplete)
     writing = active_set()
     if writing is not None:  # no output of this run may replace what it read
         writing.add_input(p)

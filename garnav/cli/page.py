@@ -54,7 +54,7 @@ def run(args: argparse.Namespace) -> int:
     if args.max_body_triangles < 100:
         raise QueryError(f"--max-body-triangles {args.max_body_triangles}: give at least 100")
     out = Path(args.out)
-    if out.suffix.lower() not in (".html", ".htm"):
+    if args.out != "-" and out.suffix.lower() not in (".html", ".htm"):
         raise QueryError(f"--out {args.out}: use a .html file name")
     spec_path = Path(args.garment)
     garment, drape = garment_and_drape(spec_path)

@@ -77,10 +77,12 @@ def check_route_on_garment(doc: dict, garment: Garment, source: str,
             hint = did_you_mean(str(piece), names)
             raise QueryError(f"{source}: waypoint {i}: piece {piece!r} is not a piece of garment "
                              f"'{garment.name}'" + (f"; {hint}" if hint else ""))
-        xy = [_number(w.get(k)) for k in ("x", "y")]
-        for key, value in zip(("x", "y"), xy, strict=True):
+        xy: list[float] = []
+        for key in ("x", "y"):
+            value = _number(w.get(key))
             if value is None:
                 raise QueryError(f"{source}: waypoint {i}: '{key}' is not a finite number ({w.get(key)!r})")
+            xy.append(value)
         ring = garment.piece(piece).outline
         away = _outside_mm(ring, xy[0], xy[1])
         if away > ON_PIECE_TOL_MM:
