@@ -180,3 +180,14 @@ def test_class1_output_set_api_compares_file_identity(tmp_path):
     s = OutputSet()
     s.add_input(tmp_path / "sub" / ".." / "a.txt")
     assert s.input_named(a) is not None
+
+
+def test_class1_wrote_file_lines_come_first_one_per_output(spec, tmp_path, capsys):
+    outs = [tmp_path / n for n in ("r.json", "r.csv", "r.cmd")]
+    assert main(_route(spec, "--json", str(outs[0]), "--csv", str(outs[1]), "--commands", str(outs[2]))) == 0
+    lines = capsys.readouterr().out.splitlines()
+    assert lines[:3] == [f"wrote {p}" for p in outs]  # files first, then the summary
+    assert any(line.startswith("length") for line in lines[3:])
+    assert main(["export-pattern", str(spec), "--svg", str(tmp_path / "p.svg"), "--dxf", str(tmp_path / "p.dxf")]) == 0
+    lines = capsys.readouterr().out.splitlines()
+    assert lines[:2] == [f"wrote {tmp_path / 'p.dxf'}", f"wrote {tmp_path / 'p.svg'}"]
