@@ -315,7 +315,10 @@ class OutputSet:
         return Path(path)
 
     def commit(self) -> None:
-        """Put every staged file in place; a set of two or more is marked until all are in place."""
+        """Put every staged file in place; a set of two or more is marked until all are in place.
+        A second call does nothing (a command may commit early, e.g. before opening a window)."""
+        if self._done:
+            return
         files = [s for s in self._staged if s.temp is not None]
         marks: list[Path] = []
         try:

@@ -19,7 +19,7 @@ def _spec_text() -> str:
     return dumps_garment(garments.two_panels())
 
 
-@pytest.mark.parametrize("bad", [f"{ESC}[2J", "\x07", "\x9b31m", "a\u2028b", "tab\there"])
+@pytest.mark.parametrize("bad", [f"{ESC}[2J", "\x07", "\x9b31m", "tab\there"])
 def test_class8_spec_reader_refuses_control_characters_in_names(bad):
     escaped = "".join(c if c.isprintable() else f"\\u{ord(c):04x}" for c in bad)  # TOML's escapes
     text = _spec_text().replace('name = "left"', f'name = "le{escaped}ft"', 1)

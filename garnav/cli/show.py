@@ -118,6 +118,10 @@ def run(args: argparse.Namespace) -> int:
         if off:
             write_screenshot(args.screenshot, plotter)  # `wrote FILE` comes from the output plan
         else:
+            from garnav.atomic import active_set
+
+            if active_set() is not None:  # the --sheet file is in place while the window is open
+                active_set().commit()
             plotter.show(title=f"garnav — {garment.name}")
     finally:
         plotter.close()

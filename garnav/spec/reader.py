@@ -162,11 +162,11 @@ def _section_rank(problem: Problem) -> int:
 
 
 def _control_character(text: str, allowed: str = "") -> str | None:
-    """The first control character of ``text`` (C0, DEL, C1, line and paragraph separators)
-    not in ``allowed``, or None."""
+    """The first control character of ``text`` (C0, DEL, C1: Unicode category Cc) not in
+    ``allowed``, or None."""
     for ch in text:
         code = ord(ch)
-        if (code < 0x20 or 0x7F <= code < 0xA0 or code in (0x2028, 0x2029)) and ch not in allowed:
+        if (code < 0x20 or 0x7F <= code < 0xA0) and ch not in allowed:
             return ch
     return None
 
