@@ -91,7 +91,7 @@ def _simulate_truth(args: argparse.Namespace) -> list[tuple[str, str]]:
 #: its entry here (tests/test_hardening_outputs.py checks that every command has one).
 ROLES: dict[str, Roles] = {
     "demo": Roles((), (Output("out", "--out", folder=True),)),
-    "check": Roles(("garment", "drape")),
+    "check": Roles(("garment", "drape"), (Output("json", "--json", stdout=True),)),
     "route": Roles(("garment", "drape", "robot"), (
         Output("json", "--json", stdout=True), Output("csv", "--csv", stdout=True),
         Output("commands", "--commands", stdout=True))),
