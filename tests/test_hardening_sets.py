@@ -109,3 +109,13 @@ def test_class2_demo_killed_between_renames_is_marked_then_rewritten(tmp_path, c
     assert main(["demo", "--out", str(out)]) == 0
     assert [p.name for p in out.iterdir() if p.name.startswith(".")] == []
     assert f"wrote {out}/: 19 files" in capsys.readouterr().out
+
+
+def test_class2_a_telemetry_log_of_an_incomplete_set_is_refused(tmp_path):
+    from garnav.telemetry.logfile import TelemetryError, read_log
+
+    log = tmp_path / "run.csv"
+    log.write_text("time_s\n")
+    incomplete_mark(log).write_text("garnav: incomplete\n")
+    with pytest.raises(TelemetryError, match="not completely written"):
+        read_log(log)
