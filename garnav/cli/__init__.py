@@ -20,7 +20,7 @@ from garnav.errors import GarnavError
 __all__ = ["main", "build_parser"]
 
 # Sub-command modules, in the order `garnav --help` lists them.
-COMMANDS = ("demo", "check", "route", "show", "import_mesh", "export_pattern", "page", "sweep", "fleet", "drift", "simulate", "track", "calibrate")
+COMMANDS = ("demo", "check", "route", "show", "import_mesh", "export_pattern", "page", "sweep", "fleet", "drift", "simulate", "track", "calibrate", "robot_sim", "station")
 
 
 def build_parser() -> argparse.ArgumentParser:

@@ -1,0 +1,1 @@
+"""The station's pyvista window (placeholder until the window lands)."""
