@@ -64,7 +64,8 @@ class LinkSession:
         Monotonic seconds (default :func:`time.monotonic`).
     log : callable, optional
         ``log(direction, msg)`` with direction "tx" or "rx", called for every message sent (resends
-        included, with ``"resend": n`` added in the logged copy) and every message delivered.
+        included, with ``"resend": n`` added in the logged copy), every message delivered and every
+        ack received.
     """
 
     def __init__(self, transport: Transport, name: str = "link", *, resend_s: float = RESEND_S,
@@ -132,6 +133,8 @@ class LinkSession:
             kind, seq = msg["t"], int(msg["seq"])
             if kind == "ack":
                 self.pending.pop(int(msg["ack"]), None)
+                if self.log is not None:
+                    self.log("rx", msg)
                 continue
             if kind in RELIABLE_TYPES:
                 self._tx(*self._ack(seq))

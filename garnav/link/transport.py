@@ -241,7 +241,13 @@ class FdTransport(_StreamLines):
         self.fd = fd
 
     def send(self, data: bytes) -> None:
-        os.write(self.fd, data)
+        _, ready, _ = select.select([], [self.fd], [], 0.0)
+        if not ready:
+            return  # nobody reads the other end: a lost line, never a blocked robot
+        try:
+            os.write(self.fd, data)
+        except OSError:
+            pass
 
     def _read_some(self, timeout_s: float) -> bytes:
         ready, _, _ = select.select([self.fd], [], [], max(float(timeout_s), 0.0))
