@@ -101,7 +101,7 @@ def run(args: argparse.Namespace) -> int:
         if name not in robots:
             raise QueryError(f"--at '{t}': no robot '{name}' (given: {', '.join(robots)})")
         placements[name] = _placement(garment, point, locate, t)
-    transports = {}
+    transports: dict = {}
     try:
         for name, url in robots.items():
             tr = open_transport(url)

@@ -212,7 +212,7 @@ class Station:
         base = self.garment.robot or Robot()
         r.robot = dataclasses.replace(base, name=str(p["robot"]), radius_mm=float(p["radius_mm"]),
                                       wheel_base_mm=float(p["wheel_base_mm"]), speed_mm_s=float(p["speed_mm_s"]),
-                                      side=str(p["side"]))
+                                      side="inside" if p["side"] == "inside" else "outside")
         piece, x, y, h = placed
         try:
             self.garment.piece(piece)
@@ -276,11 +276,12 @@ class Station:
         goal = planner.point(point, role="goal")
         here = self.start_point(r)
         start = planner.point(here, snap=True, role="start")
-        route = planner.route(start, goal)
+        route: object = planner.route(start, goal)
         if math.hypot(start.x - here.x, start.y - here.y) > 1e-6:  # the estimate sat in a margin: drive out first
-            legs = list(route.legs)
+            legs: list = list(route.legs)  # type: ignore[attr-defined]
             legs[0] = SimpleNamespace(piece=legs[0].piece, points=np.vstack([[here.x, here.y], legs[0].points]))
-            route = SimpleNamespace(legs=tuple(legs), crossings=tuple(route.crossings), length_mm=route.length_mm)
+            route = SimpleNamespace(legs=tuple(legs), crossings=tuple(route.crossings),  # type: ignore[attr-defined]
+                                    length_mm=route.length_mm)  # type: ignore[attr-defined]
         commands = route_commands(route, self.garment, r.robot)
         self.send_plan(r, route, commands, goal)
         return route
