@@ -15,7 +15,7 @@ MAX_LINES = 600
 
 # Low to high (DEVELOPERS.md): a module may import from its own package and from lower layers only.
 LAYERS = [
-    {"errors", "polyline"},
+    {"errors", "polyline", "cautions"},
     {"atomic", "textio"},
     {"mechanics.profile", "uncertainty.model"},  # robot profile sub-tables (model and spec read them)
     {"model"},

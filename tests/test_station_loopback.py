@@ -95,7 +95,7 @@ def test_goto_a_landmark_over_udp_loopback(tmp_path):
     done, records = run_station(spec, {"ada": port}, {"ada": "right_centre"}, tmp_path)
     (sim_out,) = finish([proc])
     assert done.returncode == 0, done.stdout + done.stderr + sim_out
-    assert "Caution" in done.stdout.splitlines()[0]
+    assert done.stdout.splitlines()[0] == "Safety cautions:" and "no authentication" in done.stdout
     # the log holds the commands, their ack, telemetry of that plan, then done — in that order
     msgs = [r for r in records if "msg" in r]
     i_cmd = next(i for i, r in enumerate(msgs) if r["dir"] == "tx" and r["msg"]["t"] == "commands")

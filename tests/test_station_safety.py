@@ -16,7 +16,7 @@ from garnav.cli import main
 from garnav.export.commands import CommandList, Go, Turn, Wait
 from garnav.link.robot import SimulatedRobot
 from garnav.model import Circle, KeepOut
-from garnav.station.safety import CAUTIONS, UnsafeRouteError, check_route, hard_keepout_crossings
+from garnav.station.safety import UnsafeRouteError, check_route, hard_keepout_crossings, station_caution_lines
 
 
 def garment_with_button():
@@ -38,9 +38,14 @@ def test_a_route_through_a_hard_keepout_is_refused_and_a_soft_one_is_not():
     check_route(g, other_piece, "ada")
 
 
-def test_cautions_name_magnets_neck_batteries_stop_and_the_open_link():
-    text = " ".join(CAUTIONS)
-    for word in ("implanted", "neck", "lithium", "Emergency stop", "no authentication", "127.0.0.1", "certifies nothing"):
+def test_station_cautions_are_the_projects_plus_the_links():
+    from garnav.cautions import caution_lines
+
+    lines = station_caution_lines()
+    assert lines[:len(caution_lines())] == caution_lines()
+    text = " ".join(" ".join(lines).split())
+    for word in ("implanted", "Neck and face", "Batteries", "Emergency stop", "no authentication", "127.0.0.1",
+                 "certifies nothing"):
         assert word in text
 
 

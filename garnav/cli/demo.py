@@ -18,19 +18,12 @@ import os
 import time
 from pathlib import Path
 
+from garnav.cautions import caution_lines
 from garnav.errors import GarnavError
 
 __all__ = ["register", "run", "CAUTIONS"]
 
-CAUTIONS = (
-    "Safety cautions:",
-    "  - Holding magnets can disturb implanted medical devices (pacemakers, defibrillators, pumps,",
-    "    shunt valves); keep them away from such a device and follow its wearer's instructions.",
-    "  - Keep robots off the neck and face; the demo's neckline margin is not a safety zone.",
-    "  - Charge and store batteries as their maker says; stop on heat, swelling or smell.",
-    "  - Applicable standards and qualified professionals decide what is safe on a person;",
-    "    garnav plans routes and certifies nothing.",
-)
+CAUTIONS = tuple(caution_lines())
 
 DEFAULT_OUT = "garnav-demo"
 

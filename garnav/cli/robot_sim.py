@@ -18,8 +18,7 @@ from garnav.errors import QueryError
 __all__ = ["register", "run"]
 
 CAUTION = ("Caution: a simulation shows the protocol and the error model, not that a robot is safe on a "
-           "body; real robots need an emergency stop within reach, magnets kept away from implanted "
-           "devices and off the neck and face (docs/link.md).")
+           "body; the safety cautions of garnav station and docs/link.md apply to every real robot.")
 
 
 def register(subparsers) -> None:

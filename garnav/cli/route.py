@@ -25,9 +25,11 @@ from __future__ import annotations
 import argparse
 import dataclasses
 import os
+import sys
 from pathlib import Path
 from typing import TYPE_CHECKING
 
+from garnav.cautions import caution_lines
 from garnav.errors import MeshError, QueryError
 
 if TYPE_CHECKING:
@@ -119,6 +121,8 @@ def register(subparsers) -> None:
         action="store_true",
         help="choose seams and crossings by the certified (slower) branch-and-bound search (docs/planning.md)",
     )
+    parser.add_argument("--quiet", action="store_true", help="do not print the safety cautions (shown once per run on "
+                        "standard error otherwise)")
     parser.set_defaults(func=run)
 
 
@@ -213,6 +217,8 @@ def run(args: argparse.Namespace) -> int:
     if args.commands:
         comment = f"{args.start} to {args.goal} on garment '{garment.name}', robot '{robot.name}'"
         write_commands(args.commands, route_commands(route, garment, robot), comment=comment)
+    if not getattr(args, "quiet", False):
+        print("\n".join(caution_lines()), file=sys.stderr)
     return 0
 
 

@@ -77,9 +77,9 @@ def parse_named_point(text: str, option: str) -> tuple[str, str]:
 
 def run(args: argparse.Namespace) -> int:
     from garnav.link.transport import LossyTransport, open_transport
-    from garnav.station.safety import CAUTIONS
+    from garnav.station.safety import station_caution_lines
 
-    for line in CAUTIONS:  # once, at start
+    for line in station_caution_lines():  # once, at start
         print(line, flush=True)
     robots = dict(parse_robot_option(t) for t in args.robot)
     if len(robots) != len(args.robot):

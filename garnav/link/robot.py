@@ -10,7 +10,9 @@ error is drawn only at the robot's first placement.
 
 The sensors report what the controller measured: encoder counters (wrapping at ``encoder_bits``)
 and the gyro rate about the surface normal, plus the heading the robot integrates from its gyro
-(robot's view: counter-clockwise seen from the side it drives on). :meth:`SimulatedRobot.stop`
+(robot's view: counter-clockwise seen from the side it drives on), and the planar pose its own
+odometry integrates from them every period in its start frame (``odom_x_mm``, ``odom_y_mm``; x
+along its heading when it was put down, y to its left). :meth:`SimulatedRobot.stop`
 halts it at once: the next sample shows no motion. The battery drains at the profile's idle and
 driving power (:class:`~garnav.mechanics.profile.RobotPhysics`, or its invented defaults).
 
@@ -53,6 +55,7 @@ class Sample:
     battery_fraction: float
     plan_mm: float
     truth: tuple[str, float, float, float]
+    odom_xy: tuple[float, float] = (0.0, 0.0)
 
     def fields(self) -> dict:
         """The telemetry message's fields."""
@@ -60,7 +63,8 @@ class Sample:
                 "left_ticks": self.left_ticks, "right_ticks": self.right_ticks,
                 "gyro_z_deg_s": round(self.gyro_z_deg_s, 9), "heading_deg": round(self.heading_deg, 9),
                 "seam_bump": self.seam_bump, "battery_fraction": round(self.battery_fraction, 6),
-                "plan_mm": round(self.plan_mm, 4)}
+                "plan_mm": round(self.plan_mm, 4), "odom_x_mm": round(self.odom_xy[0], 6),
+                "odom_y_mm": round(self.odom_xy[1], 6)}
 
 
 def split_at_waits(commands: tuple[Command, ...]) -> list[tuple[Command, ...] | Wait]:
@@ -140,6 +144,7 @@ class SimulatedRobot:
         self.heading_deg = 0.0
         self.gyro = 0.0
         self.plan_mm = 0.0
+        self.odom = (0.0, 0.0)
         phys = self.robot.physics or RobotPhysics()
         self.physics = phys
         self.charge = float(phys.start_charge_fraction)
@@ -236,7 +241,11 @@ class SimulatedRobot:
             self.heading_deg += self.gyro * dt
             bump = bool(p.bump[k])
             kl, kr = wheel_mm_per_tick(self.sensors)
-            self.plan_mm += 0.5 * (abs(int(p.d_left[k])) * kl + abs(int(p.d_right[k])) * kr)
+            ds = 0.5 * (int(p.d_left[k]) * kl + int(p.d_right[k]) * kr)
+            self.plan_mm += abs(ds)
+            # the robot's own odometry (its start frame, robot's view), midpoint rule per period
+            mid = math.radians(self.heading_deg - 0.5 * self.gyro * dt)
+            self.odom = (self.odom[0] + ds * math.cos(mid), self.odom[1] + ds * math.sin(mid))
             self.truth = p.truth[k]
             moving = True
             p.k += 1
@@ -253,7 +262,7 @@ class SimulatedRobot:
         self.charge = max(0.0, self.charge - power * dt / self.physics.battery_j)
         full = 1 << int(self.sensors.encoder_bits)
         return Sample(self.time_s, self.plan, self.state, self.left % full, self.right % full, self.gyro,
-                      self.heading_deg, bump, self.charge, self.plan_mm, self.truth)
+                      self.heading_deg, bump, self.charge, self.plan_mm, self.truth, self.odom)
 
     def profile_fields(self, name: str | None = None) -> dict:
         """The ``profile`` message's fields: geometry, encoder settings, where it was put down."""

@@ -17,6 +17,7 @@ from html import escape
 from importlib import resources
 from typing import Sequence
 
+from garnav.cautions import CAUTIONS
 from garnav.page.figures import RouteFigures, cell_text, table_columns
 from garnav.page.geometry import ZONE_COLOUR
 from garnav.preview.scene import PIECE_COLOURS, SceneStyle
@@ -27,25 +28,7 @@ __all__ = ["PageText", "CAUTIONS", "page_html", "asset_text", "THREE_VERSION"]
 #: The three.js release bundled in ``garnav/data/vendor/three`` (see BUILD.md there).
 THREE_VERSION = "0.187.0"
 
-#: The page's safety cautions: (heading, text).
-CAUTIONS: tuple[tuple[str, str], ...] = (
-    ("Magnets and implanted devices",
-     "The robot's holding magnets can disturb pacemakers, defibrillators, neurostimulators, insulin "
-     "pumps, shunt valves and other implanted or worn electronics. Whether and how close a robot may "
-     "come to such a device is for the device maker and the wearer's clinician to decide, not this plan."),
-    ("Neck and face",
-     "Keep robots away from the neck, face and hair. Mark them as hard keep-outs and do not rely on a "
-     "plan alone: watch the robot whenever it is on a person."),
-    ("Batteries",
-     "Use protected lithium cells, charge them as their maker says and never unattended on the body; "
-     "stop the robot if it gets warm, swells or smells."),
-    ("Emergency stop",
-     "Have a way to stop the robot at once within reach of the wearer and of the person supervising, "
-     "and test it before every run."),
-    ("What this plan is",
-     "garnav plans routes; it certifies nothing. The standards that apply to your device and setting, "
-     "and qualified professionals, decide what is safe on a person."),
-)
+#: The page's safety cautions: (heading, text) — the project's one caution text.
 
 
 @dataclass(frozen=True)

@@ -8,6 +8,6 @@
 """
 
 from garnav.station.controller import Station
-from garnav.station.safety import CAUTIONS, UnsafeRouteError, check_route
+from garnav.station.safety import LINK_CAUTIONS, UnsafeRouteError, check_route, station_caution_lines
 
-__all__ = ["CAUTIONS", "Station", "UnsafeRouteError", "check_route"]
+__all__ = ["LINK_CAUTIONS", "Station", "UnsafeRouteError", "check_route", "station_caution_lines"]

@@ -72,7 +72,10 @@ class PoseEstimate:
 
     def update(self, sample: dict) -> None:
         """Take one telemetry sample (the message dict); the first only sets the reference."""
-        now = (int(sample["left_ticks"]), int(sample["right_ticks"]), float(sample["heading_deg"]))
+        odom = sample.get("odom_x_mm"), sample.get("odom_y_mm")
+        has_odom = all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in odom)
+        now = (int(sample["left_ticks"]), int(sample["right_ticks"]), float(sample["heading_deg"]),
+               float(odom[0]) if has_odom else math.nan, float(odom[1]) if has_odom else math.nan)
         if self.last is None:
             self.last = now
             return
@@ -80,20 +83,32 @@ class PoseEstimate:
         half = full >> 1
         dl = (now[0] - self.last[0] + half) % full - half
         dr = (now[1] - self.last[1] + half) % full - half
-        dh = now[2] - self.last[2]
-        self.last = now
+        dh = math.radians(now[2] - self.last[2])
+        last, self.last = self.last, now
         ds = 0.5 * (dl * self.encoders.left_mm_per_tick + dr * self.encoders.right_mm_per_tick)
         if ds == 0.0 and dh == 0.0 or self.off_fabric:
             return
         sign = 1.0 if self.encoders.side == "outside" else -1.0
+        if math.isfinite(now[3]) and math.isfinite(last[3]):
+            # the robot's own odometry gives the chord of the interval: drive it at its direction,
+            # then turn the rest — right across lost samples (a turn and a go in one interval)
+            cx, cy = now[3] - last[3], now[4] - last[4]
+            chord = math.hypot(cx, cy)
+            alpha = math.remainder(math.atan2(cy, cx) - math.radians(last[2]), 2 * math.pi) if chord > 1e-9 else 0.0
+            steps_ds = np.array([math.copysign(chord, ds) if ds else chord, 0.0])
+            if ds < 0:  # backwards: the chord points against the heading
+                alpha = math.remainder(alpha + math.pi, 2 * math.pi)
+            steps_dth = sign * np.array([2.0 * alpha, dh - 2.0 * alpha])
+        else:
+            steps_ds, steps_dth = np.array([ds]), np.array([sign * dh])
         planned = [st for st in self.plan.steps if st.kind == "cross"] if self.plan is not None else []
         try:
-            path = drive_increments(self.garment, self.pose, np.array([ds]), np.array([sign * math.radians(dh)]), planned)
+            path = drive_increments(self.garment, self.pose, steps_ds, steps_dth, planned)
         except OffFabric as exc:
             self.off_fabric = f"the estimated pose leaves the fabric: {exc}"
             return
         self.driven_mm += abs(ds)
-        self.pose = (path.piece_of(1), float(path.xy[1, 0]), float(path.xy[1, 1]), float(path.heading[1]))
+        self.pose = (path.piece_of(len(steps_ds)), float(path.xy[-1, 0]), float(path.xy[-1, 1]), float(path.heading[-1]))
         self.track.append(self.pose[:3])
 
     def start_plan(self, plan: MotionPlan) -> None:

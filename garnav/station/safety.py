@@ -14,22 +14,29 @@ import shapely
 from garnav.errors import GarnavError
 from garnav.model import Garment
 
-__all__ = ["CAUTIONS", "UnsafeRouteError", "hard_keepout_crossings", "check_route"]
+__all__ = ["LINK_CAUTIONS", "station_caution_lines", "UnsafeRouteError", "hard_keepout_crossings", "check_route"]
 
-CAUTIONS = (
-    "Caution: garnav drives robots on a person. Magnets can disturb pacemakers, defibrillators, "
-    "neurostimulators, insulin pumps and other implanted devices — keep them away from wearers with "
-    "such devices unless a qualified professional says otherwise.",
-    "Keep robots out of the neck, face and hair zones (mark them as hard keep-outs) and do not rely "
-    "on a plan or on dead reckoning alone.",
-    "Use protected lithium cells; never charge on the body unattended; stop a robot that gets warm.",
-    "Emergency stop: press the stop key (space) in the window or Ctrl+C in the terminal; a robot "
-    "that hears nothing from the station also stops itself.",
-    "The radio link has no authentication or encryption: anyone in range can command a robot. The "
-    "station binds to 127.0.0.1 only; never expose it beyond this machine (docs/link.md).",
-    "garnav plans routes; it certifies nothing. Follow the device maker, clinicians, the standards "
-    "that apply and qualified professionals.",
+#: What driving over the link adds to the project's cautions (:mod:`garnav.cautions`).
+LINK_CAUTIONS = (
+    "Emergency stop: space in the station window, Ctrl+C in the terminal, or closing the window "
+    "stops every robot; a robot that hears nothing from the station for 1 s stops itself. Keep a "
+    "physical power switch within reach too: a software stop needs a working link.",
+    "The link has no authentication or encryption: anyone in range of an open radio link can read "
+    "and command a robot. The station and robot-sim bind to 127.0.0.1 only; never expose them "
+    "beyond this machine (docs/link.md).",
 )
+
+
+def station_caution_lines(width: int = 96) -> list[str]:
+    """The project's cautions (:func:`garnav.cautions.caution_lines`) followed by the link's."""
+    import textwrap
+
+    from garnav.cautions import caution_lines
+
+    lines = caution_lines(width)
+    for text in LINK_CAUTIONS:
+        lines.extend(textwrap.wrap(text, width=width, initial_indent="  - ", subsequent_indent="    "))
+    return lines
 
 
 class UnsafeRouteError(GarnavError):
