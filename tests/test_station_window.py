@@ -71,6 +71,7 @@ def test_pick_callback_plans_the_selected_robot_to_the_picked_point():
     sent = [m for m in fake.sent if m["t"] == "commands"]
     assert len(sent) == 1 and sent[0]["plan"] == r.plan_id
     assert "plan 1 sent" in window.message
+    assert window.margins["ada"].startswith("margins grip")  # the demo robot has a physics profile
     assert "station-route-ada" in window.plotter.actors and "station-robot-ada" in window.plotter.actors
     # a pick off the garment's pieces is refused with a message, nothing sent
     window.on_pick(np.array([0.0, 0.0, -5000.0]))

@@ -62,6 +62,7 @@ class StationWindow:
         self.locate = pattern_locator(drape, self.garment)
         self.plotter = build_plotter(self.garment, drape, off_screen=off_screen, size=size)
         self.names = list(station.robots)
+        self.margins: dict[str, str] = {}
         self.selected = self.names[0]
         self.message = "click the garment to send the selected robot there; space: STOP ALL"
         self.scale = float(np.linalg.norm(np.ptp(np.asarray(drape.positions), axis=0)))
@@ -132,6 +133,7 @@ class StationWindow:
             lifted = lift_route(self.drape, self.garment, r.route)
         except GarnavError:
             return
+        self.margins[name] = self._route_margins(r, lifted)
         pts = np.asarray(lifted.points, dtype=float) + 0.004 * self.scale * np.asarray(lifted.normals, dtype=float)
         keep = np.r_[True, np.linalg.norm(np.diff(pts, axis=0), axis=1) > 1e-9]
         if keep.sum() >= 2:
@@ -165,19 +167,28 @@ class StationWindow:
                 if ring is not None and len(ring) > 2:
                     self.plotter.add_mesh(pv.lines_from_points(np.vstack([ring, ring[:1]])), color=colour,
                                           line_width=2.0, name=f"station-ellipse-{name}")
-        margins = self._margins()
-        if margins:
-            lines.append(margins)
+            if self.margins.get(name):
+                lines.append(f"     {self.margins[name]}")
         lines += ["", self.message]
         self.plotter.add_text("\n".join(lines), position="upper_left", font_size=10, color="#222222", name="station-panel")
 
-    def _margins(self) -> str:
-        """The garment robot's physics margins are per route (docs/physics.md): shown when known."""
-        robot = self.garment.robot
-        if robot is None or robot.physics is None:
+    def _route_margins(self, r, lifted) -> str:
+        """The margins line of the route's mechanics (upright wearer; docs/physics.md) when the
+        robot has a physics profile, else ""."""
+        robot = r.robot or self.garment.robot
+        physics = getattr(self.garment.robot, "physics", None)
+        if robot is None or physics is None:
             return ""
-        p = robot.physics
-        return f"safety factors: grip/hold {p.safety_factor:g}, drive {p.drive_safety_factor:g}"
+        from garnav.mechanics.evaluate import route_mechanics
+        from garnav.mechanics.gravity import parse_gravity
+
+        try:
+            posture, g = parse_gravity(None, None)
+            mech = route_mechanics(lifted, self.drape, physics, g, speed_mm_s=robot.speed_mm_s, side=robot.side,
+                                   posture=posture)
+        except (GarnavError, ValueError):
+            return ""
+        return " ".join(mech.lines()[2].split()) + f" ({posture})"
 
     def tick(self, *_args) -> None:
         """Timer callback: poll the link, redraw."""
