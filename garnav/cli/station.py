@@ -121,6 +121,7 @@ def run(args: argparse.Namespace) -> int:
                                      "give the spec a drape, or run --headless")
                 from garnav.station.window import StationWindow
 
+                station.planner_for()  # built before any robot waits on it
                 station.connect()
                 window = StationWindow(station, drape)
                 for name, point in goals.items():
