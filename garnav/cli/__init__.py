@@ -23,6 +23,10 @@ __all__ = ["main", "build_parser"]
 COMMANDS = ("demo", "check", "route", "show", "import_mesh", "export_pattern", "page", "sweep", "fleet", "drift", "simulate", "track", "calibrate", "robot_sim", "station")
 
 
+#: The exit statuses every command shares (README, "Exit status"); ``check`` adds 1 for warnings.
+EXIT_STATUS = "exit status: 0 done, 2 bad input or no result, 130 interrupted, 141 output pipe closed"
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="garnav",
@@ -36,6 +40,9 @@ def build_parser() -> argparse.ArgumentParser:
         except ImportError as exc:  # a broken installation: say which command, never skip it
             raise ImportError(f"garnav: the '{name}' command cannot be loaded (garnav.cli.{name}): {exc}") from exc
         module.register(sub)
+    for command in sub.choices.values():  # every command's --help ends with its exit status
+        if "exit status" not in (command.epilog or ""):
+            command.epilog = f"{command.epilog}\n\n{EXIT_STATUS}" if command.epilog else EXIT_STATUS
     return parser
 
 

@@ -1,26 +1,41 @@
-"""``garnav check GARMENT``: validate a garment spec and print a summary of it.
+"""``garnav check GARMENT``: validate a garment spec, report what ``route`` would refuse, summarise it.
 
-Exit status 0 with the summary when the spec is sound; otherwise every problem is printed (by the
-dispatcher, from the :class:`~garnav.errors.SpecError`) and the status is 2.
+Exit status (also in ``--help``): 0 when nothing was found, 1 when there are warnings only, 2 when
+there are errors (a spec problem, a mesh that cannot be read or does not fit, or anything
+``garnav route`` would refuse for the spec's own robot: :mod:`garnav.plan.readiness`).
+``--json`` writes the same report as one JSON document (keys in docs/commands.md, "Checking a
+garment").
 """
 
 from __future__ import annotations
 
 import argparse
+import dataclasses
+import json
+import sys
 from pathlib import Path
 
-from garnav.spec import load_garment
-from garnav.spec.summary import format_summary
+from garnav.errors import GarnavError, SpecError
 
-__all__ = ["register", "run"]
+__all__ = ["register", "run", "SEAM_GAP_ERROR_MM", "EXIT_CODES"]
+
+#: A seam whose two runs lie farther apart than this in 3D (through the drape) is an error, mm:
+#: the drape and the pattern disagree there and a lifted route would jump.
+SEAM_GAP_ERROR_MM = 1.0
+
+EXIT_CODES = "exit status: 0 nothing found, 1 warnings only, 2 errors (or bad input)"
 
 
 def register(subparsers) -> None:
     parser = subparsers.add_parser(
         "check",
         help="validate a garment spec (TOML) and summarise its pieces, seams and keep-outs",
-        description="Read a garment spec, report every problem in it, or print a summary: pieces, "
-        "seams with their ease, open edges, keep-outs, landmarks and the robot.",
+        description="Read a garment spec, report every problem in it and everything `garnav route` "
+        "would refuse for the spec's own robot (landmarks the robot cannot stand on, pieces too "
+        "narrow for it, mismatched seam runs, a drape that is not a readable mesh or does not fit), "
+        "then print a summary: pieces, seams with their ease, open edges, keep-outs, landmarks and "
+        "the robot.",
+        epilog=EXIT_CODES,
     )
     parser.add_argument("garment", metavar="GARMENT", help="garment spec file (.toml)")
     parser.add_argument(
@@ -31,41 +46,107 @@ def register(subparsers) -> None:
         help="also link a UV-mapped drape mesh (default: the spec's drape) and report coverage, "
         "stretch and seam closure",
     )
+    parser.add_argument("--json", metavar="FILE", nargs="?", const="-",
+                        help="write the report as JSON to FILE (without FILE: to standard output, "
+                        "and nothing else is printed there)")
     parser.set_defaults(func=run)
 
 
 def run(args: argparse.Namespace) -> int:
-    garment = load_garment(args.garment)
-    print(f"{args.garment}: no problems found")
-    print(format_summary(garment), end="")
-    notes = mesh_notes(garment, Path(args.garment).parent)
-    if notes:
-        print()
-        print("\n".join(notes))
-    if getattr(args, "drape", None) is not None:
-        print()
-        print(drape_text(garment, args.drape, Path(args.garment).parent))
-    return 0
+    from garnav.plan.readiness import route_readiness
+    from garnav.spec import load_garment
+    from garnav.spec.summary import format_summary
+
+    as_json = getattr(args, "json", None)
+    report: dict = {"format": "garnav-check", "version": 1, "file": str(args.garment),
+                    "errors": [], "warnings": [], "meshes": [], "drape": None}
+    try:
+        garment = load_garment(args.garment)
+    except SpecError as exc:
+        if as_json is None:
+            raise
+        report["errors"] = [{"level": "error", "code": "spec", "item": p.item, "reason": p.reason,
+                             "where_mm": None if p.where is None else list(p.where)} for p in exc.problems]
+        return _finish(report, as_json)
+    folder = Path(args.garment).parent
+    findings = list(route_readiness(garment))
+    mesh_lines, drape_text = _meshes(garment, folder, getattr(args, "drape", None), report, findings)
+    report["errors"] = [f.as_dict() for f in findings if f.level == "error"]
+    report["warnings"] = [f.as_dict() for f in findings if f.level == "warning"]
+    report["summary"] = {"pieces": len(garment.pieces), "seams": len(garment.seams),
+                         "keepouts": len(garment.keepouts), "landmarks": len(garment.landmarks),
+                         "robot": (garment.robot.name if garment.robot else None)}
+    if as_json is None:
+        if not findings:
+            print(f"{args.garment}: no problems found")
+        else:
+            print(f"{args.garment}: {len(report['errors'])} error(s), {len(report['warnings'])} warning(s)")
+            for f in findings:
+                print(f"  {f}")
+        print(format_summary(garment), end="")
+        if mesh_lines:
+            print()
+            print("\n".join(mesh_lines))
+        if drape_text:
+            print()
+            print(drape_text)
+    return _finish(report, as_json)
 
 
-def drape_text(garment, mesh: str, folder: Path) -> str:
-    """The drape report of ``mesh`` (or, when empty, of the spec's own drape) for ``garment``."""
-    from garnav.drape import drape_report, load_drape
+def _meshes(garment, folder: Path, drape_opt, report: dict, findings: list) -> tuple[list[str], str]:
+    """Mesh notes and the drape report; unreadable or ill-fitting meshes become findings."""
+    from garnav.plan.readiness import Finding
 
-    return drape_report(garment, load_drape(garment, mesh, str(folder))).text()
-
-
-def mesh_notes(garment, folder: Path) -> list[str]:
-    """One line per mesh file the spec names (drape, body): where it is and whether it exists.
-
-    A missing mesh is not an error here: the pattern is complete without it (planning needs
-    no mesh); commands that lift routes to 3D report it as an error.
-    """
-    notes = []
+    lines = []
     for label, rel in (("drape", garment.drape), ("body", garment.body)):
         if rel is None:
             continue
         path = folder / rel
         state = "found" if path.is_file() else "NOT FOUND (needed only for 3D)"
-        notes.append(f"{label} mesh: {path}: {state}")
-    return notes
+        report["meshes"].append({"role": label, "path": str(path), "found": path.is_file()})
+        lines.append(f"{label} mesh: {path}: {state}")
+    want = drape_opt if drape_opt is not None else (garment.drape if garment.drape and (folder / garment.drape).is_file() else None)
+    if want is None:
+        return lines, ""
+    from garnav.drape import drape_report, load_drape
+
+    try:
+        rep = drape_report(garment, load_drape(garment, drape_opt or "", str(folder)))
+    except GarnavError as exc:
+        if drape_opt is not None:
+            raise
+        findings.insert(0, Finding("error", "drape_unreadable", f"drape '{garment.drape}'", str(exc)))
+        return lines, ""
+    for c in rep.seams:
+        if c.max_gap_mm > SEAM_GAP_ERROR_MM:
+            findings.insert(0, Finding("error", "seam_gap", f"seam '{c.seam}'",
+                                       f"its two runs lie up to {c.max_gap_mm:.2f} mm apart on the drape "
+                                       f"(more than {SEAM_GAP_ERROR_MM:g} mm): drape and pattern disagree"))
+    report["drape"] = dataclasses.asdict(rep)
+    return lines, rep.text() if drape_opt is not None else ""
+
+
+def _finish(report: dict, as_json: str | None) -> int:
+    status = 2 if report["errors"] else (1 if report["warnings"] else 0)
+    report["status"] = status
+    if as_json is not None:
+        text = json.dumps(_finite(report), indent=2, allow_nan=False) + "\n"
+        if as_json == "-":
+            sys.stdout.write(text)
+        else:
+            from garnav.atomic import write_text_atomic
+
+            write_text_atomic(as_json, text)
+            print(f"wrote {as_json}")
+    return status
+
+
+def _finite(value):
+    """``value`` with non-finite floats as None (JSON has no NaN) and tuples as lists."""
+    if isinstance(value, dict):
+        return {k: _finite(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_finite(v) for v in value]
+    if isinstance(value, float):
+        return value if value == value and abs(value) != float("inf") else None
+    return value
