@@ -15,7 +15,11 @@ from pathlib import Path
 
 from garnav.errors import QueryError
 
-__all__ = ["register", "run", "parse_robot_option", "parse_named_point"]
+__all__ = ["register", "run", "parse_robot_option", "parse_named_point", "EXIT_CODES"]
+
+EXIT_CODES = ("exit status: 0 every robot arrived (--headless --until-arrived; without it, every plan done) or "
+              "the window was closed; 1 a robot did not arrive — lost, an error, a stop, the time limit — and "
+              "every robot was stopped; 2 bad input or a link that cannot be opened; 130 interrupted (robots stopped)")
 
 
 def register(subparsers) -> None:
@@ -27,6 +31,7 @@ def register(subparsers) -> None:
         "clicked points, and track them. With --headless there is no window: --goto NAME:POINT "
         "sends each robot, --until-arrived exits 0 only when every robot arrived. Space in the "
         "window, Ctrl+C in the terminal: emergency stop of every robot.",
+        epilog=EXIT_CODES,
     )
     parser.add_argument("garment", metavar="SPEC", help="garment spec file (.toml)")
     parser.add_argument("--robot", action="append", required=True, metavar="NAME=URL",
