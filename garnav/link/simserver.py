@@ -51,7 +51,7 @@ def serve(robot: SimulatedRobot, transport: Transport, *, name: str | None = Non
     def log(direction: str, msg: dict) -> None:
         result.records.append({"wall_s": round(wall(), 6), "sim_s": round(robot.time_s, 4), "dir": direction, "msg": msg})
 
-    session = LinkSession(transport, name, log=log)
+    session = LinkSession(transport, name, clock=clock, log=log)
     period = 1.0 / (robot.rate_hz * speedup)
     t0 = clock()
     next_tick = t0 + period
