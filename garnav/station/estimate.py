@@ -53,6 +53,8 @@ class PoseEstimate:
     pose : (piece, x, y, heading rad)
     track : list of (piece, x, y)
         Every estimated position, for drawing.
+    track_time_s : list of float
+        The robot's time (s) of each track point (NaN for the placement).
     off_fabric : str or None
         Set when the estimate runs off the fabric (the robot is stopped by the station).
     """
@@ -61,6 +63,7 @@ class PoseEstimate:
     encoders: EncoderSettings
     pose: tuple[str, float, float, float]
     track: list[tuple[str, float, float]] = field(default_factory=list)
+    track_time_s: list[float] = field(default_factory=list)
     off_fabric: str | None = None
     last: tuple[int, int, float] | None = None
     plan: MotionPlan | None = None
@@ -69,6 +72,7 @@ class PoseEstimate:
 
     def __post_init__(self) -> None:
         self.track.append(self.pose[:3])
+        self.track_time_s.append(math.nan)
 
     def update(self, sample: dict) -> None:
         """Take one telemetry sample (the message dict); the first only sets the reference."""
@@ -110,6 +114,7 @@ class PoseEstimate:
         self.driven_mm += abs(ds)
         self.pose = (path.piece_of(len(steps_ds)), float(path.xy[-1, 0]), float(path.xy[-1, 1]), float(path.heading[-1]))
         self.track.append(self.pose[:3])
+        self.track_time_s.append(float(sample["time_s"]))
 
     def start_plan(self, plan: MotionPlan) -> None:
         """A new plan begins from the current estimate."""
