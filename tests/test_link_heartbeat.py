@@ -60,12 +60,27 @@ def test_a_driving_robot_stops_itself_when_the_station_goes_silent():
     assert robot.truth[1] < 20.0 + 40.0 * 1.2  # it drove about 1 s at 40 mm/s, not the whole go
 
 
+def test_connect_waits_for_a_first_sample_and_says_which_robot_is_missing():
+    import pytest
+
+    from garnav.link.protocol import LinkError
+
+    g = noisy_two_panels()
+    clock = Clock()
+    robot = SimulatedRobot(g, g.robot, ("left", 20.0, 200.0, 0.0), None)
+    profile = encode(message("profile", 1, **robot.profile_fields("ada"))).rstrip()
+    station = Station(g, {"ada": Scripted(clock, [(0.0, profile)])}, clock=clock, wall=clock)
+    with pytest.raises(LinkError, match="no answer within 1 s from robot\\(s\\) 'ada' \\(scripted\\)"):
+        station.connect(1.0)
+
+
 def test_the_station_counts_a_silent_robot_lost_and_stops_it():
     g = noisy_two_panels()
     clock = Clock()
     robot = SimulatedRobot(g, g.robot, ("left", 20.0, 200.0, 0.0), None)
     profile = encode(message("profile", 1, **robot.profile_fields("ada"))).rstrip()
-    tr = Scripted(clock, [(0.0, profile)])
+    sample = encode(message("telemetry", 2, **robot.step().fields())).rstrip()
+    tr = Scripted(clock, [(0.0, profile), (0.0, sample)])
     station = Station(g, {"ada": tr}, clock=clock, wall=clock)
     station.connect(1.0)
     while clock.t < LOST_AFTER_S + 0.5:

@@ -18,8 +18,9 @@ DEMO = "meshes/sensing_top.toml"
 class AnsweringRobot(Transport):
     """A transport whose robot answers a hello with its profile and acks everything reliable."""
 
-    def __init__(self, profile: dict):
+    def __init__(self, profile: dict, sample: dict):
         self.description = "fake"
+        self.sample = sample
         self.profile = profile
         self.inbox: list[bytes] = []
         self.sent: list[dict] = []
@@ -34,6 +35,8 @@ class AnsweringRobot(Transport):
         if msg["t"] == "hello":
             self.seq += 1
             self.inbox.append(encode(message("profile", self.seq, **self.profile)).rstrip())
+            self.seq += 1
+            self.inbox.append(encode(message("telemetry", self.seq, **self.sample)).rstrip())
 
     def recv(self, timeout_s):
         out, self.inbox = self.inbox, []
@@ -52,7 +55,7 @@ def test_pick_callback_plans_the_selected_robot_to_the_picked_point():
 
     garment, drape = garment_and_drape(DEMO, "")
     robot = SimulatedRobot(garment, garment.robot, ("sleeve_left", 182.517, 47.165, 90.0))
-    fake = AnsweringRobot(robot.profile_fields("ada"))
+    fake = AnsweringRobot(robot.profile_fields("ada"), robot.step().fields())
     station = Station(garment, {"ada": fake})
     station.connect(2.0)
     window = StationWindow(station, drape, off_screen=True, size=(400, 300))

@@ -10,8 +10,9 @@ a route that crosses a hard keep-out (:mod:`garnav.station.safety`), and sends t
 one acknowledges. Every message sent and received, and every event, goes into :attr:`Station.records`
 (the ``--log`` JSONL file, docs/link.md).
 
-A robot is *arrived* when it reported its plan done and its estimated position is within the
-arrival tolerance of the goal. A robot is *lost* when a reliable message to it is given up or it
+A robot is *arrived* when it reported its plan done, a telemetry sample from after the plan's end
+came in (so a lost last sample cannot cut the estimate short), and its estimated position is
+within the arrival tolerance of the goal. A robot is *lost* when a reliable message to it is given up or it
 is silent for :data:`LOST_AFTER_S`; the station then stops it (it stops itself too, on its
 heartbeat timeout).
 """
@@ -69,6 +70,7 @@ class RobotLink:
     route: object | None = None
     goal: PiecePoint | None = None
     done: dict | None = None
+    settled: bool = False
     errors: list[str] = field(default_factory=list)
     lost: str | None = None
     stop_seq: int | None = None
@@ -142,7 +144,9 @@ class Station:
     # ------------------------------------------------------------------ link
 
     def connect(self, timeout_s: float = 5.0) -> None:
-        """Greet every robot and wait (at most ``timeout_s``) for all their profiles.
+        """Greet every robot and wait (at most ``timeout_s``) for all their profiles and a first
+        telemetry sample each (the reference the estimate counts from: a plan sent before it would
+        be dead-reckoned from a sample taken mid-motion).
 
         Raises
         ------
@@ -152,9 +156,13 @@ class Station:
         for r in self.robots.values():
             r.session.send("hello", station="garnav-station", heartbeat_timeout_s=self.heartbeat_timeout_s)
         end = self.clock() + timeout_s
-        while self.clock() < end and any(r.profile is None for r in self.robots.values()):
+
+        def ready(r: RobotLink) -> bool:  # a profile, and a first sample: the estimate's reference
+            return r.profile is not None and r.estimate is not None and r.estimate.last is not None
+
+        while self.clock() < end and not all(ready(r) for r in self.robots.values()):
             self.poll(0.02)
-        missing = [f"'{r.name}' ({r.session.transport.description})" for r in self.robots.values() if r.profile is None]
+        missing = [f"'{r.name}' ({r.session.transport.description})" for r in self.robots.values() if not ready(r)]
         if missing:
             raise LinkError(f"no answer within {timeout_s:g} s from robot(s) {', '.join(missing)}: is it on, "
                             "in range, and is the URL right? (docs/link.md)")
@@ -186,6 +194,8 @@ class Station:
             r.state = msg["state"]
             r.battery = float(msg["battery_fraction"])
             r.estimate.update(msg)
+            if int(msg["plan"]) == r.plan_id and msg["state"] in ("idle", "stopped"):
+                r.settled = True  # a sample taken after the plan ended: the estimate has it all
             if r.estimate.off_fabric and r.lost is None:
                 r.lost = r.estimate.off_fabric
                 self.event(r.name, "off_fabric", text=r.estimate.off_fabric)
@@ -323,6 +333,8 @@ class Station:
         check_route(self.garment, route, r.name)
         est = r.estimate
         assert est is not None and r.robot is not None
+        if est.last is None:
+            raise LinkError(f"robot '{r.name}': no telemetry yet; connect first")
         piece, x, y, h = est.pose
         cmds = commands.commands
         if commands.start is not None:
@@ -334,7 +346,7 @@ class Station:
         plan = compile_commands(self.garment, full, r.robot)
         plan_id = self.next_plan
         self.next_plan += 1
-        r.plan_id, r.commands, r.route, r.goal, r.done = plan_id, full, route, goal, None
+        r.plan_id, r.commands, r.route, r.goal, r.done, r.settled = plan_id, full, route, goal, None, False
         r.stop_seq, r.stop_acked = None, False
         est.start_plan(plan)
         r.session.send_message(commands_message(r.session.take_seq(), plan_id, full))
@@ -351,9 +363,14 @@ class Station:
 
     # ------------------------------------------------------------------ status
 
+    def finished(self, name: str) -> bool:
+        """The robot reported its plan done and a telemetry sample from after its end arrived."""
+        r = self._robot(name)
+        return r.done is not None and r.settled
+
     def arrived(self, name: str) -> bool:
         r = self._robot(name)
-        return bool(r.done and r.done["completed"]) and r.arrived_distance_mm <= self.tolerance_mm
+        return self.finished(name) and bool(r.done and r.done["completed"]) and r.arrived_distance_mm <= self.tolerance_mm
 
     def failed(self, name: str) -> str | None:
         """Why robot ``name`` can no longer arrive (lost, stopped, an error), or None."""
@@ -364,7 +381,7 @@ class Station:
             return r.errors[-1]
         if r.done and not r.done["completed"]:
             return f"plan {r.plan_id} ended early: {r.done.get('reason', 'stopped')}"
-        if r.done and r.arrived_distance_mm > self.tolerance_mm:
+        if r.done and r.settled and r.arrived_distance_mm > self.tolerance_mm:
             return (f"plan done but the estimated position is {r.arrived_distance_mm:.1f} mm from the goal "
                     f"(tolerance {self.tolerance_mm:g} mm)")
         return None

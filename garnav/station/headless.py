@@ -39,7 +39,7 @@ def run_headless(station: Station, goals: dict, *, until_arrived: bool = True, t
                 for n, why in failed.items():
                     say(f"{n}: {why}")
                 return _stop_all(station, "a robot failed: " + "; ".join(f"{n}: {w}" for n, w in failed.items()), say)
-            done = [n for n in goals if station.robots[n].done is not None]
+            done = [n for n in goals if station.finished(n)]
             if len(done) == len(goals):
                 arrived = [n for n in goals if station.arrived(n)]
                 for n in goals:
