@@ -65,7 +65,7 @@ class PoseEstimate:
     track: list[tuple[str, float, float]] = field(default_factory=list)
     track_time_s: list[float] = field(default_factory=list)
     off_fabric: str | None = None
-    last: tuple[int, int, float] | None = None
+    last: tuple[int, int, float, float, float] | None = None
     plan: MotionPlan | None = None
     plan_start_mm: float = 0.0
     driven_mm: float = 0.0
@@ -76,10 +76,10 @@ class PoseEstimate:
 
     def update(self, sample: dict) -> None:
         """Take one telemetry sample (the message dict); the first only sets the reference."""
-        odom = sample.get("odom_x_mm"), sample.get("odom_y_mm")
-        has_odom = all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in odom)
+        ox, oy = sample.get("odom_x_mm"), sample.get("odom_y_mm")
+        has_odom = all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in (ox, oy))
         now = (int(sample["left_ticks"]), int(sample["right_ticks"]), float(sample["heading_deg"]),
-               float(odom[0]) if has_odom else math.nan, float(odom[1]) if has_odom else math.nan)
+               float(ox) if has_odom else math.nan, float(oy) if has_odom else math.nan)  # type: ignore[arg-type]
         if self.last is None:
             self.last = now
             return
