@@ -27,6 +27,7 @@ from typing import TYPE_CHECKING, Literal
 import numpy as np
 import shapely
 
+from garnav.errors import Problem, SpecError
 from garnav.polyline import cumulative_length, point_at_length, rotation_matrix, sub_polyline
 
 if TYPE_CHECKING:  # the profiles' own modules; imported only for type checkers
@@ -79,6 +80,32 @@ KEEPOUT_KINDS = (
     "dock",
     "custom",
 )
+
+
+
+def _check_numbers(item: str, **rules: tuple[object, str]) -> None:
+    """Raise one :class:`SpecError` naming ``item`` for every value that breaks its rule.
+
+    ``rules`` maps a field name to ``(value, rule)`` with rule ``"finite"``, ``"positive"``
+    (finite and > 0) or ``"non-negative"`` (finite and >= 0): model objects built in Python are
+    held to the reader's rule that every number is finite (ranges — radius > 0 and so on — are
+    checked by :func:`garnav.spec.garment_problems`, and by the planner for the robot it is given).
+    """
+    problems = []
+    for name, (value, rule) in rules.items():
+        try:
+            v = float(value)  # type: ignore[arg-type]
+        except (TypeError, ValueError):
+            problems.append(Problem("<memory>", item, f"'{name}' must be a number, found {value!r}"))
+            continue
+        if not math.isfinite(v):
+            problems.append(Problem("<memory>", item, f"'{name}' must be a finite number, found {v!r}"))
+        elif rule == "positive" and v <= 0:
+            problems.append(Problem("<memory>", item, f"'{name}' must be > 0, found {v:g}"))
+        elif rule == "non-negative" and v < 0:
+            problems.append(Problem("<memory>", item, f"'{name}' must be >= 0, found {v:g}"))
+    if problems:
+        raise SpecError(problems)
 
 
 @dataclass(frozen=True)
@@ -276,6 +303,9 @@ class Circle:
 
     kind = "circle"
 
+    def __post_init__(self) -> None:
+        _check_numbers("circle", cx=(self.cx, "finite"), cy=(self.cy, "finite"), radius=(self.radius, "finite"))
+
     def exact_geometry(self) -> shapely.Geometry:
         """A dense polygon of the circle (for drawing and area checks, not for safety margins)."""
         return shapely.Point(self.cx, self.cy).buffer(self.radius, quad_segs=64)
@@ -288,6 +318,10 @@ class PolygonShape:
     points: tuple[Point2, ...]
 
     kind = "polygon"
+
+    def __post_init__(self) -> None:
+        for k, point in enumerate(self.points):
+            _check_numbers(f"polygon point {k}", **{f"points[{k}][{j}]": (v, "finite") for j, v in enumerate(point)})
 
     def exact_geometry(self) -> shapely.Geometry:
         return shapely.Polygon(self.points)
@@ -304,6 +338,10 @@ class Rectangle:
     angle_deg: float = 0.0
 
     kind = "rectangle"
+
+    def __post_init__(self) -> None:
+        _check_numbers("rectangle", cx=(self.cx, "finite"), cy=(self.cy, "finite"), width=(self.width, "finite"),
+                       height=(self.height, "finite"), angle_deg=(self.angle_deg, "finite"))
 
     def exact_geometry(self) -> shapely.Geometry:
         hw, hh = self.width / 2.0, self.height / 2.0
@@ -340,6 +378,10 @@ class KeepOut:
     hard: bool = True
     cost_factor: float = 1.0
 
+    def __post_init__(self) -> None:
+        _check_numbers(f"keepout '{self.name}'", clearance_mm=(self.clearance_mm, "finite"),
+                       cost_factor=(self.cost_factor, "finite"))
+
 
 @dataclass(frozen=True)
 class Landmark:
@@ -354,6 +396,12 @@ class Landmark:
     y: float | None = None
     xyz: tuple[float, float, float] | None = None
     description: str = ""
+
+    def __post_init__(self) -> None:
+        values = {k: (v, "finite") for k, v in (("x", self.x), ("y", self.y)) if v is not None}
+        if self.xyz is not None:
+            values.update({f"xyz[{k}]": (v, "finite") for k, v in enumerate(self.xyz)})
+        _check_numbers(f"landmark '{self.name}'", **values)
 
     @property
     def on_pattern(self) -> bool:
@@ -395,6 +443,13 @@ class Robot:
     sensor_swath_mm: float | None = None
     odometry: OdometryModel | None = None
     physics: RobotPhysics | None = None
+
+    def __post_init__(self) -> None:
+        _check_numbers(f"robot '{self.name}'", radius_mm=(self.radius_mm, "finite"),
+                       wheel_base_mm=(self.wheel_base_mm, "finite"), speed_mm_s=(self.speed_mm_s, "finite"),
+                       edge_margin_mm=(self.edge_margin_mm, "finite"))
+        if self.sensor_swath_mm is not None:
+            _check_numbers(f"robot '{self.name}'", sensor_swath_mm=(self.sensor_swath_mm, "finite"))
 
 
 @dataclass(frozen=True)

@@ -104,3 +104,16 @@ def json_object_or_value(text: str, path: Path, error: Callable[[str], Exception
         raise error(f"{path}: not JSON: {exc.msg} at line {exc.lineno}, column {exc.colno}") from None
     except RecursionError:
         raise error(f"{path}: not JSON this reader can take: nested too deeply") from None
+
+
+def toml_object(text: str, path: str | os.PathLike, error: Callable[[str], Exception]) -> dict:
+    """``tomllib.loads(text)``; a syntax error, or nesting too deep for the parser, given to
+    ``error`` as ``"<path>: not valid TOML: <msg>"``."""
+    import tomllib
+
+    try:
+        return tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise error(f"{path}: not valid TOML: {exc}") from None
+    except RecursionError:
+        raise error(f"{path}: not TOML this reader can take: nested too deeply") from None

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
+import re
 
 import pytest
 
@@ -295,18 +296,38 @@ def test_keepout_kind_and_numbers(single_panel):
 
 @pytest.mark.parametrize("shape, fragment", [
     (Circle(40, 40, 0.0), "'radius' must be > 0"),
-    (Circle(math.nan, 40, 5.0), "'center' must be a finite number"),
     (Rectangle(40, 40, 10.0, 0.0), "'size' must be > 0"),
-    (Rectangle(40, 40, 10.0, 10.0, math.inf), "'angle_deg' must be a finite number"),
     (PolygonShape(((0, 0), (1, 1))), "polygon has 2 points"),
     (PolygonShape(((10, 10), (50, 50), (50, 10), (10, 50))), "polygon is not a simple loop"),
     (PolygonShape(((10, 10), (20, 10), (30, 10))), "polygon is not a simple loop"),
-    (PolygonShape(((10, 10), (math.nan, 10), (30, 20))), "not a finite number"),
     ("square", "shape must be a Circle, Rectangle or PolygonShape"),
 ])
 def test_keepout_bad_shapes(single_panel, shape, fragment):
     g = _with_keepouts(single_panel, KeepOut("k", "panel", "custom", shape))
     only(garment_problems(g), fragment)
+
+
+@pytest.mark.parametrize("build, fragment", [
+    (lambda: Circle(math.nan, 40, 5.0), "circle: 'cx' must be a finite number"),
+    (lambda: Rectangle(40, 40, 10.0, 10.0, math.inf), "rectangle: 'angle_deg' must be a finite number"),
+    (lambda: PolygonShape(((10, 10), (math.nan, 10), (30, 20))), "'points[1][0]' must be a finite number"),
+    (lambda: Landmark("m", piece="left", x=math.nan, y=10.0), "landmark 'm': 'x' must be a finite number"),
+    (lambda: Landmark("m", xyz=(0.0, math.inf, 0.0)), "landmark 'm': 'xyz[1]' must be a finite number"),
+    (lambda: Robot(radius_mm=math.nan), "robot 'robot': 'radius_mm' must be a finite number"),
+    (lambda: KeepOut("k", "panel", "custom", Circle(1, 1, 1), clearance_mm=math.inf),
+     "keepout 'k': 'clearance_mm' must be a finite number"),
+])
+def test_class5_constructors_refuse_non_finite_numbers(build, fragment):
+    """Model objects built in Python refuse NaN and infinities at once, as the reader does."""
+    with pytest.raises(SpecError, match=re.escape(fragment)):
+        build()
+
+
+def test_class5_planner_refuses_a_robot_out_of_range(single_panel):
+    from garnav.plan import Planner
+
+    with pytest.raises(SpecError, match="'radius_mm' must be > 0"):
+        Planner(single_panel, Robot(radius_mm=0.0))
 
 
 def test_duplicate_keepout_names(single_panel):
@@ -321,8 +342,6 @@ def test_duplicate_keepout_names(single_panel):
     (Landmark("m", piece="left"), "needs piece, x and y"),
     (Landmark("m", piece="lef", x=1.0, y=1.0), "piece 'lef' does not exist"),
     (Landmark("m", piece="left", x=320.0, y=10.0), "lies outside piece 'left', 20.0 mm from it"),
-    (Landmark("m", piece="left", x=math.nan, y=10.0), "is not finite"),
-    (Landmark("m", xyz=(0.0, math.inf, 0.0)), "xyz must be 3 finite numbers"),
 ])
 def test_landmark_problems(two_panels, landmark, fragment):
     g = dataclasses.replace(two_panels, landmarks=(landmark,))

@@ -87,7 +87,7 @@ def test_calibrated_profile(tmp_path):
         ('format = "garnav-umbmark"\nside_mm = 500\n[[cw]]\nx_mm=1\n[[ccw]]\nx_mm=1\ny_mm=1\n', "cw run 1: 'y_mm'"),
         ('format = "garnav-umbmark"\nside_mm = 500\n[[cw]]\nx_mm=1\ny_mm=1\nz=2\n[[ccw]]\nx_mm=1\ny_mm=1\n', "unknown key 'z'"),
         ('format = "garnav-umbmark"\nside_mm = 500\n[[cw]]\nx_mm=300\ny_mm=1\n[[ccw]]\nx_mm=1\ny_mm=1\n', "more than half"),
-        ("format = = 1", "not TOML"),
+        ("format = = 1", "not valid TOML"),
     ],
 )
 def test_bad_runs_files(tmp_path, text, expect):

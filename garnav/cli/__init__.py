@@ -10,6 +10,7 @@ printed as one clear message on stderr with exit status 2; they never show a tra
 from __future__ import annotations
 
 import argparse
+import math
 import importlib
 import os
 import sys
@@ -27,6 +28,17 @@ COMMANDS = ("demo", "check", "route", "show", "import_mesh", "export_pattern", "
 EXIT_STATUS = "exit status: 0 done, 2 bad input or no result, 130 interrupted, 141 output pipe closed"
 
 
+def finite_float(text: str) -> float:
+    """argparse type of every number option: a float that is finite (``nan``/``inf`` refused)."""
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"invalid number: {text!r}") from None
+    if not math.isfinite(value):
+        raise argparse.ArgumentTypeError(f"{text!r} is not a finite number")
+    return value
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="garnav",
@@ -40,7 +52,11 @@ def build_parser() -> argparse.ArgumentParser:
         except ImportError as exc:  # a broken installation: say which command, never skip it
             raise ImportError(f"garnav: the '{name}' command cannot be loaded (garnav.cli.{name}): {exc}") from exc
         module.register(sub)
-    for command in sub.choices.values():  # every command's --help ends with its exit status
+    for command in sub.choices.values():
+        for action in vars(command).get("_actions", ()):  # every number option refuses nan and inf
+            if action.type is float:  # (argparse keeps a parser's actions in its _actions list)
+                action.type = finite_float
+        # every command's --help ends with its exit status
         if "exit status" not in (command.epilog or ""):
             command.epilog = f"{command.epilog}\n\n{EXIT_STATUS}" if command.epilog else EXIT_STATUS
     return parser

@@ -36,7 +36,6 @@ from __future__ import annotations
 
 import math
 import os
-import tomllib
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -310,10 +309,10 @@ def read_tasks_toml(path: str | os.PathLike) -> tuple[dict, str]:
     from garnav.spec.reader import read_toml_text
 
     text, source = read_toml_text(path)
-    try:
-        return tomllib.loads(text), source
-    except tomllib.TOMLDecodeError as exc:
-        raise SpecError([Problem(source, "file", f"is not valid TOML: {exc}")]) from None
+    from garnav.textio import toml_object
+
+    return toml_object(text, source, lambda message: SpecError(
+        [Problem(source, "file", message.split(": ", 1)[1].replace("not valid TOML", "is not valid TOML"))])), source
 
 
 def load_tasks(path: str | os.PathLike, spec_robot: Robot | None = None) -> FleetTasks:

@@ -378,7 +378,7 @@ def _edge_names(e, ring: np.ndarray):
     try:
         items = json.loads(text)
         names = tuple((str(n), (float(ring[int(i), 0]), float(ring[int(i), 1]))) for n, i in items)
-    except (ValueError, TypeError, IndexError, KeyError):
+    except (ValueError, TypeError, IndexError, KeyError, RecursionError):
         return None
     return names or None
 

@@ -57,9 +57,12 @@ import shapely
 import shapely.ops
 from shapely import affinity
 
+from garnav.errors import Problem as SpecProblem
+from garnav.errors import SpecError
 from garnav.model import SEAM_SIDES, Circle, Garment, Robot, Seam, SeamRun, SeamSide, other_side
 from garnav.plan.segtest import BoundaryIndex, boundary_index, segments_in_region
 from garnav.polyline import cumulative_length, point_at_length, sub_polyline, tangent_at
+from garnav.spec.geometry_checks import robot_problems
 
 __all__ = [
     "DEFAULT_QUAD_SEGS",
@@ -354,6 +357,11 @@ def build_free_space(
     FreeSpace
     """
     robot = robot or garment.robot or Robot()
+    bad = robot_problems(robot)  # a robot built in Python is held to the spec's ranges (radius > 0, ...)
+    if bad:
+        raise SpecError(bad)
+    if not (math.isfinite(extra_clearance_mm) and extra_clearance_mm >= 0):
+        raise SpecError([SpecProblem("<memory>", "clearance", f"extra clearance must be a finite number >= 0, found {extra_clearance_mm!r}")])
     own: dict[str, list[Obstacle]] = {}
     soft: dict[str, list[SoftZone]] = {}
     for p in garment.pieces:

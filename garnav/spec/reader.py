@@ -11,10 +11,10 @@ from __future__ import annotations
 
 import datetime
 import os
-import tomllib
 from typing import Any
 
 from garnav.errors import Problem, SpecError, did_you_mean
+from garnav.textio import toml_object
 from garnav.model import (
     Circle,
     Edge,
@@ -51,11 +51,9 @@ def parse_toml(text: str, source: str = "<string>") -> dict[str, Any]:
     if not text.strip():
         raise SpecError([Problem(source, "file", "is empty; a garment spec starts with "
                                  f'format = "{FORMAT}" and version = {VERSION}')])
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        # The message carries tomllib's "(at line L, column C)".
-        raise SpecError([Problem(source, "file", f"is not valid TOML: {exc}")]) from None
+    # A syntax error carries tomllib's "(at line L, column C)".
+    data = toml_object(text, source, lambda message: SpecError(
+        [Problem(source, "file", message.split(": ", 1)[1].replace("not valid TOML", "is not valid TOML"))]))
     if not data:
         raise SpecError([Problem(source, "file", "has no keys (only comments or blank lines)")])
     return data
@@ -174,6 +172,16 @@ class _Reader:
     # -- collecting --------------------------------------------------------------------------
     def add(self, item: str, reason: str, where=None, hint: str | None = None) -> None:
         self.problems.append(Problem(self.source, item, reason, where, hint))
+
+    def build(self, item: str, make, *args, **kwargs):
+        """``make(*args, **kwargs)``, or None with the constructor's problems (non-finite numbers)
+        recorded against ``item`` of this file."""
+        try:
+            return make(*args, **kwargs)
+        except SpecError as exc:
+            for p in exc.problems:
+                self.add(item, p.reason, p.where, p.hint)
+            return None
 
     # -- values ------------------------------------------------------------------------------
     def convert(self, f: Field, value: Any) -> Any:
@@ -323,7 +331,7 @@ class _Reader:
             v["physics"], found = physics_from_table(v["physics"], "robot physics")
             for item, reason, hint in found:
                 self.add(item, reason, hint=hint)  # the rest of [robot] is still checked
-        return Robot(**v) if ok else None
+        return self.build("robot", Robot, **v) if ok else None
 
     def piece(self, table: dict[str, Any], index: int) -> Piece | None:
         item = self._label("piece", table, index)
@@ -401,13 +409,17 @@ class _Reader:
         if not ok:
             return None
         if shape == "circle":
-            geometry = Circle(v["center"][0], v["center"][1], v["radius"])
+            geometry = self.build(item, Circle, v["center"][0], v["center"][1], v["radius"])
         elif shape == "rectangle":
-            geometry = Rectangle(v["center"][0], v["center"][1], v["size"][0], v["size"][1],
-                                 v["angle_deg"])
+            geometry = self.build(item, Rectangle, v["center"][0], v["center"][1], v["size"][0], v["size"][1],
+                                  v["angle_deg"])
         else:
-            geometry = PolygonShape(v["points"])
-        return KeepOut(
+            geometry = self.build(item, PolygonShape, v["points"])
+        if geometry is None:
+            return None
+        return self.build(
+            item,
+            KeepOut,
             v["name"],
             v["piece"],
             v["kind"],
@@ -440,7 +452,7 @@ class _Reader:
         if not ok:
             return None
         if has_at:
-            return Landmark(v["name"], piece=v["piece"], x=v["at"][0], y=v["at"][1],
-                            description=v["description"])
-        return Landmark(v["name"], xyz=v["xyz"], description=v["description"])
+            return self.build(item, Landmark, v["name"], piece=v["piece"], x=v["at"][0], y=v["at"][1],
+                              description=v["description"])
+        return self.build(item, Landmark, v["name"], xyz=v["xyz"], description=v["description"])
 

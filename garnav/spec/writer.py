@@ -88,7 +88,7 @@ def _landmark(m: Landmark) -> dict[str, Any]:
     d: dict[str, Any] = {"name": m.name}
     if m.piece is not None:
         d["piece"] = m.piece
-        d["at"] = [_f(m.x), _f(m.y)]
+        d["at"] = [_f(float(m.x)), _f(float(m.y))]  # type: ignore[arg-type]  # a pattern landmark has x and y
     if m.xyz is not None:
         d["xyz"] = [_f(v) for v in m.xyz]
     if m.description:
@@ -106,7 +106,7 @@ def robot_to_dict(r: Robot) -> dict[str, Any]:
         "side": r.side,
         "edge_margin_mm": _f(r.edge_margin_mm),
     }
-    if getattr(r, "physics", None) is not None:
+    if r.physics is not None:
         from garnav.mechanics.profile import physics_to_table
 
         d["physics"] = physics_to_table(r.physics)

@@ -25,7 +25,6 @@ base is E_b·b; the wheel travel per tick is scaled by 2/(E_d + 1) (left) and 2/
 from __future__ import annotations
 
 import math
-import tomllib
 from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any
@@ -148,14 +147,9 @@ def read_runs(path) -> tuple[np.ndarray, np.ndarray, float, float | None]:
     CalibrationError
     """
     p = Path(path)
-    try:
-        data = tomllib.loads(p.read_text(encoding="utf-8"))
-    except OSError as exc:
-        raise CalibrationError(f"{p}: cannot read: {exc.strerror or exc}") from None
-    except UnicodeDecodeError as exc:
-        raise CalibrationError(f"{p}: not UTF-8 text (bad byte at offset {exc.start})") from None
-    except tomllib.TOMLDecodeError as exc:
-        raise CalibrationError(f"{p}: not TOML: {exc}") from None
+    from garnav.textio import read_text, toml_object
+
+    data = toml_object(read_text(p, lambda reason: CalibrationError(f"{p}: {reason}")), p, CalibrationError)
     if data.get("format") != "garnav-umbmark":
         raise CalibrationError(f"{p}: not a UMBmark runs file: the first line should be format = \"garnav-umbmark\"")
     unknown = sorted(set(data) - {"format", "version", "side_mm", "wheel_base_mm", "cw", "ccw", "note"})
