@@ -26,6 +26,7 @@ TARGETS = (
     ("drift_replay_36000", "replay of 36,000 samples (reading the CSV included) under 1 s"),
     ("physics_planning", "demo routes planned with the physics profile in at most 3x the length-only query time"),
     ("physics_lift_mechanics", "lift + mechanics of ~5,000 points on ~100k triangles under 30 ms (median)"),
+    ("study_speedup", "2,000 demo route queries: local Dask cluster of 2 workers at least 1.6x faster than serial (start-up included)"),
 ) + SEAM_TARGETS
 
 
@@ -174,6 +175,16 @@ def evaluate_targets(res: dict[str, Any]) -> list[dict[str, Any]]:
                       f"{lm['mechanics_only']['median'] * 1e3:.1f} ms)"))
     else:
         out.append(_t("physics_lift_mechanics", "N/A", None, lm.get("error", "not run")))
+    st = cases.get("study", {})
+    if "speedup_with_start" in st:
+        r = st["speedup_with_start"]
+        quick_note = " (quick: too few queries to judge)" if quick else ""
+        out.append(_t("study_speedup", "N/A" if quick else ("PASS" if r >= 1.6 else "MISS"), r,
+                      f"serial {st['serial_s']:.1f} s vs cluster {st['cluster_total_s']:.1f} s "
+                      f"(start {st['cluster_start_s']:.1f} s): {r:.2f}x; rows equal: {st['rows_equal']}; "
+                      f"task overhead {1e3 * st['task_overhead_s']:.1f} ms{quick_note}"))
+    else:
+        out.append(_t("study_speedup", "N/A", None, st.get("error", "not run")))
     out.extend(seam_targets(res))
     return out
 

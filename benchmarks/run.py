@@ -37,7 +37,7 @@ from benchmarks.measure import growth_exponent, machine_info, peak_memory, summa
 from benchmarks.report import evaluate_targets, format_report, markdown_report
 from benchmarks.single import run_single
 
-ALL_CASES = ("single", "demo", "lift", "cli", "sweep", "drift", "physics", "seams")
+ALL_CASES = ("single", "demo", "lift", "cli", "sweep", "drift", "physics", "seams", "study")
 FULL_N = (10, 50, 200, 500)
 QUICK_N = (2, 4)
 
@@ -382,6 +382,15 @@ def run(opts: Options, which: tuple[str, ...], log=print, checkpoint=None) -> di
             except Exception as exc:
                 results["cases"][key] = {"kind": key, "error": _err(exc)}
             save(results)
+    if "study" in which:  # many cases on Dask: benchmarks/study_case.py
+        from benchmarks.study_case import run_study_case
+
+        log("case study (2,000 demo route queries, serial vs local cluster) ...")
+        try:
+            results["cases"]["study"] = run_study_case(opts.quick, log=log)
+        except Exception as exc:
+            results["cases"]["study"] = {"kind": "study", "error": _err(exc)}
+        save(results)
     results["targets"] = evaluate_targets(results)
     results["total_s"] = time.perf_counter() - t_all
     try:

@@ -21,7 +21,7 @@ from garnav.errors import GarnavError
 __all__ = ["main", "build_parser"]
 
 # Sub-command modules, in the order `garnav --help` lists them.
-COMMANDS = ("demo", "check", "route", "show", "import_mesh", "export_pattern", "page", "sweep", "fleet", "drift", "simulate", "track", "calibrate")
+COMMANDS = ("demo", "check", "route", "show", "import_mesh", "export_pattern", "page", "sweep", "fleet", "drift", "simulate", "track", "calibrate", "study", "robot_sim", "station")
 
 
 #: The exit statuses every command shares (README, "Exit status"); ``check`` adds 1 for warnings.

@@ -1,6 +1,7 @@
 """``garnav import MESH -o SPEC.toml``: derive a garment spec from a UV-mapped drape mesh.
 
-Pattern files (``.dxf``, ``.svg``) are handed to :mod:`garnav.cli.import_pattern`.
+Pattern files (``.dxf``, ``.svg``) are handed to :mod:`garnav.cli.import_pattern`; a 3D garment
+surface to cut and flatten (``--cut CUTS.toml``, ``--reflatten``) to :mod:`garnav.cli.import_cut`.
 """
 
 from __future__ import annotations
@@ -8,6 +9,7 @@ from __future__ import annotations
 import os
 from pathlib import Path
 
+from garnav.cli.import_cut import add_cut_arguments, run_cut, wants_cut
 from garnav.cli.import_pattern import add_pattern_arguments, is_pattern_file, run_pattern
 from garnav.errors import QueryError
 
@@ -23,7 +25,9 @@ def register(subparsers) -> None:
             "edges that meet in 3D become seams, the others open edges. UV = sheet position / "
             "sheet size. From a pattern file (.dxf in the pattern-exchange layers, .svg in "
             "garnav's classes; docs/pattern-files.md): pieces, notches, grain lines, keep-outs "
-            "and landmarks; seams only from --seams."
+            "and landmarks; seams only from --seams. From a 3D garment surface without usable UVs "
+            "(--cut CUTS.toml, --reflatten; docs/import-3d.md): cut along the seam lines, flatten "
+            "each piece (LSCM, ARAP), report its distortion, write the spec and a UV-mapped drape."
         ),
     )
     p.add_argument("mesh", metavar="FILE",
@@ -39,6 +43,7 @@ def register(subparsers) -> None:
                    help="spec file to write")
     p.add_argument("--name", help="garment name (default: the file's stem)")
     add_pattern_arguments(p)
+    add_cut_arguments(p)
     p.set_defaults(func=run)
 
 
@@ -65,7 +70,11 @@ def run(args) -> int:
     from garnav.spec import save_garment
 
     if is_pattern_file(args.mesh):
+        if wants_cut(args):
+            raise QueryError("--cut and --reflatten are for 3D meshes; a pattern file is flat already")
         return run_pattern(args)
+    if wants_cut(args):
+        return run_cut(args)
     if args.seams or args.propose_seams:
         raise QueryError("--seams and --propose-seams are for pattern files (.dxf, .svg); a "
                          "mesh's seams come from its 3D edges")

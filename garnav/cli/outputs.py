@@ -74,6 +74,9 @@ class Roles:
     inputs: tuple[str, ...] = ()
     outputs: tuple[Output, ...] = ()
     derived: Callable[[argparse.Namespace], list[tuple[str, str]]] | None = None
+    #: A long-running command (a live link, a resumable study): its outputs are checked before
+    #: work, but it prints and writes as it goes (no held text, no staged set).
+    live: bool = False
 
 
 PNG = (".png",)
@@ -118,6 +121,9 @@ ROLES: dict[str, Roles] = {
         Output("json", "--json", stdout=True), Output("sheet", "--sheet", suffixes=SHEET),
         Output("screenshot", "--screenshot", suffixes=PNG))),
     "calibrate": Roles(("runs", "garment"), (Output("out", "--out", stdout=True),)),
+    "study": Roles(("study",), (Output("out", "--out", folder=True),), live=True),
+    "robot-sim": Roles(("garment", "robot"), (Output("log", "--log"), Output("truth", "--truth")), live=True),
+    "station": Roles(("garment",), (Output("log", "--log"),), live=True),
 }
 
 
@@ -246,6 +252,8 @@ def _wrote_lines(args: argparse.Namespace, files: list[str]) -> list[str]:
 def run_planned(args: argparse.Namespace) -> int:
     """Run ``args.func(args)`` under the output plan; returns its exit status."""
     to_stdout = check_outputs(args)
+    if ROLES.get(getattr(args, "command", "") or "", Roles()).live:
+        return int(args.func(args) or 0)
     output_set = OutputSet(stdout_ok=to_stdout)
     for path in declared_paths(args)[0]:
         output_set.add_input(path)
