@@ -12,7 +12,9 @@ import os
 from collections.abc import Callable
 from pathlib import Path
 
-__all__ = ["read_text", "read_json_document", "file_problem", "NOT_UTF8"]
+from garnav.atomic import active_set, incomplete_mark
+
+__all__ = ["read_text", "read_json_document", "file_problem", "incomplete_reason", "NOT_UTF8"]
 
 NOT_UTF8 = "is not UTF-8 text"
 
@@ -25,6 +27,16 @@ def file_problem(path: str | os.PathLike) -> str | None:
     if not p.exists():
         return "does not exist"
     return None
+
+
+def incomplete_reason(path: str | os.PathLike) -> str | None:
+    """Why the file at ``path`` is not one whole result (its output set was left incomplete by a
+    stopped run: :func:`garnav.atomic.incomplete_mark` exists beside it), or None."""
+    mark = incomplete_mark(os.path.realpath(path))
+    if not mark.exists():
+        return None
+    return (f"belongs to a set of outputs that was not completely written (a run was stopped while "
+            f"writing it; the mark {mark.name} is beside it): write the files again (docs/outputs.md)")
 
 
 def read_text(
@@ -48,7 +60,8 @@ def read_text(
     ------
     Exception
         ``error(reason)`` with reason ``"does not exist"``, ``"is a folder, not a file"``,
-        ``"cannot be read: <system reason>"`` or the not-UTF-8 reason.
+        ``"cannot be read: <system reason>"``, the not-UTF-8 reason, or the reason of
+        :func:`incomplete_reason` for a file of an incompletely written output set.
     """
     p = Path(path)
     try:
@@ -56,6 +69,12 @@ def read_text(
     except OSError as exc:
         reason = file_problem(p) or f"cannot be read: {exc.strerror or exc}"
         raise error(reason) from None
+    incomplete = incomplete_reason(p)
+    if incomplete is not None:
+        raise error(incomplete)
+    writing = active_set()
+    if writing is not None:  # no output of this run may replace what it read
+        writing.add_input(p)
     try:
         return raw.decode("utf-8")
     except UnicodeDecodeError as exc:
@@ -99,9 +118,11 @@ def json_object_or_value(text: str, path: Path, error: Callable[[str], Exception
     import json
 
     try:
-        return json.loads(text)
+        return json.loads(text, parse_constant=_not_a_json_number, parse_float=_finite_float)
     except json.JSONDecodeError as exc:
         raise error(f"{path}: not JSON: {exc.msg} at line {exc.lineno}, column {exc.colno}") from None
+    except ValueError as exc:  # NaN, Infinity, 1e999, an integer of thousands of digits
+        raise error(f"{path}: not JSON this reader can take: {exc}") from None
     except RecursionError:
         raise error(f"{path}: not JSON this reader can take: nested too deeply") from None
 
@@ -117,3 +138,16 @@ def toml_object(text: str, path: str | os.PathLike, error: Callable[[str], Excep
         raise error(f"{path}: not valid TOML: {exc}") from None
     except RecursionError:
         raise error(f"{path}: not TOML this reader can take: nested too deeply") from None
+
+
+def _not_a_json_number(name: str):
+    raise ValueError(f"{name} is not a JSON number (RFC 8259 §6 allows finite numbers only)")
+
+
+def _finite_float(text: str) -> float:
+    import math
+
+    value = float(text)
+    if not math.isfinite(value):
+        raise ValueError(f"the number {text[:40]} is too large for a float (it would be infinite)")
+    return value

@@ -53,12 +53,12 @@ def test_sheet_svg_has_every_route_leg(two_panel_files, tmp_path, capsys):
     [
         (["--size", "4", "300"], "--size 4 300: width and height must be 16..8192"),
         (["--sheet", "x.pdf"], "use a .svg or .png"),
-        ([], "nothing to show in 3D"),
+        (["--screenshot", "x.png"], "nothing to show in 3D"),
     ],
 )
 def test_bad_options_give_one_clear_message(two_panel_files, tmp_path, capsys, extra, message):
     spec, _ = two_panel_files
-    extra = [str(tmp_path / e) if e.endswith(".pdf") else e for e in extra]
+    extra = [str(tmp_path / e) if e.endswith((".pdf", ".png")) else e for e in extra]
     assert main(["show", str(spec), *extra]) == 2
     err = capsys.readouterr().err
     assert message in err and "Traceback" not in err

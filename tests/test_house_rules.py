@@ -26,9 +26,9 @@ LAYERS = [
     {"export", "mechanics", "flatten", "zones"},
     {"uncertainty"},
     {"telemetry"},
-    {"preview"},
+    {"preview", "link"},  # link: the robot protocol, transports and the simulated robot
     {"fleet", "page"},
-    {"sweep"},  # a sweep split among robots is checked with the fleet's checker
+    {"sweep", "station"},  # a sweep split among robots is checked with the fleet's checker; the station plans with the fleet
     {"study"},  # many cases at once over the planner, mechanics and uncertainty
     {"demo"},
     {"cli", "__main__", "testing"},

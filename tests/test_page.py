@@ -206,7 +206,7 @@ def test_cli_refuses_a_route_of_another_garment_and_a_bad_out_name(page_files, t
     assert main(["page", str(spec), str(other), "--out", str(tmp_path / "p.html")]) == 2
     assert "planned on garment 'other_top'" in capsys.readouterr().err
     assert main(["page", str(spec), str(route), "--out", str(tmp_path / "p.pdf")]) == 2
-    assert "use a .html file name" in capsys.readouterr().err
+    assert "use a .html or .htm file name" in capsys.readouterr().err
 
 
 def test_a_fine_mannequin_is_decimated_and_the_page_says_by_how_much():

@@ -34,6 +34,9 @@ SETTINGS = settings(derandomize=True, max_examples=60, deadline=None,
                     suppress_health_check=[HealthCheck.too_slow])
 
 # names: any printable text, quotes, backslashes and non-ASCII included (TOML escapes them)
+# free text: printable characters plus newline and tab (the reader refuses other control characters)
+DESCRIPTIONS = st.text(st.characters(codec="utf-8", exclude_categories=("Cs", "Cc")) | st.sampled_from("\n\t"),
+                       max_size=40)
 NAMES = st.text(st.characters(codec="utf-8", exclude_categories=("Cs", "Cc")), min_size=1,
                 max_size=12)
 SPAN = 220.0  # each piece fits a disc of radius 100 mm around its origin; pieces 220 mm apart
@@ -101,7 +104,7 @@ def garments(draw):
     for i, name in enumerate(draw(st.lists(NAMES, max_size=3, unique=True))):
         if draw(st.booleans()):
             landmarks.append(Landmark(name, piece=pieces[i % len(pieces)].name, x=-15.0, y=-15.0,
-                                      description=draw(st.text(max_size=20))))
+                                      description=draw(DESCRIPTIONS.filter(lambda t: len(t) <= 20))))
         else:
             xyz = tuple(draw(st.floats(-2000, 2000)) for _ in range(3))
             landmarks.append(Landmark(name, xyz=xyz))
@@ -117,7 +120,7 @@ def garments(draw):
         (SPAN * len(pieces) + 10.0, 230.0),
         drape=draw(st.none() | NAMES),
         body=draw(st.none() | NAMES),
-        description=draw(st.text(max_size=40)),
+        description=draw(DESCRIPTIONS),
     )
 
 

@@ -21,7 +21,7 @@ from garnav.errors import GarnavError
 __all__ = ["main", "build_parser"]
 
 # Sub-command modules, in the order `garnav --help` lists them.
-COMMANDS = ("demo", "check", "route", "show", "import_mesh", "export_pattern", "page", "sweep", "fleet", "drift", "simulate", "track", "calibrate", "study")
+COMMANDS = ("demo", "check", "route", "show", "import_mesh", "export_pattern", "page", "sweep", "fleet", "drift", "simulate", "track", "calibrate", "study", "robot_sim", "station")
 
 
 #: The exit statuses every command shares (README, "Exit status"); ``check`` adds 1 for warnings.
@@ -69,10 +69,12 @@ def main(argv: list[str] | None = None) -> int:
     if not getattr(args, "func", None):
         parser.print_help()
         return 2
+    from garnav.cli.outputs import run_planned, terminal_safe
+
     try:
-        return int(args.func(args) or 0)
+        return run_planned(args)  # outputs checked first, written as one set, then printed
     except GarnavError as exc:
-        print(f"garnav {args.command}: error: {exc}", file=sys.stderr)
+        print(terminal_safe(f"garnav {args.command}: error: {exc}"), file=sys.stderr)
         return 2
     except KeyboardInterrupt:
         print("garnav: interrupted", file=sys.stderr)

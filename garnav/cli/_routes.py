@@ -38,6 +38,9 @@ def route_inputs(route_path: str, garment_path: str | None) -> tuple[Garment, Ro
             raise QueryError(f"{route_path}: the route is on garment '{name}'; name its spec with --garment SPEC")
     if garment.name != name:
         raise QueryError(f"{route_path}: the route is on garment '{name}', not on '{garment.name}' ({garment_path})")
+    from garnav.export.route_checks import check_route_on_garment
+
+    check_route_on_garment(doc, garment, route_path)  # unknown pieces, off-piece points: before replaying
     robot = garment.robot or Robot()
     rd = doc.get("robot") or {}
     if isinstance(rd.get("radius_mm"), (int, float)):

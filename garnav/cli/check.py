@@ -139,13 +139,12 @@ def _finish(report: dict, as_json: str | None) -> int:
     report["status"] = status
     if as_json is not None:
         text = json.dumps(_finite(report), indent=2, allow_nan=False) + "\n"
-        if as_json == "-":
-            sys.stdout.write(text)
-        else:
-            from garnav.atomic import write_text_atomic
+        from garnav.atomic import active_set, write_text_atomic
 
+        if as_json == "-" and active_set() is None:
+            sys.stdout.write(text)
+        else:  # under the output plan '-' is standard output too, and it prints `wrote FILE`
             write_text_atomic(as_json, text)
-            print(f"wrote {as_json}")
     return status
 
 

@@ -72,9 +72,7 @@ def _rebuild(out: Path) -> int:
 
     with tqdm(total=4, desc="building demo", unit="step", leave=False, disable=None) as bar:
         files = build_demo(out, progress=lambda label: (bar.set_postfix_str(label), bar.update(1)))
-    print(f"wrote {files.spec}")
-    print(f"wrote {files.drape} ({files.vertices} vertices, {files.triangles} triangles)")
-    print(f"wrote {files.body}")
+    print(f"drape mesh {files.drape.name}: {files.vertices} vertices, {files.triangles} triangles")
     return 0
 
 
@@ -107,7 +105,7 @@ def _demo(out: Path, fleet: bool = False) -> int:
     print()
     print(summary_table(result))
     print()
-    print(f"wrote {len(result.files)} files to {result.out_dir} in {seconds:.1f} s:")
+    print(f"{len(result.files)} files in {result.out_dir} ({seconds:.1f} s):")
     for r in result.routes:
         print(f"  {r.name}.json / .csv / .cmd  — {r.about}")
     for role in ("screenshot", "sheet_svg", "sheet_png", "page", "spec", "drape", "body"):

@@ -86,7 +86,7 @@ def run(args: argparse.Namespace) -> int:
     if args.json:
         from garnav.fleet.document import write_schedule_json
 
-        print(f"wrote {write_schedule_json(args.json, garment, schedule, report)}")
+        write_schedule_json(args.json, garment, schedule, report)
     if args.commands_dir:
         from garnav.export.commands import write_commands
         from garnav.fleet.commands import plan_commands
@@ -96,18 +96,17 @@ def run(args: argparse.Namespace) -> int:
         for p in schedule.plans:
             write_commands(folder / f"{p.name}.cmd", plan_commands(garment, p),
                            comment=f"robot '{p.name}' in a fleet schedule; wait = let others pass")
-        print(f"wrote {len(schedule.plans)} command files to {folder}")
     if args.gif or args.chart or args.drape_gif:
         from garnav.fleet import pictures
 
         if args.gif:
-            print(f"wrote {pictures.write_sheet_gif(args.gif, garment, schedule, max_frames=args.frames)}")
+            pictures.write_sheet_gif(args.gif, garment, schedule, max_frames=args.frames)
         if args.chart:
-            print(f"wrote {pictures.write_space_time_chart(args.chart, garment, schedule)}")
+            pictures.write_space_time_chart(args.chart, garment, schedule)
         if args.drape_gif:
             from garnav.drape.drape import load_drape
 
             drape = load_drape(garment, folder=str(Path(spec).parent))
-            print(f"wrote {pictures.write_drape_gif(args.drape_gif, garment, drape, schedule, max_frames=args.frames)}")
+            pictures.write_drape_gif(args.drape_gif, garment, drape, schedule, max_frames=args.frames)
     print(CAUTION)
     return 0 if report.ok else 1

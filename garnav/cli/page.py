@@ -54,7 +54,7 @@ def run(args: argparse.Namespace) -> int:
     if args.max_body_triangles < 100:
         raise QueryError(f"--max-body-triangles {args.max_body_triangles}: give at least 100")
     out = Path(args.out)
-    if out.suffix.lower() not in (".html", ".htm"):
+    if args.out != "-" and out.suffix.lower() not in (".html", ".htm"):
         raise QueryError(f"--out {args.out}: use a .html file name")
     spec_path = Path(args.garment)
     garment, drape = garment_and_drape(spec_path)
@@ -89,6 +89,6 @@ def run(args: argparse.Namespace) -> int:
     page = plan_page(garment, docs, drape, body, free_space=free, title=args.title,
                      sources=sources, max_body_triangles=args.max_body_triangles)
     write_plan_page(out, page)
-    print(f"wrote {out} ({page.size_bytes / 1e6:.1f} MB; {len(docs)} route{'s' if len(docs) != 1 else ''}, "
-          f"{page.triangles:,} triangles in 3D)")
+    print(f"page {out.name}: {page.size_bytes / 1e6:.1f} MB; {len(docs)} route{'s' if len(docs) != 1 else ''}, "
+          f"{page.triangles:,} triangles in 3D")
     return 0

@@ -5,7 +5,10 @@
 The window shows the mannequin (the spec's ``body`` mesh), the draped garment (the spec's ``drape``
 mesh) coloured by piece, seams, open edges, keep-outs, landmarks and each route. ``--screenshot``
 renders off-screen to a PNG instead of opening a window. ``--sheet`` also writes the flat pattern
-sheet (``.svg`` or ``.png``) with the same routes. ``--margins`` colours each route by its
+sheet (``.svg`` or ``.png``) with the same routes; it needs no 3D window (``--sheet-only``, or no
+display). Nothing drawn is an error (exit 2): no display and neither ``--screenshot`` nor
+``--sheet``, a route on pieces the garment lacks, a point off its piece or outside the 3D view,
+non-finite coordinates, an image extension that cannot be written (docs/outputs.md). ``--margins`` colours each route by its
 tightest margin (routes planned with a robot physics profile), with a colour bar.
 """
 
@@ -16,7 +19,7 @@ from pathlib import Path
 
 from garnav.errors import MeshError, QueryError
 
-__all__ = ["register", "run"]
+__all__ = ["register", "run", "display_available"]
 
 
 def register(subparsers) -> None:
@@ -32,6 +35,8 @@ def register(subparsers) -> None:
     parser.add_argument("--size", nargs=2, type=int, metavar=("W", "H"), default=(1200, 900),
                         help="window or image size in pixels (default 1200 900)")
     parser.add_argument("--sheet", metavar="FILE", help="also write the flat pattern sheet (.svg or .png)")
+    parser.add_argument("--sheet-only", action="store_true",
+                        help="write --sheet and open no 3D window (also what happens without a display)")
     parser.add_argument("--margins", action="store_true",
                         help="colour each route by its tightest grip/hold/drive margin over the required one, "
                         "with a colour bar (routes planned with a robot physics profile; docs/physics.md)")
@@ -39,6 +44,9 @@ def register(subparsers) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
+    import numpy as np
+
+    from garnav.export.route_checks import check_route_on_garment, view_bounds
     from garnav.export.waypoints import read_route_document
     from garnav.preview.scene import SceneRoute, build_plotter, off_screen_environment, route_polyline, write_screenshot
     from garnav.drape.drape import load_drape
@@ -50,6 +58,15 @@ def run(args: argparse.Namespace) -> int:
         raise QueryError(f"--size {w} {h}: width and height must be 16..8192 pixels")
     if args.sheet and Path(args.sheet).suffix.lower() not in (".svg", ".png"):
         raise QueryError(f"--sheet {args.sheet}: use a .svg or .png file name")
+    if args.sheet_only and not args.sheet:
+        raise QueryError("--sheet-only: give the sheet to write with --sheet FILE")
+    window = args.screenshot is None and not args.sheet_only
+    if window and not display_available():
+        if not args.sheet:  # nothing could be drawn: say so, never exit 0 with nothing shown
+            raise QueryError("no display to open a 3D window on (no DISPLAY or WAYLAND_DISPLAY, or "
+                             "PYVISTA_OFF_SCREEN is set): give --screenshot PNG for a 3D picture or "
+                             "--sheet FILE for the flat sheet")
+        window = False
     spec_path = Path(args.garment)
     garment, drape = garment_and_drape(spec_path)  # a mesh file brings its drape along
     docs = []
@@ -58,6 +75,7 @@ def run(args: argparse.Namespace) -> int:
         planned_on = doc["garment"]["name"]
         if planned_on != garment.name:
             raise QueryError(f"{name}: the route was planned on garment '{planned_on}', not '{garment.name}'")
+        check_route_on_garment(doc, garment, name)  # unknown pieces, off-piece or non-finite points
         docs.append((name, doc))
 
     if args.sheet:
@@ -72,8 +90,12 @@ def run(args: argparse.Namespace) -> int:
                     print(f"note: body zones not drawn: {exc}")
             sheet_garment = apply_zones(garment, drape, str(spec_path), allow_without_zones=True)
         _write_sheet(sheet_garment, docs, Path(args.sheet))
+        if not window and args.screenshot is None:
+            if not args.sheet_only:
+                print("note: no display: the 3D window was not opened (--screenshot PNG renders it off-screen)")
+            return 0
 
-    if not garment.drape and not garment.body:
+    if not garment.drape and not garment.body and drape is None:
         if args.sheet:
             return 0
         raise MeshError(f"{spec_path}: the spec names no drape and no body mesh: nothing to show in 3D (try --sheet)")
@@ -81,9 +103,13 @@ def run(args: argparse.Namespace) -> int:
     if drape is None and garment.drape:
         drape = load_drape(garment, None, str(base))
     body = load_body_mesh(base / garment.body) if garment.body else None
+    view = view_bounds([drape.positions if drape is not None else None, body[0] if body is not None else None])
     routes = []
     for name, doc in docs:
+        check_route_on_garment(doc, garment, name, view)  # a route outside the view is refused, not lost
         pts, nrm = route_polyline(doc, drape, garment, source=name)
+        if not np.all(np.isfinite(pts)):
+            raise QueryError(f"{name}: the route's 3D points are not finite numbers: nothing to draw")
         margin = None
         if getattr(args, "margins", False):
             from garnav.preview.scene import document_margins
@@ -100,13 +126,29 @@ def run(args: argparse.Namespace) -> int:
     plotter = build_plotter(garment, drape, body, routes, off_screen=off, size=(w, h))
     try:
         if off:
-            out = write_screenshot(args.screenshot, plotter)
-            print(f"wrote {out} ({w} x {h} px)")
+            write_screenshot(args.screenshot, plotter)  # `wrote FILE` comes from the output plan
         else:
+            from garnav.atomic import active_set
+
+            if active_set() is not None:  # the --sheet file is in place while the window is open
+                active_set().commit()
             plotter.show(title=f"garnav — {garment.name}")
     finally:
         plotter.close()
     return 0
+
+
+def display_available() -> bool:
+    """Whether a 3D window can open: not forced off-screen (``PYVISTA_OFF_SCREEN``), and on
+    Linux and other X11/Wayland systems a ``DISPLAY`` or ``WAYLAND_DISPLAY`` is set."""
+    import os
+    import sys
+
+    if os.environ.get("PYVISTA_OFF_SCREEN", "").strip().lower() in ("1", "true", "yes"):
+        return False
+    if sys.platform.startswith(("win", "darwin")):
+        return True
+    return bool(os.environ.get("DISPLAY") or os.environ.get("WAYLAND_DISPLAY"))
 
 
 def _write_sheet(garment, docs, path: Path) -> None:
@@ -122,4 +164,3 @@ def _write_sheet(garment, docs, path: Path) -> None:
         write_sheet_svg(path, drawing)
     else:
         write_sheet_png(path, drawing)
-    print(f"wrote {path}")

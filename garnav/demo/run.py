@@ -185,7 +185,8 @@ def run_demo(
     Parameters
     ----------
     out_dir : path
-        Output folder, created if missing; files of the same names are replaced atomically.
+        Output folder, created if missing; files of the same names are replaced atomically, all
+        of them as one set (:func:`garnav.atomic.writing_set`; docs/outputs.md).
     progress : callable, optional
         Called with each label of :data:`DEMO_STEPS` after that step.
     screenshot : bool
@@ -195,7 +196,13 @@ def run_demo(
     -------
     DemoResult
     """
-    from garnav.atomic import write_text_atomic
+    from garnav.atomic import active_set, write_text_atomic, writing_set
+
+    if active_set() is None:  # called from Python: the demo's files are one set too (docs/outputs.md)
+        with writing_set() as files_set:
+            result = run_demo(out_dir, progress, screenshot=screenshot)
+            files_set.commit()
+        return result
     from garnav.demo.build import BODY_NAME, DRAPE_NAME, SPEC_NAME
     from garnav.demo.mesh import body_obj_text, drape_obj_text
     from garnav.drape import lift_route

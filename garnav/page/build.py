@@ -76,6 +76,7 @@ def read_routes(paths: Sequence[str | os.PathLike], garment: Garment) -> list[tu
     QueryError
         A file that is not a route document, or one planned on another garment.
     """
+    from garnav.export.route_checks import check_route_on_garment
     from garnav.export.waypoints import read_route_document
 
     out: list[tuple[str, dict]] = []
@@ -85,6 +86,7 @@ def read_routes(paths: Sequence[str | os.PathLike], garment: Garment) -> list[tu
         planned_on = doc["garment"]["name"]
         if planned_on != garment.name:
             raise QueryError(f"{path}: the route was planned on garment '{planned_on}', not '{garment.name}'")
+        check_route_on_garment(doc, garment, str(path))  # unknown pieces, off-piece points: before drawing
         stem = Path(path).stem
         seen[stem] = seen.get(stem, 0) + 1
         out.append((stem if seen[stem] == 1 else f"{stem}-{seen[stem]}", doc))

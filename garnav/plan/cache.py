@@ -82,7 +82,7 @@ def save_nav_graph(ng: NavGraph, path: str | Path, key: str) -> Path:
         edge_crossing=np.array([e[2]["crossing"] for e in edges], dtype=bool),
         **{name: getattr(ng, name) for name in _NODE_ARRAYS},
     )
-    return write_bytes_atomic(path, buf.getvalue())
+    return write_bytes_atomic(path, buf.getvalue(), outside_set=True)  # a side file, not a result
 
 
 def load_nav_graph(path: str | Path, garment: Garment, free: FreeSpace, key: str) -> NavGraph | None:

@@ -159,6 +159,16 @@ def _section_rank(problem: Problem) -> int:
     return _SECTION_ORDER.index(head) if head in _SECTION_ORDER else len(_SECTION_ORDER)
 
 
+def _control_character(text: str, allowed: str = "") -> str | None:
+    """The first control character of ``text`` (C0, DEL, C1: Unicode category Cc) not in
+    ``allowed``, or None."""
+    for ch in text:
+        code = ord(ch)
+        if (code < 0x20 or 0x7F <= code < 0xA0) and ch not in allowed:
+            return ch
+    return None
+
+
 class _Invalid(Exception):
     """A value has the wrong type; carries the reason."""
 
@@ -191,6 +201,9 @@ class _Reader:
         if t == "str":
             if not isinstance(value, str):
                 raise _Invalid(f"must be {want}, found {_describe(value)}")
+            bad = _control_character(value, "\n\t" if f.key == "description" else "")
+            if bad is not None:  # it would move the cursor or clear the screen when printed
+                raise _Invalid(f"contains the control character U+{ord(bad):04X}; use printable text")
             return value
         if t == "bool":
             if not isinstance(value, bool):

@@ -106,13 +106,11 @@ def write_truth(path, truth: Truth):
 
 
 def _rows(path, columns: tuple[str, ...]):
+    from garnav.textio import read_text
+
     p = Path(path)
-    try:
-        text = p.read_text(encoding="utf-8")
-    except OSError as exc:
-        raise TelemetryError(f"{p}: cannot read: {exc.strerror or exc}") from None
-    except UnicodeDecodeError as exc:
-        raise TelemetryError(f"{p}: not UTF-8 text (bad byte at offset {exc.start})") from None
+    # through textio: one set of reasons, and a log of an incompletely written set is refused
+    text = read_text(p, lambda reason: TelemetryError(f"{p}: {reason}"))
     reader = csv.reader(io.StringIO(text))
     try:
         header = next(reader)
