@@ -9,6 +9,8 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+
+from garnav.spec import load_garment
 import shapely
 import shapely.affinity
 
@@ -349,7 +351,8 @@ def test_missing_extra_says_how_to_install(monkeypatch):
 def test_example_study_file_prepares():
     study = load_study(Path(__file__).resolve().parent.parent / "examples" / "study_sizes.toml")
     prepared = prepare_study(study)
-    assert prepared.n_cases == 55 * 4 * 2  # 11 landmarks' pairs × sizes × postures
+    n = len(load_garment(Path(__file__).resolve().parent.parent / "meshes" / "sensing_top.toml").landmarks)
+    assert prepared.n_cases == n * (n - 1) // 2 * 4 * 2  # the demo landmarks' pairs × sizes × postures
     xl = prepared.inputs["sensing_top@XL"]
     assert xl.scale == pytest.approx(1.04**2) and xl.mesh("default") is not None
 
