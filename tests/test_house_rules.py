@@ -26,7 +26,7 @@ LAYERS = [
     {"export", "mechanics"},
     {"uncertainty"},
     {"telemetry"},
-    {"preview"},
+    {"preview", "recording"},
     {"fleet", "page"},
     {"sweep"},  # a sweep split among robots is checked with the fleet's checker
     {"demo"},
