@@ -26,7 +26,7 @@ LAYERS = [
     {"export", "mechanics", "flatten", "zones"},
     {"uncertainty"},
     {"telemetry"},
-    {"preview", "link"},  # link: the robot protocol, transports and the simulated robot
+    {"preview", "link", "recording"},  # link: the robot protocol, transports and the simulated robot; recording: MCAP
     {"fleet", "page"},
     {"sweep", "station"},  # a sweep split among robots is checked with the fleet's checker; the station plans with the fleet
     {"study"},  # many cases at once over the planner, mechanics and uncertainty

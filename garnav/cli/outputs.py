@@ -97,7 +97,7 @@ ROLES: dict[str, Roles] = {
     "check": Roles(("garment", "drape"), (Output("json", "--json", stdout=True),)),
     "route": Roles(("garment", "drape", "robot"), (
         Output("json", "--json", stdout=True), Output("csv", "--csv", stdout=True),
-        Output("commands", "--commands", stdout=True))),
+        Output("commands", "--commands", stdout=True), Output("mcap", "--mcap", suffixes=(".mcap",)))),
     "show": Roles(("garment", "routes"), (
         Output("screenshot", "--screenshot", suffixes=PNG), Output("sheet", "--sheet", suffixes=SHEET))),
     "import": Roles(("mesh", "seams"), (

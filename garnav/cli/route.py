@@ -105,6 +105,8 @@ def register(subparsers) -> None:
     parser.add_argument("--json", metavar="FILE", help="write the route document as JSON (docs/route-format.md)")
     parser.add_argument("--csv", metavar="FILE", help="write the waypoints as CSV")
     parser.add_argument("--commands", metavar="FILE", help="write the robot commands as text (docs/commands.md)")
+    parser.add_argument("--mcap", metavar="FILE", help="write the plan, the lifted route, poses along it and the "
+                        "garment mesh as an MCAP file of ROS 2 messages (docs/mcap.md; needs garnav[mcap])")
     parser.add_argument(
         "--confidence",
         type=float,
@@ -225,6 +227,13 @@ def run(args: argparse.Namespace) -> int:
     if args.commands:
         comment = f"{args.start} to {args.goal} on garment '{garment.name}', robot '{robot.name}'"
         write_commands(args.commands, route_commands(route, garment, robot), comment=comment)
+    if getattr(args, "mcap", None):
+        from garnav.recording import McapRecorder
+
+        with McapRecorder(args.mcap) as recording:
+            if drape is not None:
+                recording.add_mesh(drape)
+            recording.add_route(route, lifted)
     if not getattr(args, "quiet", False):
         print("\n".join(caution_lines()), file=sys.stderr)
     return 0

@@ -59,8 +59,9 @@ def register(subparsers) -> None:
     parser.add_argument("--posture", metavar="NAME", help="wearer's posture for the energy figure (needs a "
                         "[robot.physics] profile and a drape): upright (default), or another of docs/physics.md")
     parser.add_argument("--robots", type=int, default=1, metavar="K",
-                        help="also cut the sweep into K stretches of balanced time, one per robot, and write "
-                        "FILE.robot_J.json (and .cmd) for each; their closest approach is checked, not avoided")
+                        help="also cut the sweep into K stretches of balanced time, one per robot, timed so that "
+                        "no two robots meet (waits where needed), and write FILE.robot_J.json (and .cmd, with "
+                        "the waits) for each and the timed schedule FILE.schedule.json (docs/sweeps.md)")
     parser.add_argument("--json", metavar="FILE", required=True, help="write the sweep's route document (JSON)")
     parser.add_argument("--csv", metavar="FILE", help="write the waypoints as CSV")
     parser.add_argument("--commands", metavar="FILE", help="write the robot commands as text (docs/commands.md)")
@@ -162,28 +163,32 @@ def check_stretches(garment, robot, routes):
 
 
 def _write_split(args: argparse.Namespace, garment, robot, drape, sweep) -> None:
-    """Per-robot route documents (and commands) of the sweep cut into --robots stretches."""
+    """Per-robot route documents (and commands, with waits) of the sweep cut into --robots
+    stretches and timed apart (:func:`garnav.sweep.schedule.schedule_sweep`), and the schedule."""
     from garnav.drape.lift import lift_route
-    from garnav.export.commands import route_commands, write_commands
+    from garnav.export.commands import write_commands
     from garnav.export.waypoints import route_document, write_route_json
-    from garnav.sweep import split_sweep
+    from garnav.fleet.document import write_schedule_json
+    from garnav.sweep.schedule import schedule_sweep
 
-    split = split_sweep(garment, sweep, args.robots, robot, check=check_stretches)
-    for j, route in enumerate(split.routes, start=1):
+    timed = schedule_sweep(garment, sweep, args.robots, robot)
+    stem = Path(args.json)
+    for j, route in enumerate(timed.routes, start=1):
         lifted: Any = lift_route(drape, garment, route) if drape is not None else None
-        stem = Path(args.json)
         out = stem.with_name(f"{stem.stem}.robot_{j}{stem.suffix or '.json'}")
         write_route_json(out, route_document(route, garment, robot, lifted))
-        line = f"robot {j}: {split.times_s[j - 1]:.0f} s, {route.length_mm:.0f} mm -> {out}"
+        line = f"robot {j}: {route.length_mm:.0f} mm -> {out}"
         if args.commands:
             cstem = Path(args.commands)
             cout = cstem.with_name(f"{cstem.stem}.robot_{j}{cstem.suffix or '.cmd'}")
-            write_commands(cout, route_commands(route, garment, robot), comment=f"sweep stretch {j} of {args.robots}")
+            write_commands(cout, timed.commands(garment, j - 1),
+                           comment=f"sweep stretch {j} of {args.robots}, with its waits for the others")
             line += f", {cout}"
         print(line)
-    if split.check is not None:
-        print(split.check.text() + ("" if split.check.ok else
-              " — the robots would come too close if started together: start them with delays or plan them with garnav fleet"))
+    sched = stem.with_name(f"{stem.stem}.schedule{stem.suffix or '.json'}")
+    write_schedule_json(sched, garment, timed.schedule, timed.check)
+    print("\n".join(timed.lines()))
+    print(f"schedule -> {sched}")
 
 
 def _garment_and_drape(args: argparse.Namespace):

@@ -34,21 +34,19 @@ import scipy.sparse as sp
 from scipy.sparse.csgraph import dijkstra
 
 from garnav.errors import GarnavError, NoRouteError, QueryError
+from garnav.fleet.carry import CARRY_SEAM_STEP_MM, MoveCarrier
 from garnav.fleet.motion import Move, MoveSet
 from garnav.fleet.roadmap import Roadmap, build_roadmap
 from garnav.fleet.schedule import FleetError, FleetPlanError, RobotPlan, Schedule
 from garnav.fleet.sipp import SearchTimeout, SippProblem, sipp
 from garnav.fleet.tasks import FleetTasks, Meeting, Task
-from garnav.fleet.unfold import carry_points, seam_sides, side_maps, unfolded_distance
+from garnav.fleet.unfold import seam_sides, unfolded_distance
 from garnav.model import Garment, Robot
 from garnav.plan import PiecePoint, Planner, Route, resolve_point
 from garnav.plan.route import crossing_side
 
 __all__ = ["FleetPlanner", "plan_fleet", "CARRY_SEAM_STEP_MM"]
 
-# Moves near a seam are carried across it with the seam's map at samples this far apart (mm); the
-# copies keep a margin of half a step, more where the seam turns between samples.
-CARRY_SEAM_STEP_MM = 4.0
 
 
 def _class_key(r: Robot) -> tuple:
@@ -108,8 +106,7 @@ class FleetPlanner:
         self.seed_routes = seed_routes
         self.agents = self._resolve()
         self._check_overlaps()
-        self.sides = seam_sides(garment)
-        self._side_maps: dict = {}
+        self._carrier: MoveCarrier | None = None
         self.rmax = max(radii)
         self._route_seeds()
         self._build_roadmap()
@@ -257,50 +254,11 @@ class FleetPlanner:
     # ------------------------------------------------------------------ moves of others
 
     def _carry(self, owner: int, moves: list[Move], reach: float) -> dict[int, list[MoveSet]]:
-        """Moves as MoveSets per piece index, with copies carried over nearby seams (each move at
-        the seam point nearest its middle)."""
-        pidx = {p: i for i, p in enumerate(self.roadmap.pieces)}
-        band = reach + self.rmax
-        out: dict[int, list[MoveSet]] = {}
-        by_piece: dict[str, list[Move]] = {}
-        for m in moves:
-            by_piece.setdefault(m.piece, []).append(m)
-        for piece, lst in by_piece.items():
-            t0 = np.array([m.t0 for m in lst])
-            t1 = np.array([m.t1 for m in lst])
-            p0 = np.array([m.p0 for m in lst], float)
-            p1 = np.array([m.p1 for m in lst], float)
-            v = np.array([m.velocity for m in lst])
-            own = np.full(len(lst), owner, dtype=int)
-            out.setdefault(pidx[piece], []).append(MoveSet(t0, t1, p0, v, np.full(len(lst), reach), own))
-            mid, half = 0.5 * (p0 + p1), 0.5 * np.hypot(*(p1 - p0).T)
-            for sd in self.sides[piece]:
-                _, _, dist = carry_points(sd, mid)
-                sel = np.flatnonzero(dist - half <= band)
-                if not len(sel):
-                    continue
-                # one copy per seam sample within reach, each carried rigidly with that sample's
-                # map: for a robot at a on the partner piece, the copy made at the seam point
-                # nearest the best crossing point s* is within the margin of |a - T_s*(b)|, which
-                # is never more than the distance through the seam (triangle inequality)
-                seam_pts, lin, off, turn = self._maps(sd)
-                reachd = np.linalg.norm(mid[sel][:, None, :] - seam_pts[None], axis=2)
-                mi, ki = np.nonzero(reachd <= (band + half[sel])[:, None] + CARRY_SEAM_STEP_MM)
-                rep = sel[mi]
-                q0 = np.einsum("mij,mj->mi", lin[ki], p0[rep]) + off[ki]
-                vq = np.einsum("mij,mj->mi", lin[ki], v[rep])
-                margin = 0.5 * CARRY_SEAM_STEP_MM * (1.0 + turn / CARRY_SEAM_STEP_MM * (band + half[rep]))
-                out.setdefault(pidx[sd.to_piece], []).append(
-                    MoveSet(t0[rep], t1[rep], q0, vq, reach + margin, own[rep]))
-        return out
-
-    def _maps(self, sd):
-        key = (sd.seam, sd.side)
-        got = self._side_maps.get(key)
-        if got is None:
-            got = side_maps(sd, CARRY_SEAM_STEP_MM)
-            self._side_maps[key] = got
-        return got
+        """Moves as MoveSets per piece index, with copies carried over nearby seams
+        (:class:`garnav.fleet.carry.MoveCarrier`)."""
+        if self._carrier is None:
+            self._carrier = MoveCarrier(self.garment, self.roadmap.pieces, self.rmax, CARRY_SEAM_STEP_MM)
+        return self._carrier.carry(owner, moves, reach)
 
     # ------------------------------------------------------------------ search
 

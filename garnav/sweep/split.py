@@ -7,8 +7,8 @@ covers. Consecutive stretches of a boustrophedon lie side by side, so robots wor
 areas: :func:`stretch_moves` gives each stretch as timed moves, and the caller may check them
 against each other (the command line uses the fleet planner's checker,
 :func:`garnav.fleet.check_schedule`, every robot starting at t = 0); the report says how close two
-robots come. They are **not** rescheduled to keep apart: when the check fails, start them with
-delays or plan them with ``garnav fleet``.
+robots come. The split itself does not keep them apart; :func:`garnav.sweep.schedule.schedule_sweep`
+times the stretches so that they never meet (what ``garnav sweep --robots K`` does).
 
 Times: a straight go of d mm takes d / speed; a turn in place by θ takes |θ|·wheel_base/(2·speed)
 (Siegwart & Nourbakhsh §3.2), spent standing at the vertex.
@@ -100,7 +100,8 @@ def _stretch(garment: Garment, robot: Robot, route: Route, a: tuple[int, int], b
     return make_route(garment, robot, legs, data, length)
 
 
-def split_sweep(garment: Garment, sweep, k: int, robot: Robot | None = None, *, check=None) -> SweepSplit:
+def split_sweep(garment: Garment, sweep, k: int, robot: Robot | None = None, *, check=None,
+                separate_starts_mm: float = 0.0) -> SweepSplit:
     """Cut a planned sweep into ``k`` stretches of balanced time, one per robot.
 
     Parameters
@@ -116,6 +117,10 @@ def split_sweep(garment: Garment, sweep, k: int, robot: Robot | None = None, *, 
         starting at t = 0 (the command line passes the fleet planner's checker, see
         ``garnav.cli.sweep.check_stretches``; this package sits below the fleet and does not
         import it).
+    separate_starts_mm : float
+        Keep every stretch's start at least this far (mm, same piece) from the starts before it:
+        a cut that would fall closer moves to the nearest waypoint that does not (a sweep that ends
+        where it began, or lanes side by side, would otherwise start two robots on one spot).
     """
     robot = robot or garment.robot or Robot()
     if not (isinstance(k, int) and k >= 1):
@@ -129,10 +134,39 @@ def split_sweep(garment: Garment, sweep, k: int, robot: Robot | None = None, *, 
         c = int(np.argmin(np.abs(t - t[-1] * j / k)))
         cuts.append(min(max(c, cuts[-1] + 1), len(ids) - 1 - (k - j)))
     cuts.append(len(ids) - 1)
+    if separate_starts_mm > 0:
+        cuts = _separate_starts(route, ids, cuts, separate_starts_mm)
     routes = tuple(_stretch(garment, robot, route, ids[cuts[j]], ids[cuts[j + 1]]) for j in range(k))
     times = tuple(float(t[cuts[j + 1]] - t[cuts[j]]) for j in range(k))
     report = check(garment, robot, routes) if check is not None and k > 1 else None
     return SweepSplit(routes, times, report)
+
+
+def _separate_starts(route: Route, ids: list[tuple[int, int]], cuts: list[int], gap_mm: float) -> list[int]:
+    """Move each inner cut to the nearest waypoint index (between its neighbours) at least
+    ``gap_mm`` from the starts of the stretches before it; a cut with no such index stays."""
+    def where(i: int) -> tuple[str, np.ndarray]:
+        li, pk = ids[i]
+        return route.legs[li].piece, np.asarray(route.legs[li].points[pk], dtype=float)
+
+    out = list(cuts)
+    k = len(cuts) - 1
+    for j in range(1, k):
+        lo, hi = out[j - 1] + 1, len(ids) - 1 - (k - j)
+        starts = [where(out[i]) for i in range(j)]
+
+        def clear(i: int) -> bool:
+            piece, xy = where(i)
+            return all(p != piece or float(np.hypot(*(xy - q))) >= gap_mm for p, q in starts)
+
+        for step in range(len(ids)):
+            hit = next((i for i in (out[j] - step, out[j] + step) if lo <= i <= hi and clear(i)), None)
+            if hit is not None:
+                out[j] = hit
+                break
+            if out[j] - step < lo and out[j] + step > hi:
+                break
+    return out
 
 
 def stretch_moves(route: Route, robot: Robot) -> list[tuple[str, float, float, tuple[float, float], tuple[float, float]]]:
