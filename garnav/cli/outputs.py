@@ -123,7 +123,7 @@ ROLES: dict[str, Roles] = {
     "calibrate": Roles(("runs", "garment"), (Output("out", "--out", stdout=True),)),
     "study": Roles(("study",), (Output("out", "--out", folder=True),), live=True),
     "robot-sim": Roles(("garment", "robot"), (Output("log", "--log"), Output("truth", "--truth")), live=True),
-    "station": Roles(("garment",), (Output("log", "--log"),), live=True),
+    "station": Roles(("garment",), (Output("log", "--log"), Output("record", "--record", suffixes=(".mcap",))), live=True),
 }
 
 

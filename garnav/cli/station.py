@@ -45,6 +45,8 @@ def register(subparsers) -> None:
     parser.add_argument("--timeout", type=float, default=120.0, metavar="S", help="give up after S s of tracking (default 120)")
     parser.add_argument("--stop-after", type=float, metavar="S", help="emergency stop every robot S s after sending (testing)")
     parser.add_argument("--tolerance", type=float, metavar="MM", help="arrival tolerance of the estimated position, mm (default 5)")
+    parser.add_argument("--record", metavar="FILE.mcap", help="write the run as MCAP (ROS 2 messages: mesh, plans, "
+                        "estimated poses and tracks; docs/mcap.md; needs garnav[mcap])")
     parser.add_argument("--log", metavar="RUN.jsonl", help="write every message and event (JSON lines)")
     parser.add_argument("--loss", type=float, default=0.0, metavar="P", help="drop this fraction of sent datagrams (testing)")
     parser.add_argument("--reorder", type=float, default=0.0, metavar="P", help="swap this fraction of sent datagrams (testing)")
@@ -137,6 +139,11 @@ def run(args: argparse.Namespace) -> int:
             if args.log:
                 station.write_log(args.log)
                 print(f"wrote {args.log}")
+            if getattr(args, "record", None):
+                from garnav.station.record import record_station
+
+                count = record_station(args.record, station, drape)
+                print(f"wrote {args.record} ({count} estimated poses)")
     finally:
         for tr in transports.values():
             tr.close()
