@@ -155,7 +155,7 @@ def _separate_starts(route: Route, ids: list[tuple[int, int]], cuts: list[int], 
         lo, hi = out[j - 1] + 1, len(ids) - 1 - (k - j)
         starts = [where(out[i]) for i in range(j)]
 
-        def clear(i: int) -> bool:
+        def clear(i: int, starts=starts) -> bool:
             piece, xy = where(i)
             return all(p != piece or float(np.hypot(*(xy - q))) >= gap_mm for p, q in starts)
 
