@@ -53,3 +53,18 @@ def test_station_cli_offers_record_as_a_declared_output():
     from garnav.cli.outputs import ROLES
 
     assert any(o.option == "--record" for o in ROLES["station"].outputs)
+
+
+def test_station_refuses_a_route_through_a_body_zone():
+    """A route planned without the demo's body zones crosses the implant zone; the station's
+    safety check on the garment with the zones' keep-outs (as `garnav station` loads it) refuses it."""
+    from garnav.station.safety import UnsafeRouteError, check_route
+    from garnav.zones.sources import apply_zones
+
+    garment = load_garment(SPEC)
+    drape = load_drape(garment, "", str(SPEC.parent))
+    careless = Planner(garment, garment.robot).route("wrist_left", "sternum_left")
+    zoned = apply_zones(garment, drape, str(SPEC))
+    with pytest.raises(UnsafeRouteError, match="implant"):
+        check_route(zoned, careless, "ada")
+    check_route(zoned, Planner(zoned, garment.robot).route("wrist_left", "sternum_left"), "ada")

@@ -52,6 +52,9 @@ def register(subparsers) -> None:
     parser.add_argument("--reorder", type=float, default=0.0, metavar="P", help="swap this fraction of sent datagrams (testing)")
     parser.add_argument("--loss-seed", type=int, default=2, metavar="S", help="seed of --loss and --reorder (default 2)")
     parser.add_argument("--no-drape", action="store_true", help="do not load the spec's drape (headless, pattern only)")
+    from garnav.zones.sources import add_ignore_zones_option
+
+    add_ignore_zones_option(parser)
     cache = parser.add_mutually_exclusive_group()
     cache.add_argument("--cache-dir", metavar="DIR", help="folder of the navigation-graph cache")
     cache.add_argument("--no-cache", action="store_true", help="build the navigation graph afresh")
@@ -154,10 +157,14 @@ def _garment(args):
     from garnav.drape.inverse import pattern_locator
     from garnav.drape.sources import garment_and_drape
 
+    from garnav.zones.sources import apply_zones
+
     if args.no_drape:
         garment, drape = garment_and_drape(args.garment, None)
     else:
         garment, drape = garment_and_drape(args.garment, "", optional=True)
+    # body zones become hard keep-outs through the drape: never sent a route through one
+    garment = apply_zones(garment, drape, args.garment, getattr(args, "ignore_body_zones", False))
     return garment, drape, (pattern_locator(drape, garment) if drape is not None else None)
 
 
