@@ -52,7 +52,8 @@ MESH_SUFFIXES = (".obj", ".gltf", ".glb", ".ply")
 UV_RANGE_TOL = 1e-3
 
 
-def _readonly(a: np.ndarray) -> np.ndarray:
+def readonly_array(a: np.ndarray) -> np.ndarray:
+    """A contiguous, read-only view of ``a`` (array fields of the frozen mesh types)."""
     a = np.ascontiguousarray(a)
     a.flags.writeable = False
     return a
@@ -83,9 +84,9 @@ class UVMesh:
     notes: tuple[str, ...] = field(default=())
 
     def __post_init__(self) -> None:
-        object.__setattr__(self, "positions", _readonly(np.asarray(self.positions, dtype=float)))
-        object.__setattr__(self, "faces", _readonly(np.asarray(self.faces, dtype=np.int64)))
-        object.__setattr__(self, "corner_uv", _readonly(np.asarray(self.corner_uv, dtype=float)))
+        object.__setattr__(self, "positions", readonly_array(np.asarray(self.positions, dtype=float)))
+        object.__setattr__(self, "faces", readonly_array(np.asarray(self.faces, dtype=np.int64)))
+        object.__setattr__(self, "corner_uv", readonly_array(np.asarray(self.corner_uv, dtype=float)))
 
     @property
     def n_faces(self) -> int:

@@ -22,18 +22,13 @@ import scipy.sparse.csgraph
 
 from garnav.drape.meshio import MESH_SUFFIXES, parse_obj, weld_positions
 from garnav.errors import MeshError
+from garnav.drape.meshio import readonly_array as _ro
 from garnav.textio import file_problem, read_text
 
 __all__ = ["Surface", "surface_from_arrays", "load_surface", "corner_classes", "NEXT"]
 
 #: Edge k of a face is opposite corner k: it runs from corner NEXT[k] to corner NEXT[NEXT[k]].
 NEXT = np.array([1, 2, 0])
-
-
-def _ro(a: np.ndarray) -> np.ndarray:
-    a = np.ascontiguousarray(a)
-    a.flags.writeable = False
-    return a
 
 
 @dataclass(frozen=True, eq=False)
