@@ -10,10 +10,10 @@ from garnav.errors import QueryError
 __all__ = ["add_pose_options", "wants_poses", "PoseChoice", "choose_poses"]
 
 
-def add_pose_options(parser, robust: bool = True) -> None:
-    parser.add_argument("--pose", metavar="NAME", help="lift onto this pose's drape (a [[pose]] of the spec; "
-                        "its body zones and posture apply); 'all': plan on the default pose and report "
-                        "the route in every pose (3D length, climbs, body zones, margins)")
+def add_pose_options(parser, robust: bool = True, pose_help: str | None = None) -> None:
+    parser.add_argument("--pose", metavar="NAME", help=pose_help or "lift onto this pose's drape (a [[pose]] of "
+                        "the spec; its body zones and posture apply); 'all': plan on the default pose and "
+                        "report the route in every pose (3D length, climbs, body zones, margins)")
     if robust:
         parser.add_argument("--robust", action="store_true", help="plan one pattern route that keeps every "
                             "pose's body zones (their union) and, with a physics profile, is safe in "

@@ -1,6 +1,6 @@
 """``garnav show``: look at a garment and its routes in 3D (window or off-screen PNG).
 
-    garnav show GARMENT [ROUTE.json ...] [--screenshot PNG] [--size W H] [--sheet FILE]
+    garnav show GARMENT [ROUTE.json ...] [--screenshot PNG] [--size W H] [--sheet FILE] [--pose NAME|all]
 
 The window shows the mannequin (the spec's ``body`` mesh), the draped garment (the spec's ``drape``
 mesh) coloured by piece, seams, open edges, keep-outs, landmarks and each route. ``--screenshot``
@@ -9,7 +9,10 @@ sheet (``.svg`` or ``.png``) with the same routes; it needs no 3D window (``--sh
 display). Nothing drawn is an error (exit 2): no display and neither ``--screenshot`` nor
 ``--sheet``, a route on pieces the garment lacks, a point off its piece or outside the 3D view,
 non-finite coordinates, an image extension that cannot be written (docs/outputs.md). ``--margins`` colours each route by its
-tightest margin (routes planned with a robot physics profile), with a colour bar.
+tightest margin (routes planned with a robot physics profile), with a colour bar. ``--pose NAME``
+shows one pose of the spec's ``[[pose]]`` tables, ``--pose all`` every pose side by side (one
+sub-view each, cameras linked): that pose's drape and body, its body zones as keep-outs, and the
+routes' pattern legs lifted onto its drape (docs/poses.md).
 """
 
 from __future__ import annotations
@@ -40,6 +43,11 @@ def register(subparsers) -> None:
     parser.add_argument("--margins", action="store_true",
                         help="colour each route by its tightest grip/hold/drive margin over the required one, "
                         "with a colour bar (routes planned with a robot physics profile; docs/physics.md)")
+    from garnav.cli._poses import add_pose_options
+
+    add_pose_options(parser, robust=False, pose_help="show the routes on this pose's drape (a [[pose]] of the "
+                     "spec, with its body mesh and its body zones as keep-outs); 'all': one view per pose "
+                     "side by side, one camera for all (--size is then each view's size; docs/poses.md)")
     parser.set_defaults(func=run)
 
 
@@ -78,6 +86,11 @@ def run(args: argparse.Namespace) -> int:
         check_route_on_garment(doc, garment, name)  # unknown pieces, off-piece or non-finite points
         docs.append((name, doc))
 
+    pose_drapes = None
+    if args.pose is not None:  # one sub-view per pose (docs/poses.md)
+        pose_drapes = _pose_drapes(args, garment, drape, spec_path)
+        drape = _default_drape(garment, pose_drapes, args.pose)
+
     if args.sheet:
         sheet_garment = garment
         if garment.body_zones:  # drawn through the drape when it can be read (docs/zones.md)
@@ -95,6 +108,8 @@ def run(args: argparse.Namespace) -> int:
                 print("note: no display: the 3D window was not opened (--screenshot PNG renders it off-screen)")
             return 0
 
+    if pose_drapes is not None:
+        return _show_poses(args, garment, docs, pose_drapes, spec_path, window=args.screenshot is None)
     if not garment.drape and not garment.body and drape is None:
         if args.sheet:
             return 0
@@ -133,6 +148,79 @@ def run(args: argparse.Namespace) -> int:
             if active_set() is not None:  # the --sheet file is in place while the window is open
                 active_set().commit()
             plotter.show(title=f"garnav — {garment.name}")
+    finally:
+        plotter.close()
+    return 0
+
+
+def _pose_drapes(args, garment, drape, spec_path: Path):
+    """The poses ``--pose`` names, their drapes read and linked; refusals before any drawing."""
+    from garnav.poses.load import load_pose_drapes, select_poses
+
+    if drape is not None:  # the garment came from a mesh file: one drape, no [[pose]] tables
+        raise QueryError(f"--pose: {args.garment} is a mesh, one drape; poses are [[pose]] tables of a "
+                         "garment spec (docs/poses.md)")
+    if args.margins:
+        raise QueryError("--margins colours a route by the margins of the pose it was planned in; leave out "
+                         f"--pose {args.pose} (for every pose's margins: garnav route ... --pose all)")
+    return load_pose_drapes(garment, select_poses(garment, args.pose), spec_path.parent)
+
+
+def _default_drape(garment, pose_drapes, which: str):
+    """The drape the sheet's body zones are drawn through: the one pose shown, else the default pose's."""
+    from garnav.poses.load import ALL_POSES, default_pose
+
+    if which != ALL_POSES:
+        return pose_drapes[0].drape
+    base = default_pose(garment)
+    return next(pd.drape for pd in pose_drapes if pd.pose == base)
+
+
+def _show_poses(args, garment, docs, pose_drapes, spec_path: Path, window: bool) -> int:
+    """Draw every chosen pose in its own sub-view: that pose's drape, body and body zones, and the
+    routes lifted onto its drape."""
+    from garnav.drape.meshio import load_body_mesh
+    from garnav.export.waypoints import document_route
+    from garnav.poses.load import default_pose
+    from garnav.polyline import polyline_length
+    from garnav.preview.pose_views import build_pose_plotter, pose_grid, pose_view
+    from garnav.preview.scene import off_screen_environment, write_screenshot
+
+    w, h = args.size
+    rows, cols = pose_grid(len(pose_drapes))
+    if w * cols > 8192 or h * rows > 8192:
+        raise QueryError(f"--size {w} {h}: {len(pose_drapes)} poses in {rows} × {cols} views make "
+                         f"{w * cols} × {h * rows} pixels; at most 8192 each way (--size is each view's size)")
+    routes = [(name, document_route(doc)) for name, doc in docs]
+    base = default_pose(garment)
+    views = []
+    for pd in pose_drapes:
+        body_file = pd.pose.body or (garment.body if pd.pose == base else None)
+        body = None
+        if body_file:
+            try:
+                body = load_body_mesh(spec_path.parent / body_file)
+            except MeshError as exc:
+                raise MeshError(f"pose '{pd.name}': {exc}") from None
+        view = pose_view(garment, pd.pose, pd.drape, [(Path(n).stem, r) for n, r in routes], body)
+        views.append(view)
+        zones = sum(1 for k in view.garment.keepouts if k not in garment.keepouts)
+        lengths = ", ".join(f"{r.name} {polyline_length(r.points):.1f} mm" for r in view.routes)
+        print(f"pose {pd.name} ({pd.pose.posture}): drape {pd.pose.drape}, body {body_file or 'none'}, "
+              f"{zones} body-zone keep-out(s)" + (f"; 3D {lengths}" if lengths else ""))
+    off = not window
+    if off:
+        off_screen_environment()
+    plotter = build_pose_plotter(views, off_screen=off, size=(w, h))
+    try:
+        if off:
+            write_screenshot(args.screenshot, plotter)  # `wrote FILE` comes from the output plan
+        else:
+            from garnav.atomic import active_set
+
+            if active_set() is not None:  # the --sheet file is in place while the window is open
+                active_set().commit()
+            plotter.show(title=f"garnav — {garment.name} — {', '.join(v.name for v in views)}")
     finally:
         plotter.close()
     return 0

@@ -44,6 +44,7 @@ __all__ = [
     "landmark_points",
     "keepout_outline_3d",
     "build_plotter",
+    "draw_scene",
     "screenshot_png",
     "views_png",
     "set_view",
@@ -257,6 +258,26 @@ def build_plotter(
         off_screen_environment()
     plotter = pv.Plotter(off_screen=off_screen, window_size=[int(size[0]), int(size[1])])
     plotter.set_background(style.background)
+    draw_scene(plotter, garment, drape, body, routes, style=style, labels=labels, covered_faces=covered_faces)
+    set_view(plotter, "front")
+    return plotter
+
+
+def draw_scene(
+    plotter,
+    garment: Garment,
+    drape=None,
+    body=None,
+    routes: Sequence[SceneRoute] = (),
+    *,
+    style: SceneStyle = SceneStyle(),
+    labels: bool = True,
+    covered_faces: np.ndarray | None = None,
+) -> None:
+    """Add the scene of :func:`build_plotter` to the plotter's active renderer (subplot); the
+    camera is left alone (:func:`set_view`). Parameters as :func:`build_plotter`'s."""
+    import pyvista as pv
+
     scale = 100.0
 
     if body is not None:
@@ -333,8 +354,6 @@ def build_plotter(
         for c, d in zip(point_at_length(pts, at), tangent_at(pts, at)):
             plotter.add_mesh(pv.Cone(center=c, direction=d, height=5 * radius, radius=2 * radius, resolution=16),
                              color=colour, lighting=False)
-    set_view(plotter, "front")
-    return plotter
 
 
 def landmark_points(garment: Garment, drape) -> tuple[list[np.ndarray], list[str], list[np.ndarray | None]]:
@@ -403,19 +422,32 @@ def keepout_outline_3d(drape, keepout, step_mm: float = 2.0) -> np.ndarray | Non
 VIEW_DIRECTIONS = {"front": (0.35, 1.0, 0.25), "back": (-0.35, -1.0, 0.25)}
 
 
-def set_view(plotter, view: str = "front") -> None:
-    """Point the camera at the scene from one of :data:`VIEW_DIRECTIONS`, z up, all in view."""
+def set_view(plotter, view: str = "front", bounds: Sequence[float] | None = None) -> None:
+    """Point the camera at the scene from one of :data:`VIEW_DIRECTIONS`, z up, all in view.
+
+    ``bounds`` (xmin, xmax, ymin, ymax, zmin, zmax), world mm: frame this box instead of what the
+    active renderer shows (sub-views sharing one camera frame the box round all of them). The
+    landmark labels of every sub-view are redrawn for the side in view.
+    """
     if view not in VIEW_DIRECTIONS:
         raise ValueError(f"unknown view {view!r}; known: {', '.join(VIEW_DIRECTIONS)}")
-    plotter.reset_camera()
+    plotter.reset_camera(bounds=bounds)
     cam = plotter.camera
     focal = np.array(cam.focal_point)
     dist = float(np.linalg.norm(np.array(cam.position) - focal))
     direction = np.array(VIEW_DIRECTIONS[view], dtype=float)
     cam.position = tuple(focal + direction / np.linalg.norm(direction) * dist)
     cam.up = (0.0, 0.0, 1.0)
-    plotter.reset_camera()
-    _view_labels(plotter, direction)
+    plotter.reset_camera(bounds=bounds)
+    renderers = plotter.renderers
+    if len(renderers) == 1:
+        _view_labels(plotter, direction)
+        return
+    active = renderers.active_index
+    for i in range(len(renderers)):
+        plotter.subplot(*np.atleast_1d(renderers.index_to_loc(i)))
+        _view_labels(plotter, direction)
+    plotter.subplot(*np.atleast_1d(renderers.index_to_loc(active)))
 
 
 LABEL_ANCHORS = "landmark-label-anchors"  # name of the hidden actor holding what labels need
@@ -451,13 +483,16 @@ def _view_labels(plotter, direction: np.ndarray) -> None:
     names = [str(n) for n in anchors.field_data["names"]]
     normals = np.asarray(anchors.field_data["outward_normal"]) if "outward_normal" in anchors.field_data else None
     colour = str(anchors.field_data["text_colour"][0])
+    # one name per sub-view: pyvista removes a named label set from every sub-view
+    index = plotter.renderers.active_index
+    label_set = "landmark-labels" if index == 0 else f"landmark-labels@{index}"
     for part in ("points", "labels"):  # pyvista names the two actors of a label set so
-        plotter.remove_actor(f"landmark-labels-{part}", render=False)
+        plotter.renderer.remove_actor(f"{label_set}-{part}", render=False)
     sel = np.ones(len(marks), dtype=bool) if normals is None else normals @ direction > 0.0
     if np.any(sel):
         plotter.add_point_labels(marks[sel], [n for n, k in zip(names, sel) if k], font_size=12,
                                  text_color=colour, point_size=1, shape_opacity=0.6,
-                                 shape_color="white", always_visible=True, name="landmark-labels",
+                                 shape_color="white", always_visible=True, name=label_set,
                                  render=False)
 
 
