@@ -21,6 +21,7 @@ TARGETS = (
     ("demo_end_to_end", "`garnav demo` end to end under 20 s"),
     ("sweep_back_panel", "sweep of the demo back panel (10 mm swath) under 2 s: at most 2x the route planner build on the same garment"),
     ("zones_100k", "5 body zones projected onto a ~100k-triangle drape under 1 s: at most 2x link_drape on the same mesh"),
+    ("poses_lift_10", "lift of one demo route onto 10 poses under 50 ms (median)"),
     # dead reckoning (benchmarks/drift.py)
     ("drift_covariance_50", "covariance of a 50-command route under 5 ms"),
     ("drift_monte_carlo_10k", "Monte Carlo 10,000 runs of a demo route under 2 s"),
@@ -159,6 +160,21 @@ def evaluate_targets(res: dict[str, Any]) -> list[dict[str, Any]]:
                       f"({zc['reference_whole_triangles_s']:.2f} s)"))
     else:
         out.append(_t("zones_100k", "N/A", None, zc.get("error", "not run")))
+    pc = cases.get("poses", {})
+    lift10 = _get(pc, "garnav", "lift_10_poses_s", "median")
+    if lift10 is not None:
+        g = pc["garnav"]
+        out.append(_t("poses_lift_10", "PASS" if lift10 < 0.050 else "MISS", lift10,
+                      f"{1e3 * lift10:.1f} ms for {pc['poses']} x {pc['lifted_points']:,} points on {pc['faces']:,} "
+                      f"triangles (identical to lift_route: {pc['identical_to_lift_route']}) = "
+                      f"{g['over_lift_each']:.2f}x lift_route per drape "
+                      f"({1e3 * pc['reference_lift_each_s']['median']:.1f} ms), {g['over_one_drape']:.2f}x one drape "
+                      f"x{pc['poses']} ({1e3 * pc['reference_one_drape_x10_s']['median']:.1f} ms); first pass "
+                      f"{1e3 * g['first_s']:.0f} ms (per drape {1e3 * pc['reference_lift_each_first_s']:.0f} ms); "
+                      f"link_drape of one pose {pc['reference_link_s']:.2f} s; body zones on {pc['poses']} poses "
+                      f"{g['zones_10_poses_s']:.2f} s"))
+    else:
+        out.append(_t("poses_lift_10", "N/A", None, pc.get("error", "not run")))
     drift = {t["key"]: t for t in cases.get("drift", {}).get("targets", [])}
     for key in ("drift_covariance_50", "drift_monte_carlo_10k", "drift_replay_36000"):
         t = drift.get(key)

@@ -37,7 +37,7 @@ from benchmarks.measure import growth_exponent, machine_info, peak_memory, summa
 from benchmarks.report import evaluate_targets, format_report, markdown_report
 from benchmarks.single import run_single
 
-ALL_CASES = ("single", "demo", "lift", "cli", "sweep", "drift", "physics", "seams", "study", "zones")
+ALL_CASES = ("single", "demo", "lift", "cli", "sweep", "drift", "physics", "seams", "study", "zones", "poses")
 FULL_N = (10, 50, 200, 500)
 QUICK_N = (2, 4)
 
@@ -372,6 +372,15 @@ def run(opts: Options, which: tuple[str, ...], log=print, checkpoint=None) -> di
             results["cases"]["zones_100k"] = run_zones(opts, log)
         except Exception as exc:
             results["cases"]["zones_100k"] = {"kind": "zones", "error": _err(exc)}
+        save(results)
+    if "poses" in which:  # one route on 10 poses: benchmarks/poses_case.py
+        from benchmarks.poses_case import run_poses
+
+        log("case poses (one demo route lifted onto 10 poses) ...")
+        try:
+            results["cases"]["poses"] = run_poses(opts, log)
+        except Exception as exc:
+            results["cases"]["poses"] = {"kind": "poses", "error": _err(exc)}
         save(results)
     if "drift" in which:  # dead reckoning: benchmarks/drift.py
         log("case drift ...")

@@ -230,3 +230,35 @@ def test_many_segments_including_ones_along_mesh_edges(cyl):
     # reference: trimesh.proximity.closest_point puts the last path on the surface
     _, dist, _ = trimesh.proximity.closest_point(mesh, pts)
     assert dist.max() < 1e-13  # observed 7.9e-15 mm
+
+
+def test_lift_onto_poses_is_lift_route_on_each_drape():
+    """``lift_route_poses`` does the pattern side once for drapes of one UV link; every result must
+    be ``lift_route``'s on that drape exactly — rigid copies (rotations from scipy), and a pose whose
+    seam is open (the crossing then has two 3D images) — and follow the rigid motion."""
+    import dataclasses
+
+    from scipy.spatial.transform import Rotation
+
+    from garnav.drape.lift import lift_route_poses
+
+    g, m = dm.folded_panels()
+    _, m_gap = dm.folded_panels(gap=5.0)
+    rots = Rotation.random(3, random_state=np.random.default_rng(4))
+    shift = np.array([10.0, -20.0, 30.0])
+    moved = [dataclasses.replace(m, positions=r.apply(np.array(m.positions)) + shift) for r in rots]
+    drapes = [link_drape(g, x) for x in [m, m_gap, *moved]]
+    assert len({d.pattern_key for d in drapes}) == 1
+    route = Planner(g).route("left_centre", "right_centre")
+    lifted = lift_route_poses(drapes, g, route)
+    for d, lr in zip(drapes, lifted):
+        one = lift_route(d, g, route)
+        for key in ("points", "normals", "piece_index", "pattern", "face", "bary", "waypoint_index"):
+            np.testing.assert_array_equal(getattr(lr, key), getattr(one, key))
+        assert lr.max_snap_mm == one.max_snap_mm
+    assert len(lifted[1].points) == len(lifted[0].points) + 1  # the open seam's two images
+    for r, lr in zip(rots, lifted[2:]):
+        np.testing.assert_allclose(lr.points, r.apply(lifted[0].points) + shift, atol=1e-9)  # observed 5.7e-14 mm
+        np.testing.assert_allclose(lr.normals, r.apply(lifted[0].normals), atol=1e-12)  # observed 2.4e-15
+    g2, m2 = dm.folded_panels(nx=20)
+    assert link_drape(g2, m2).pattern_key != drapes[0].pattern_key  # another triangulation

@@ -22,7 +22,7 @@ from garnav.drape import save_obj  # noqa: E402
 from garnav.export.waypoints import document_route, read_route_document  # noqa: E402
 from garnav.poses import Pose  # noqa: E402
 from garnav.poses.load import load_pose_drapes  # noqa: E402
-from garnav.preview.pose_views import build_pose_plotter, pose_grid, pose_view  # noqa: E402
+from garnav.preview.pose_views import build_pose_plotter, pose_grid, pose_views  # noqa: E402
 from garnav.preview.scene import SceneStyle  # noqa: E402
 from garnav.spec import load_garment, save_garment  # noqa: E402
 from garnav.zones import BodyZone  # noqa: E402
@@ -113,7 +113,7 @@ def test_each_pose_gets_its_zones_and_the_route_on_its_drape(posed):
     spec, route_file = posed
     g = load_garment(spec)
     route = document_route(read_route_document(route_file))
-    views = [pose_view(g, pd.pose, pd.drape, [("r", route)]) for pd in load_pose_drapes(g, g.poses, spec.parent)]
+    views = pose_views(g, load_pose_drapes(g, g.poses, spec.parent), [("r", route)])
     flat, slid = views
     np.testing.assert_allclose(slid.routes[0].points, flat.routes[0].points - [SHIFT_MM, 0.0, 0.0], atol=1e-9)
     for view, cx in ((flat, ZONE_CENTRE[0]), (slid, ZONE_CENTRE[0] + SHIFT_MM)):
@@ -131,8 +131,8 @@ def test_cameras_are_linked_and_frame_every_pose(posed):
     g = load_garment(spec)
     route = document_route(read_route_document(route_file))
     box = trimesh.load(spec.parent / "box.obj", force="mesh")
-    views = [pose_view(g, pd.pose, pd.drape, [("r", route)], (box.vertices, box.faces) if pd.pose.body else None)
-             for pd in load_pose_drapes(g, g.poses, spec.parent)]
+    views = pose_views(g, load_pose_drapes(g, g.poses, spec.parent), [("r", route)],
+                       [None, (box.vertices, box.faces)])
     plotter = build_pose_plotter(views, off_screen=True, size=(W, H))
     try:
         assert ["body" in r.actors for r in plotter.renderers] == [False, True]  # slid's box only

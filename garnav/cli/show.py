@@ -183,7 +183,7 @@ def _show_poses(args, garment, docs, pose_drapes, spec_path: Path, window: bool)
     from garnav.export.waypoints import document_route
     from garnav.poses.load import default_pose
     from garnav.polyline import polyline_length
-    from garnav.preview.pose_views import build_pose_plotter, pose_grid, pose_view
+    from garnav.preview.pose_views import build_pose_plotter, pose_grid, pose_views
     from garnav.preview.scene import off_screen_environment, write_screenshot
 
     w, h = args.size
@@ -191,9 +191,8 @@ def _show_poses(args, garment, docs, pose_drapes, spec_path: Path, window: bool)
     if w * cols > 8192 or h * rows > 8192:
         raise QueryError(f"--size {w} {h}: {len(pose_drapes)} poses in {rows} × {cols} views make "
                          f"{w * cols} × {h * rows} pixels; at most 8192 each way (--size is each view's size)")
-    routes = [(name, document_route(doc)) for name, doc in docs]
     base = default_pose(garment)
-    views = []
+    bodies, body_files = [], []
     for pd in pose_drapes:
         body_file = pd.pose.body or (garment.body if pd.pose == base else None)
         body = None
@@ -202,8 +201,11 @@ def _show_poses(args, garment, docs, pose_drapes, spec_path: Path, window: bool)
                 body = load_body_mesh(spec_path.parent / body_file)
             except MeshError as exc:
                 raise MeshError(f"pose '{pd.name}': {exc}") from None
-        view = pose_view(garment, pd.pose, pd.drape, [(Path(n).stem, r) for n, r in routes], body)
-        views.append(view)
+        bodies.append(body)
+        body_files.append(body_file)
+    routes = [(Path(name).stem, document_route(doc)) for name, doc in docs]
+    views = pose_views(garment, pose_drapes, routes, bodies)
+    for pd, view, body_file in zip(pose_drapes, views, body_files):
         zones = sum(1 for k in view.garment.keepouts if k not in garment.keepouts)
         lengths = ", ".join(f"{r.name} {polyline_length(r.points):.1f} mm" for r in view.routes)
         print(f"pose {pd.name} ({pd.pose.posture}): drape {pd.pose.drape}, body {body_file or 'none'}, "

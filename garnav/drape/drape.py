@@ -171,6 +171,22 @@ class Drape:
         norm = np.linalg.norm(acc, axis=1, keepdims=True)
         return _ro(acc / np.where(norm > 0, norm, 1.0))
 
+    @cached_property
+    def pattern_key(self) -> bytes:
+        """Digest (BLAKE2b, 32 bytes) of everything a pattern-space query reads: the piece names,
+        each triangle's piece and pattern corners, the UV neighbours and island boundary. Drapes
+        of one UV link (poses: the same pattern, other 3D positions) have equal keys, so their
+        pattern-side answers (:meth:`locate`, :func:`garnav.drape.lift.lift_polyline`) are equal."""
+        import hashlib
+
+        h = hashlib.blake2b(digest_size=32)
+        h.update("\0".join(self.piece_names).encode())
+        for a in (self.face_piece, self.corner_pattern, self.topology.neighbor, self.topology.boundary):
+            a = np.ascontiguousarray(a)
+            h.update(f"{a.dtype.str}{a.shape}".encode())
+            h.update(a.tobytes())
+        return h.digest()
+
     # ------------------------------------------------------------------ search structures
     # Built on first use and kept on the (immutable) drape that owns them.
 

@@ -7,7 +7,9 @@ polyline are split at once (:mod:`garnav.drape.split`: crossings with the edges 
 in the grid buckets each segment passes through). Should a piece between split points not lie in
 its triangle, the polyline is walked triangle by triangle instead ("straight walk"; Devillers,
 Pion, Teillaud, *Walking in a triangulation*, Int. J. Found. Comput. Sci. 13(2), 2002).
-:func:`lift_route` lifts every leg of a planned route and joins legs at their seam crossings.
+:func:`lift_route` lifts every leg of a planned route and joins legs at their seam crossings;
+:func:`lift_route_poses` lifts one route onto several drapes of one pattern (poses), the pattern
+side once.
 """
 
 from __future__ import annotations
@@ -23,7 +25,7 @@ from garnav.drape.split import split_segments
 from garnav.errors import QueryError
 from garnav.model import Garment
 
-__all__ = ["LiftedPath", "LiftedRoute", "lift_polyline", "lift_route"]
+__all__ = ["LiftedPath", "LiftedRoute", "lift_polyline", "lift_route", "lift_route_poses"]
 
 #: Barycentric slack when deciding that a point is inside a triangle (relative, unitless).
 _EPS = 1e-12
@@ -525,18 +527,47 @@ def lift_route(
     -------
     LiftedRoute
     """
+    return lift_route_poses((drape,), garment, route, snap_mm, seam_tol_mm)[0]
+
+
+def lift_route_poses(
+    drapes, garment: Garment, route, snap_mm: float = 1.0, seam_tol_mm: float = 0.01
+) -> tuple[LiftedRoute, ...]:
+    """Lift one route onto several drapes of one pattern (a garment's poses).
+
+    Result for result the same as ``lift_route(d, garment, route, ...)`` for each drape ``d``, but
+    the pattern side of the lift (:func:`lift_polyline` of every leg: location, the splits at
+    triangle edges, the island boundary) runs once per distinct :attr:`Drape.pattern_key`: drapes of
+    the same UV link share it, and only the 3D side (positions, normals, the joins at seams) is
+    done per drape.
+
+    ``drapes``: a sequence of Drape; the other parameters as :func:`lift_route`'s. Returns one
+    LiftedRoute per drape.
+    """
     names = tuple(p.name for p in garment.pieces)
-    if names != drape.piece_names:
-        raise QueryError(
-            f"{drape.source}: the drape was linked to pieces {list(drape.piece_names)}, "
-            f"not to this garment's {list(names)}"
-        )
+    for drape in drapes:
+        if names != drape.piece_names:
+            raise QueryError(
+                f"{drape.source}: the drape was linked to pieces {list(drape.piece_names)}, "
+                f"not to this garment's {list(names)}"
+            )
     if not route.legs:
         raise QueryError("the route has no legs to lift")
+    done: dict[bytes, list[LiftedPath]] = {}
+    out = []
+    for drape in drapes:
+        paths = done.get(drape.pattern_key)
+        if paths is None:
+            paths = done[drape.pattern_key] = [lift_polyline(drape, g.piece, g.points, snap_mm) for g in route.legs]
+        out.append(_joined(drape, names, route.legs, paths, seam_tol_mm))
+    return tuple(out)
+
+
+def _joined(drape: Drape, names: tuple[str, ...], legs, paths: list[LiftedPath], seam_tol_mm: float) -> LiftedRoute:
+    """The legs' lifted paths on ``drape`` joined at their seam crossings."""
     pattern, face, bary, pidx, wps, snaps = [], [], [], [], [], []
     count = 0
-    for leg in route.legs:
-        path = lift_polyline(drape, leg.piece, leg.points, snap_mm)
+    for leg, path in zip(legs, paths):
         skip = 0
         if count:
             prev = drape.to_3d(np.array([face[-1][-1]]), bary[-1][-1:])

@@ -2,8 +2,9 @@
 pose's drape, that pose's body-zone keep-outs, one camera for all (pyvista).
 
 The pattern route is the same in every pose (it is what the robot drives); what changes is the
-drape. :func:`pose_view` lifts the routes onto one pose's drape (:func:`garnav.drape.lift_route`)
-and projects the garment's body zones onto it (:func:`garnav.zones.zone_keepouts`), so a zone
+drape. :func:`pose_views` lifts the routes onto every pose's drape
+(:func:`garnav.drape.lift.lift_route_poses`) and projects the garment's body zones onto each
+(:func:`garnav.zones.zone_keepouts`), so a zone
 that moves with the body is drawn where it falls in that pose. :func:`build_pose_plotter` puts
 the views in a ``pyvista.Plotter`` with one sub-view each (:func:`pose_grid`: one row up to
 :data:`ROW_MAX` poses, else a near-square grid), each drawn like the single view
@@ -25,9 +26,9 @@ from garnav.preview.scene import SceneRoute, SceneStyle, draw_scene, off_screen_
 
 if TYPE_CHECKING:
     from garnav.drape.drape import Drape
-    from garnav.poses.model import Pose
+    from garnav.poses.load import PoseDrape
 
-__all__ = ["PoseView", "ROW_MAX", "pose_grid", "pose_view", "build_pose_plotter"]
+__all__ = ["PoseView", "ROW_MAX", "pose_grid", "pose_views", "build_pose_plotter"]
 
 #: Up to this many poses are shown in one row; more go in a near-square grid.
 ROW_MAX = 4
@@ -76,44 +77,52 @@ def pose_grid(n: int) -> tuple[int, int]:
     return math.ceil(n / cols), cols
 
 
-def pose_view(garment: Garment, pose: Pose, drape: Drape, routes: Sequence[tuple[str, object]],
-              body: tuple[np.ndarray, np.ndarray] | None = None, snap_mm: float = 1.0) -> PoseView:
-    """One pose's view: its drape, its body-zone keep-outs and the pattern routes lifted onto it.
+def pose_views(garment: Garment, pose_drapes: Sequence[PoseDrape], routes: Sequence[tuple[str, object]],
+               bodies: Sequence[tuple[np.ndarray, np.ndarray] | None] | None = None,
+               snap_mm: float = 1.0) -> tuple[PoseView, ...]:
+    """Every pose's view: its drape, its body-zone keep-outs and the pattern routes lifted onto it.
 
     Parameters
     ----------
     garment : Garment
-        As read (its ``body_zones`` are projected onto this drape; its own keep-outs stay).
-    pose : garnav.poses.Pose
-    drape : garnav.drape.Drape
-        The pose's drape, linked to ``garment``.
+        As read (its ``body_zones`` are projected onto each pose's drape; its own keep-outs stay).
+    pose_drapes : sequence of garnav.poses.PoseDrape
+        The poses and their drapes, linked to ``garment``.
     routes : sequence of (name, route)
         Pattern routes (anything with ``legs``), e.g. :func:`garnav.export.waypoints.document_route`
-        of a route file; ``name`` is used in messages.
-    body : (vertices (B, 3), faces (G, 3)), optional
+        of a route file; ``name`` is the route's name in the view and in messages. Each is lifted
+        onto every pose at once (:func:`garnav.drape.lift.lift_route_poses`: the pattern side once).
+    bodies : sequence of (vertices (B, 3), faces (G, 3)) or None, optional
+        Each pose's body mesh, world mm.
     snap_mm : float
         Lift tolerance (:func:`garnav.drape.lift_route`).
 
     Raises
     ------
     QueryError
-        A route cannot be lifted onto this pose's drape (the message names the route and the pose).
+        A route cannot be lifted onto the poses' drapes (the message names the route).
     """
-    from garnav.drape.lift import lift_route
+    from garnav.drape.lift import lift_route_poses
     from garnav.zones.project import zone_keepouts
 
-    zoned = garment.with_keepouts(zone_keepouts(garment, drape)) if garment.body_zones else garment
-    lifted = []
+    drapes = [pd.drape for pd in pose_drapes]
+    lifted: list[list[SceneRoute]] = [[] for _ in drapes]
     for name, route in routes:
         try:
-            path = lift_route(drape, garment, route, snap_mm=snap_mm)
+            paths = lift_route_poses(drapes, garment, route, snap_mm=snap_mm)
         except GarnavError as exc:
-            raise QueryError(f"{name}: pose '{pose.name}': the route cannot be lifted onto its drape: {exc}") from None
-        pts = np.asarray(path.points, dtype=float)
-        if not np.all(np.isfinite(pts)):
-            raise QueryError(f"{name}: pose '{pose.name}': the lifted route is not finite: nothing to draw")
-        lifted.append(SceneRoute(str(name), pts, np.asarray(path.normals, dtype=float)))
-    return PoseView(pose.name, pose.posture, zoned, drape, body, tuple(lifted))
+            raise QueryError(f"{name}: the route cannot be lifted onto the poses' drapes: {exc}") from None
+        for pd, path, out in zip(pose_drapes, paths, lifted):
+            pts = np.asarray(path.points, dtype=float)
+            if not np.all(np.isfinite(pts)):
+                raise QueryError(f"{name}: pose '{pd.name}': the lifted route is not finite: nothing to draw")
+            out.append(SceneRoute(str(name), pts, np.asarray(path.normals, dtype=float)))
+    views = []
+    for k, pd in enumerate(pose_drapes):
+        zoned = garment.with_keepouts(zone_keepouts(garment, pd.drape)) if garment.body_zones else garment
+        body = bodies[k] if bodies is not None else None
+        views.append(PoseView(pd.pose.name, pd.pose.posture, zoned, pd.drape, body, tuple(lifted[k])))
+    return tuple(views)
 
 
 def build_pose_plotter(views: Sequence[PoseView], *, off_screen: bool = False, size: tuple[int, int] = (600, 600),
