@@ -89,13 +89,17 @@ def report_poses(args, choice: PoseChoice, as_read, planner, physics, stops, rou
         ``--robust`` and no route found that is fine in every pose (the message names each pose
         and why).
     """
+    from garnav.drape.lift import lift_route_poses
     from garnav.errors import NoRouteError
     from garnav.poses.robust import pose_report
 
     robot = planner.robot
 
     def measure(r):
-        return tuple(pose_report(r, as_read, pd, robot) for pd in choice.report)
+        if not choice.report:
+            return ()
+        lifted = lift_route_poses([pd.drape for pd in choice.report], as_read, r)  # the pattern side once
+        return tuple(pose_report(r, as_read, pd, robot, lifted=lr) for pd, lr in zip(choice.report, lifted))
 
     reports = measure(route)
     if not getattr(args, "robust", False) or all(r.ok for r in reports):

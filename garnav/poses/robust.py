@@ -181,7 +181,7 @@ def _zone_nearness(garment: Garment, keepouts: tuple[KeepOut, ...], route, robot
 
 
 def pose_report(route, garment: Garment, pose_drape: PoseDrape, robot: Robot,
-                snap_mm: float = 1.0) -> PoseReport:
+                snap_mm: float = 1.0, lifted: LiftedRoute | None = None) -> PoseReport:
     """Lift the pattern ``route`` onto one pose's drape and measure it there.
 
     Parameters
@@ -195,9 +195,13 @@ def pose_report(route, garment: Garment, pose_drape: PoseDrape, robot: Robot,
         Its radius for the zone clearances; its ``physics`` (if any) for the margins.
     snap_mm : float
         Lift tolerance (:func:`garnav.drape.lift_route`).
+    lifted : LiftedRoute, optional
+        ``route`` already lifted onto this pose's drape (e.g. every pose at once with
+        :func:`garnav.drape.lift.lift_route_poses`); lifted here when not given.
     """
     pose = pose_drape.pose
-    lifted = lift_route(pose_drape.drape, garment, route, snap_mm=snap_mm)
+    if lifted is None:
+        lifted = lift_route(pose_drape.drape, garment, route, snap_mm=snap_mm)
     g = gravity_vector(pose.posture)
     rise = -(np.diff(lifted.points, axis=0) @ g)  # (M-1,) mm against gravity
     zones = _zone_nearness(garment, pose_zone_keepouts(garment, pose_drape), route, robot)
