@@ -193,3 +193,23 @@ def test_unreadable_pose_body_is_named(posed, tmp_path, capsys):
     assert main(["show", str(spec), str(route), "--pose", "all", "--screenshot", str(tmp_path / "x.png")]) == 2
     err = capsys.readouterr().err
     assert "pose 'slid'" in err and "Traceback" not in err
+
+
+def test_sheet_draws_the_body_zones_of_the_pose_shown(posed, tmp_path):
+    """The sheet's zone is the one of the pose shown: on the slid drape the disc lies 80 mm further
+    along the pattern's +x (the sheet is drawn in pattern mm, the panel's placement at x = 0)."""
+    import re
+
+    import defusedxml.ElementTree as DET
+
+    spec, route = posed
+    centre = {}
+    for pose in ("flat", "slid"):
+        sheet = tmp_path / f"{pose}.svg"
+        assert main(["show", str(spec), str(route), "--pose", pose, "--sheet", str(sheet), "--sheet-only"]) == 0
+        zones = [e for e in DET.fromstring(sheet.read_bytes()).iter("{http://www.w3.org/2000/svg}path")
+                 if e.get("class") == "body-zone"]
+        xs = [float(x) for e in zones for x in re.findall(r"[ML]([-\d.]+),", e.get("d"))]
+        centre[pose] = (min(xs) + max(xs)) / 2
+    assert centre["flat"] == pytest.approx(ZONE_CENTRE[0], abs=1.0)  # observed 200.0
+    assert centre["slid"] - centre["flat"] == pytest.approx(SHIFT_MM, abs=1.0)  # observed 80.0
