@@ -556,9 +556,10 @@ def lift_route_poses(
     done: dict[bytes, list[LiftedPath]] = {}
     out = []
     for drape in drapes:
-        paths = done.get(drape.pattern_key)
+        key = drape.pattern_key if len(drapes) > 1 else b""  # one drape: no digest to compute
+        paths = done.get(key)
         if paths is None:
-            paths = done[drape.pattern_key] = [lift_polyline(drape, g.piece, g.points, snap_mm) for g in route.legs]
+            paths = done[key] = [lift_polyline(drape, g.piece, g.points, snap_mm) for g in route.legs]
         out.append(_joined(drape, names, route.legs, paths, seam_tol_mm))
     return tuple(out)
 
