@@ -124,6 +124,10 @@ def test_route_fine_in_one_pose_not_the_other(spec, tmp_path, capsys):
     assert by["flat"]["ok"] and not by["slid"]["ok"]
     assert by["slid"]["zones"][0]["entered"] and "enters body zone 'pump'" in by["slid"]["problems"][0]
     assert "pose slid (supine)" in capsys.readouterr().out
+    import jsonschema  # the route document's published schema (garnav/data/route.schema.json)
+
+    from garnav.export.waypoints import route_schema
+    jsonschema.validate(doc, route_schema())
     # planned for the slid pose alone: fine there
     assert main(args + ["--pose", "slid", "--json", str(out)]) == 0
     slid_len = json.loads(out.read_text())["length_mm"]
@@ -176,3 +180,9 @@ def test_shared_drape_read_once(spec):
     pds = load_pose_drapes(g, g.poses, spec.parent)
     assert pds[0].drape is pds[1].drape
     assert isinstance(pds[0], PoseDrape) and link_drape is not None
+
+
+def test_study_pose_axis_lists_the_spec_poses(spec):
+    from garnav.study.poses import garment_poses
+
+    assert garment_poses(load_garment(spec)) == {"flat": "flat.obj", "slid": "slid.obj"}
