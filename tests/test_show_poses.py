@@ -185,6 +185,10 @@ def test_pose_without_poses_is_refused(tmp_path, capsys):
     save_obj(m, tmp_path / "flat.obj")
     assert main(["show", str(tmp_path / "flat.obj"), "--pose", "all", "--screenshot", str(tmp_path / "x.png")]) == 2
     assert "is a mesh, one drape; poses are [[pose]] tables" in capsys.readouterr().err
+    # a drape and no [[pose]] tables: one pose, 'default' (as for garnav route --pose)
+    spec = save_garment(dataclasses.replace(g, drape="flat.obj"), tmp_path / "one.toml")
+    assert main(["show", str(spec), "--pose", "standing", "--screenshot", str(tmp_path / "x.png")]) == 2
+    assert "has no pose 'standing'; its poses: default (or 'all')" in capsys.readouterr().err
 
 
 def test_unreadable_pose_body_is_named(posed, tmp_path, capsys):
