@@ -70,7 +70,7 @@ def _rebuild(out: Path) -> int:
 
     from garnav.demo import build_demo
 
-    with tqdm(total=4, desc="building demo", unit="step", leave=False, disable=None) as bar:
+    with tqdm(total=5, desc="building demo", unit="step", leave=False, disable=None) as bar:
         files = build_demo(out, progress=lambda label: (bar.set_postfix_str(label), bar.update(1)))
     print(f"drape mesh {files.drape.name}: {files.vertices} vertices, {files.triangles} triangles")
     return 0
