@@ -129,8 +129,9 @@ def test_demo_rebuild_writes_the_committed_files(tmp_path, capsys):
     assert main(["demo", "--rebuild", "--out", str(tmp_path)]) == 0
     out = capsys.readouterr().out
     assert "sensing_top_drape.obj" in out
-    for name in ("sensing_top.toml", "sensing_top_drape.obj", "mannequin.obj"):
-        assert (tmp_path / name).read_bytes() == (MESHES / name).read_bytes()
+    for name in ("sensing_top.toml", "sensing_top_drape.obj", "mannequin.obj",
+                 "sensing_top_arm_raised_drape.obj", "mannequin_arm_raised.obj"):
+        assert (tmp_path / name).read_bytes() == (MESHES / name).read_bytes(), name
 
 
 def test_demo_into_an_unwritable_place_is_a_clear_error(tmp_path, capsys):

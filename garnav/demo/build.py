@@ -84,7 +84,7 @@ def build_demo(
     body = build_body(design)
     step("mannequin mesh")
     raised = raise_arm_drape(design, drape)
-    raised_body = raise_arm_body(design, body, drape, raised)
+    raised_body = raise_arm_body(design, drape, raised)
     step("arm raised")
     garment = check_garment(design.garment, "<demo>")
     spec = save_garment(garment, folder / SPEC_NAME)
