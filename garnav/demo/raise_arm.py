@@ -203,7 +203,7 @@ def bend_points(design: DemoDesign, points: np.ndarray, raise_: ArmRaise = ArmRa
 
 
 def _sleeve_parts(design: DemoDesign, mesh: DrapeMesh, raise_: ArmRaise):
-    """Sleeve faces, sleeve vertices, seam vertices (shared with other pieces), rigid mask."""
+    """Sleeve faces, sleeve vertices, seam mask (vertices shared with other pieces), slant ρ."""
     name = f"sleeve_{raise_.side}"
     if name not in mesh.piece_names:
         raise MeshError(f"arm raise: the drape has no piece '{name}'")
