@@ -12,14 +12,15 @@ not planar, stays fixed point by point.
   non-collinear points leaves the identity or the reflection in their plane; a fourth point off
   that plane rules out the reflection), so no rigid motion of the whole sleeve keeps C closed.
 * A smooth bending of the sleeve that keeps every pattern length is again a developable surface
-  through C (Hartman–Nirenberg). Along C its geodesic curvature κ_g is the pattern curve's
-  curvature (a development keeps it) and κ² = κ_g² + κ_n² (Meusnier; do Carmo, *Differential
-  Geometry of Curves and Surfaces*, §3-2), so the normal curvature κ_n is fixed up to its sign:
-  the tangent plane along C is the standing one or its mirror in C's osculating plane. The cone's
-  κ_n = cos β / (ρ sin β) · sin²ω (Euler's formula, ω the angle between C and the generator)
-  never vanishes on C, which crosses every generator, so the choice cannot switch along C. A
-  developable surface is the envelope of its tangent planes along C, so the sleeve is fixed near
-  C, and, since every generator runs from C to the cuff, everywhere: standing, or mirrored.
+  through C (a C² surface of zero Gaussian curvature is ruled: Hartman & Nirenberg 1959). Along C
+  its geodesic curvature κ_g is the pattern curve's curvature (a development keeps it) and
+  κ² = κ_g² + κ_n² (Meusnier; do Carmo, *Differential Geometry of Curves and Surfaces*, §3-2), so
+  the normal curvature κ_n is fixed up to its sign: the tangent plane along C is the standing one
+  or its mirror in C's osculating plane. The cone's κ_n = cos β / (ρ sin β) · sin²ω (Euler's
+  formula, ω the angle between C and the generator) never vanishes on C, which crosses every
+  generator, so the choice cannot switch along C. A developable surface is the envelope of its
+  tangent planes along C, so the sleeve is fixed near C, and, since every generator runs from C
+  to the cuff, everywhere: standing, or mirrored.
 * The mirrored choice is what a mitre gives (reflecting the part of a tube beyond a plane through
   the plane; for a planar C it is exactly that): where C's curvature vector points into the loop,
   as on an armhole, the mirrored normal that keeps the pattern's orientation points into the tube,
