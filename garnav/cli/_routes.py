@@ -11,7 +11,7 @@ if TYPE_CHECKING:  # loaded when the command runs (a fast --help)
     from garnav.export.commands import CommandList
 from garnav.model import Garment, Robot
 
-__all__ = ["route_inputs", "add_garment_option"]
+__all__ = ["route_inputs", "add_garment_option", "with_body_zones"]
 
 
 def add_garment_option(parser) -> None:
@@ -50,3 +50,35 @@ def route_inputs(route_path: str, garment_path: str | None) -> tuple[Garment, Ro
     except QueryError as exc:
         raise QueryError(f"{route_path}: {exc}") from None
     return garment, robot, commands, doc
+
+
+def with_body_zones(garment: Garment, garment_path: str | None, allow_without_zones: bool = False
+                    ) -> tuple[Garment, str | None]:
+    """``garment`` with its body zones as keep-outs through its drape (the spec's own, or the
+    built-in demo's drape), so that contact with a zone counts like contact with any keep-out.
+
+    Returns the garment and a warning line (None when nothing to say). Without a drape, a garment
+    with zones is refused; ``allow_without_zones`` (``--ignore-body-zones``) leaves the zones out.
+    """
+    if not garment.body_zones:
+        return garment, None
+    if allow_without_zones:
+        names = ", ".join(z.name for z in garment.body_zones)
+        return garment, (f"warning: body zones NOT applied ({names}) because of --ignore-body-zones: "
+                         "contact with them is not counted")
+    from garnav.zones.sources import apply_zones, ignored_zones_note
+
+    drape = None
+    if garment_path:
+        from pathlib import Path
+
+        if garment.drape is not None and (Path(garment_path).parent / garment.drape).is_file():
+            from garnav.drape import load_drape
+
+            drape = load_drape(garment, None, str(Path(garment_path).parent))
+    else:  # the built-in demo garment: its drape is built in memory
+        from garnav.demo.run import demo_scene
+
+        drape = demo_scene().drape
+    zoned = apply_zones(garment, drape, garment_path or "the demo garment", allow_without_zones)
+    return zoned, ignored_zones_note(zoned, drape)
