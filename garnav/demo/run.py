@@ -207,7 +207,7 @@ def run_demo(
     from garnav.demo.mesh import body_obj_text, drape_obj_text
     from garnav.drape import lift_route
     from garnav.drape.inverse import pattern_locator
-    from garnav.export.commands import route_commands, write_commands
+    from garnav.export.commands import DEFAULT_TOLERANCE_MM, precision_comment, route_commands, write_commands
     from garnav.export.waypoints import route_document, write_route_csv, write_route_json
     from garnav.plan import Planner
     from garnav.errors import GarnavError
@@ -262,7 +262,8 @@ def run_demo(
                 write_commands(
                     out / f"{name}.cmd",
                     route_commands(route, garment, robot),
-                    comment=f"{start} to {goal} on garment '{garment.name}', robot '{robot.name}'",
+                    comment=f"{start} to {goal} on garment '{garment.name}', robot '{robot.name}'\n"
+                    + precision_comment(DEFAULT_TOLERANCE_MM),
                 )
             ),
         }

@@ -23,7 +23,7 @@ import shapely
 from garnav.errors import QueryError
 from garnav.export.path import wrap_deg
 from garnav.export.commands import CommandList, Cross, Go, Start, Turn, Wait
-from garnav.export.seams import locate_on_run, seam_transfer
+from garnav.export.seams import locate_on_run, seam_transfer, snap_to_vertex
 from garnav.model import SEAM_SIDES, Garment, SeamSide
 
 __all__ = ["Pose", "ReplayCrossing", "Replay", "ReplayError", "replay_commands"]
@@ -32,8 +32,9 @@ __all__ = ["Pose", "ReplayCrossing", "Replay", "ReplayError", "replay_commands"]
 END_TOL_MM = 1e-6
 # How close a hit point must be to a seam run to lie on it (mm).
 ON_RUN_TOL_MM = 1e-6
-# How close a hit must be to a notice's announced distance to match it (mm).
-NOTICE_TOL_MM = 1e-6
+# How close a hit must be to a notice's announced distance to match it (mm): two units of the
+# written 0.01 mm (a go ending this short of an announced seam still reaches it).
+NOTICE_TOL_MM = 1e-2
 # A hit is an exit when the point EXIT_PROBE_MM beyond it lies more than EXIT_DEPTH_MM outside the
 # piece: a crossing at angle α puts it 0.01·sin α outside, so crossings steeper than 0.06° count,
 # while a robot running along a seam edge, a hair (well under 1e-5 mm) off it, does not cross.
@@ -254,7 +255,8 @@ class _Drive:
         seam_name, side, notice = match
         if notice is not None:
             self.notices.remove(notice)
-        tr = seam_transfer(self.garment, self.garment.seam(seam_name), side, self.p)
+        seam = self.garment.seam(seam_name)
+        tr = seam_transfer(self.garment, seam, side, snap_to_vertex(self.garment.run_polyline(seam.run(side)), self.p))
         piece, p = self.piece, self.p
         last = self.poses[-1]
         if last.piece != piece or math.hypot(last.x_mm - p[0], last.y_mm - p[1]) > END_TOL_MM:
@@ -288,7 +290,7 @@ class _Drive:
         while True:
             u = np.array([math.cos(self.heading), math.sin(self.heading)])
             bound = self.bounds[self.piece]
-            hit = _first_exit(bound, self.p, u, remaining + END_TOL_MM)
+            hit = _first_exit(bound, self.p, u, remaining + (NOTICE_TOL_MM if self.notices else END_TOL_MM))
             if hit is None:
                 return remaining, done, False
             t, seg = hit
