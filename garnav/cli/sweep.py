@@ -175,7 +175,7 @@ def _write_split(args: argparse.Namespace, garment, robot, drape, sweep) -> None
     """Per-robot route documents (and commands, with waits) of the sweep cut into --robots
     stretches and timed apart (:func:`garnav.sweep.schedule.schedule_sweep`), and the schedule."""
     from garnav.drape.lift import lift_route
-    from garnav.export.commands import write_commands
+    from garnav.export.commands import precision_comment, write_commands
     from garnav.export.waypoints import route_document, write_route_json
     from garnav.fleet.document import write_schedule_json
     from garnav.sweep.schedule import schedule_sweep
