@@ -53,6 +53,7 @@ from garnav.export.steer import (
     POSITION_DECIMALS,
     TIME_DECIMALS,
     Steering,
+    merge_tolerance,
     round_deg,
     round_mm,
     round_position,
@@ -176,10 +177,12 @@ def route_commands(route, garment: Garment, robot: Robot | None = None,
                    tolerance_mm: float = DEFAULT_TOLERANCE_MM) -> CommandList:
     """Turn-and-go commands that drive ``route``, merged within ``tolerance_mm`` and rounded.
 
-    Each leg is merged by Douglas–Peucker within ``tolerance_mm`` (start, seam crossings and goal
-    kept), then turns and distances are rounded to 0.01° and 0.01 mm in closed loop
-    (:mod:`garnav.export.steer`), so the replay of the list stays within ``tolerance_mm`` plus one
-    rounded motion (0.005 mm along, 8.7e-5 × the go's length sideways) of the route everywhere.
+    Each leg is merged by Douglas–Peucker (start, seam crossings and goal kept, and the steps into
+    and out of each crossing, so seams are crossed at their planned angle), then turns and
+    distances are rounded to 0.01° and 0.01 mm in closed loop (:mod:`garnav.export.steer`). The
+    merge uses the tolerance less what the rounding needs (0.1 mm, or half a tolerance below
+    0.2 mm), so the replay of the list stays within ``tolerance_mm`` of the route everywhere as
+    long as no go is longer than 1 m (a rounded go strays 0.005 mm + 8.7e-5 × its length).
 
     Parameters
     ----------
@@ -218,10 +221,10 @@ def route_commands(route, garment: Garment, robot: Robot | None = None,
     drive = Steering(garment, legs[0].piece, np.array([round_position(p0[0]), round_position(p0[1])]))
     for i, leg in enumerate(legs):
         pts = np.asarray(leg.points, dtype=float).reshape(-1, 2)
-        merged = simplify_leg(pts, tolerance_mm, garment.piece(leg.piece).polygon,
+        merged = simplify_leg(pts, merge_tolerance(tolerance_mm), garment.piece(leg.piece).polygon,
                               keep_first_step=i > 0, keep_last_step=i < len(crossings))
-        for v in merged[1:]:
-            drive.toward(v)
+        for prev, v in zip(merged[:-1], merged[1:]):
+            drive.toward(v, prev)
         if i == len(crossings):
             break
         c = crossings[i]

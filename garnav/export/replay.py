@@ -23,7 +23,8 @@ import shapely
 from garnav.errors import QueryError
 from garnav.export.path import wrap_deg
 from garnav.export.commands import CommandList, Cross, Go, Start, Turn, Wait
-from garnav.export.seams import locate_on_run, seam_transfer, snap_to_vertex
+from garnav.export.steer import NOTICE_TOL_MM as STEER_NOTICE_TOL_MM
+from garnav.export.seams import VERTEX_SNAP_MM, locate_on_run, seam_transfer, snap_to_vertex
 from garnav.model import SEAM_SIDES, Garment, SeamSide
 
 __all__ = ["Pose", "ReplayCrossing", "Replay", "ReplayError", "replay_commands"]
@@ -33,8 +34,8 @@ END_TOL_MM = 1e-6
 # How close a hit point must be to a seam run to lie on it (mm).
 ON_RUN_TOL_MM = 1e-6
 # How close a hit must be to a notice's announced distance to match it (mm): two units of the
-# written 0.01 mm (a go ending this short of an announced seam still reaches it).
-NOTICE_TOL_MM = 1e-2
+# written 0.01 mm; a go ending this close to an announced seam, short of it or past it, ends on it.
+NOTICE_TOL_MM = STEER_NOTICE_TOL_MM
 # A hit is an exit when the point EXIT_PROBE_MM beyond it lies more than EXIT_DEPTH_MM outside the
 # piece: a crossing at angle α puts it 0.01·sin α outside, so crossings steeper than 0.06° count,
 # while a robot running along a seam edge, a hair (well under 1e-5 mm) off it, does not cross.
@@ -164,12 +165,12 @@ def _first_exit(bound: _Boundary, p: np.ndarray, u: np.ndarray, reach: float):
     return None
 
 
-def _runs_under(bound: _Boundary, q: np.ndarray) -> list[tuple[float, str, SeamSide]]:
-    """Seam runs of the piece passing within ON_RUN_TOL_MM of q: (distance, seam, side), nearest first."""
+def _runs_under(bound: _Boundary, q: np.ndarray, tol: float = ON_RUN_TOL_MM) -> list[tuple[float, str, SeamSide]]:
+    """Seam runs of the piece passing within ``tol`` (mm) of q: (distance, seam, side), nearest first."""
     out = []
     for seam_name, side, pts in bound.runs:
         _, dist = locate_on_run(pts, q)
-        if dist <= ON_RUN_TOL_MM:
+        if dist <= tol:
             out.append((dist, seam_name, side))
     return sorted(out)
 
@@ -297,7 +298,9 @@ class _Drive:
             q = self.p + max(t, 0.0) * u
             at_end = t >= remaining - END_TOL_MM
             runs = _runs_under(bound, q)
-            if not runs:
+            # an announced seam may be met a rounding away from where it ends (a corner of the piece)
+            match = _announced(_runs_under(bound, q, VERTEX_SNAP_MM), self.notices, done + min(max(t, 0.0), remaining))
+            if not runs and match is None:
                 if at_end:
                     return remaining, done, False
                 raise ReplayError(
@@ -305,7 +308,6 @@ class _Drive:
                     f"through open {bound.label[seg]} at ({q[0]:.3f}, {q[1]:.3f}) mm"
                 )
             step = min(max(t, 0.0), remaining)
-            match = _announced(runs, self.notices, done + step)
             if match is None:
                 if at_end:
                     return remaining, done, False
@@ -315,9 +317,11 @@ class _Drive:
             self.p = q
             self.cross(match, done)
             # further crossings announced at the same place: seams meeting at a corner
-            while (chained := _announced(_runs_under(self.bounds[self.piece], self.p), self.notices, done)) is not None:
+            while (chained := _announced(_runs_under(self.bounds[self.piece], self.p, VERTEX_SNAP_MM), self.notices,
+                                         done)) is not None:
                 self.cross(chained, done)
-            if remaining <= END_TOL_MM:
+            # a go ending within NOTICE_TOL_MM past an announced seam ends on it (its distance is rounded)
+            if remaining <= (NOTICE_TOL_MM if match[2] is not None else END_TOL_MM):
                 return 0.0, done, True
             stalls = stalls + 1 if step <= END_TOL_MM else 0
             if stalls > _MAX_STALLS:

@@ -30,6 +30,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 import shapely
+import shapely.geometry
 import shapely.ops
 
 from garnav.export.path import ZERO_STEP_MM
@@ -47,6 +48,9 @@ __all__ = [
     "round_position",
     "round_s",
     "douglas_peucker",
+    "merge_tolerance",
+    "ROUNDING_ALLOWANCE_MM",
+    "NOTICE_TOL_MM",
     "simplify_leg",
     "Steering",
 ]
@@ -58,6 +62,15 @@ TIME_DECIMALS = 3  # wait: 0.001 s (the fleet's schedule is checked every 10 ms)
 # Default merge tolerance, mm: 2.5 % of the default robot's 20 mm radius, a tenth of its 5 mm edge
 # margin and ~4 % of the 2σ dead-reckoning spread of the demo routes (10–15 mm, `garnav drift`).
 DEFAULT_TOLERANCE_MM = 0.5
+# Part of the tolerance kept for the rounding (mm): one rounded go strays 0.005 mm + 8.7e-5 × its
+# length, 0.092 mm for a 1 m go. Douglas–Peucker gets the rest (half the tolerance below 0.2 mm).
+ROUNDING_ALLOWANCE_MM = 0.1
+# Largest aim correction (degrees) towards the planned vertex on top of the planned direction: a
+# short step after a long go would otherwise turn sharply to absorb the go's sideways rounding.
+MAX_CORRECTION_DEG = 0.1
+# How close a seam met by a go must be to a notice's announced distance to match it, mm: two units
+# of the written 0.01 mm; a go ending this close to an announced seam ends on it (the replay's rule).
+NOTICE_TOL_MM = 1e-2
 _HALF_UNIT_MM = 0.5 * 10.0**-DISTANCE_DECIMALS  # a vertex this close is reached
 _HIT_SEARCH_MM = 2.0  # how far along the go the seam is looked for around the planned crossing
 # Inner vertices closer than this to the piece outline (a route touching or running along a seam)
@@ -83,6 +96,11 @@ def round_position(value: float) -> float:
 def round_s(value: float) -> float:
     """A time rounded to 0.001 s."""
     return round(float(value), TIME_DECIMALS) + 0.0
+
+
+def merge_tolerance(tolerance_mm: float) -> float:
+    """The Douglas–Peucker tolerance (mm) for a stated command tolerance: what the rounding leaves."""
+    return float(tolerance_mm) - min(ROUNDING_ALLOWANCE_MM, 0.5 * float(tolerance_mm))
 
 
 def douglas_peucker(points: np.ndarray, tolerance_mm: float, accept=None) -> np.ndarray:
@@ -189,21 +207,29 @@ def _inset(pts: np.ndarray, piece_polygon) -> np.ndarray:
     return out
 
 
-def _ray_hit(run: np.ndarray, p: np.ndarray, u: np.ndarray, reach: float) -> float | None:
-    """Parameter t (|t| <= reach, smallest |t|) where the line ``p + t·u`` meets polyline ``run``."""
-    a = run[:-1]
-    e = np.diff(run, axis=0)
+def _outline(piece_polygon) -> tuple[np.ndarray, np.ndarray]:
+    """Segment starts and vectors (m, 2) of a piece's outline, oriented with the fabric on the left."""
+    poly = shapely.geometry.polygon.orient(piece_polygon, 1.0)
+    starts, vecs = [], []
+    for ring in (poly.exterior, *poly.interiors):
+        c = np.asarray(ring.coords, dtype=float)
+        starts.append(c[:-1])
+        vecs.append(np.diff(c, axis=0))
+    return np.vstack(starts), np.vstack(vecs)
+
+
+def _first_exit(outline: tuple[np.ndarray, np.ndarray], p: np.ndarray, u: np.ndarray, lo: float,
+                hi: float) -> float | None:
+    """Smallest t in [lo, hi] where the line ``p + t·u`` leaves the piece through its outline."""
+    a, e = outline
     den = u[0] * e[:, 1] - u[1] * e[:, 0]
-    ok = np.abs(den) > 1e-12
-    safe = np.where(ok, den, 1.0)
+    leaving = den > 1e-12 * np.maximum(np.hypot(e[:, 0], e[:, 1]), 1e-300)
+    safe = np.where(leaving, den, 1.0)
     w = a - p
     t = (w[:, 0] * e[:, 1] - w[:, 1] * e[:, 0]) / safe
     s = (w[:, 0] * u[1] - w[:, 1] * u[0]) / safe
-    hit = ok & (s >= -1e-9) & (s <= 1.0 + 1e-9) & (np.abs(t) <= reach)
-    if not hit.any():
-        return None
-    tt = t[hit]
-    return float(tt[np.argmin(np.abs(tt))])
+    hit = leaving & (s >= -1e-9) & (s <= 1.0 + 1e-9) & (t >= lo) & (t <= hi)
+    return float(t[hit].min()) if hit.any() else None
 
 
 @dataclass
@@ -235,8 +261,8 @@ class Steering:
     def _end(self) -> np.ndarray:
         """Where the pending go ends once its length is rounded."""
         d = round_mm(self.go_len)
-        if self.cross_at is not None and self.cross_to is not None and d < self.cross_at:
-            return self.cross_to  # the replay takes a go ending just short of an announced seam over it
+        if self.cross_at is not None and self.cross_to is not None and d - self.cross_at <= NOTICE_TOL_MM:
+            return self.cross_to  # the replay ends a go within 0.01 mm of an announced seam on it
         return self.p + (d - self.go_len) * self._u() if self.heading is not None else self.p
 
     def _flush(self) -> None:
@@ -247,8 +273,10 @@ class Steering:
             self.ops.append(("go", d))
         self.go_len, self.notices, self.cross_at, self.cross_to = 0.0, [], None, None
 
-    def toward(self, v: np.ndarray) -> None:
-        """Turn (if the rounded turn is not 0) and drive towards planned vertex ``v``."""
+    def toward(self, v: np.ndarray, prev: np.ndarray) -> None:
+        """Turn (if the rounded turn is not 0) and drive towards planned vertex ``v``, which the
+        plan reaches from ``prev`` (same piece frame): the heading is the planned direction,
+        corrected by at most MAX_CORRECTION_DEG towards ``v``."""
         v = np.asarray(v, dtype=float)
         if self.heading is None:
             d = v - self.p
@@ -263,7 +291,13 @@ class Steering:
         d = v - end
         if math.hypot(*d) <= _HALF_UNIT_MM:
             return
-        turn = round_deg(math.degrees(math.remainder(math.atan2(d[1], d[0]) - self.heading, 2.0 * math.pi)))
+        aim = math.atan2(d[1], d[0])
+        step_vec = v - np.asarray(prev, dtype=float)
+        if math.hypot(*step_vec) > _HALF_UNIT_MM:
+            planned = math.atan2(step_vec[1], step_vec[0])
+            limit = math.radians(MAX_CORRECTION_DEG)
+            aim = planned + min(max(math.remainder(aim - planned, 2.0 * math.pi), -limit), limit)
+        turn = round_deg(math.degrees(math.remainder(aim - self.heading, 2.0 * math.pi)))
         if turn != 0.0:
             self._flush()
             self.ops.append(("turn", turn))
@@ -283,14 +317,17 @@ class Steering:
             return tr.to_piece
         u = self._u()
         run = self.garment.run_polyline(seam.run(side))
-        t = _ray_hit(run, self.p, u, _HIT_SEARCH_MM)
+        # where the replay meets the outline: the first exit near the planned crossing
+        outline = _outline(self.garment.piece(self.piece).polygon)
+        t = _first_exit(outline, self.p, u, -min(self.go_len, _HIT_SEARCH_MM), _HIT_SEARCH_MM)
         if t is None:  # the go runs along the seam here: cross where the plan does
-            t = float((planned_from - self.p) @ u)
-        t = max(t, -self.go_len)
+            t = max(float((planned_from - self.p) @ u), -self.go_len)
         hit = self.p + t * u
         self.go_len += t
         tr = seam_transfer(self.garment, seam, side, snap_to_vertex(run, hit))
-        self.notices.append((seam.name, self.go_len, self.heading, tr.tangent_from))
+        # the notice's angle to the seam as planned (at a vertex of the run the tangent is ambiguous)
+        planned_tangent = seam_transfer(self.garment, seam, side, planned_from).tangent_from
+        self.notices.append((seam.name, self.go_len, self.heading, planned_tangent))
         self.cross_at, self.cross_to = self.go_len, np.asarray(tr.point_to, dtype=float).copy()
         self.piece, self.p = tr.to_piece, self.cross_to.copy()
         self.heading += tr.rotation_rad
