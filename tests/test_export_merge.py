@@ -117,3 +117,12 @@ def test_tolerance_is_checked_and_the_help_states_the_default(capsys):
     with pytest.raises(SystemExit):
         main(["route", "--help"])
     assert "--command-tolerance MM" in capsys.readouterr().out
+
+
+def test_cli_refuses_a_negative_tolerance_before_any_work(capsys):
+    for command in (["route", "no_such_spec.toml", "--from", "a", "--to", "b"], ["demo", "--out", "never_written"]):
+        assert main([*command, "--command-tolerance", "-1"]) == 2
+        assert "--command-tolerance must be zero or more mm, got -1" in capsys.readouterr().err
+    with pytest.raises(SystemExit):
+        main(["sweep", "x.toml", "--region", "pieces:a", "--json", "s.json", "--command-tolerance", "nan"])
+    assert "is not a finite number" in capsys.readouterr().err

@@ -254,8 +254,7 @@ def precision_comment(tolerance_mm: float) -> str:
     """The header comment line that states a list's rounding and merge tolerance."""
     merged = (f"arcs merged within {_num(tolerance_mm)} mm of the planned path" if tolerance_mm > 0
               else "every planned vertex kept")
-    return (f"turns to 0.01 deg, distances to 0.01 mm; {merged} "
-            "(the replay stays within it plus one rounded motion)")
+    return f"turns to 0.01 deg, distances to 0.01 mm; {merged}"
 
 
 def _checked_side(garment: Garment, c) -> SeamSide:
