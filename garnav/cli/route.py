@@ -198,7 +198,7 @@ def run(args: argparse.Namespace) -> int:
 
         route = planner.route(stops[0], stops[-1], via=stops[1:-1])
         confident = confident_route(garment, robot, stops, args.confidence, base_clearance_mm=args.clearance,
-                                    locate_3d=locate, first=(planner, route))
+                                    locate_3d=locate, first=(planner, route), command_tolerance_mm=tolerance)
         route = confident.route
     elif physics is None:
         route = planner.route(stops[0], stops[-1], via=stops[1:-1])

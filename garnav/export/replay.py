@@ -9,7 +9,8 @@ cuff, neckline, opening) before the go is done is a fall: :class:`ReplayError`.
 
 A go that ends exactly on a seam crosses it only if a ``cross`` notice announced the seam there;
 otherwise the robot stops on this side (physically the same place, and a following turn is the same
-rotation in either frame).
+rotation in either frame). Command lists are written to 0.01 mm and 0.01° (docs/commands.md), so
+"exactly" allows for that rounding: see :data:`NOTICE_TOL_MM`.
 """
 
 from __future__ import annotations
@@ -33,8 +34,10 @@ __all__ = ["Pose", "ReplayCrossing", "Replay", "ReplayError", "replay_commands"]
 END_TOL_MM = 1e-6
 # How close a hit point must be to a seam run to lie on it (mm).
 ON_RUN_TOL_MM = 1e-6
-# How close a hit must be to a notice's announced distance to match it (mm): two units of the
+# How close a hit must be to a notice's announced distance to match it (mm): one unit of the
 # written 0.01 mm; a go ending this close to an announced seam, short of it or past it, ends on it.
+# An announced seam whose run passes within VERTEX_SNAP_MM of the hit (next to a corner) matches
+# too, and a crossing that close to a run's vertex is carried over at the vertex.
 NOTICE_TOL_MM = STEER_NOTICE_TOL_MM
 # A hit is an exit when the point EXIT_PROBE_MM beyond it lies more than EXIT_DEPTH_MM outside the
 # piece: a crossing at angle α puts it 0.01·sin α outside, so crossings steeper than 0.06° count,

@@ -17,10 +17,19 @@ Two steps turn the planned polylines into a short command list a person can read
 2. **Rounding in closed loop.** Turns are written to 0.01°, distances to 0.01 mm. Rounding each
    motion on its own lets the heading errors add up (30 turns of ±0.005° are ±0.15°, 1.3 mm
    sideways after 500 mm). Instead each turn and go is chosen, then rounded, from the pose the
-   *rounded* motions so far lead to — the same integration the replay does, seam transfers
-   included — towards the next planned vertex. The error at each vertex is then that of one
-   rounded motion: at most 0.005 mm along and ``L·tan(0.005°)`` = 8.7e-5·L sideways for a go of
-   length L, and it does not grow along the route.
+   *rounded* motions so far lead to — the same integration the replay does
+   (:mod:`garnav.export.replay`), seam transfers included — towards the next planned vertex: the
+   planned direction of the step, corrected towards the vertex by at most 0.1° (so a short step
+   after a long go does not swing round to absorb that go's rounding). The error at each vertex is
+   then about that of one rounded motion: 0.005 mm along and ``L·tan(0.005°)`` = 8.7e-5·L sideways
+   for a go of length L, and it does not grow along the route.
+
+At a seam the model follows the replay's rules: the go meets the seam where the line first leaves
+the piece's outline; a crossing within :data:`~garnav.export.seams.VERTEX_SNAP_MM` of a vertex of
+the seam run is carried over at that vertex; a go ending within :data:`NOTICE_TOL_MM` of an
+announced seam ends on it. Inner vertices within :data:`INSET_MM` of the outline (a route touching
+a seam, or running along one) are moved that far inside first, so that rounding cannot carry the
+robot over a seam the route only touches.
 """
 
 from __future__ import annotations
@@ -68,11 +77,12 @@ ROUNDING_ALLOWANCE_MM = 0.1
 # Largest aim correction (degrees) towards the planned vertex on top of the planned direction: a
 # short step after a long go would otherwise turn sharply to absorb the go's sideways rounding.
 MAX_CORRECTION_DEG = 0.1
-# How close a seam met by a go must be to a notice's announced distance to match it, mm: two units
-# of the written 0.01 mm; a go ending this close to an announced seam ends on it (the replay's rule).
+# How close a seam met by a go must be to a notice's announced distance to match it, mm: one unit
+# of the written precision, twice its rounding; a go ending this close to an announced seam ends on
+# it (the replay's rule, garnav.export.replay).
 NOTICE_TOL_MM = 1e-2
 _HALF_UNIT_MM = 0.5 * 10.0**-DISTANCE_DECIMALS  # a vertex this close is reached
-_HIT_SEARCH_MM = 2.0  # how far along the go the seam is looked for around the planned crossing
+_HIT_SEARCH_MM = 2.0  # how far along the go the outline is looked for around the planned crossing
 # Inner vertices closer than this to the piece outline (a route touching or running along a seam)
 # are moved this far inside, so that rounded motions do not cross the seam there (mm).
 INSET_MM = 0.02
