@@ -205,6 +205,7 @@ def run_demo(
     progress: Callable[[str], None] | None = None,
     *,
     screenshot: bool = True,
+    command_tolerance_mm: float | None = None,
 ) -> DemoResult:
     """Run the whole job on the demo garment and write its outputs into ``out_dir``.
 
@@ -217,6 +218,9 @@ def run_demo(
         Called with each label of :data:`DEMO_STEPS` after that step.
     screenshot : bool
         Render the 3D view (off-screen, no display needed). False skips it (no pyvista/VTK work).
+    command_tolerance_mm : float, optional
+        Merge tolerance of the command lists, mm (None: the default of
+        :func:`garnav.export.commands.route_commands`, 0.5).
 
     Returns
     -------
@@ -226,19 +230,20 @@ def run_demo(
 
     if active_set() is None:  # called from Python: the demo's files are one set too (docs/outputs.md)
         with writing_set() as files_set:
-            result = run_demo(out_dir, progress, screenshot=screenshot)
+            result = run_demo(out_dir, progress, screenshot=screenshot, command_tolerance_mm=command_tolerance_mm)
             files_set.commit()
         return result
     from garnav.demo.build import BODY_NAME, DRAPE_NAME, SPEC_NAME
     from garnav.demo.mesh import body_obj_text, drape_obj_text
     from garnav.drape import lift_route
     from garnav.drape.inverse import pattern_locator
-    from garnav.export.commands import route_commands, write_commands
+    from garnav.export.commands import DEFAULT_TOLERANCE_MM, precision_comment, route_commands, write_commands
     from garnav.export.waypoints import route_document, write_route_csv, write_route_json
     from garnav.plan import Planner
     from garnav.errors import GarnavError
     from garnav.spec import save_garment
 
+    tolerance = DEFAULT_TOLERANCE_MM if command_tolerance_mm is None else float(command_tolerance_mm)
     step = progress or (lambda label: None)
     out = Path(out_dir)
     try:  # fail before the work, not after it
@@ -282,7 +287,8 @@ def run_demo(
         else:
             route = planner.route(start, goal)
             lifted = lift_route(drape, garment, route)
-        doc = route_document(route, garment, robot, lifted, planned.mechanics if planned else None)
+        doc = route_document(route, garment, robot, lifted, planned.mechanics if planned else None,
+                             command_tolerance_mm=tolerance)
         name = f"{start}_to_{goal}"
         rfiles = {
             "json": Path(write_route_json(out / f"{name}.json", doc)),
@@ -290,8 +296,9 @@ def run_demo(
             "commands": Path(
                 write_commands(
                     out / f"{name}.cmd",
-                    route_commands(route, garment, robot),
-                    comment=f"{start} to {goal} on garment '{garment.name}', robot '{robot.name}'",
+                    route_commands(route, garment, robot, tolerance_mm=tolerance),
+                    comment=f"{start} to {goal} on garment '{garment.name}', robot '{robot.name}'\n"
+                    + precision_comment(tolerance),
                 )
             ),
         }
