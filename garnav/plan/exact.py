@@ -35,7 +35,7 @@ import scipy.sparse as sp
 from scipy.sparse.csgraph import dijkstra
 
 from garnav.plan.points import PiecePoint
-from garnav.plan.portals import approach_points, seam_sides
+from garnav.plan.portals import approach_points, seam_sides, seam_spacing_mm
 from garnav.plan.refine import plan_legs, refine
 from garnav.plan.search import min_matrix
 from garnav.plan.visgraph import segments_free
@@ -133,8 +133,9 @@ class SeamSearch:
         self.base = _Tables()
         for si, seam in enumerate(ng.seams):
             la = planner.garment.run_length(seam.a)
+            step = seam_spacing_mm(la, spacing_mm)  # as the portals: wider on a very long seam
             for lo, hi in ng.intervals[seam.name]:
-                n = max(int(math.ceil((hi - lo) * la / spacing_mm)), 1)
+                n = max(int(math.ceil((hi - lo) * la / step)), 1)
                 edges = np.linspace(lo, hi, n + 1)
                 for t0, t1 in zip(edges[:-1], edges[1:], strict=False):
                     self._add_window(self.base, _Window(si, float(t0), float(t1)))
