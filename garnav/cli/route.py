@@ -206,6 +206,14 @@ def run(args: argparse.Namespace) -> int:
     for text, pp in zip(texts, stops, strict=False):
         if pp.label.endswith("(snapped)"):
             print(f"note: {text} moved to the nearest free point {pp.piece}:{pp.x:.1f},{pp.y:.1f}")
+    search = getattr(planner, "last_search", None)
+    if search is not None and search.limited:  # bounded work (garnav.plan.exact.MAX_SPLIT_WINDOWS)
+        from garnav.plan.exact import MAX_SPLIT_WINDOWS
+
+        gap = max(search.cost_mm - search.lower_mm, 0.0)
+        print(f"note: --exact-seams: the search stopped at its limit of {MAX_SPLIT_WINDOWS} split seam windows "
+              f"before certifying the route; it is at most {gap:.3g} mm ({100.0 * gap / max(search.cost_mm, 1e-9):.2g} %) "
+              "longer than the shortest")
     if lifted is None and drape is not None:
         lifted = lift_route(drape, garment, route)
     if lifted is not None:
