@@ -85,3 +85,28 @@ def test_exact_search_stops_at_the_split_window_limit_with_its_gap():
     certified = SeamSearch(planner, rel_tol=1e-2).search(planner.point(("left", 150.0, 133.0)),
                                                         [planner.point(("right", 150.0, 267.0))])
     assert not certified.limited and certified.cost_mm - certified.lower_mm <= 1e-2 * certified.cost_mm + 1e-9
+
+
+def test_exact_search_reports_each_round_to_a_progress_callback():
+    g = garments.two_panels()
+    planner = Planner(g, exact_seams=True, rel_tol=1e-2)
+    seen = []
+    planner.seam_search.progress = lambda *a: seen.append(a)
+    route = planner.route(("left", 150.0, 133.0), ("right", 150.0, 267.0))
+    assert [r for r, *_ in seen] == list(range(1, len(seen) + 1))
+    rounds, windows, lower, upper = seen[-1]
+    assert lower <= upper and upper == pytest.approx(route.length_mm, abs=1e-6)
+
+
+@pytest.mark.slow
+def test_cli_route_exact_seams_names_the_gap_when_the_window_limit_stops_it(tmp_path, capsys):
+    from garnav.cli import main
+    from garnav.spec import save_garment
+
+    spec = tmp_path / "two.toml"
+    save_garment(garments.two_panels(), spec)
+    assert main(["route", str(spec), "--from", "left:150,133", "--to", "right:150,267", "--exact-seams",
+                 "--no-cache", "--quiet"]) == 0
+    out = capsys.readouterr().out
+    assert "note: --exact-seams: the search stopped at its limit of 2000 split seam windows" in out
+    assert f"length         {math.hypot(300.0, 134.0):.1f} mm" in out

@@ -137,6 +137,8 @@ class SeamSearch:
         self.rel_tol = float(rel_tol)
         self.max_rounds = int(max_rounds)
         self.max_split_windows = int(max_split_windows)
+        #: ``progress(round, windows_added, lower_mm, upper_mm)`` after every round, or None (the CLI's bar)
+        self.progress = None
         ng = self.nav
         self.n0 = ng.graph.number_of_nodes()
         self.factor = [cost_factor(planner.free[p]) for p in ng.pieces]
@@ -564,6 +566,8 @@ class _Query:
                 upper = cost
                 self.upper = cost
                 best = (legs, crossings, cost, k)
+            if ss.progress is not None:
+                ss.progress(rounds, len(self.windows) - len(ss.base.windows), lower, upper)
             if lower >= upper - (ss.rel_tol * upper + 1e-9):
                 limited = False
                 break
