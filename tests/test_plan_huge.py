@@ -1,6 +1,7 @@
 """A legal but huge garment (two 20 m × 30 m pieces on a 30 m seam) plans with bounded work: the
-portal spacing grows on a seam longer than MAX_PORTALS_PER_SEAM × spacing (5 m at 20 mm), and the
-fit test along a seam takes at most MAX_FIT_SAMPLES samples. Garments of real size keep the spacing.
+portal spacing grows on a seam longer than MAX_PORTALS_PER_SEAM × spacing (5 m at 20 mm), the
+fit test along a seam takes at most MAX_FIT_SAMPLES samples, and the certified seam search adds at
+most MAX_SPLIT_WINDOWS windows. Garments of real size keep the spacing.
 
 Measured before the bound (this machine, shared): ``garnav route`` on huge_panels built 1,500
 portals a side and 2.3 million graph edges, 1.7 GB and 23 s; with it, 250 portals, 0.16 GB.
