@@ -58,7 +58,23 @@ def test_demo_writes_every_file(demo_run):
                 "sensing_top_drape.obj", "mannequin.obj"}
     for start, goal, _ in DEMO_ROUTES:
         expected |= {f"{start}_to_{goal}.{ext}" for ext in ("json", "csv", "cmd")}
+    expected |= {"acromion_right_to_wrist_right.json", "acromion_right_to_wrist_right_robust.json",
+                 "acromion_right_to_wrist_right_robust.cmd", "sensing_top_arm_raised_drape.obj",
+                 "mannequin_arm_raised.obj"}
     assert names == expected
+
+
+def test_demo_route_fine_in_one_pose_not_the_other_and_the_robust_one(demo_run):
+    """docs/demo.md, "One route, two poses": standing fine, arm raised not; robust fine in both."""
+    _, out, text = demo_run
+    plain = {p["pose"]: p for p in json.loads((out / "acromion_right_to_wrist_right.json").read_text())["poses"]}
+    assert plain["standing"]["ok"] and not plain["arm_raised"]["ok"]
+    assert "unsafe segment" in plain["arm_raised"]["problems"][0]
+    robust = json.loads((out / "acromion_right_to_wrist_right_robust.json").read_text())
+    assert all(p["ok"] for p in robust["poses"]) and [p["pose"] for p in robust["poses"]] == ["standing", "arm_raised"]
+    assert "robust (fine in every pose)" in text
+    # the demo folder is a working pose spec: the same command repeats it
+    assert main(["check", str(out / "sensing_top.toml")]) == 0
 
 
 def test_demo_route_files_validate_and_carry_3d(demo_run):

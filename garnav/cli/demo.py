@@ -108,11 +108,21 @@ def _demo(out: Path, fleet: bool = False, tolerance: float | None = None) -> int
           f"(radius {result.robot.radius_mm:g} mm, {result.robot.speed_mm_s:g} mm/s)")
     print()
     print(summary_table(result))
+    if result.poses is not None:
+        from garnav.demo.pose_demo import pose_summary_lines
+
+        print()
+        print("\n".join(pose_summary_lines(result.poses)))
     print()
     print(f"{len(result.files)} files in {result.out_dir} ({seconds:.1f} s):")
     for r in result.routes:
         print(f"  {r.name}.json / .csv / .cmd  — {r.about}")
-    for role in ("screenshot", "sheet_svg", "sheet_png", "page", "spec", "drape", "body"):
+    if result.poses is not None:
+        p = result.poses
+        print(f"  {p.start}_to_{p.goal}.json, {p.start}_to_{p.goal}_robust.json / .cmd  — the same route in "
+              "both poses, and the route fine in both (docs/poses.md)")
+    for role in ("screenshot", "sheet_svg", "sheet_png", "page", "spec", "drape", "body", "raised_drape",
+                 "raised_body"):
         if role in result.files:
             print(f"  {result.files[role].name}")
     if fleet_lines:

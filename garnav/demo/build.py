@@ -14,6 +14,16 @@ from typing import Callable
 from garnav.atomic import write_text_atomic
 from garnav.demo.mesh import body_obj_text, build_body, build_drape, drape_obj_text
 from garnav.demo.pattern import build_design
+from garnav.demo.poses import (
+    ARM_RAISED_BODY_NAME,
+    ARM_RAISED_DRAPE_NAME,
+    ARM_RAISED_POSE,
+    ARM_RAISED_POSTURE,
+    BASE_POSE,
+    BASE_POSTURE,
+    BODY_NAME,
+    DRAPE_NAME,
+)
 from garnav.demo.raise_arm import raise_arm_body, raise_arm_drape
 from garnav.spec import check_garment, save_garment
 
@@ -33,18 +43,6 @@ __all__ = [
 ]
 
 SPEC_NAME = "sensing_top.toml"
-DRAPE_NAME = "sensing_top_drape.obj"
-BODY_NAME = "mannequin.obj"
-#: The standing pose (the spec's ``drape`` and ``body``) and its gravity posture
-#: (:data:`garnav.mechanics.gravity.POSTURES`).
-BASE_POSE = "standing"
-BASE_POSTURE = "upright"
-#: The second pose: the right arm raised forward and up (:mod:`garnav.demo.raise_arm`); the body
-#: stays upright, so its posture is the standing one.
-ARM_RAISED_POSE = "arm_raised"
-ARM_RAISED_POSTURE = "upright"
-ARM_RAISED_DRAPE_NAME = "sensing_top_arm_raised_drape.obj"
-ARM_RAISED_BODY_NAME = "mannequin_arm_raised.obj"
 #: Every file :func:`build_demo` writes, in order.
 DEMO_FILE_NAMES = (SPEC_NAME, DRAPE_NAME, BODY_NAME, ARM_RAISED_DRAPE_NAME, ARM_RAISED_BODY_NAME)
 

@@ -58,6 +58,7 @@ DEMO_STEPS: tuple[str, ...] = (
     "garment and drape",
     "planner",
     *(f"route {s} → {g}" for s, g, _ in DEMO_ROUTES),
+    "poses",
     "demo files",
     "3D view",
     "sheet",
@@ -157,6 +158,7 @@ class DemoResult:
     screenshot_px: tuple[int, int]
     seconds: dict[str, float] = field(default_factory=dict)
     notes: tuple[str, ...] = ()
+    poses: object = None  # garnav.demo.pose_demo.PoseDemo
 
 
 @dataclass(frozen=True, eq=False)
@@ -308,6 +310,12 @@ def run_demo(
                                 route_drift(zoned, robot, route, risk)))
         done(f"route {start} → {goal}")
 
+    from garnav.demo.pose_demo import run_pose_demo  # one route in both poses (docs/poses.md)
+
+    poses = run_pose_demo(scene, out, tolerance)
+    files.update(poses.files)
+    done("poses")
+
     files["spec"] = Path(save_garment(garment, out / SPEC_NAME))
     files["drape"] = Path(write_text_atomic(out / DRAPE_NAME, drape_obj_text(mesh, garment.name)))
     files["body"] = Path(write_text_atomic(out / BODY_NAME, body_obj_text(body)))
@@ -357,7 +365,7 @@ def run_demo(
                      free_space=planner.free, title=f"Demo plan: robot routes on {garment.name} (invented scenario)")
     files["page"] = write_plan_page(out / PAGE_NAME, page)
     done("page")
-    return DemoResult(out, garment, robot, tuple(routes), files, px, seconds, tuple(notes))
+    return DemoResult(out, garment, robot, tuple(routes), files, px, seconds, tuple(notes), poses)
 
 
 def _margins(r: DemoRoute):
