@@ -217,3 +217,20 @@ def test_sheet_draws_the_body_zones_of_the_pose_shown(posed, tmp_path):
         centre[pose] = (min(xs) + max(xs)) / 2
     assert centre["flat"] == pytest.approx(ZONE_CENTRE[0], abs=1.0)  # observed 200.0
     assert centre["slid"] - centre["flat"] == pytest.approx(SHIFT_MM, abs=1.0)  # observed 80.0
+
+
+@pytest.mark.slow
+def test_demo_poses_side_by_side(tmp_path, capsys):
+    from pathlib import Path
+
+    spec = Path(__file__).resolve().parents[1] / "meshes" / "sensing_top.toml"
+    route = tmp_path / "r.json"
+    assert main(["route", str(spec), "--from", "wrist_left", "--to", "sternum_left", "--quiet", "--json", str(route)]) == 0
+    shot = tmp_path / "demo.png"
+    assert main(["show", str(spec), str(route), "--pose", "all", "--screenshot", str(shot), "--size", "200", "180"]) == 0
+    out = capsys.readouterr().out
+    names = [p.name for p in load_garment(spec).poses]
+    assert len(names) >= 2 and all(f"pose {n} (" in out for n in names)
+    img = matplotlib.image.imread(shot)
+    assert img.shape[:2] == (180, 200 * len(names))
+    assert all(_drawn(p) > 1000 for p in _panels(img, len(names)))
