@@ -20,8 +20,9 @@ from garnav.errors import GarnavError, SpecError
 __all__ = ["register", "run", "SEAM_GAP_ERROR_MM", "EXIT_CODES"]
 
 #: A seam whose two runs lie farther apart than this in 3D (through the drape) is an error, mm:
-#: the drape and the pattern disagree there and a lifted route would jump.
-SEAM_GAP_ERROR_MM = 1.0
+#: the drape and the pattern disagree there and a lifted route would jump. The same limit makes
+#: every command that lifts a route refuse the drape (:mod:`garnav.drape.verify`).
+SEAM_GAP_ERROR_MM = 1.0  # = garnav.drape.verify.SEAM_GAP_MAX_MM (not imported here: --help stays light)
 
 EXIT_CODES = "exit status: 0 nothing found, 1 warnings only, 2 errors (or bad input)"
 
@@ -70,7 +71,8 @@ def run(args: argparse.Namespace) -> int:
         return _finish(report, as_json)
     folder = Path(args.garment).parent
     findings = list(route_readiness(garment))
-    mesh_lines, drape_text = _meshes(garment, folder, getattr(args, "drape", None), report, findings)
+    mesh_lines, drape_text = _meshes(garment, folder, getattr(args, "drape", None), report, findings,
+                                     as_json is not None)
     report["errors"] = [f.as_dict() for f in findings if f.level == "error"]
     report["warnings"] = [f.as_dict() for f in findings if f.level == "warning"]
     report["summary"] = {"pieces": len(garment.pieces), "seams": len(garment.seams),
@@ -93,8 +95,12 @@ def run(args: argparse.Namespace) -> int:
     return _finish(report, as_json)
 
 
-def _meshes(garment, folder: Path, drape_opt, report: dict, findings: list) -> tuple[list[str], str]:
-    """Mesh notes and the drape report; unreadable or ill-fitting meshes become findings."""
+def _meshes(garment, folder: Path, drape_opt, report: dict, findings: list,
+            as_json: bool = False) -> tuple[list[str], str]:
+    """Mesh notes and the drape report; unreadable or ill-fitting meshes become findings (a drape
+    given with ``--drape`` that cannot be linked at all stops the check, except with ``--json``,
+    which carries it as a finding); every fault of :func:`garnav.drape.verify.drape_faults` is an
+    error finding."""
     from garnav.plan.readiness import Finding
 
     lines = []
@@ -109,20 +115,22 @@ def _meshes(garment, folder: Path, drape_opt, report: dict, findings: list) -> t
     if want is None:
         return lines, ""
     from garnav.drape import drape_report, load_drape
+    from garnav.drape.verify import drape_faults
 
     try:
-        drape = load_drape(garment, drape_opt or "", str(folder))
-        rep = drape_report(garment, drape)
+        drape = load_drape(garment, drape_opt or "", str(folder), verify=False)
+        faults = drape_faults(garment, drape, seam_gap_mm=SEAM_GAP_ERROR_MM)
     except GarnavError as exc:
-        if drape_opt is not None:
+        if drape_opt is not None and not as_json:
             raise
-        findings.insert(0, Finding("error", "drape_unreadable", f"drape '{garment.drape}'", str(exc)))
+        findings.insert(0, Finding("error", "drape_unreadable", f"drape '{drape_opt or garment.drape}'", str(exc)))
         return lines, ""
-    for c in rep.seams:
-        if c.max_gap_mm > SEAM_GAP_ERROR_MM:
-            findings.insert(0, Finding("error", "seam_gap", f"seam '{c.seam}'",
-                                       f"its two runs lie up to {c.max_gap_mm:.2f} mm apart on the drape "
-                                       f"(more than {SEAM_GAP_ERROR_MM:g} mm): drape and pattern disagree"))
+    findings[:0] = [Finding("error", f.code, f"drape {drape.source}: {f.item}", f.reason,
+                            f.where) for f in faults]
+    try:
+        rep = drape_report(garment, drape)
+    except GarnavError:  # a seam off the drape: already a finding
+        return lines, ""
     report["drape"] = dataclasses.asdict(rep)
     if drape_opt is None:
         return lines, ""

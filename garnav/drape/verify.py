@@ -20,9 +20,10 @@ accepts drapes that are wrong in ways a lifted route would follow silently; this
   linked with a note (its seams still have to close).
 * **Folded in 3D** (``drape_folded``). Inside an island, neighbouring triangles' outside normals
   (J_x × J_y, independent of the winding) must not point more than :data:`FOLD_ANGLE_DEG` apart.
-  The island's triangles are grouped into the connected parts that agree across every shared
-  edge; the part with the largest pattern area is the surface, every other part faces the other
-  way (a fold, or vertices pushed through the surface). Each is named with its size and place.
+  Crossing an edge where they do changes the side a triangle faces; the side of every triangle
+  follows (:func:`fold_sides`) and the side with less pattern area is folded over (a tuck, a
+  pinch, vertices pushed through the surface). Each place is named with its size, piece-frame
+  centre and extent.
 * **Misplaced island** (``drape_misplaced``). The piece's placement says where and at which angle
   its island lies on the sheet. An island that leaves more than :data:`OUTSIDE_TOL` of its area
   outside its piece is refused, with the rigid motion that would put it back (a piece only
@@ -69,6 +70,7 @@ __all__ = [
     "verify_drape",
     "rigid_fit_2d",
     "fit_outline",
+    "fold_sides",
     "SEAM_GAP_MAX_MM",
     "FOLD_ANGLE_DEG",
     "OUTSIDE_TOL",
@@ -209,30 +211,80 @@ def _orientation_faults(drape: "Drape", island_piece: np.ndarray) -> list[DrapeF
     return out
 
 
+def fold_sides(n_f: int, island: np.ndarray, a: np.ndarray, b: np.ndarray, normal: np.ndarray,
+               cos_limit: float) -> np.ndarray:
+    """Which side of the surface each triangle faces, relative to its island's first triangle.
+
+    Crossing an edge whose two triangles' normals are more than the limit apart changes side.
+    Around a closed loop of triangles the changes should cancel; near a crumpled spot they may
+    not, so the sides are read along the spanning tree that uses the most clear-cut edges (the
+    minimum spanning tree of 2 - |n_a · n_b|; Kruskal, Proc. AMS 7, 1956, as scipy implements
+    it), each triangle's side by pointer jumping to its island's root (vectorised).
+
+    Parameters
+    ----------
+    n_f : int
+    island : (n_f,) int array
+    a, b : (E,) int arrays
+        Neighbouring triangles (each pair once).
+    normal : (n_f, 3) float array
+        Unit outside normals.
+    cos_limit : float
+
+    Returns
+    -------
+    (n_f,) bool array
+        True where a triangle faces the other side from its island's first triangle.
+    """
+    dot = (normal[a] * normal[b]).sum(axis=1)
+    w = scipy.sparse.coo_matrix((2.0 - np.abs(dot), (a, b)), shape=(n_f + 1, n_f + 1))
+    tree = scipy.sparse.csgraph.minimum_spanning_tree(w.tocsr()).tocoo()
+    first = np.full(int(island.max()) + 1, n_f, dtype=np.int64)
+    np.minimum.at(first, island, np.arange(n_f))
+    root = np.full(len(first), n_f)  # a virtual root tied to every island's first triangle
+    rows, cols = np.r_[tree.row, root], np.r_[tree.col, first]
+    g = scipy.sparse.coo_matrix((np.ones(len(rows)), (rows, cols)), shape=(n_f + 1, n_f + 1)).tocsr()
+    _, pred = scipy.sparse.csgraph.breadth_first_order(g, n_f, directed=False, return_predecessors=True)
+    pred = pred[:n_f].astype(np.int64)
+    is_first = pred == n_f
+    pred = np.where(is_first | (pred < 0), np.arange(n_f), pred)
+    flip = ((normal * normal[pred]).sum(axis=1) <= cos_limit) & ~is_first
+    while True:  # pointer jumping: side = XOR of the changes along the path to the root
+        nxt = pred[pred]
+        if np.array_equal(nxt, pred):
+            break
+        flip = flip ^ flip[pred]
+        pred = nxt
+    return flip
+
+
 def _fold_faults(drape: "Drape", island_piece: np.ndarray) -> list[DrapeFault]:
-    """Parts of islands whose outside normals face the other way from the rest (folds)."""
+    """Parts of islands whose outside normals face the other way from the rest (folds): the side
+    (:func:`fold_sides`) with the smaller pattern area of each island."""
     topo = drape.topology
     n_f = len(drape.faces)
     normal = drape.face_normals
     nb = topo.neighbor.reshape(-1)
     me = np.repeat(np.arange(n_f), 3)
-    pair = (nb > me)
+    pair = nb > me
     a, b = me[pair], nb[pair]
-    agree = (normal[a] * normal[b]).sum(axis=1) > np.cos(np.radians(FOLD_ANGLE_DEG))
-    adj = scipy.sparse.coo_matrix((np.ones(int(agree.sum())), (a[agree], b[agree])), shape=(n_f, n_f))
-    n_c, comp = scipy.sparse.csgraph.connected_components(adj, directed=False)
-    if n_c == topo.n_islands:
-        return []  # every island is one agreeing part
+    cos_limit = float(np.cos(np.radians(FOLD_ANGLE_DEG)))
+    agree = (normal[a] * normal[b]).sum(axis=1) > cos_limit
+    if agree.all():
+        return []
     parea = drape.pattern_area
+    n_i = topo.n_islands
+    other = fold_sides(n_f, topo.island, a, b, normal, cos_limit)
+    other_area = np.bincount(topo.island, weights=np.where(other, parea, 0.0), minlength=n_i)
+    island_area = np.bincount(topo.island, weights=parea, minlength=n_i)
+    minority_is_other = other_area <= 0.5 * island_area
+    folded = other == minority_is_other[topo.island]
+    # places: folded triangles connected by agreeing edges
+    keep = agree & folded[a] & folded[b]
+    adj = scipy.sparse.coo_matrix((np.ones(int(keep.sum())), (a[keep], b[keep])), shape=(n_f, n_f))
+    n_c, comp = scipy.sparse.csgraph.connected_components(adj, directed=False)
     comp_area = np.bincount(comp, weights=parea, minlength=n_c)
-    comp_island = np.zeros(n_c, dtype=np.int64)
-    comp_island[comp] = topo.island
-    order = np.lexsort((-comp_area, comp_island))  # by island, largest part first
-    main = np.full(topo.n_islands, -1, dtype=np.int64)
-    first = np.r_[True, comp_island[order][1:] != comp_island[order][:-1]]
-    main[comp_island[order][first]] = order[first]
-    folded = comp != main[topo.island]
-    island_area = np.bincount(topo.island, weights=parea, minlength=topo.n_islands)
+    island_area = np.bincount(topo.island, weights=parea, minlength=n_i)
     centre = drape.corner_pattern.mean(axis=1)
     out = []
     for isl in np.unique(topo.island[folded]).tolist():
@@ -242,17 +294,19 @@ def _fold_faults(drape: "Drape", island_piece: np.ndarray) -> list[DrapeFault]:
         parts = parts[np.argsort(-comp_area[parts], kind="stable")]
         places = []
         for c in parts[:MAX_PLACES].tolist():
-            fc = comp == c
+            fc = sel & (comp == c)
             w = parea[fc]
             x, y = (centre[fc] * w[:, None]).sum(axis=0) / w.sum()
-            places.append(f"{int(fc.sum())} around ({x:.1f}, {y:.1f}) mm")
+            lo, hi = drape.corner_pattern[fc].reshape(-1, 2).min(axis=0), drape.corner_pattern[fc].reshape(-1, 2).max(axis=0)
+            places.append(f"{int(fc.sum())} around ({x:.1f}, {y:.1f}) mm, within "
+                          f"({lo[0]:.0f}, {lo[1]:.0f})..({hi[0]:.0f}, {hi[1]:.0f}) mm")
         more = f" and {len(parts) - MAX_PLACES} more place(s)" if len(parts) > MAX_PLACES else ""
         out.append(DrapeFault(
             "drape_folded", item,
             f"is folded in 3D: {int(sel.sum())} triangle(s) ({parea[sel].sum():.0f} mm², "
-            f"{parea[sel].sum() / island_area[isl]:.2%} of its area) face the other way from their "
-            f"neighbours (outside normals more than {FOLD_ANGLE_DEG:g}° apart) in {len(parts)} "
-            f"place(s), piece frame: {'; '.join(places)}{more}",
+            f"{parea[sel].sum() / island_area[isl]:.2%} of its area) face the other way from the "
+            f"rest (outside normals more than {FOLD_ANGLE_DEG:g}° from their neighbours') in "
+            f"{len(parts)} place(s), piece frame: {'; '.join(places)}{more}",
             piece))
     return out
 
