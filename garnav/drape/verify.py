@@ -111,7 +111,7 @@ class DrapeFault:
     piece : str or None
         The piece concerned, when one.
     where : (float, float) or None
-        A place in that piece's frame, mm.
+        A place in that piece's frame, mm (the largest folded place; the reason names them all).
     """
 
     code: str
@@ -121,10 +121,7 @@ class DrapeFault:
     where: tuple[float, float] | None = None
 
     def __str__(self) -> str:
-        text = f"{self.item} {self.reason}"
-        if self.where is not None:
-            text += f" (around ({self.where[0]:.1f}, {self.where[1]:.1f}) mm in the piece frame)"
-        return text
+        return f"{self.item} {self.reason}"
 
 
 def verify_drape(garment: "Garment", drape: "Drape", *, seam_gap_mm: float = SEAM_GAP_MAX_MM) -> None:
@@ -292,11 +289,12 @@ def _fold_faults(drape: "Drape", island_piece: np.ndarray) -> list[DrapeFault]:
         sel = folded & (topo.island == isl)
         parts = np.unique(comp[sel])
         parts = parts[np.argsort(-comp_area[parts], kind="stable")]
-        places = []
+        places, where = [], None
         for c in parts[:MAX_PLACES].tolist():
             fc = sel & (comp == c)
             w = parea[fc]
             x, y = (centre[fc] * w[:, None]).sum(axis=0) / w.sum()
+            where = where or (round(float(x), 1), round(float(y), 1))
             lo, hi = drape.corner_pattern[fc].reshape(-1, 2).min(axis=0), drape.corner_pattern[fc].reshape(-1, 2).max(axis=0)
             places.append(f"{int(fc.sum())} around ({x:.1f}, {y:.1f}) mm, within "
                           f"({lo[0]:.0f}, {lo[1]:.0f})..({hi[0]:.0f}, {hi[1]:.0f}) mm")
@@ -307,7 +305,7 @@ def _fold_faults(drape: "Drape", island_piece: np.ndarray) -> list[DrapeFault]:
             f"{parea[sel].sum() / island_area[isl]:.2%} of its area) face the other way from the "
             f"rest (outside normals more than {FOLD_ANGLE_DEG:g}° from their neighbours') in "
             f"{len(parts)} place(s), piece frame: {'; '.join(places)}{more}",
-            piece))
+            piece, where))
     return out
 
 
