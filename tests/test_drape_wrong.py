@@ -23,11 +23,12 @@ import pytest
 import trimesh
 from scipy.spatial.transform import Rotation
 
+import drape_meshes as dm
 import wrong_drapes as wd
 from garnav.cli import main
 from garnav.cli.check import SEAM_GAP_ERROR_MM
 from garnav.drape.drape import link_drape
-from garnav.drape.meshio import save_obj
+from garnav.drape.meshio import save_obj, uv_mesh_from_arrays
 from garnav.drape.verify import SEAM_GAP_MAX_MM, drape_faults, fit_outline, rigid_fit_2d
 from garnav.errors import MeshError
 
@@ -202,6 +203,26 @@ class TestFolded:
             link_drape(g, bad)
 
 
+    @pytest.mark.parametrize("bend_deg, folded", [(90.0, 0), (150.0, 600)])
+    def test_a_square_crease_is_no_fold(self, bend_deg, folded):
+        # the 400 x 300 mm panel (10 mm grid) bent about the line x = 300 by bend_deg: its
+        # normals turn by exactly that angle there; the 600 triangles beyond it (10 columns x 30
+        # rows x 2) are the smaller side
+        g, m = dm.flat_sheet()
+        x = m.positions[:, 0]
+        a = np.radians(bend_deg)
+        pos = m.positions.copy()
+        beyond = x > 300.0
+        pos[beyond, 0] = 300.0 + (x[beyond] - 300.0) * np.cos(a)
+        pos[beyond, 2] = (x[beyond] - 300.0) * np.sin(a)
+        bent = uv_mesh_from_arrays(pos, m.faces, m.corner_uv)
+        faults = _faults(g, bent)
+        assert len(faults) == (1 if folded else 0)
+        if folded:
+            assert f"is folded in 3D: {folded} triangle(s) (30000 mm², 25.00% of its area)" in faults[0].reason
+            assert "within (300, 0)..(400, 300) mm" in faults[0].reason
+
+
 @pytest.fixture(scope="module")
 def folder(demo, tmp_path_factory):
     """The demo spec beside a drape with the left sleeve's island mirrored."""
@@ -228,6 +249,14 @@ class TestCommands:
         assert err["item"].endswith("UV island 2 (piece 'sleeve_left')")
         assert err["reason"].startswith("is mirrored: its pattern → 3D map reverses orientation on 100%")
         assert doc["status"] == 2
+
+    def test_check_json_carries_a_drape_that_does_not_link(self, demo, tmp_path, capsys):
+        g, m = demo
+        mesh = save_obj(wd.rotated(g, m, "sleeve_left", 90.0), tmp_path / "turned.obj")
+        assert main(["check", str(wd.SPEC), "--drape", str(mesh), "--json"]) == 2
+        doc = json.loads(capsys.readouterr().out)
+        (err,) = [e for e in doc["errors"] if e["code"] == "drape_unreadable"]
+        assert "lies across pieces 'sleeve_left' 58%" in err["reason"]
 
     def test_route_refuses_and_writes_nothing(self, folder, tmp_path, capsys):
         out = tmp_path / "route.json"
