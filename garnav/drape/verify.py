@@ -407,9 +407,10 @@ def _dense(rings: list[np.ndarray], spacing_mm: float) -> np.ndarray:
 
 
 def _outlines_agree(region, poly, tol_mm: float = AGREE_MM) -> bool:
-    """Fast test that an island's boundary and its piece's outline lie within ``tol_mm`` of each
-    other both ways (then the area shares are far below :data:`OUTSIDE_TOL`): nearest samples at
-    a spacing of ``tol_mm``, so a sample distance overstates the true one by at most half that."""
+    """Fast test that an island's boundary vertices and its piece's outline vertices lie within
+    about ``tol_mm`` of the other outline (nearest samples at a spacing of ``tol_mm``, so a sample
+    distance overstates the true one by at most half that). A misfit that small is not measured
+    by area: it is left to the seams, which it opens by about as much."""
     a, b = _rings(region), _rings(poly)
     if len(a) != len(b):
         return False
