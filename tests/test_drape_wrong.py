@@ -1,12 +1,14 @@
 """Wrong drapes must not pass: mirrored, rotated, shifted or swapped UV islands, reversed or folded
 triangles (tests/wrong_drapes.py builds each from the demo drape).
 
-What linking did before these checks (kept here because it is why they exist): a mirrored island,
-an island turned by 180°, two swapped sleeves, an island with all its faces reversed, a pinch, a
-flipped band and an island shifted by 3 mm all linked without a word, and every lifting command
-used them; only ``garnav check --drape`` saw the seam gaps some of them open (a mirrored or
-swapped island) and none of the rest. An island turned by 90° already failed (it lies across
-pieces), and a few reversed triangles failed as "folded over in UV".
+What happened before these checks (why they exist). Linking accepted all of these, so every
+lifting command used them: a mirrored island, an island turned by 180°, two swapped sleeves, an
+island shifted by 3 mm, an island with all its faces reversed, a pinch and a flipped band.
+``garnav check --drape`` caught some only by their consequences -- seam gaps (mirrored: 340 mm,
+swapped: 340 mm, shifted: 3 mm) or a seam point off the triangles (turned by 180°), never naming
+the island's fault -- and passed the reversed island, the pinch and the band without a word. An
+island turned by 90° already failed (it lies across pieces), and five reversed triangles failed
+as "folded over in UV".
 """
 
 from __future__ import annotations
