@@ -89,6 +89,16 @@ class TestReversedWinding:
             link_drape(g, bad)
 
 
+    def test_3d_winding_reversed_but_not_the_uvs(self, demo):
+        g, m = demo
+        bad = wd.winding_only_reversed(g, m, "front", 5)
+        # each such triangle becomes a one-triangle island sewn into the front's interior (and
+        # before, linking it ended in a KeyError)
+        with pytest.raises(MeshError, match=r"UV islands 0, 1, 2, 3, 4, 5 \(piece 'front'\) are sewn in the "
+                           r"mesh where the spec has no seam: \d+ edge\(s\)"):
+            link_drape(g, bad)
+
+
 class TestRotated:
     @pytest.mark.parametrize("piece", ["front", "sleeve_left"])
     def test_half_turn_is_refused_with_the_fitted_turn(self, demo, piece):

@@ -158,3 +158,14 @@ def band_flipped(garment, mesh: UVMesh, pieces, y0_mm: float, width_mm: float) -
         src = xy[band] * [1.0, -1.0] + [0.0, 2 * y0_mm + width_mm]
         pos[vid[band]] = original.pattern_to_3d(piece, src)
     return _with(mesh, positions=pos, name="band_flipped.obj")
+
+
+def winding_only_reversed(garment, mesh: UVMesh, piece: str, count: int, seed: int = 3) -> UVMesh:
+    """``count`` triangles of the piece's island with their 3D vertices in reverse order but their
+    UVs kept: two corners trade 3D vertices (an exporter that flips a face's winding and forgets
+    its texture indices)."""
+    rng = np.random.default_rng(seed)
+    ids = rng.choice(np.flatnonzero(island_of(garment, mesh, piece)), size=count, replace=False)
+    faces = mesh.faces.copy()
+    faces[ids] = faces[ids][:, [0, 2, 1]]
+    return _with(mesh, faces=faces, name=f"winding_only_{piece}_{count}.obj")

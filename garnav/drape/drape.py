@@ -510,7 +510,10 @@ def island_polygons(topo: UVTopology, corner_xy: np.ndarray) -> list[shapely.Geo
     for loop in topo.boundary_loops():
         isl = int(topo.island[f[loop[0]]])
         loops_by_island.setdefault(isl, []).append(corner_xy[f[loop], c0[loop]])
-    return [_loop_polygon(loops_by_island[i]) for i in range(topo.n_islands)]
+    # an island without a boundary (a closed surface in UV) has no region: the overlap test
+    # then compares its triangles' area with 0 and refuses it
+    return [_loop_polygon(loops_by_island[i]) if i in loops_by_island else shapely.Polygon()
+            for i in range(topo.n_islands)]
 
 
 def _check_overlaps(src, garment, mesh, topo, corner_sheet, area, island_piece) -> None:

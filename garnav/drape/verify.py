@@ -33,6 +33,10 @@ accepts drapes that are wrong in ways a lifted route would follow silently; this
   IEEE PAMI 14(2), 1992) with the least-squares rotation of each step in closed form (Kabsch,
   *A solution for the best rotation to relate two sets of vectors*, Acta Cryst. A32, 1976;
   Arun, Huang and Blostein, IEEE PAMI 9(5), 1987), started from several angles.
+* **Sewn off the seams** (``drape_unsewn``). Where the mesh sews (a 3D edge with a different UV
+  on each side), both sides must lie on seam runs of the spec (within :data:`SEAM_SNAP_MM`); an
+  edge sewn inside a piece means corners whose 3D vertices and UVs are out of order, or a seam
+  the spec lacks.
 * **Seam gap** (``seam_gap``) and **swapped islands** (``drape_swapped``). Matching points of a
   seam's two runs, mapped through the drape, must meet in 3D within :data:`SEAM_GAP_MAX_MM`. Two
   pieces of the same outline whose islands traded places (a left and a right sleeve) pass every
@@ -104,7 +108,7 @@ class DrapeFault:
     ----------
     code : str
         ``drape_mirrored``, ``drape_wound``, ``drape_folded``, ``drape_misplaced``,
-        ``drape_swapped``, ``seam_gap`` or ``seam_off_drape``.
+        ``drape_unsewn``, ``drape_swapped``, ``seam_gap`` or ``seam_off_drape``.
     item : str
         What it is about, e.g. ``"UV island 3 (piece 'sleeve_left')"`` or ``"seam 'yoke_front'"``.
     reason : str
@@ -135,13 +139,16 @@ def verify_drape(garment: "Garment", drape: "Drape", *, seam_gap_mm: float = SEA
 def drape_faults(garment: "Garment", drape: "Drape", *, seam_gap_mm: float = SEAM_GAP_MAX_MM) -> tuple[DrapeFault, ...]:
     """Every way the drape does not fit the garment (module docstring), islands first, then seams.
 
-    Seams of pieces whose islands are already faulted are not measured (they gap as a consequence).
+    Sewn edges and seams of pieces whose islands are already faulted are not measured (they fail
+    as a consequence).
     """
     island_piece = _island_piece(drape)
     faults = list(_orientation_faults(drape, island_piece))
     faults += _fold_faults(drape, island_piece)
     faults += _placement_faults(garment, drape, island_piece)
     bad = {f.piece for f in faults if f.piece is not None}
+    faults += _unsewn_faults(garment, drape, bad)
+    bad |= {f.piece for f in faults if f.piece is not None}
     faults += _seam_faults(garment, drape, seam_gap_mm, bad)
     return tuple(faults)
 
@@ -446,6 +453,56 @@ def _misplaced(drape, garment, isl: int, pi: int, region, measure: str) -> Drape
 
 
 # ---------------------------------------------------------------------------------- seams
+
+
+def _unsewn_faults(garment: "Garment", drape: "Drape", bad: set) -> list[DrapeFault]:
+    """Places the mesh sews (one 3D edge, two UV edges) that lie on none of the spec's seam runs
+    of their piece: UVs that belong elsewhere, or a seam the spec lacks. Pieces in ``bad`` (an
+    island already faulted) are skipped."""
+    topo = drape.topology
+    has = topo.mate >= 0
+    if not has.any():
+        return []
+    rows = np.flatnonzero(has)
+    f, k = topo.boundary[rows, 0], topo.boundary[rows, 1]
+    a = drape.corner_pattern[f, NEXT[k]]
+    b = drape.corner_pattern[f, NEXT[NEXT[k]]]
+    mid = 0.5 * (a + b)
+    piece = drape.face_piece[f]
+    off = np.zeros(len(rows), dtype=bool)
+    for pi, pc in enumerate(garment.pieces):
+        sel = np.flatnonzero(piece == pi)
+        if not len(sel) or pc.name in bad:
+            continue
+        runs = [garment.run_polyline(r) for s in garment.seams for r in (s.a, s.b) if r.piece == pc.name]
+        if not runs:
+            off[sel] = True
+            continue
+        d = shapely.distance(shapely.MultiLineString(runs), shapely.points(mid[sel]))
+        off[sel] = d > SEAM_SNAP_MM
+    if not off.any():
+        return []
+    mate_isl = topo.island[topo.boundary[topo.mate[rows], 0]]
+    own = topo.island[f]
+    pair = np.minimum(own, mate_isl) * topo.n_islands + np.maximum(own, mate_isl)
+    length = np.linalg.norm(b - a, axis=1)
+    out = []
+    for pi in np.unique(piece[off]).tolist():
+        pname = drape.piece_names[pi]
+        sel = off & (piece == pi)
+        isl = np.unique(own[sel]).tolist()
+        places = [tuple(round(float(v), 1) for v in mid[sel & (pair == q)].mean(axis=0))
+                  for q in np.unique(pair[sel]).tolist()]
+        more = f" and {len(places) - MAX_PLACES} more place(s)" if len(places) > MAX_PLACES else ""
+        shown = ", ".join(f"({x:.1f}, {y:.1f})" for x, y in places[:MAX_PLACES])
+        out.append(DrapeFault(
+            "drape_unsewn", f"UV island{'s' if len(isl) > 1 else ''} {', '.join(map(str, isl))} (piece '{pname}')",
+            f"{'are' if len(isl) > 1 else 'is'} sewn in the mesh where the spec has no seam: "
+            f"{int(sel.sum())} edge(s) ({length[sel].sum():.0f} mm) more than {SEAM_SNAP_MM:g} mm "
+            f"from every seam run of the piece, around {shown} mm{more} (piece frame): corners "
+            "whose 3D vertices and UVs are out of order, or a seam missing from the spec",
+            pname, places[0]))
+    return out
 
 
 def _seam_gaps(garment: "Garment", drape: "Drape", seam, on: dict[str, str] | None = None) -> np.ndarray:
