@@ -104,42 +104,93 @@ def _meshes(garment, folder: Path, drape_opt, report: dict, findings: list,
     from garnav.plan.readiness import Finding
 
     lines = []
-    for label, rel in (("drape", garment.drape), ("body", garment.body)):
-        if rel is None:
+    listed = [("drape", garment.drape), ("body", garment.body)]
+    for pose in garment.poses:  # [[pose]]: each pose's own meshes (docs/poses.md)
+        listed += [(f"pose {pose.name} drape", pose.drape), (f"pose {pose.name} body", pose.body)]
+    seen = set()
+    for label, rel in listed:
+        if rel is None or rel in seen:
             continue
+        seen.add(rel)
         path = folder / rel
         state = "found" if path.is_file() else "NOT FOUND (needed only for 3D)"
         report["meshes"].append({"role": label, "path": str(path), "found": path.is_file()})
         lines.append(f"{label} mesh: {path}: {state}")
+    if garment.poses and not drape_opt:
+        return lines, _pose_drapes(garment, folder, drape_opt is not None, report, findings)
     want = drape_opt if drape_opt is not None else (garment.drape if garment.drape and (folder / garment.drape).is_file() else None)
     if want is None:
         return lines, ""
-    from garnav.drape import drape_report, load_drape
-    from garnav.drape.verify import drape_faults
-
     try:
-        drape = load_drape(garment, drape_opt or "", str(folder), verify=False)
-        faults = drape_faults(garment, drape, seam_gap_mm=SEAM_GAP_ERROR_MM)
+        drape, rep = _checked_drape(garment, drape_opt or "", folder, findings)
     except GarnavError as exc:
         if drape_opt is not None and not as_json:
             raise
         findings.insert(0, Finding("error", "drape_unreadable", f"drape '{drape_opt or garment.drape}'", str(exc)))
         return lines, ""
-    findings[:0] = [Finding("error", f.code, f"drape {drape.source}: {f.item}", f.reason,
-                            f.where) for f in faults]
-    try:
-        rep = drape_report(garment, drape)
-    except GarnavError:  # a seam off the drape: already a finding
+    if rep is None:
         return lines, ""
     report["drape"] = dataclasses.asdict(rep)
     if drape_opt is None:
         return lines, ""
+    return lines, _drape_text(garment, drape, rep)
+
+
+def _checked_drape(garment, mesh: str, folder: Path, findings: list, where: str = ""):
+    """Link a drape without refusing it, put every fault of :mod:`garnav.drape.verify` at the head
+    of ``findings`` (items start with ``where``), and report it: ``(drape, report or None)``
+    (None when a seam is off the drape: already a finding). Raises what linking raises."""
+    from garnav.drape import drape_report, load_drape
+    from garnav.drape.verify import drape_faults
+    from garnav.plan.readiness import Finding
+
+    drape = load_drape(garment, mesh, str(folder), verify=False)
+    faults = drape_faults(garment, drape, seam_gap_mm=SEAM_GAP_ERROR_MM)
+    findings[:0] = [Finding("error", f.code, f"{where}drape {drape.source}: {f.item}", f.reason, f.where)
+                    for f in faults]
+    try:
+        return drape, drape_report(garment, drape)
+    except GarnavError:
+        return drape, None
+
+
+def _drape_text(garment, drape, rep) -> str:
     text = rep.text()
     if garment.body_zones:  # each zone's fabric and the landmarks in it (docs/zones.md)
         from garnav.zones.project import zone_report_lines
 
         text = text.rstrip("\n") + "\n\n" + "\n".join(zone_report_lines(garment, drape))
-    return lines, text
+    return text
+
+
+def _pose_drapes(garment, folder: Path, show: bool, report: dict, findings: list) -> str:
+    """Link and report every pose's drape (``show``: the text too); each pose's problems are
+    findings naming the pose. ``report["drape"]`` is the default pose's, ``report["poses"]`` all."""
+    from garnav.plan.readiness import Finding
+    from garnav.poses.load import default_pose
+
+    base = default_pose(garment)
+    report["poses"] = []
+    texts = []
+    for pose in garment.poses:
+        path = folder / pose.drape
+        if not show and not path.is_file():
+            continue
+        try:
+            drape, rep = _checked_drape(garment, str(path), Path("."), findings, f"pose '{pose.name}' ")
+        except GarnavError as exc:
+            findings.insert(0, Finding("error", "drape_unreadable", f"pose '{pose.name}' drape '{pose.drape}'",
+                                       str(exc)))
+            continue
+        if rep is None:
+            continue
+        entry = {"pose": pose.name, "posture": pose.posture, "drape": dataclasses.asdict(rep)}
+        report["poses"].append(entry)
+        if pose == base:
+            report["drape"] = entry["drape"]
+        texts.append(f"pose '{pose.name}' ({pose.posture}{', default' if pose == base else ''}): "
+                     f"{pose.drape}\n" + _drape_text(garment, drape, rep))
+    return "\n\n".join(texts) if show else ""
 
 
 def _finish(report: dict, as_json: str | None) -> int:
