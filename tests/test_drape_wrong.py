@@ -270,6 +270,20 @@ class TestCommands:
         (err,) = [e for e in doc["errors"] if e["code"] == "drape_unreadable"]
         assert "lies across pieces 'sleeve_left' 58%" in err["reason"]
 
+    def test_check_names_the_pose_whose_drape_is_wrong(self, demo, tmp_path, capsys):
+        g, m = demo
+        shutil.copy(wd.MESH, tmp_path / "sensing_top_drape.obj")
+        save_obj(wd.mirrored(g, m, "front"), tmp_path / "arm_raised.obj")
+        spec = tmp_path / "sensing_top.toml"
+        spec.write_text(wd.SPEC.read_text(encoding="utf-8") + '\n[[pose]]\nname = "standing"\n'
+                        'drape = "sensing_top_drape.obj"\n\n[[pose]]\nname = "arm_raised"\n'
+                        'drape = "arm_raised.obj"\n', encoding="utf-8")
+        assert main(["check", str(spec), "--json"]) == 2
+        doc = json.loads(capsys.readouterr().out)
+        (err,) = doc["errors"]
+        assert err["code"] == "drape_mirrored"
+        assert err["item"].startswith("pose 'arm_raised' drape ") and "UV island 0 (piece 'front')" in err["item"]
+
     def test_route_refuses_and_writes_nothing(self, folder, tmp_path, capsys):
         out = tmp_path / "route.json"
         spec = str(folder / "sensing_top.toml")
