@@ -435,9 +435,11 @@ def _landmarks(dims: DemoDimensions, width: float, parts: _Parts) -> tuple[Landm
             "sternum_left",
             "front",
             mid + towards_left * 60.0,
-            height - 60.0,
+            height - 25.0,
             description="left chest beside the placket, above the pocket",
         ),
+        Landmark("sternum_right", "front", mid - towards_left * 60.0, height - 60.0,
+                 description="right chest beside the placket, away from the implant"),
         Landmark("omphalion", "front", mid, 230.0, description="navel, front centre"),
         Landmark(
             "dock", "back", mid + 90.0, 120.0, description="parking spot beside the charging dock"
