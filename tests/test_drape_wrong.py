@@ -275,9 +275,10 @@ class TestCommands:
         shutil.copy(wd.MESH, tmp_path / "sensing_top_drape.obj")
         save_obj(wd.mirrored(g, m, "front"), tmp_path / "arm_raised.obj")
         spec = tmp_path / "sensing_top.toml"
-        spec.write_text(wd.SPEC.read_text(encoding="utf-8") + '\n[[pose]]\nname = "standing"\n'
-                        'drape = "sensing_top_drape.obj"\n\n[[pose]]\nname = "arm_raised"\n'
-                        'drape = "arm_raised.obj"\n', encoding="utf-8")
+        text = wd.SPEC.read_text(encoding="utf-8")  # the demo's two poses, arm_raised's drape replaced
+        assert 'drape = "sensing_top_arm_raised_drape.obj"' in text
+        spec.write_text(text.replace('drape = "sensing_top_arm_raised_drape.obj"', 'drape = "arm_raised.obj"'),
+                        encoding="utf-8")
         assert main(["check", str(spec), "--json"]) == 2
         doc = json.loads(capsys.readouterr().out)
         (err,) = doc["errors"]
