@@ -15,7 +15,6 @@ from pathlib import Path
 from typing import Any
 
 from garnav.errors import MeshError, QueryError
-from garnav.model import Robot
 
 __all__ = ["register", "run", "check_stretches"]
 
@@ -76,6 +75,7 @@ def run(args: argparse.Namespace) -> int:
     from garnav.drape.sources import spec_drape_locator
     from garnav.export.commands import route_commands, write_commands
     from garnav.export.waypoints import write_route_csv, write_route_json
+    from garnav.model import Robot
     from garnav.plan import Planner
     from garnav.sweep import coverage_face_mask, figures_lines, parse_region, plan_sweep, resolve_region, sweep_document
     from garnav.mechanics import parse_gravity
