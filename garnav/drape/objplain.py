@@ -26,7 +26,9 @@ NO_DIGITS = str.maketrans("", "", "0123456789")
 def _block(lines: list[str], head: str, width: int) -> list[str] | None:
     """The tokens after ``head`` of the lines starting with ``head + ' '``, when each of them has
     exactly ``width`` of them; else None."""
-    chosen = [line for line in lines if line.startswith(head + " ")]
+    start = head + " "
+    k = len(start)
+    chosen = [line for line in lines if line[:k] == start]
     tokens = " ".join(chosen).split()
     if len(tokens) != (width + 1) * len(chosen) or tokens[:: width + 1].count(head) != len(chosen):
         return None  # the head can only be a line's first token (it is not a number): so each line has width tokens
@@ -42,7 +44,7 @@ def _face_indices(lines: list[str]) -> np.ndarray | None:
     left, and no number is empty), every token is a plain decimal integer, which numpy's text
     reader converts exactly as ``int`` does.
     """
-    body = "\n".join(line[2:] for line in lines if line.startswith("f "))
+    body = "\n".join([line[2:] for line in lines if line[:2] == "f "])
     n = body.count("\n") + 1 if body else 0
     if n == 0 or body.translate(NO_DIGITS) != "\n".join(["/ / /"] * n):
         return None
@@ -63,7 +65,7 @@ def parse_plain_obj(text: str) -> tuple[np.ndarray, np.ndarray, np.ndarray] | No
     lines = text.split("\n")
     if any(first.isspace() for first in {line[:1] for line in lines}):
         return None  # a line with leading blanks: the line reader strips them
-    odd = [line for line in lines if line[:1] in ("v", "f") and not line.startswith(("v ", "vt ", "f "))]
+    odd = [line for line in lines if line[:1] in ("v", "f") and line[:2] not in ("v ", "f ") and line[:3] != "vt "]
     if any(line.split("#", 1)[0].strip().partition(" ")[0] in ("v", "vt", "f") for line in odd):
         return None  # e.g. a bare "v": an error for the line reader to report
     v = _block(lines, "v", 3)
