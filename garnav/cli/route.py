@@ -93,6 +93,9 @@ def register(subparsers) -> None:
     from garnav.zones.sources import add_ignore_zones_option
 
     add_ignore_zones_option(parser)
+    from garnav.cli._poses import add_pose_options
+
+    add_pose_options(parser)
     parser.add_argument("--robot", metavar="ROBOT.toml", help="use the robot of this robot file (a [robot] table, "
                         "optionally with [robot.physics]) instead of the spec's (docs/physics.md)")
     parser.add_argument("--cost", choices=("length", "time", "energy"), default=None,
@@ -144,12 +147,25 @@ def run(args: argparse.Namespace) -> int:
         from garnav.mechanics.gravity import parse_gravity
 
         parse_gravity(args.gravity, args.posture)  # a bad posture fails before any work
-    garment, drape = _garment_and_drape(args)
-    from garnav.zones.sources import apply_zones, ignored_zones_note
+    from garnav.cli._poses import choose_poses, wants_poses
 
-    garment = apply_zones(garment, drape, args.garment, getattr(args, "ignore_body_zones", False))
-    if (note := ignored_zones_note(garment, drape)) is not None:
-        print(note)
+    choice = None
+    if wants_poses(args):  # --pose NAME|all, --robust: docs/poses.md
+        from garnav.drape.sources import garment_and_drape, is_mesh_path
+
+        if is_mesh_path(args.garment):
+            raise QueryError(f"--pose/--robust: {args.garment} is a mesh, one drape; poses are [[pose]] "
+                             "tables of a garment spec (docs/poses.md)")
+        as_read, _ = garment_and_drape(args.garment, None)
+        choice = choose_poses(args, as_read, getattr(args, "drape", None))
+        garment, drape = choice.garment, choice.drape
+    else:
+        garment, drape = _garment_and_drape(args)
+        from garnav.zones.sources import apply_zones, ignored_zones_note
+
+        garment = apply_zones(garment, drape, args.garment, getattr(args, "ignore_body_zones", False))
+        if (note := ignored_zones_note(garment, drape)) is not None:
+            print(note)
     if drape is not None:
         locate = pattern_locator(drape, garment)
     else:
@@ -179,7 +195,7 @@ def run(args: argparse.Namespace) -> int:
     texts = [args.start, *args.via, args.goal]
     roles = ["start"] + ["via point"] * len(args.via) + ["goal"]
     stops = [planner.point(t, snap=args.snap, role=r) for t, r in zip(texts, roles, strict=False)]
-    physics = _physics_planner(args, planner, drape, robot)
+    physics = _physics_planner(args, planner, drape, robot, None if choice is None else choice.posture)
     mechanics = dock = None
     confident = None
     lifted = None
@@ -200,6 +216,16 @@ def run(args: argparse.Namespace) -> int:
         planned = physics.route(stops[0], stops[-1], via=stops[1:-1])
         route, lifted, mechanics = planned.route, planned.lifted, planned.mechanics
         dock = physics.dock_check(planned, stops[-1])
+    reports = ()
+    if choice is not None and choice.report:
+        from garnav.cli._poses import report_poses
+
+        planned_before = planned if physics is not None else None
+        route, planned, reports = report_poses(args, choice, as_read, planner, physics, stops, route,
+                                               planned_before)
+        if physics is not None and planned is not planned_before:  # --robust took another route
+            lifted, mechanics = planned.lifted, planned.mechanics
+            dock = physics.dock_check(planned, stops[-1])
     print(route_summary(route, args.start, args.goal))
     if confident is not None:
         print("\n".join(confident.lines()))
@@ -210,6 +236,8 @@ def run(args: argparse.Namespace) -> int:
         lifted = lift_route(drape, garment, route)
     if lifted is not None:
         print("\n".join(lifted.lines()))
+    for rep in reports:
+        print(rep.line())
     if mechanics is not None:
         print("\n".join(mechanics.lines()))
         print(dock_line(dock))
@@ -220,6 +248,8 @@ def run(args: argparse.Namespace) -> int:
         doc = route_document(route, garment, robot, lifted, mechanics)
         if mechanics is not None:
             doc["physics"]["return_to_dock"] = dock
+        if reports:
+            doc["poses"] = [rep.to_dict() for rep in reports]
         if args.json:
             write_route_json(args.json, doc)
         if args.csv:
@@ -239,9 +269,10 @@ def run(args: argparse.Namespace) -> int:
     return 0
 
 
-def _physics_planner(args: argparse.Namespace, planner: Planner, drape, robot: Robot):
+def _physics_planner(args: argparse.Namespace, planner: Planner, drape, robot: Robot, pose_posture: str | None = None):
     """A PhysicsPlanner when the robot has a physics profile and there is a drape; None when
-    planning for length only. Physics options without a profile or a drape are refused."""
+    planning for length only. Physics options without a profile or a drape are refused.
+    ``pose_posture`` (a chosen pose's) is the posture when neither --posture nor --gravity is given."""
     asked = [o for o, v in (("--cost", getattr(args, "cost", None)), ("--posture", getattr(args, "posture", None)),
                             ("--gravity", getattr(args, "gravity", None))) if v is not None]
     if robot.physics is None or drape is None:
@@ -253,7 +284,8 @@ def _physics_planner(args: argparse.Namespace, planner: Planner, drape, robot: R
     from garnav.mechanics.gravity import parse_gravity
     from garnav.mechanics.planning import PhysicsPlanner
 
-    posture, g = parse_gravity(getattr(args, "gravity", None), getattr(args, "posture", None))
+    posture, g = parse_gravity(getattr(args, "gravity", None), getattr(args, "posture", None) or
+                               (None if getattr(args, "gravity", None) else pose_posture))
     return PhysicsPlanner(planner, drape, gravity=g, posture=posture, cost=getattr(args, "cost", None) or "length")
 
 

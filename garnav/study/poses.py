@@ -4,9 +4,8 @@ A *pose* is one drape of the garment — the same pattern on the body in one arm
 — so every pose gives its own 3D lengths, slopes and body-landmark positions. (A *posture* is
 different: the direction of gravity, :mod:`garnav.mechanics.gravity`; it needs no new drape.)
 
-Today a spec names one drape (``drape = ...``), which is the pose ``"default"``. This function is
-the one place a study learns the poses of a spec: when specs name several drapes, it returns them
-all, and nothing else in :mod:`garnav.study` changes.
+A spec's poses are its ``[[pose]]`` tables (:mod:`garnav.poses`); a spec with one ``drape`` and
+no tables has the one pose ``"default"``. This function is the one place a study learns them.
 """
 
 from __future__ import annotations
@@ -15,7 +14,7 @@ from garnav.model import Garment
 
 __all__ = ["DEFAULT_POSE", "garment_poses"]
 
-DEFAULT_POSE = "default"
+DEFAULT_POSE = "default"  # = garnav.poses.load.SINGLE_POSE
 
 
 def garment_poses(garment: Garment) -> dict[str, str | None]:
@@ -25,4 +24,9 @@ def garment_poses(garment: Garment) -> dict[str, str | None]:
     >>> garment_poses(Garment("g", ()))
     {'default': None}
     """
-    return {DEFAULT_POSE: garment.drape}
+    from garnav.poses.load import garment_poses as poses_of
+
+    poses = poses_of(garment)
+    if not poses:
+        return {DEFAULT_POSE: None}
+    return {p.name: p.drape for p in poses}
