@@ -187,4 +187,4 @@ def test_shared_drape_read_once(spec):
 def test_study_pose_axis_lists_the_spec_poses(spec):
     from garnav.study.poses import garment_poses
 
-    assert garment_poses(load_garment(spec)) == {"flat": "flat.obj", "slid": "slid.obj"}
+    assert garment_poses(load_garment(spec)) == {"default": "flat.obj", "flat": "flat.obj", "slid": "slid.obj"}

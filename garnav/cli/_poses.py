@@ -77,44 +77,19 @@ def choose_poses(args: argparse.Namespace, garment, given_drape: str | None) -> 
 
 
 def report_poses(args, choice: PoseChoice, as_read, planner, physics, stops, route, planned):
-    """Measure ``route`` in every reported pose; with ``--robust`` and a physics profile, replace a
-    route that is unsafe in some pose by the first pose's drivable route that is fine in all.
-
-    Returns ``(route, planned, reports)``: ``planned`` is the new PhysicsPlanner result when the
-    route was replaced, else the one given.
-
-    Raises
-    ------
-    NoRouteError
-        ``--robust`` and no route found that is fine in every pose (the message names each pose
-        and why).
-    """
+    """Measure ``route`` in every reported pose; with ``--robust``, a route fine in every pose
+    (:func:`garnav.poses.robust.fine_in_every_pose`). Returns ``(route, planned, reports)``."""
     from garnav.errors import NoRouteError
-    from garnav.poses.robust import pose_report
+    from garnav.poses.robust import fine_in_every_pose, pose_report
 
-    robot = planner.robot
-
-    def measure(r):
-        return tuple(pose_report(r, as_read, pd, robot) for pd in choice.report)
-
-    reports = measure(route)
-    if not getattr(args, "robust", False) or all(r.ok for r in reports):
-        return route, planned, reports
-    first = reports
-    if physics is not None:  # the zones are already kept out of: only mechanics can fail here
-        from garnav.mechanics.planning import PhysicsPlanner
-
-        for pd in choice.pose_drapes:
-            other = PhysicsPlanner(planner, pd.drape, posture=pd.pose.posture, cost=physics.cost)
-            try:
-                found = other.route(stops[0], stops[-1], via=stops[1:-1])
-            except NoRouteError:
-                continue
-            again = measure(found.route)
-            if all(r.ok for r in again):
-                lifted, mech = physics.check(found.route)
-                from garnav.mechanics.planning import PlannedRoute
-
-                return found.route, PlannedRoute(found.route, lifted, mech, found.method), again
-    bad = "; ".join(f"pose {r.pose}: {', '.join(r.problems())}" for r in first if not r.ok)
-    raise NoRouteError(f"--robust: no route found that is fine in every pose ({bad}); docs/poses.md")
+    if not getattr(args, "robust", False):
+        return route, planned, tuple(pose_report(route, as_read, pd, planner.robot) for pd in choice.report)
+    # the default pose first: its drape is the one the route was planned and lifted on
+    ordered = tuple(sorted(choice.report, key=lambda pd: pd.drape is not choice.drape))
+    try:
+        found = fine_in_every_pose(planner, as_read, ordered, stops, route, planned,
+                                   cost=physics.cost if physics is not None else "length")
+    except NoRouteError as exc:
+        raise NoRouteError(f"--robust: {exc}") from None
+    by_name = {r.pose: r for r in found.reports}
+    return found.route, found.planned, tuple(by_name[pd.name] for pd in choice.report)

@@ -108,6 +108,9 @@ def register(subparsers) -> None:
     parser.add_argument("--json", metavar="FILE", help="write the route document as JSON (docs/route-format.md)")
     parser.add_argument("--csv", metavar="FILE", help="write the waypoints as CSV")
     parser.add_argument("--commands", metavar="FILE", help="write the robot commands as text (docs/commands.md)")
+    from garnav.cli._routes import add_command_tolerance_option
+
+    add_command_tolerance_option(parser)
     parser.add_argument("--mcap", metavar="FILE", help="write the plan, the lifted route, poses along it and the "
                         "garment mesh as an MCAP file of ROS 2 messages (docs/mcap.md; needs garnav[mcap])")
     parser.add_argument(
@@ -138,10 +141,13 @@ def run(args: argparse.Namespace) -> int:
     from garnav.drape.inverse import pattern_locator
     from garnav.drape.lift import lift_route
     from garnav.drape.sources import spec_drape_locator
-    from garnav.export.commands import route_commands, write_commands
+    from garnav.cli._routes import command_tolerance
+    from garnav.export.commands import precision_comment, route_commands, write_commands
     from garnav.export.waypoints import route_document, write_route_csv, write_route_json
     from garnav.model import Robot
     from garnav.plan import Planner
+
+    tolerance = command_tolerance(args)  # a bad tolerance fails before any work
 
     if getattr(args, "posture", None) or getattr(args, "gravity", None):
         from garnav.mechanics.gravity import parse_gravity
@@ -208,7 +214,7 @@ def run(args: argparse.Namespace) -> int:
 
         route = planner.route(stops[0], stops[-1], via=stops[1:-1])
         confident = confident_route(garment, robot, stops, args.confidence, base_clearance_mm=args.clearance,
-                                    locate_3d=locate, first=(planner, route))
+                                    locate_3d=locate, first=(planner, route), command_tolerance_mm=tolerance)
         route = confident.route
     elif physics is None:
         route = planner.route(stops[0], stops[-1], via=stops[1:-1])
@@ -245,7 +251,7 @@ def run(args: argparse.Namespace) -> int:
             print(f"note: the shortest route ({planned.shortest_route.length_mm:.1f} mm) is not drivable "
                   f"({planned.shortest.unsafe[0][1]}); this longer one keeps every margin")
     if args.json or args.csv:
-        doc = route_document(route, garment, robot, lifted, mechanics)
+        doc = route_document(route, garment, robot, lifted, mechanics, command_tolerance_mm=tolerance)
         if mechanics is not None:
             doc["physics"]["return_to_dock"] = dock
         if reports:
@@ -255,8 +261,9 @@ def run(args: argparse.Namespace) -> int:
         if args.csv:
             write_route_csv(args.csv, doc)
     if args.commands:
-        comment = f"{args.start} to {args.goal} on garment '{garment.name}', robot '{robot.name}'"
-        write_commands(args.commands, route_commands(route, garment, robot), comment=comment)
+        comment = (f"{args.start} to {args.goal} on garment '{garment.name}', robot '{robot.name}'\n"
+                   + precision_comment(tolerance))
+        write_commands(args.commands, route_commands(route, garment, robot, tolerance_mm=tolerance), comment=comment)
     if getattr(args, "mcap", None):
         from garnav.recording import McapRecorder
 

@@ -32,7 +32,7 @@ import numpy as np
 
 from garnav.atomic import write_text_atomic
 from garnav.errors import QueryError
-from garnav.export.commands import CommandList, Turn, commands_to_json, route_commands
+from garnav.export.commands import DEFAULT_TOLERANCE_MM, CommandList, Turn, commands_to_json, route_commands
 from garnav.export.path import Waypoint, route_waypoints
 from garnav.model import Garment, Robot
 from garnav.plan.route import route_headings_deg
@@ -184,7 +184,8 @@ def _vec(v) -> list[float]:
 
 
 def route_document(
-    route, garment: Garment, robot: Robot | None = None, lifted: LiftedLike | None = None, mechanics=None
+    route, garment: Garment, robot: Robot | None = None, lifted: LiftedLike | None = None, mechanics=None,
+    command_tolerance_mm: float = DEFAULT_TOLERANCE_MM,
 ) -> dict:
     """The ``garnav-route`` document of a route, as a JSON-ready dict.
 
@@ -200,6 +201,9 @@ def route_document(
     mechanics : garnav.mechanics.RouteMechanics, optional
         The lifted route's mechanics (needs ``lifted``): adds the ``physics`` object (posture,
         gravity, energy, battery, margins per segment of ``path3d`` and per waypoint).
+    command_tolerance_mm : float
+        How far the ``commands`` may stray from the route where they merge tiny turns along arcs,
+        mm (:func:`garnav.export.commands.route_commands`); recorded as ``command_tolerance_mm``.
 
     Returns
     -------
@@ -208,7 +212,7 @@ def route_document(
     """
     robot = robot or garment.robot or Robot()
     waypoints = route_waypoints(route)
-    commands = route_commands(route, garment, robot)
+    commands = route_commands(route, garment, robot, tolerance_mm=command_tolerance_mm)
     last_of_leg = {w.index for w in waypoints if w.index + 1 == len(waypoints) or waypoints[w.index + 1].leg != w.leg}
 
     world = normals = quats = None
@@ -255,6 +259,7 @@ def route_document(
         "waypoints": wp_list,
         "crossings": crossings,
         "commands": commands_to_json(commands),
+        "command_tolerance_mm": float(command_tolerance_mm),
         "path3d": None if lifted is None else _vecs(lifted.points),
         "path3d_detail": None if lifted is None else _path3d_detail(lifted),
     }

@@ -29,7 +29,7 @@ from garnav.poses.load import PoseDrape
 from garnav.zones.project import zone_keepouts
 
 __all__ = ["robust_garment", "pose_zone_keepouts", "pose_report", "PoseReport", "ZoneNearness",
-           "POSE_MARK"]
+           "POSE_MARK", "fine_in_every_pose", "RobustResult"]
 
 #: Separates a keep-out's zone name from the pose it was projected in: ``ZONE@PIECE~POSE``.
 POSE_MARK = "~"
@@ -207,3 +207,58 @@ def pose_report(route, garment: Garment, pose_drape: PoseDrape, robot: Robot,
                                     side=robot.side, posture=pose.posture)
     return PoseReport(pose.name, pose.posture, lifted, float(np.clip(rise, 0, None).sum()),
                       float(np.clip(-rise, 0, None).sum()), zones, mechanics)
+
+
+@dataclass(frozen=True)
+class RobustResult:
+    """What :func:`fine_in_every_pose` found: the route, its reports per pose, and (with physics)
+    the :class:`garnav.mechanics.planning.PlannedRoute` on the first pose's drape, else None."""
+
+    route: object
+    reports: tuple[PoseReport, ...]
+    planned: object = None
+
+
+def fine_in_every_pose(planner, garment: Garment, pose_drapes: tuple[PoseDrape, ...], stops, first,
+                       first_planned=None, cost: str = "length") -> RobustResult:
+    """A route that is fine in every pose, starting from ``first`` (the route planned on the first
+    pose's drape, by ``planner`` built on :func:`robust_garment`).
+
+    When ``first`` is not fine in some pose and the robot has a physics profile, each pose's
+    drivable route (:class:`garnav.mechanics.planning.PhysicsPlanner` on that pose's drape and
+    posture, the same planner and so the same union of zones) is tried in turn; the first that is
+    fine in every pose is taken.
+
+    Raises
+    ------
+    NoRouteError
+        No route found that is fine in every pose; the message names each pose and why.
+    """
+    from garnav.errors import NoRouteError
+
+    robot = planner.robot
+
+    def measure(r):
+        return tuple(pose_report(r, garment, pd, robot) for pd in pose_drapes)
+
+    reports = measure(first)
+    if all(r.ok for r in reports):
+        return RobustResult(first, reports, first_planned)
+    if robot.physics is not None:  # the zones are already kept out of: only mechanics can fail here
+        from garnav.mechanics.planning import PhysicsPlanner
+
+        base = PhysicsPlanner(planner, pose_drapes[0].drape, posture=pose_drapes[0].pose.posture, cost=cost)
+        for pd in pose_drapes:
+            other = PhysicsPlanner(planner, pd.drape, posture=pd.pose.posture, cost=cost)
+            try:
+                found = other.route(stops[0], stops[-1], via=stops[1:-1])
+            except NoRouteError:
+                continue
+            again = measure(found.route)
+            if all(r.ok for r in again):
+                from garnav.mechanics.planning import PlannedRoute
+
+                lifted, mech = base.check(found.route)
+                return RobustResult(found.route, again, PlannedRoute(found.route, lifted, mech, found.method))
+    bad = "; ".join(f"pose {r.pose}: {', '.join(r.problems())}" for r in reports if not r.ok)
+    raise NoRouteError(f"no route found that is fine in every pose ({bad}); docs/poses.md")

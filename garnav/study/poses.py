@@ -5,7 +5,8 @@ A *pose* is one drape of the garment — the same pattern on the body in one arm
 different: the direction of gravity, :mod:`garnav.mechanics.gravity`; it needs no new drape.)
 
 A spec's poses are its ``[[pose]]`` tables (:mod:`garnav.poses`); a spec with one ``drape`` and
-no tables has the one pose ``"default"``. This function is the one place a study learns them.
+no tables has the one pose ``"default"``; ``"default"`` always names the spec's default pose (its
+top-level ``drape``), beside the named ones. This function is the one place a study learns them.
 """
 
 from __future__ import annotations
@@ -26,7 +27,6 @@ def garment_poses(garment: Garment) -> dict[str, str | None]:
     """
     from garnav.poses.load import garment_poses as poses_of
 
-    poses = poses_of(garment)
-    if not poses:
-        return {DEFAULT_POSE: None}
-    return {p.name: p.drape for p in poses}
+    out: dict[str, str | None] = {DEFAULT_POSE: garment.drape}  # always: the spec's default pose
+    out.update((p.name, p.drape) for p in poses_of(garment))
+    return out
