@@ -74,8 +74,8 @@ def route_inputs(route_path: str, garment_path: str | None) -> tuple[Garment, Ro
 
     check_route_on_garment(doc, garment, route_path)  # unknown pieces, off-piece points: before replaying
     robot = garment.robot or Robot()
-    rd = doc.get("robot") or {}
-    if isinstance(rd.get("radius_mm"), (int, float)):
+    rd = doc.get("robot") or {}  # an object with finite sizes: read_route_document checked it
+    if "radius_mm" in rd:
         robot = dataclasses.replace(robot, radius_mm=float(rd["radius_mm"]))
     try:
         tol = doc.get("command_tolerance_mm", 0.0)

@@ -23,6 +23,7 @@ writes nothing. Heavy modules are imported inside :func:`run` so that the parser
 from __future__ import annotations
 
 import argparse
+import contextlib
 import dataclasses
 import os
 import sys
@@ -205,23 +206,24 @@ def run(args: argparse.Namespace) -> int:
     mechanics = dock = None
     confident = None
     lifted = None
-    if getattr(args, "confidence", None) is not None:  # dead reckoning: garnav.uncertainty.confidence
-        if physics is not None:
-            raise QueryError("--confidence plans for length and contact risk only, not yet together with "
-                             "the robot's physics profile: add --no-drape to plan without mechanics, or "
-                             "leave out --confidence (docs/uncertainty.md)")
-        from garnav.uncertainty.confidence import confident_route
+    with _search_progress(planner):  # a bar on stderr for the exact seam search's rounds
+        if getattr(args, "confidence", None) is not None:  # dead reckoning: garnav.uncertainty.confidence
+            if physics is not None:
+                raise QueryError("--confidence plans for length and contact risk only, not yet together with "
+                                 "the robot's physics profile: add --no-drape to plan without mechanics, or "
+                                 "leave out --confidence (docs/uncertainty.md)")
+            from garnav.uncertainty.confidence import confident_route
 
-        route = planner.route(stops[0], stops[-1], via=stops[1:-1])
-        confident = confident_route(garment, robot, stops, args.confidence, base_clearance_mm=args.clearance,
-                                    locate_3d=locate, first=(planner, route), command_tolerance_mm=tolerance)
-        route = confident.route
-    elif physics is None:
-        route = planner.route(stops[0], stops[-1], via=stops[1:-1])
-    else:
-        planned = physics.route(stops[0], stops[-1], via=stops[1:-1])
-        route, lifted, mechanics = planned.route, planned.lifted, planned.mechanics
-        dock = physics.dock_check(planned, stops[-1])
+            route = planner.route(stops[0], stops[-1], via=stops[1:-1])
+            confident = confident_route(garment, robot, stops, args.confidence, base_clearance_mm=args.clearance,
+                                        locate_3d=locate, first=(planner, route), command_tolerance_mm=tolerance)
+            route = confident.route
+        elif physics is None:
+            route = planner.route(stops[0], stops[-1], via=stops[1:-1])
+        else:
+            planned = physics.route(stops[0], stops[-1], via=stops[1:-1])
+            route, lifted, mechanics = planned.route, planned.lifted, planned.mechanics
+            dock = physics.dock_check(planned, stops[-1])
     reports = ()
     if choice is not None and choice.report:
         from garnav.cli._poses import report_poses
@@ -238,6 +240,14 @@ def run(args: argparse.Namespace) -> int:
     for text, pp in zip(texts, stops, strict=False):
         if pp.label.endswith("(snapped)"):
             print(f"note: {text} moved to the nearest free point {pp.piece}:{pp.x:.1f},{pp.y:.1f}")
+    search = planner.last_search
+    if search is not None and search.limited:  # bounded work (garnav.plan.exact.MAX_SPLIT_WINDOWS)
+        from garnav.plan.exact import MAX_SPLIT_WINDOWS
+
+        gap = max(search.cost_mm - search.lower_mm, 0.0)
+        print(f"note: --exact-seams: the search stopped at its limit of {MAX_SPLIT_WINDOWS} split seam windows "
+              f"before certifying the route; it is at most {gap:.3g} mm ({100.0 * gap / max(search.cost_mm, 1e-9):.2g} %) "
+              "longer than the shortest")
     if lifted is None and drape is not None:
         lifted = lift_route(drape, garment, route)
     if lifted is not None:
@@ -274,6 +284,25 @@ def run(args: argparse.Namespace) -> int:
     if not getattr(args, "quiet", False):
         print("\n".join(caution_lines()), file=sys.stderr)
     return 0
+
+
+@contextlib.contextmanager
+def _search_progress(planner):
+    """With ``--exact-seams``, a progress bar on stderr (on a terminal only) for the rounds of the
+    certified seam search, which can take a minute on a whole garment: windows added and the gap
+    between the route and its lower bound."""
+    if not planner.exact_seams:
+        yield
+        return
+    from tqdm import tqdm
+
+    with tqdm(desc="exact seam search", unit="round", leave=False, disable=None) as bar:
+        planner.seam_search.progress = lambda rounds, windows, lower, upper: (
+            bar.set_postfix_str(f"{windows} windows, gap {upper - lower:.3g} mm"), bar.update(1))
+        try:
+            yield
+        finally:
+            planner.seam_search.progress = None
 
 
 def _physics_planner(args: argparse.Namespace, planner: Planner, drape, robot: Robot, pose_posture: str | None = None):

@@ -61,6 +61,7 @@ from garnav.export.steer import (
 )
 from garnav.model import Garment, Robot, SeamSide
 from garnav.plan.route import crossing_side
+from garnav.spec.fields import MAX_ABS
 from garnav.textio import read_text
 
 __all__ = [
@@ -80,6 +81,7 @@ __all__ = [
     "commands_to_json",
     "FORMAT_NAME",
     "FORMAT_VERSION",
+    "MAX_NUMBER",
     "DEFAULT_TOLERANCE_MM",
     "precision_comment",
 ]
@@ -87,6 +89,9 @@ __all__ = [
 FORMAT_NAME = "garnav-commands"
 FORMAT_VERSION = 1
 
+#: Largest magnitude of a number in a command list (mm, degrees, seconds): the garment spec's limit
+#: (:data:`garnav.spec.fields.MAX_ABS`, 10 km), so a replayed go stays a bounded amount of work.
+MAX_NUMBER = MAX_ABS
 
 
 class CommandSyntaxError(GarnavError):
@@ -425,7 +430,12 @@ class _Line:
         tok = self._next(what)
         if not _NUMBER_RE.fullmatch(tok):
             raise self.fail(f"{what} must be a number, got {tok.lstrip(chr(0))!r}")
-        return float(tok)
+        value = float(tok)
+        if not abs(value) <= MAX_NUMBER:  # 1e999 reads as infinity; a huge go never ends on a tube
+            shown = tok if len(tok) <= 24 else tok[:21] + "..."
+            raise self.fail(f"{what} {shown} is too large: numbers in a command list are at most "
+                            f"{MAX_NUMBER:.0e} in size (10 km in mm, as in a garment spec)")
+        return value
 
     def keyword(self, *choices: str) -> str:
         tok = self._next(" or ".join(repr(c) for c in choices))

@@ -28,7 +28,7 @@ from garnav.export.steer import NOTICE_TOL_MM as STEER_NOTICE_TOL_MM
 from garnav.export.seams import VERTEX_SNAP_MM, locate_on_run, seam_transfer, snap_to_vertex
 from garnav.model import SEAM_SIDES, Garment, SeamSide
 
-__all__ = ["Pose", "ReplayCrossing", "Replay", "ReplayError", "replay_commands"]
+__all__ = ["Pose", "ReplayCrossing", "Replay", "ReplayError", "replay_commands", "MAX_CROSSINGS_PER_GO"]
 
 # How close a seam hit must be to a go's end to count as "at the end" (mm).
 END_TOL_MM = 1e-6
@@ -46,6 +46,10 @@ EXIT_PROBE_MM = 1e-2
 EXIT_DEPTH_MM = 1e-5
 # Crossings in a row without moving (a heading out of a corner where seams meet) before giving up.
 _MAX_STALLS = 16
+#: Most seam crossings one go may make. A go round and round a tube (a sleeve, a torso) crosses its
+#: seam once a lap; each crossing costs about a millisecond, so without a bound a long go on a
+#: thin tube is minutes of work. No route of a garment crosses seams this often in one straight go.
+MAX_CROSSINGS_PER_GO = 1000
 
 
 class ReplayError(QueryError):
@@ -291,7 +295,15 @@ class _Drive:
         a seam transfer)."""
         done = 0.0
         stalls = 0
+        first = len(self.crossings)
         while True:
+            if len(self.crossings) - first > MAX_CROSSINGS_PER_GO:
+                raise ReplayError(
+                    f"after {self.travelled + done:.3f} mm the robot has crossed seams {MAX_CROSSINGS_PER_GO} times "
+                    f"in one go (last '{self.crossings[-1].seam}', now on piece '{self.piece}'), with "
+                    f"{remaining:.3f} mm of it still to drive: the go laps the garment; replay stops at "
+                    f"{MAX_CROSSINGS_PER_GO} crossings per go"
+                )
             u = np.array([math.cos(self.heading), math.sin(self.heading)])
             bound = self.bounds[self.piece]
             hit = _first_exit(bound, self.p, u, remaining + (NOTICE_TOL_MM if self.notices else END_TOL_MM))
