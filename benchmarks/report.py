@@ -293,6 +293,11 @@ def _lift_lines(res) -> list[str]:
         lines.append(f"  garnav 3D -> pattern {tp['points_per_s']:9.3g} points/s; trimesh closest_point "
                      f"{tc['points_per_s']:.3g} points/s: {tp['points_per_s'] / tc['points_per_s']:.1f}x; "
                      f"largest distance difference {tp['max_distance_diff_mm']:.1e} mm")
+    vf, va = g.get("verify"), c.get("trimesh_adjacency_angles")
+    if vf and va:
+        lines.append(f"  garnav verify drape  {vf['verify_s'] * 1e3:9.1f} ms  ({vf['faults']} faults; trimesh "
+                     f"face_adjacency_angles alone {va['query_s'] * 1e3:.1f} ms: "
+                     f"{vf['verify_s'] / va['query_s']:.2f}x)")
     if g.get("error"):
         lines.append(f"  garnav error: {g['error']}")
     return lines
