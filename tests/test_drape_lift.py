@@ -243,7 +243,7 @@ def test_lift_onto_poses_is_lift_route_on_each_drape():
     from garnav.drape.lift import lift_route_poses
 
     g, m = dm.folded_panels()
-    _, m_gap = dm.folded_panels(gap=5.0)
+    _, m_gap = dm.folded_panels(gap=0.5)  # under the 1 mm seam gap a drape may have
     rots = Rotation.random(3, random_state=np.random.default_rng(4))
     shift = np.array([10.0, -20.0, 30.0])
     moved = [dataclasses.replace(m, positions=r.apply(np.array(m.positions)) + shift) for r in rots]
