@@ -261,21 +261,28 @@ class Planner:
         path, cost = found
         return path, cost, path[-1] - n0 - 1
 
-    def sequence_search(
-        self, start: PiecePoint, goal: PiecePoint, sequence: tuple, edges: list | None = None
-    ) -> tuple[list[int] | None, float]:
-        """A* on the navigation graph over the routes that cross exactly ``sequence``: (seam
-        index, free interval index, from side) per crossing, in order. States are (node, crossings
-        done); the heuristic of :meth:`search` stays admissible (fewer routes). Returns (node path,
-        graph cost) or (None, inf). ``edges``: ``query_edges(start, [goal])`` when already known."""
-        ng = self.nav
-        n0 = ng.graph.number_of_nodes()
+    def portal_intervals(self) -> np.ndarray:
+        """(N,) free-interval index of each portal node (−1 for other nodes), computed once."""
         if self._portal_interval is None:
+            ng = self.nav
             self._portal_interval = np.array(
                 [interval_index(ng, int(s), float(t)) if s >= 0 else -1 for s, t in zip(ng.portal_seam, ng.portal_t, strict=True)],
                 dtype=int,
             )
-        iv = self._portal_interval
+        return self._portal_interval
+
+    def sequence_search(
+        self, start: PiecePoint, goal: PiecePoint, sequence: tuple, edges: list | None = None, h_layer: Callable | None = None
+    ) -> tuple[list[int] | None, float]:
+        """A* on the navigation graph over the routes that cross exactly ``sequence``: (seam
+        index, free interval index, from side) per crossing, in order. States are (node, crossings
+        done); the heuristic of :meth:`search` stays admissible (fewer routes). Returns (node path,
+        graph cost) or (None, inf). ``edges``: ``query_edges(start, [goal])`` when already known;
+        ``h_layer(node, crossings done, piece index, xy)``: an admissible, consistent heuristic of
+        the constrained search to use instead (e.g. :class:`garnav.plan.sequences.LayerBound`)."""
+        ng = self.nav
+        n0 = ng.graph.number_of_nodes()
+        iv = self.portal_intervals()
         steps = len(sequence)
         width = steps + 1
         extra: dict[int, list[tuple[int, float]]] = {}
@@ -288,9 +295,11 @@ class Planner:
         si = ng.piece_index(start.piece)
 
         def h(state: int) -> float:
-            n = state // width
+            n, j = divmod(state, width)
             if n > n0:
                 return 0.0
+            if h_layer is not None:
+                return h_layer(n, j, si, start.xy) if n == n0 else h_layer(n, j, int(ng.node_piece[n]), ng.xy[n])
             if n == n0:
                 return h_at(n, si, start.xy)
             return h_at(n, int(ng.node_piece[n]), ng.xy[n])
