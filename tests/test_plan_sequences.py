@@ -48,30 +48,31 @@ def _cases(draw):
     ease = draw(st.sampled_from([0.0, 12.0, 30.0]))
     angle = draw(st.sampled_from([0.0, 30.0]))
     cost = draw(st.sampled_from([0.0, 6.0]))
-    # a wall of buttons 20-40 mm from the first seam with one gap: going round it over the middle
-    # panel competes with going round it on the left panel
-    x = draw(st.floats(160.0, 180.0))
-    gap = draw(st.floats(80.0, 220.0))
-    wall = [(x, y) for y in np.arange(40.0, 270.0, 19.0) if abs(y - gap) > 20.0]
-    sy = draw(st.floats(30.0, 270.0))
-    gy = draw(st.floats(30.0, 270.0))
-    goal_piece = draw(st.sampled_from(["left", "right"]))
-    return ease, angle, cost, wall, sy, gy, goal_piece
+    # a wall of buttons across the left panel from its open edge towards the first seam, ending
+    # 2-14 mm before it (closed below 8 mm): the way round is either the gap (if the robot fits) or over the middle
+    # panel, crossing the first seam and coming back
+    wy = draw(st.floats(120.0, 180.0))
+    end = 200.0 - draw(st.floats(2.0, 14.0)) - 9.0
+    wall = [(x, wy) for x in np.arange(12.0, end, 15.0)] + [(end, wy)]
+    sx = draw(st.floats(60.0, 170.0))
+    gx = draw(st.floats(40.0, 170.0))
+    goal_piece = draw(st.sampled_from(["left", "left", "right"]))
+    return ease, angle, cost, wall, (sx, wy - 70.0), (gx, wy + 70.0), goal_piece
 
 
 @pytest.mark.slow
 @settings(max_examples=6)
 @given(_cases())
 def test_no_route_is_dearer_than_the_dense_portal_planner(case):
-    ease, angle, cost, wall, sy, gy, goal_piece = case
+    ease, angle, cost, wall, s, e, goal_piece = case
     g = _three_panels(ease, angle, cost, wall)
     planner = Planner(g)
     dense = Planner(g, portal_spacing_mm=2.0, seam_sequences=0)
-    start = PiecePoint("left", 195.0, sy)  # beside the first seam, behind the wall
-    goal = PiecePoint(goal_piece, 120.0 if goal_piece == "left" else 100.0, gy)
+    start = PiecePoint("left", *s)
+    goal = PiecePoint(goal_piece, *e)
     route = planner.route(start, goal)
     ref = dense.route(start, goal)
-    validate_route(route, planner)
+    validate_route(route, g, planner.free)
     assert route.cost <= ref.cost * (1 + 1e-6) + 1e-9
     found = planner.last_sequences
     assert found is not None and found.lower_mm <= route.cost + 1e-9  # the bound is a lower bound
