@@ -225,10 +225,9 @@ class WindowGraph:
             np.fill_diagonal(d, np.inf)  # crossing back at the same window side gains nothing
             self.inner[pi] = (sel, d)
 
-    def ends(self, pp: PiecePoint, reverse: bool) -> tuple[np.ndarray, np.ndarray, dict[int, float]]:
+    def ends(self, pp: PiecePoint, reverse: bool) -> tuple[np.ndarray, np.ndarray]:
         """Bound costs from a start point to pre(i) (``reverse``: from post(i) to a goal point),
-        as (indices into ``win``, costs) of the point's piece, and the graph's distance to the
-        other query points of the piece by node id (used for the direct route)."""
+        as (indices into ``win`` (n,), costs (n,)) for the window sides of the point's piece."""
         ss = self.ss
         pi = ss.nav.piece_index(pp.piece)
         g = self.graphs[pi]
@@ -237,7 +236,7 @@ class WindowGraph:
         d = np.maximum(d - (g.size + 1) * g.eps, 0.0)
         sel = np.nonzero(self.piece == pi)[0]
         nodes = [(g.out_node if reverse else g.in_node)(int(self.win[k])) for k in sel]
-        return sel, d[nodes], {}
+        return sel, d[nodes]
 
 
 class LayerBound:
@@ -385,12 +384,12 @@ class SequenceSearch:
         edges: dict[int, list] = {}
         # the same-piece route (no crossing) is solved exactly by the in-piece search
         w = len(wg.win)
-        s_idx, s_cost, _ = wg.ends(start, reverse=False)
+        s_idx, s_cost = wg.ends(start, reverse=False)
         to_pre = np.full(w, np.inf)
         to_pre[s_idx] = s_cost
         goal_post = []
         for g in goals:
-            g_idx, g_cost, _ = wg.ends(g, reverse=True)
+            g_idx, g_cost = wg.ends(g, reverse=True)
             arr = np.full(w, np.inf)
             arr[g_idx] = g_cost
             goal_post.append(arr)
