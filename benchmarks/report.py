@@ -28,6 +28,7 @@ TARGETS = (
     ("physics_planning", "demo routes planned with the physics profile in at most 3x the length-only query time"),
     ("physics_lift_mechanics", "lift + mechanics of ~5,000 points on ~100k triangles under 30 ms (median)"),
     ("study_speedup", "2,000 demo route queries: local Dask cluster of 2 workers at least 1.6x faster than serial (start-up included)"),
+    ("reader_fuzz", "1,000 fuzzed files per reader (spec, route, commands): 0 failures (benchmarks/fuzz_case.py)"),
 ) + SEAM_TARGETS
 
 
@@ -196,6 +197,17 @@ def evaluate_targets(res: dict[str, Any]) -> list[dict[str, Any]]:
                       f"task overhead {1e3 * st['task_overhead_s']:.1f} ms{quick_note}"))
     else:
         out.append(_t("study_speedup", "N/A", None, st.get("error", "not run")))
+    fz = cases.get("fuzz", {})
+    if "failures" in fz:
+        per = ", ".join(f"{k} {r['examples']} ({r['read']} read, {r['refused']} refused, {r['total_s']:.0f} s)"
+                        for k, r in fz["readers"].items())
+        status = "PASS" if fz["failures"] == 0 and fz["examples_per_reader"] >= 1000 else (
+            "MISS" if fz["failures"] else "N/A")
+        first = next((m for r in fz["readers"].values() for m in r["failure_messages"]), "")
+        out.append(_t("reader_fuzz", status, fz["failures"],
+                      f"{fz['failures']} failures in {fz['examples']} examples: {per}" + (f"; first: {first}" if first else "")))
+    else:
+        out.append(_t("reader_fuzz", "N/A", None, fz.get("error", "not run")))
     out.extend(seam_targets(res))
     return out
 

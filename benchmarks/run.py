@@ -37,7 +37,7 @@ from benchmarks.measure import growth_exponent, machine_info, peak_memory, summa
 from benchmarks.report import evaluate_targets, format_report, markdown_report
 from benchmarks.single import run_single
 
-ALL_CASES = ("single", "demo", "lift", "cli", "sweep", "drift", "physics", "seams", "study", "zones")
+ALL_CASES = ("single", "demo", "lift", "cli", "sweep", "drift", "physics", "seams", "study", "zones", "fuzz")
 FULL_N = (10, 50, 200, 500)
 QUICK_N = (2, 4)
 
@@ -391,6 +391,16 @@ def run(opts: Options, which: tuple[str, ...], log=print, checkpoint=None) -> di
             except Exception as exc:
                 results["cases"][key] = {"kind": key, "error": _err(exc)}
             save(results)
+    if "fuzz" in which:  # the reader fuzz at length: benchmarks/fuzz_case.py
+        from benchmarks.fuzz_case import run_fuzz
+
+        n = 30 if opts.quick else 1000
+        log(f"case fuzz ({n} fuzzed files per reader: spec, route, commands) ...")
+        try:
+            results["cases"]["fuzz"] = run_fuzz(n, seed=opts.seed, log=log)
+        except Exception as exc:
+            results["cases"]["fuzz"] = {"kind": "fuzz", "error": _err(exc)}
+        save(results)
     if "study" in which:  # many cases on Dask: benchmarks/study_case.py
         from benchmarks.study_case import run_study_case
 

@@ -34,6 +34,7 @@ if TYPE_CHECKING:  # the profiles' own modules; imported only for type checkers
     from garnav.mechanics.profile import RobotPhysics
     from garnav.uncertainty.model import OdometryModel
     from garnav.zones.model import BodyZone
+    from garnav.poses.model import Pose
 
 __all__ = [
     "Point2",
@@ -478,7 +479,8 @@ class Garment:
     ``sheet_size_mm`` is the (width, height) of the sheet in mm: UV = sheet position / size.
     ``drape`` and ``body`` are mesh paths relative to the spec file (or None). ``body_zones``
     are zones on the body (world frame, :mod:`garnav.zones.model`); a drape turns them into
-    keep-outs (:func:`garnav.zones.with_zone_keepouts`).
+    keep-outs (:func:`garnav.zones.with_zone_keepouts`). ``poses`` are drapes of the same pattern
+    in other poses of the wearer (:mod:`garnav.poses`); ``drape``/``body`` are the default pose's.
     """
 
     name: str
@@ -492,6 +494,7 @@ class Garment:
     body: str | None = None
     description: str = ""
     body_zones: tuple[BodyZone, ...] = ()
+    poses: tuple[Pose, ...] = ()
 
     def piece(self, name: str) -> Piece:
         """The piece called ``name``; KeyError if there is none."""

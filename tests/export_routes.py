@@ -12,6 +12,7 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
+import shapely
 
 from garments import rect_piece
 from garnav import Garment, KeepOut, Landmark, Placement, Rectangle, Robot, Seam, SeamRun
@@ -190,3 +191,25 @@ def cylinder_lift(route, step_mm: float = 5.0) -> CylinderLift:
         climb_up_mm=float(dz[dz > 0].sum()),
         climb_down_mm=float(-dz[dz < 0].sum()),
     )
+
+
+def replay_paths(route, replay):
+    """Planned and replayed paths per piece as shapely MultiLineStrings {piece: (planned, replayed)}."""
+    plan: dict[str, list] = {}
+    run: dict[str, list] = {}
+    for leg in route.legs:
+        pts = np.asarray(leg.points, dtype=float)
+        plan.setdefault(leg.piece, []).append(pts if len(pts) > 1 else np.vstack([pts, pts]))
+    jumps = {((c.from_piece, *c.point_from), (c.to_piece, *c.point_to)) for c in replay.crossings}
+    for a, b in zip(replay.poses[:-1], replay.poses[1:]):
+        if a.piece == b.piece and ((a.piece, a.x_mm, a.y_mm), (b.piece, b.x_mm, b.y_mm)) not in jumps:
+            run.setdefault(a.piece, []).append([(a.x_mm, a.y_mm), (b.x_mm, b.y_mm)])
+    return {p: (shapely.MultiLineString(plan[p]), shapely.MultiLineString(run[p])) for p in plan if p in run}
+
+
+def deviation(route, replay) -> tuple[float, float]:
+    """(largest Hausdorff distance over the pieces, end-point error), mm. Reference: GEOS's
+    discrete Hausdorff distance (shapely.hausdorff_distance) on segments densified to 1 %."""
+    worst = max(shapely.hausdorff_distance(a, b, densify=0.01) for a, b in replay_paths(route, replay).values())
+    goal = np.asarray(route.legs[-1].points, dtype=float)[-1]
+    return float(worst), math.hypot(replay.end.x_mm - goal[0], replay.end.y_mm - goal[1])

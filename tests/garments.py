@@ -70,3 +70,21 @@ def tube(circumference: float = 2 * math.pi * 50.0, length: float = 400.0) -> Ga
         robot=Robot(radius_mm=10.0, edge_margin_mm=2.0),
         sheet_size_mm=(circumference + 20.0, length + 20.0),
     )
+
+
+def huge_panels(width: float = 20000.0, height: float = 30000.0) -> Garment:
+    """Two ``width`` × ``height`` pieces (default 20 m × 30 m) joined along a ``height`` long seam
+    (left.right ↔ right.left), with landmarks 'a' (left, at a third of the height) and 'b' (right,
+    at two thirds): a legal garment far larger than any real one, for bounded-work tests."""
+    w, h = float(width), float(height)
+    left = rect_piece("left", w, h, Placement(10.0, 10.0))
+    right = rect_piece("right", w, h, Placement(w + 30.0, 10.0))
+    seam = Seam("middle", SeamRun("left", "right"), SeamRun("right", "left", reverse=True), crossable=True)
+    return Garment(
+        "huge_panels",
+        (left, right),
+        seams=(seam,),
+        landmarks=(Landmark("a", piece="left", x=w / 2, y=h / 3), Landmark("b", piece="right", x=w / 2, y=2 * h / 3)),
+        robot=Robot(radius_mm=10.0, edge_margin_mm=2.0),
+        sheet_size_mm=(2 * w + 40.0, h + 20.0),
+    )

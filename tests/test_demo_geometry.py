@@ -16,7 +16,7 @@ from scipy import integrate
 from scipy.special import ellipe
 
 from garnav.demo import build_demo, build_design, demo_garment
-from garnav.demo.build import BODY_NAME, DRAPE_NAME, SPEC_NAME
+from garnav.demo.build import DEMO_FILE_NAMES, DRAPE_NAME
 from garnav.demo.mesh import build_drape, triangulate_piece
 from garnav.errors import MeshError
 from garnav.model import Landmark
@@ -271,7 +271,8 @@ def test_triangulation_rejects_a_too_coarse_boundary():
 @pytest.mark.slow
 def test_build_reproduces_committed_files(tmp_path):
     files = build_demo(tmp_path)
-    for name in (SPEC_NAME, DRAPE_NAME, BODY_NAME):
+    assert sorted(p.name for p in tmp_path.iterdir()) == sorted(DEMO_FILE_NAMES)
+    for name in DEMO_FILE_NAMES:
         assert (tmp_path / name).read_bytes() == (MESHES / name).read_bytes(), name
     assert files.triangles > 0
     mesh = trimesh.load(tmp_path / DRAPE_NAME, force="mesh", process=False)

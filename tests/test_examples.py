@@ -70,7 +70,7 @@ def test_export_for_robot(tmp_path, capsys):
     assert len(rows) == len(doc["waypoints"])
     assert (tmp_path / f"{stem}.cmd").read_text().startswith("garnav-commands 1\n")
     # the replayed commands end where the route ends, having crossed the same seams
-    assert result["miss_mm"] < 1e-3
+    assert result["miss_mm"] < 0.05  # written to 0.01 mm and 0.01°; observed 0.005 mm
     assert [c.seam for c in result["replay"].crossings] == doc["summary"]["seams_crossed"]
     assert "replay: ends on back" in text and "crossed armhole_right_back" in text
 

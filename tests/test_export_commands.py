@@ -41,10 +41,12 @@ def test_turns_sum_to_net_heading_change_within_one_piece():
         d = np.diff(route.legs[0].points, axis=0)
         # reference: numpy's phase unwrapping of the segment directions (each step < 180°)
         h = np.unwrap(np.arctan2(d[:, 1], d[:, 0]))
-        assert cl.turn_total_deg == pytest.approx(math.degrees(h[-1] - h[0]), abs=1e-12)  # observed 1.1e-13 deg
-        assert all(-180.0 < c.angle_deg <= 180.0 for c in cl.commands if isinstance(c, Turn))
-        assert cl.distance_mm == pytest.approx(route.length_mm, rel=1e-12)
-        assert cl.start.heading_deg == pytest.approx(math.degrees(math.atan2(d[0, 1], d[0, 0])))
+        # turns rounded to 0.01° in closed loop: the net heading within half a step plus the
+        # last aim correction (observed 0.009°)
+        assert cl.turn_total_deg == pytest.approx(math.degrees(h[-1] - h[0]), abs=0.02)
+        assert all(-180.0 <= c.angle_deg <= 180.0 for c in cl.commands if isinstance(c, Turn))
+        assert cl.distance_mm == pytest.approx(route.length_mm, abs=0.005 * len(cl.commands) + 0.05)  # 0.01 mm steps; observed 0.027
+        assert cl.start.heading_deg == pytest.approx(math.degrees(math.atan2(d[0, 1], d[0, 0])), abs=0.005)
 
 
 def test_square_has_three_left_turns_and_inside_robot_mirrors_them():
@@ -98,10 +100,13 @@ def test_crossing_notice_angle_and_lead_match_wheel_geometry():
         d = leg[-1] - leg[-2]
         heading = math.atan2(d[1], d[0])
         # hand reference: the seam tangent is +y, so the angle to it is |atan2(dx, dy)| folded to 0..90
-        assert n.angle_deg == pytest.approx(er.angle_to_run(heading, (0.0, 1.0)), abs=1e-13)  # observed 7.1e-15 deg
+        # the notice's heading is the rounded one (0.01° steps, aimed in closed loop at the crossing)
+        assert n.angle_deg == pytest.approx(er.angle_to_run(heading, (0.0, 1.0)), abs=0.02)
         first, lead = _wheel_lead(heading, leg[-2], robot.wheel_base_mm, seam_line)
         assert n.lead == first
-        assert n.lead_mm == pytest.approx(lead, abs=1e-11)  # observed 3.4e-13 mm
+        # lead = b·cot(angle) moves by b / sin²(angle) per radian of heading, plus 0.005 mm of rounding
+        slope = robot.wheel_base_mm / math.sin(math.radians(n.angle_deg)) ** 2
+        assert n.lead_mm == pytest.approx(lead, abs=0.005 + slope * math.radians(0.02))
         # the notice sits right before the go that reaches the seam, at the distance driven so far
         k = cl.commands.index(n)
         go = next(c for c in cl.commands[k:] if isinstance(c, Go))
@@ -210,7 +215,8 @@ def test_write_and_read_file(tmp_path):
 
 
 # property test: any command list (names with any characters, any finite numbers) survives the
-# text round trip exactly (hypothesis, derandomized by the suite's profile)
+# text round trip to the written precision, and exactly once on it (hypothesis, derandomized by
+# the suite's profile)
 from hypothesis import given  # noqa: E402
 from hypothesis import strategies as st  # noqa: E402
 
@@ -238,6 +244,23 @@ def _command_lists(draw):
     return CommandList(tuple(cmds), side=draw(st.sampled_from(["outside", "inside"])), start=start)
 
 
+def _as_written(cl: CommandList) -> CommandList:
+    """``cl`` with every number rounded as the text writes it (reference: Python's round)."""
+    out = []
+    for c in cl.commands:
+        if isinstance(c, Turn):
+            out.append(Turn(round(c.angle_deg, 2) + 0.0))
+        elif isinstance(c, Go):
+            out.append(Go(round(c.distance_mm, 2) + 0.0))
+        elif isinstance(c, Cross):
+            out.append(Cross(c.seam, round(c.at_mm, 2) + 0.0, round(c.angle_deg, 2) + 0.0, c.lead, round(c.lead_mm, 2) + 0.0))
+    s = cl.start
+    start = None if s is None else Start(s.piece, round(s.x_mm, 3) + 0.0, round(s.y_mm, 3) + 0.0, round(s.heading_deg, 2) + 0.0)
+    return CommandList(tuple(out), side=cl.side, start=start)
+
+
 @given(_command_lists())
-def test_any_command_list_round_trips_exactly(cl):
-    assert parse_commands(format_commands(cl)) == cl
+def test_any_command_list_round_trips_to_the_written_precision(cl):
+    back = parse_commands(format_commands(cl))
+    assert back == _as_written(cl)
+    assert parse_commands(format_commands(back)) == back

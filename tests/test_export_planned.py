@@ -20,7 +20,7 @@ import export_routes as er  # noqa: E402
 import garments  # noqa: E402
 from garnav.demo import demo_garment  # noqa: E402
 from garnav.errors import GarnavError  # noqa: E402
-from garnav.export.commands import Cross, Turn, format_commands, parse_commands, route_commands  # noqa: E402
+from garnav.export.commands import DEFAULT_TOLERANCE_MM, Cross, Turn, format_commands, parse_commands, route_commands  # noqa: E402
 from garnav.export.path import ZERO_STEP_MM, route_waypoints  # noqa: E402
 from garnav.export.replay import replay_commands  # noqa: E402
 from garnav.export.waypoints import route_document, route_schema  # noqa: E402
@@ -126,42 +126,60 @@ def test_waypoints_agree_with_the_planners(demo, small):
                 assert abs(math.remainder(w.heading_deg - h, 360.0)) < 1e-6
 
 
-def test_replay_reproduces_every_waypoint(demo, small):
-    worst = 0.0
+def test_replay_follows_every_route_within_the_tolerance(demo, small):
+    worst = {0.0: 0.0, DEFAULT_TOLERANCE_MM: 0.0}
     for i, (garment, route) in enumerate(_cases(demo, small)):
-        cl = route_commands(route, garment)
-        if i % 2:
-            cl = parse_commands(format_commands(cl))
-        rep = replay_commands(garment, cl)
-        assert [c.seam for c in rep.crossings] == [c.seam for c in route.crossings]
-        assert rep.unmatched_notices == ()
-        # every replayed pose is a route waypoint, in order, and every waypoint lies on the replay
-        wps = route_waypoints(route)
-        k = 0
-        for p in rep.poses:
-            while not (wps[k].piece == p.piece and math.hypot(wps[k].x_mm - p.x_mm, wps[k].y_mm - p.y_mm) <= 1e-6):
-                k += 1  # skipped waypoints are repeated or collinear points (no turn, no crossing)
-                assert k < len(wps), f"route {i}: replay pose {p} is not a waypoint"
-            worst = max(worst, math.hypot(wps[k].x_mm - p.x_mm, wps[k].y_mm - p.y_mm))
-        end = wps[-1]
-        assert (rep.end.piece, rep.end.x_mm, rep.end.y_mm) == (end.piece, pytest.approx(end.x_mm, abs=1e-6),
-                                                                pytest.approx(end.y_mm, abs=1e-6))
-    assert worst <= 1e-6
+        for tol in worst:
+            cl = route_commands(route, garment, tolerance_mm=tol)
+            if i % 2:
+                cl = parse_commands(format_commands(cl))
+            rep = replay_commands(garment, cl)
+            assert [c.seam for c in rep.crossings] == [c.seam for c in route.crossings]
+            assert rep.unmatched_notices == () and all(c.announced for c in rep.crossings)
+            # reference: shapely's (GEOS) Hausdorff distance between planned and replayed paths
+            hausdorff, end = er.deviation(route, rep)
+            assert end <= 0.1  # observed 0.047 mm
+            assert rep.end.piece == route.legs[-1].piece
+            worst[tol] = max(worst[tol], hausdorff)
+    assert worst[0.0] <= 0.1  # rounding only; observed 0.056 mm
+    assert worst[DEFAULT_TOLERANCE_MM] <= DEFAULT_TOLERANCE_MM  # observed 0.41 mm
+
+
+def _kink_deg(garment, crossing) -> float:
+    """Turns of the crossing seam's runs at their vertices within 0.1 mm of the crossing's points,
+    summed (0 where the crossing is not at a vertex), degrees."""
+    seam = garment.seam(crossing.seam)
+    out = 0.0
+    for run in (seam.a, seam.b):
+        pts = garment.run_polyline(run)
+        d = np.minimum(np.hypot(*(pts - np.asarray(crossing.point_from)).T), np.hypot(*(pts - np.asarray(crossing.point_to)).T))
+        k = int(np.argmin(d))
+        if 0 < k < len(pts) - 1 and d[k] <= 0.1:
+            e0, e1 = pts[k] - pts[k - 1], pts[k + 1] - pts[k]
+            out += abs(math.degrees(math.atan2(e0[0] * e1[1] - e0[1] * e1[0], float(e0 @ e1))))
+    return out
 
 
 def test_turns_sum_like_the_planners_and_crossing_angles_agree(demo, small):
     for garment, route in _cases(demo, small):
         for side, sign in (("outside", 1.0), ("inside", -1.0)):
             robot = replace(garment.robot, side=side)
-            cl = route_commands(route, garment, robot)
+            cl = route_commands(route, garment, robot, tolerance_mm=0.0)
             total = sum(c.angle_deg for c in cl.commands if isinstance(c, Turn))
-            assert total == pytest.approx(sign * float(np.sum(route.turns_deg)), abs=1e-12)  # observed 5.7e-14 deg
+            # turns rounded to 0.01° in closed loop: the net turn within a few hundredths of a degree
+            # (the last go's aim correction; observed 0.011°), plus, where a crossing sits on a
+            # vertex of a seam run, the kinks of both runs there (the heading's rotation over the
+            # seam is that of either segment)
+            kinks = sum(_kink_deg(garment, c) for c in route.crossings)
+            assert total == pytest.approx(sign * float(np.sum(route.turns_deg)), abs=0.05 + kinks)
         notices = [c for c in route_commands(route, garment).commands if isinstance(c, Cross)]
         assert [n.seam for n in notices] == [c.seam for c in route.crossings]
         stubs = _stub_legs(route)
         for i, (n, c) in enumerate(zip(notices, route.crossings)):
             if i not in stubs and i + 1 not in stubs:  # the planner measures a stub's noise direction
-                assert n.angle_deg == pytest.approx(c.angle_deg, abs=1e-12)  # observed 1.4e-14 deg
+                # merging keeps the step into each crossing: the angle as planned, to the rounding
+                # (the heading is aimed at most 0.1° off the planned step: observed 0.098°)
+                assert n.angle_deg == pytest.approx(c.angle_deg, abs=0.2)
 
 
 def test_lifted_documents_have_unit_quaternions_along_the_normal(demo):

@@ -11,40 +11,29 @@ import export_routes as er
 import garments
 from garnav import Robot
 from garnav.export.commands import CommandList, Cross, Go, Start, Turn, format_commands, parse_commands, route_commands
-from garnav.export.path import route_waypoints
 from garnav.export.replay import ReplayError, replay_commands
 
 TOL_MM = 1e-6
+ROUND_MM = 0.1  # what rounding to 0.01 mm and 0.01° may add (docs/commands.md); observed 0.063 mm
 
 
-def _turning_waypoints(route):
-    """The route's waypoints without repeated points and without points where it runs straight on
-    (those are not ends of a go); crossings stay (they are recorded on both sides)."""
-    wps = route_waypoints(route)
-    keep = []
-    for w in wps:
-        if keep and keep[-1].piece == w.piece and math.hypot(keep[-1].x_mm - w.x_mm, keep[-1].y_mm - w.y_mm) < 1e-9:
-            keep[-1] = w
-            continue
-        keep.append(w)
-    return keep
-
-
-def assert_replay_matches(route, garment, robot=None, via_text=False):
-    cl = route_commands(route, garment, robot)
+def assert_replay_matches(route, garment, robot=None, via_text=False, tolerance_mm=0.0):
+    """The replay of the route's commands follows the route: same seams, all announced, within
+    ROUND_MM (the 0.01 mm / 0.01° rounding; observed 0.063 mm) plus the merge tolerance of the
+    planned path everywhere (shapely's Hausdorff distance), and ends at the goal."""
+    cl = route_commands(route, garment, robot, tolerance_mm=tolerance_mm)
     if via_text:
         cl = parse_commands(format_commands(cl))
     rep = replay_commands(garment, cl)
-    wps = _turning_waypoints(route)
-    assert len(rep.poses) == len(wps), (rep.poses, wps)
-    for w, p in zip(wps, rep.poses):
-        assert p.piece == w.piece
-        assert math.hypot(p.x_mm - w.x_mm, p.y_mm - w.y_mm) <= TOL_MM
-        assert abs(math.remainder(p.heading_deg - w.heading_deg, 360.0)) <= 1e-11  # observed 2.0e-13 deg
     assert [c.seam for c in rep.crossings] == [c.seam for c in route.crossings]
     assert all(c.announced for c in rep.crossings)
     assert rep.unmatched_notices == ()
-    assert rep.distance_mm == pytest.approx(route.length_mm, rel=3e-14)  # observed 3.0e-15 relative
+    hausdorff, end = er.deviation(route, rep)
+    assert hausdorff <= ROUND_MM + tolerance_mm, (hausdorff, rep.poses)
+    assert end <= ROUND_MM
+    assert rep.end.piece == route.legs[-1].piece
+    # each go is rounded to 0.01 mm and a crossing may move by the rounding: observed 0.066 mm
+    assert rep.distance_mm == pytest.approx(route.length_mm, abs=ROUND_MM + 0.005 * len(cl.commands))
     return rep
 
 
@@ -179,4 +168,4 @@ def test_crossings_chained_at_a_corner_where_three_pieces_meet():
     route = er.build_route(legs, [("middle", 1.0, 45.0), ("top_right", 1.0, 45.0)])
     rep = assert_replay_matches(route, g)
     assert [(c.from_piece, c.to_piece) for c in rep.crossings] == [("l", "r"), ("r", "t")]
-    assert rep.end.heading_deg == pytest.approx(math.degrees(math.atan2(100.0, 150.0)))
+    assert rep.end.heading_deg == pytest.approx(math.degrees(math.atan2(100.0, 150.0)), abs=0.005)  # 0.01° steps

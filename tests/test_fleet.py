@@ -10,7 +10,7 @@ import pytest
 
 from garnav import Edge, Garment, Landmark, Piece, Placement, Robot, Seam, SeamRun
 from garnav.errors import SpecError
-from garnav.export.commands import format_commands, parse_commands
+from garnav.export.commands import Wait, format_commands, parse_commands
 from garnav.export.replay import replay_commands
 from garnav.fleet import (
     FleetError,
@@ -79,8 +79,10 @@ def assert_commands_reach_goals(garment, schedule):
         rp = replay_commands(garment, cl)
         goal = p.moves[-1]
         assert rp.end.piece == goal.piece
-        assert math.dist((rp.end.x_mm, rp.end.y_mm), goal.p0) < 1e-6
-        assert rp.wait_s == pytest.approx(p.arrive_s - p.driving_s, abs=1e-6)
+        # written to 0.01 mm and 0.01° (observed 0.0049 mm), waits to 0.001 s
+        assert math.dist((rp.end.x_mm, rp.end.y_mm), goal.p0) < 0.05
+        waits = sum(isinstance(c, Wait) for c in cl.commands)
+        assert rp.wait_s == pytest.approx(p.arrive_s - p.driving_s, abs=0.0005 * waits + 1e-6)
 
 
 # ------------------------------------------------------------------ the checks

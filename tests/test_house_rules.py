@@ -17,14 +17,14 @@ MAX_LINES = 600
 LAYERS = [
     {"errors", "polyline", "cautions"},
     {"atomic", "textio"},
-    {"mechanics.profile", "uncertainty.model", "zones.model"},  # spec sub-tables (model and spec read them)
+    {"mechanics.profile", "uncertainty.model", "zones.model", "poses.model"},  # spec sub-tables (model and spec read them)
     {"model"},
     {"garnav"},  # the package's own __init__ (re-exports the model)
     {"spec"},
     {"plan", "patterns"},
     {"drape"},
     {"export", "mechanics", "flatten", "zones"},
-    {"uncertainty"},
+    {"uncertainty", "poses"},  # poses: every pose's drape, zones and mechanics for one route
     {"telemetry"},
     {"preview", "link", "recording"},  # link: the robot protocol, transports and the simulated robot; recording: MCAP
     {"fleet", "page"},

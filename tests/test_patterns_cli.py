@@ -21,7 +21,7 @@ def test_export_then_import_keeps_pieces_and_seams(tmp_path, capsys, fmt):
     spec = tmp_path / "top.toml"
     assert main(["import", str(out), "--out", str(spec), "--seams", str(seams)]) == 0
     text = capsys.readouterr().out
-    assert "5 pieces, 12 seams, 5 keep-outs, 10 landmarks" in text
+    assert "5 pieces, 12 seams, 5 keep-outs, 11 landmarks" in text
     g, h = load_garment(DEMO), load_garment(spec)
     assert h.seams == g.seams
     assert [p.edge_names for p in h.pieces] == [p.edge_names for p in g.pieces]

@@ -128,7 +128,7 @@ def test_cli_sweep_writes_document_commands_and_sheet(flat, tmp_path, capsys):
     last = replay.poses[-1]
     end = doc["waypoints"][-1]
     assert last.piece == end["piece"]
-    assert np.hypot(last.x_mm - end["x"], last.y_mm - end["y"]) < 1e-6  # observed ~1e-12
+    assert np.hypot(last.x_mm - end["x"], last.y_mm - end["y"]) < 0.05  # 0.01 mm / 0.01° steps; observed 0.0044 mm
     from garnav.preview.sheet import SheetStyle
 
     assert SheetStyle().coverage_fill in sheet.read_text()  # the covered ground is shaded

@@ -98,11 +98,13 @@ def test_demo_timing_keeps_the_paths_and_the_commands_wait(back):
         assert plan.length_mm == pytest.approx(route.length_mm, rel=1e-9)
         cmds = timed.commands(g, j)
         waits = sum(c.seconds for c in cmds.commands if isinstance(c, Wait))
-        assert waits == pytest.approx(wait, abs=1e-6)
+        n_waits = sum(isinstance(c, Wait) for c in cmds.commands)
+        assert waits == pytest.approx(wait, abs=0.0005 * n_waits + 1e-6)  # waits written to 0.001 s
         # replayed (garnav.export.replay), the commands end where the stretch ends
         end = replay_commands(g, cmds).end
         last = route.legs[-1].points[-1]
-        assert end.piece == route.legs[-1].piece and math.hypot(end.x_mm - last[0], end.y_mm - last[1]) < 1e-6
+        # written to 0.01 mm and 0.01°
+        assert end.piece == route.legs[-1].piece and math.hypot(end.x_mm - last[0], end.y_mm - last[1]) < 0.05
 
 
 def test_far_apart_stretches_need_no_wait():

@@ -98,13 +98,20 @@ def _meshes(garment, folder: Path, drape_opt, report: dict, findings: list) -> t
     from garnav.plan.readiness import Finding
 
     lines = []
-    for label, rel in (("drape", garment.drape), ("body", garment.body)):
-        if rel is None:
+    listed = [("drape", garment.drape), ("body", garment.body)]
+    for pose in garment.poses:  # [[pose]]: each pose's own meshes (docs/poses.md)
+        listed += [(f"pose {pose.name} drape", pose.drape), (f"pose {pose.name} body", pose.body)]
+    seen = set()
+    for label, rel in listed:
+        if rel is None or rel in seen:
             continue
+        seen.add(rel)
         path = folder / rel
         state = "found" if path.is_file() else "NOT FOUND (needed only for 3D)"
         report["meshes"].append({"role": label, "path": str(path), "found": path.is_file()})
         lines.append(f"{label} mesh: {path}: {state}")
+    if garment.poses and not drape_opt:
+        return lines, _pose_drapes(garment, folder, drape_opt is not None, report, findings)
     want = drape_opt if drape_opt is not None else (garment.drape if garment.drape and (folder / garment.drape).is_file() else None)
     if want is None:
         return lines, ""
@@ -118,20 +125,60 @@ def _meshes(garment, folder: Path, drape_opt, report: dict, findings: list) -> t
             raise
         findings.insert(0, Finding("error", "drape_unreadable", f"drape '{garment.drape}'", str(exc)))
         return lines, ""
-    for c in rep.seams:
-        if c.max_gap_mm > SEAM_GAP_ERROR_MM:
-            findings.insert(0, Finding("error", "seam_gap", f"seam '{c.seam}'",
-                                       f"its two runs lie up to {c.max_gap_mm:.2f} mm apart on the drape "
-                                       f"(more than {SEAM_GAP_ERROR_MM:g} mm): drape and pattern disagree"))
+    findings[:0] = _seam_gap_findings(rep)
     report["drape"] = dataclasses.asdict(rep)
     if drape_opt is None:
         return lines, ""
+    return lines, _drape_text(garment, drape, rep)
+
+
+def _seam_gap_findings(rep, where: str = "") -> list:
+    from garnav.plan.readiness import Finding
+
+    return [Finding("error", "seam_gap", f"{where}seam '{c.seam}'",
+                    f"its two runs lie up to {c.max_gap_mm:.2f} mm apart on the drape "
+                    f"(more than {SEAM_GAP_ERROR_MM:g} mm): drape and pattern disagree")
+            for c in rep.seams if c.max_gap_mm > SEAM_GAP_ERROR_MM]
+
+
+def _drape_text(garment, drape, rep) -> str:
     text = rep.text()
     if garment.body_zones:  # each zone's fabric and the landmarks in it (docs/zones.md)
         from garnav.zones.project import zone_report_lines
 
         text = text.rstrip("\n") + "\n\n" + "\n".join(zone_report_lines(garment, drape))
-    return lines, text
+    return text
+
+
+def _pose_drapes(garment, folder: Path, show: bool, report: dict, findings: list) -> str:
+    """Link and report every pose's drape (``show``: the text too); each pose's problems are
+    findings naming the pose. ``report["drape"]`` is the default pose's, ``report["poses"]`` all."""
+    from garnav.drape import drape_report, load_drape
+    from garnav.plan.readiness import Finding
+    from garnav.poses.load import default_pose
+
+    base = default_pose(garment)
+    report["poses"] = []
+    texts = []
+    for pose in garment.poses:
+        path = folder / pose.drape
+        if not show and not path.is_file():
+            continue
+        try:
+            drape = load_drape(garment, str(path))
+            rep = drape_report(garment, drape)
+        except GarnavError as exc:
+            findings.insert(0, Finding("error", "drape_unreadable", f"pose '{pose.name}' drape '{pose.drape}'",
+                                       str(exc)))
+            continue
+        findings[:0] = _seam_gap_findings(rep, f"pose '{pose.name}' ")
+        entry = {"pose": pose.name, "posture": pose.posture, "drape": dataclasses.asdict(rep)}
+        report["poses"].append(entry)
+        if pose == base:
+            report["drape"] = entry["drape"]
+        texts.append(f"pose '{pose.name}' ({pose.posture}{', default' if pose == base else ''}): "
+                     f"{pose.drape}\n" + _drape_text(garment, drape, rep))
+    return "\n\n".join(texts) if show else ""
 
 
 def _finish(report: dict, as_json: str | None) -> int:

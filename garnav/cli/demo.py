@@ -48,6 +48,9 @@ def register(subparsers) -> None:
         help=f"output folder (default: {DEFAULT_OUT}/ in the current folder; with --rebuild: "
         "meshes/ of this checkout)",
     )
+    from garnav.cli._routes import add_command_tolerance_option
+
+    add_command_tolerance_option(parser)
     parser.set_defaults(func=run)
 
 
@@ -70,7 +73,7 @@ def _rebuild(out: Path) -> int:
 
     from garnav.demo import build_demo
 
-    with tqdm(total=4, desc="building demo", unit="step", leave=False, disable=None) as bar:
+    with tqdm(total=5, desc="building demo", unit="step", leave=False, disable=None) as bar:
         files = build_demo(out, progress=lambda label: (bar.set_postfix_str(label), bar.update(1)))
     print(f"drape mesh {files.drape.name}: {files.vertices} vertices, {files.triangles} triangles")
     return 0
@@ -87,7 +90,7 @@ def _fleet(garment, out: Path) -> list[str]:
     return lines
 
 
-def _demo(out: Path, fleet: bool = False) -> int:
+def _demo(out: Path, fleet: bool = False, tolerance: float | None = None) -> int:
     from tqdm import tqdm
 
     from garnav.demo.run import DEMO_STEPS, run_demo, summary_table
@@ -95,7 +98,8 @@ def _demo(out: Path, fleet: bool = False) -> int:
     os.environ.setdefault("PYVISTA_OFF_SCREEN", "true")
     began = time.perf_counter()
     with tqdm(total=len(DEMO_STEPS), desc="garnav demo", unit="step", leave=False, disable=None) as bar:
-        result = run_demo(out, progress=lambda label: (bar.set_postfix_str(label), bar.update(1)))
+        result = run_demo(out, progress=lambda label: (bar.set_postfix_str(label), bar.update(1)),
+                          command_tolerance_mm=tolerance)
     fleet_lines = _fleet(result.garment, out / "fleet") if fleet else []
     seconds = time.perf_counter() - began
     garment = result.garment
@@ -104,11 +108,21 @@ def _demo(out: Path, fleet: bool = False) -> int:
           f"(radius {result.robot.radius_mm:g} mm, {result.robot.speed_mm_s:g} mm/s)")
     print()
     print(summary_table(result))
+    if result.poses is not None:
+        from garnav.demo.pose_demo import pose_summary_lines
+
+        print()
+        print("\n".join(pose_summary_lines(result.poses)))
     print()
     print(f"{len(result.files)} files in {result.out_dir} ({seconds:.1f} s):")
     for r in result.routes:
         print(f"  {r.name}.json / .csv / .cmd  — {r.about}")
-    for role in ("screenshot", "sheet_svg", "sheet_png", "page", "spec", "drape", "body"):
+    if result.poses is not None:
+        p = result.poses
+        print(f"  {p.start}_to_{p.goal}.json, {p.start}_to_{p.goal}_robust.json / .cmd  — the same route in "
+              "both poses, and the route fine in both (docs/poses.md)")
+    for role in ("screenshot", "sheet_svg", "sheet_png", "page", "spec", "drape", "body", "raised_drape",
+                 "raised_body"):
         if role in result.files:
             print(f"  {result.files[role].name}")
     if fleet_lines:
@@ -125,4 +139,7 @@ def _demo(out: Path, fleet: bool = False) -> int:
 def run(args: argparse.Namespace) -> int:
     if args.rebuild:
         return _rebuild(Path(args.out) if args.out else _default_out())
-    return _demo(Path(args.out) if args.out else Path(DEFAULT_OUT), fleet=args.fleet)
+    from garnav.cli._routes import command_tolerance
+
+    tolerance = command_tolerance(args)  # a bad tolerance fails before any work
+    return _demo(Path(args.out) if args.out else Path(DEFAULT_OUT), fleet=args.fleet, tolerance=tolerance)

@@ -35,6 +35,9 @@ def register(subparsers) -> None:
     parser.add_argument("--seed", type=int, default=0, metavar="S", help="random seed (default 0)")
     parser.add_argument("--relocalise", action="store_true", help="use seam bumps to fix the position across each seam")
     parser.add_argument("--json", metavar="OUT", help="write the drift document as JSON")
+    from garnav.zones.sources import add_ignore_zones_option
+
+    add_ignore_zones_option(parser)
     parser.set_defaults(func=run)
 
 
@@ -45,7 +48,13 @@ def run(args: argparse.Namespace) -> int:
 
     if args.runs < 2 or args.runs > 5_000_000:
         raise QueryError(f"--runs must be within 2..5000000, got {args.runs}")
+    from garnav.cli._routes import with_body_zones
+
     garment, robot, commands, _ = route_inputs(args.route, args.garment)
+    # body zones count as keep-outs (contact with an implant or neck zone is the contact that matters)
+    garment, note = with_body_zones(garment, args.garment, getattr(args, "ignore_body_zones", False))
+    if note:
+        print(note)
     model = robot.odometry or OdometryModel()
     doc = drift_report(garment, robot, commands, model, runs=args.runs, seed=args.seed,
                        relocalise=True if args.relocalise else None)

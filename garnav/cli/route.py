@@ -23,6 +23,7 @@ writes nothing. Heavy modules are imported inside :func:`run` so that the parser
 from __future__ import annotations
 
 import argparse
+import contextlib
 import dataclasses
 import os
 import sys
@@ -93,6 +94,9 @@ def register(subparsers) -> None:
     from garnav.zones.sources import add_ignore_zones_option
 
     add_ignore_zones_option(parser)
+    from garnav.cli._poses import add_pose_options
+
+    add_pose_options(parser)
     parser.add_argument("--robot", metavar="ROBOT.toml", help="use the robot of this robot file (a [robot] table, "
                         "optionally with [robot.physics]) instead of the spec's (docs/physics.md)")
     parser.add_argument("--cost", choices=("length", "time", "energy"), default=None,
@@ -105,6 +109,9 @@ def register(subparsers) -> None:
     parser.add_argument("--json", metavar="FILE", help="write the route document as JSON (docs/route-format.md)")
     parser.add_argument("--csv", metavar="FILE", help="write the waypoints as CSV")
     parser.add_argument("--commands", metavar="FILE", help="write the robot commands as text (docs/commands.md)")
+    from garnav.cli._routes import add_command_tolerance_option
+
+    add_command_tolerance_option(parser)
     parser.add_argument("--mcap", metavar="FILE", help="write the plan, the lifted route, poses along it and the "
                         "garment mesh as an MCAP file of ROS 2 messages (docs/mcap.md; needs garnav[mcap])")
     parser.add_argument(
@@ -135,21 +142,37 @@ def run(args: argparse.Namespace) -> int:
     from garnav.drape.inverse import pattern_locator
     from garnav.drape.lift import lift_route
     from garnav.drape.sources import spec_drape_locator
-    from garnav.export.commands import route_commands, write_commands
+    from garnav.cli._routes import command_tolerance
+    from garnav.export.commands import precision_comment, route_commands, write_commands
     from garnav.export.waypoints import route_document, write_route_csv, write_route_json
     from garnav.model import Robot
     from garnav.plan import Planner
+
+    tolerance = command_tolerance(args)  # a bad tolerance fails before any work
 
     if getattr(args, "posture", None) or getattr(args, "gravity", None):
         from garnav.mechanics.gravity import parse_gravity
 
         parse_gravity(args.gravity, args.posture)  # a bad posture fails before any work
-    garment, drape = _garment_and_drape(args)
-    from garnav.zones.sources import apply_zones, ignored_zones_note
+    from garnav.cli._poses import choose_poses, wants_poses
 
-    garment = apply_zones(garment, drape, args.garment, getattr(args, "ignore_body_zones", False))
-    if (note := ignored_zones_note(garment, drape)) is not None:
-        print(note)
+    choice = None
+    if wants_poses(args):  # --pose NAME|all, --robust: docs/poses.md
+        from garnav.drape.sources import garment_and_drape, is_mesh_path
+
+        if is_mesh_path(args.garment):
+            raise QueryError(f"--pose/--robust: {args.garment} is a mesh, one drape; poses are [[pose]] "
+                             "tables of a garment spec (docs/poses.md)")
+        as_read, _ = garment_and_drape(args.garment, None)
+        choice = choose_poses(args, as_read, getattr(args, "drape", None))
+        garment, drape = choice.garment, choice.drape
+    else:
+        garment, drape = _garment_and_drape(args)
+        from garnav.zones.sources import apply_zones, ignored_zones_note
+
+        garment = apply_zones(garment, drape, args.garment, getattr(args, "ignore_body_zones", False))
+        if (note := ignored_zones_note(garment, drape)) is not None:
+            print(note)
     if drape is not None:
         locate = pattern_locator(drape, garment)
     else:
@@ -179,37 +202,58 @@ def run(args: argparse.Namespace) -> int:
     texts = [args.start, *args.via, args.goal]
     roles = ["start"] + ["via point"] * len(args.via) + ["goal"]
     stops = [planner.point(t, snap=args.snap, role=r) for t, r in zip(texts, roles, strict=False)]
-    physics = _physics_planner(args, planner, drape, robot)
+    physics = _physics_planner(args, planner, drape, robot, None if choice is None else choice.posture)
     mechanics = dock = None
     confident = None
     lifted = None
-    if getattr(args, "confidence", None) is not None:  # dead reckoning: garnav.uncertainty.confidence
-        if physics is not None:
-            raise QueryError("--confidence plans for length and contact risk only, not yet together with "
-                             "the robot's physics profile: add --no-drape to plan without mechanics, or "
-                             "leave out --confidence (docs/uncertainty.md)")
-        from garnav.uncertainty.confidence import confident_route
+    with _search_progress(planner):  # a bar on stderr for the exact seam search's rounds
+        if getattr(args, "confidence", None) is not None:  # dead reckoning: garnav.uncertainty.confidence
+            if physics is not None:
+                raise QueryError("--confidence plans for length and contact risk only, not yet together with "
+                                 "the robot's physics profile: add --no-drape to plan without mechanics, or "
+                                 "leave out --confidence (docs/uncertainty.md)")
+            from garnav.uncertainty.confidence import confident_route
 
-        route = planner.route(stops[0], stops[-1], via=stops[1:-1])
-        confident = confident_route(garment, robot, stops, args.confidence, base_clearance_mm=args.clearance,
-                                    locate_3d=locate, first=(planner, route))
-        route = confident.route
-    elif physics is None:
-        route = planner.route(stops[0], stops[-1], via=stops[1:-1])
-    else:
-        planned = physics.route(stops[0], stops[-1], via=stops[1:-1])
-        route, lifted, mechanics = planned.route, planned.lifted, planned.mechanics
-        dock = physics.dock_check(planned, stops[-1])
+            route = planner.route(stops[0], stops[-1], via=stops[1:-1])
+            confident = confident_route(garment, robot, stops, args.confidence, base_clearance_mm=args.clearance,
+                                        locate_3d=locate, first=(planner, route), command_tolerance_mm=tolerance)
+            route = confident.route
+        elif physics is None:
+            route = planner.route(stops[0], stops[-1], via=stops[1:-1])
+        else:
+            planned = physics.route(stops[0], stops[-1], via=stops[1:-1])
+            route, lifted, mechanics = planned.route, planned.lifted, planned.mechanics
+            dock = physics.dock_check(planned, stops[-1])
+    reports = ()
+    if choice is not None and choice.report:
+        from garnav.cli._poses import report_poses
+
+        planned_before = planned if physics is not None else None
+        route, planned, reports = report_poses(args, choice, as_read, planner, physics, stops, route,
+                                               planned_before)
+        if physics is not None and planned is not planned_before:  # --robust took another route
+            lifted, mechanics = planned.lifted, planned.mechanics
+            dock = physics.dock_check(planned, stops[-1])
     print(route_summary(route, args.start, args.goal))
     if confident is not None:
         print("\n".join(confident.lines()))
     for text, pp in zip(texts, stops, strict=False):
         if pp.label.endswith("(snapped)"):
             print(f"note: {text} moved to the nearest free point {pp.piece}:{pp.x:.1f},{pp.y:.1f}")
+    search = planner.last_search
+    if search is not None and search.limited:  # bounded work (garnav.plan.exact.MAX_SPLIT_WINDOWS)
+        from garnav.plan.exact import MAX_SPLIT_WINDOWS
+
+        gap = max(search.cost_mm - search.lower_mm, 0.0)
+        print(f"note: --exact-seams: the search stopped at its limit of {MAX_SPLIT_WINDOWS} split seam windows "
+              f"before certifying the route; it is at most {gap:.3g} mm ({100.0 * gap / max(search.cost_mm, 1e-9):.2g} %) "
+              "longer than the shortest")
     if lifted is None and drape is not None:
         lifted = lift_route(drape, garment, route)
     if lifted is not None:
         print("\n".join(lifted.lines()))
+    for rep in reports:
+        print(rep.line())
     if mechanics is not None:
         print("\n".join(mechanics.lines()))
         print(dock_line(dock))
@@ -217,16 +261,19 @@ def run(args: argparse.Namespace) -> int:
             print(f"note: the shortest route ({planned.shortest_route.length_mm:.1f} mm) is not drivable "
                   f"({planned.shortest.unsafe[0][1]}); this longer one keeps every margin")
     if args.json or args.csv:
-        doc = route_document(route, garment, robot, lifted, mechanics)
+        doc = route_document(route, garment, robot, lifted, mechanics, command_tolerance_mm=tolerance)
         if mechanics is not None:
             doc["physics"]["return_to_dock"] = dock
+        if reports:
+            doc["poses"] = [rep.to_dict() for rep in reports]
         if args.json:
             write_route_json(args.json, doc)
         if args.csv:
             write_route_csv(args.csv, doc)
     if args.commands:
-        comment = f"{args.start} to {args.goal} on garment '{garment.name}', robot '{robot.name}'"
-        write_commands(args.commands, route_commands(route, garment, robot), comment=comment)
+        comment = (f"{args.start} to {args.goal} on garment '{garment.name}', robot '{robot.name}'\n"
+                   + precision_comment(tolerance))
+        write_commands(args.commands, route_commands(route, garment, robot, tolerance_mm=tolerance), comment=comment)
     if getattr(args, "mcap", None):
         from garnav.recording import McapRecorder
 
@@ -239,9 +286,29 @@ def run(args: argparse.Namespace) -> int:
     return 0
 
 
-def _physics_planner(args: argparse.Namespace, planner: Planner, drape, robot: Robot):
+@contextlib.contextmanager
+def _search_progress(planner):
+    """With ``--exact-seams``, a progress bar on stderr (on a terminal only) for the rounds of the
+    certified seam search, which can take a minute on a whole garment: windows added and the gap
+    between the route and its lower bound."""
+    if not planner.exact_seams:
+        yield
+        return
+    from tqdm import tqdm
+
+    with tqdm(desc="exact seam search", unit="round", leave=False, disable=None) as bar:
+        planner.seam_search.progress = lambda rounds, windows, lower, upper: (
+            bar.set_postfix_str(f"{windows} windows, gap {upper - lower:.3g} mm"), bar.update(1))
+        try:
+            yield
+        finally:
+            planner.seam_search.progress = None
+
+
+def _physics_planner(args: argparse.Namespace, planner: Planner, drape, robot: Robot, pose_posture: str | None = None):
     """A PhysicsPlanner when the robot has a physics profile and there is a drape; None when
-    planning for length only. Physics options without a profile or a drape are refused."""
+    planning for length only. Physics options without a profile or a drape are refused.
+    ``pose_posture`` (a chosen pose's) is the posture when neither --posture nor --gravity is given."""
     asked = [o for o, v in (("--cost", getattr(args, "cost", None)), ("--posture", getattr(args, "posture", None)),
                             ("--gravity", getattr(args, "gravity", None))) if v is not None]
     if robot.physics is None or drape is None:
@@ -253,7 +320,8 @@ def _physics_planner(args: argparse.Namespace, planner: Planner, drape, robot: R
     from garnav.mechanics.gravity import parse_gravity
     from garnav.mechanics.planning import PhysicsPlanner
 
-    posture, g = parse_gravity(getattr(args, "gravity", None), getattr(args, "posture", None))
+    posture, g = parse_gravity(getattr(args, "gravity", None), getattr(args, "posture", None) or
+                               (None if getattr(args, "gravity", None) else pose_posture))
     return PhysicsPlanner(planner, drape, gravity=g, posture=posture, cost=getattr(args, "cost", None) or "length")
 
 

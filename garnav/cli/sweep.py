@@ -65,6 +65,9 @@ def register(subparsers) -> None:
     parser.add_argument("--json", metavar="FILE", required=True, help="write the sweep's route document (JSON)")
     parser.add_argument("--csv", metavar="FILE", help="write the waypoints as CSV")
     parser.add_argument("--commands", metavar="FILE", help="write the robot commands as text (docs/commands.md)")
+    from garnav.cli._routes import add_command_tolerance_option
+
+    add_command_tolerance_option(parser)
     parser.add_argument("--sheet", metavar="FILE", help="write the pattern sheet with the covered ground shaded (.svg or .png)")
     parser.add_argument("--screenshot", metavar="PNG", help="write a 3D picture of the covered drape (needs a drape)")
     parser.set_defaults(func=run)
@@ -74,7 +77,10 @@ def run(args: argparse.Namespace) -> int:
     from garnav.drape.inverse import pattern_locator
     from garnav.drape.lift import lift_route
     from garnav.drape.sources import spec_drape_locator
-    from garnav.export.commands import route_commands, write_commands
+    from garnav.cli._routes import command_tolerance
+    from garnav.export.commands import precision_comment, route_commands, write_commands
+
+    tolerance = command_tolerance(args)  # a bad tolerance fails before any work
     from garnav.export.waypoints import write_route_csv, write_route_json
     from garnav.plan import Planner
     from garnav.sweep import coverage_face_mask, figures_lines, parse_region, plan_sweep, resolve_region, sweep_document
@@ -114,14 +120,17 @@ def run(args: argparse.Namespace) -> int:
     energy = sweep_energy_J(sweep, robot, drape, lifted, gravity)
     physics = getattr(robot, "physics", None)
     doc = sweep_document(sweep, garment, robot, lifted, region_text=args.region, energy_J=energy,
-                         battery_j=physics.battery_j if physics is not None else None)
+                         battery_j=physics.battery_j if physics is not None else None,
+                         command_tolerance_mm=tolerance)
     print("\n".join(figures_lines(doc["sweep"])))
     write_route_json(args.json, doc)
     if args.csv:
         write_route_csv(args.csv, doc)
     if args.commands:
-        comment = f"sweep of {' + '.join(args.region)} on garment '{garment.name}', robot '{robot.name}'"
-        write_commands(args.commands, route_commands(sweep.route, garment, robot), comment=comment)
+        comment = (f"sweep of {' + '.join(args.region)} on garment '{garment.name}', robot '{robot.name}'\n"
+                   + precision_comment(tolerance))
+        write_commands(args.commands, route_commands(sweep.route, garment, robot, tolerance_mm=tolerance),
+                       comment=comment)
     if args.robots > 1:
         _write_split(args, garment, robot, drape, sweep)
     if args.sheet:
@@ -166,7 +175,7 @@ def _write_split(args: argparse.Namespace, garment, robot, drape, sweep) -> None
     """Per-robot route documents (and commands, with waits) of the sweep cut into --robots
     stretches and timed apart (:func:`garnav.sweep.schedule.schedule_sweep`), and the schedule."""
     from garnav.drape.lift import lift_route
-    from garnav.export.commands import write_commands
+    from garnav.export.commands import precision_comment, write_commands
     from garnav.export.waypoints import route_document, write_route_json
     from garnav.fleet.document import write_schedule_json
     from garnav.sweep.schedule import schedule_sweep
@@ -176,13 +185,14 @@ def _write_split(args: argparse.Namespace, garment, robot, drape, sweep) -> None
     for j, route in enumerate(timed.routes, start=1):
         lifted: Any = lift_route(drape, garment, route) if drape is not None else None
         out = stem.with_name(f"{stem.stem}.robot_{j}{stem.suffix or '.json'}")
-        write_route_json(out, route_document(route, garment, robot, lifted))
+        write_route_json(out, route_document(route, garment, robot, lifted, command_tolerance_mm=0.0))
         line = f"robot {j}: {route.length_mm:.0f} mm -> {out}"
         if args.commands:
             cstem = Path(args.commands)
             cout = cstem.with_name(f"{cstem.stem}.robot_{j}{cstem.suffix or '.cmd'}")
             write_commands(cout, timed.commands(garment, j - 1),
-                           comment=f"sweep stretch {j} of {args.robots}, with its waits for the others")
+                           comment=f"sweep stretch {j} of {args.robots}, with its waits for the others\n"
+                           + precision_comment(0.0))
             line += f", {cout}"
         print(line)
     sched = stem.with_name(f"{stem.stem}.schedule{stem.suffix or '.json'}")

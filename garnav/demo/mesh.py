@@ -309,7 +309,9 @@ def _fan(
     return centre[None], tri
 
 
-def build_body(design: DemoDesign, inset: float = 3.0, around: int = 96) -> BodyMesh:
+def build_body(
+    design: DemoDesign, inset: float = 3.0, around: int = 96, arm_rings: tuple[int, int] = (30, 30)
+) -> BodyMesh:
     """A mannequin of the same surfaces, ``inset`` mm inside the garment, with neck, head and hands.
 
     Each part (torso, neck, head, two arms) is a closed, outward-wound surface; parts overlap
@@ -322,6 +324,8 @@ def build_body(design: DemoDesign, inset: float = 3.0, around: int = 96) -> Body
         Distance (mm) of the body surfaces inside the garment's.
     around : int
         Vertices around each ring.
+    arm_rings : (int, int)
+        Rings along the left and the right arm (a bent arm needs more).
     """
     dims = design.dims
     verts: list[np.ndarray] = []
@@ -383,12 +387,12 @@ def build_body(design: DemoDesign, inset: float = 3.0, around: int = 96) -> Body
     c, f = _fan(north, centre + [0, 0, radii[2]], count, outward_ccw=True)
     add(c, f)
     # arms: the sleeve cones moved inwards, from inside the torso to a hand beyond the cuff
-    for side in ("left", "right"):
+    for side, rings in zip(("left", "right"), arm_rings):
         cone = design.cones[side]
         k = math.sin(cone.beta)
         rho_wrist = dims.sleeve_radius_wrist / k
         rho_joint = dims.sleeve_radius_shoulder / k
-        rhos = np.linspace(rho_wrist - 160.0, rho_joint + 40.0, 30)
+        rhos = np.linspace(rho_wrist - 160.0, rho_joint + 40.0, rings)
         phis = np.linspace(-math.pi, math.pi, around, endpoint=False)
         tube = np.concatenate(
             [

@@ -49,6 +49,7 @@ from garnav.model import (
 )
 from garnav.mechanics.profile import RobotPhysics
 from garnav.demo.zones import demo_body_zones
+from garnav.demo.poses import demo_poses
 from garnav.polyline import cumulative_length
 
 __all__ = [
@@ -435,9 +436,11 @@ def _landmarks(dims: DemoDimensions, width: float, parts: _Parts) -> tuple[Landm
             "sternum_left",
             "front",
             mid + towards_left * 60.0,
-            height - 60.0,
+            height - 25.0,
             description="left chest beside the placket, above the pocket",
         ),
+        Landmark("sternum_right", "front", mid - towards_left * 60.0, height - 60.0,
+                 description="right chest beside the placket, away from the implant"),
         Landmark("omphalion", "front", mid, 230.0, description="navel, front centre"),
         Landmark(
             "dock", "back", mid + 90.0, 120.0, description="parking spot beside the charging dock"
@@ -554,18 +557,12 @@ def build_design(dims: DemoDimensions = DemoDimensions()) -> DemoDesign:
         keepouts=_keepouts(dims, width),
         landmarks=_landmarks(dims, width, parts),
         body_zones=demo_body_zones(dims),
-        robot=Robot(
-            "demo_crawler",
-            radius_mm=20.0,
-            wheel_base_mm=30.0,
-            speed_mm_s=25.0,
-            side="outside",
-            edge_margin_mm=5.0,
-            physics=DEMO_PHYSICS,
-        ),
+        robot=Robot("demo_crawler", radius_mm=20.0, wheel_base_mm=30.0, speed_mm_s=25.0, side="outside",
+                    edge_margin_mm=5.0, physics=DEMO_PHYSICS),
         sheet_size_mm=sheet,
         drape="sensing_top_drape.obj",
         body="mannequin.obj",
+        poses=demo_poses(),
         description=(
             "Demo: a long-sleeved sensing top for a rehabilitation lab (invented scenario). "
             "Pieces are exact developments of a stylised mannequin (elliptic-cylinder torso, "

@@ -50,7 +50,7 @@ DEMO_ROUTES: tuple[tuple[str, str, str], ...] = (
     ("wrist_left", "sternum_left", "sleeve to chest, round the back: the implant zone blocks the front armhole"),
     ("olecranon_right", "dock", "elbow back to the charging dock on the lower back"),
     ("wrist_right", "scapula_right", "across the right armhole to the shoulder blade, a body landmark"),
-    ("omphalion", "sternum_left", "straight up the chest is too steep for the drive: a switchback"),
+    ("omphalion", "sternum_right", "straight up the chest is too steep for the drive: a switchback"),
 )
 
 #: Labels passed to ``progress`` (one call after each step), in order.
@@ -58,6 +58,7 @@ DEMO_STEPS: tuple[str, ...] = (
     "garment and drape",
     "planner",
     *(f"route {s} → {g}" for s, g, _ in DEMO_ROUTES),
+    "poses",
     "demo files",
     "3D view",
     "sheet",
@@ -90,6 +91,10 @@ class DemoRoute:
     planned : garnav.mechanics.PlannedRoute, optional
         With the robot's physics profile: the route's mechanics, and the refused shortest route
         when that one was not drivable.
+    drift : dict
+        Open-loop dead reckoning of the route's commands (:data:`DRIFT_RUNS` seeded Monte Carlo
+        runs of the robot's odometry model): ``cross_track_2sigma_mm``, ``contact`` (share of runs
+        touching a hard keep-out, a body zone or an open edge) and ``zone_contact`` (a body zone).
     """
 
     name: str
@@ -101,6 +106,28 @@ class DemoRoute:
     document: dict
     files: dict[str, Path]
     planned: object = None
+    drift: dict | None = None
+
+
+#: Monte Carlo runs of each demo route's open-loop drift (seed 0).
+DRIFT_RUNS = 2000
+
+
+def route_drift(garment, robot, route, risk) -> dict:
+    """Open-loop drift of one route's commands: cross-track 2σ and the share of seeded Monte Carlo
+    runs (:data:`DRIFT_RUNS`) whose disc touches a hard keep-out, a body zone (names ``ZONE@PIECE``)
+    or an open edge (``risk``: :class:`garnav.uncertainty.montecarlo.RiskMap` of ``garment``)."""
+    from garnav.export.commands import route_commands
+    from garnav.uncertainty import OdometryModel
+    from garnav.uncertainty.montecarlo import monte_carlo
+    from garnav.uncertainty.plan_ops import compile_commands
+
+    plan = compile_commands(garment, route_commands(route, garment, robot), robot)
+    mc = monte_carlo(plan, robot.odometry or OdometryModel(), risk, runs=DRIFT_RUNS, seed=0)
+    zones = [v for k, v in mc.contact.items() if "@" in k]
+    return {"cross_track_2sigma_mm": 2.0 * mc.cross_track_sigma_mm,
+            "contact": float(mc.any_contact.mean()),
+            "zone_contact": float(np.any(zones, axis=0).mean()) if zones else 0.0}
 
 
 @dataclass(frozen=True, eq=False)
@@ -131,6 +158,7 @@ class DemoResult:
     screenshot_px: tuple[int, int]
     seconds: dict[str, float] = field(default_factory=dict)
     notes: tuple[str, ...] = ()
+    poses: object = None  # garnav.demo.pose_demo.PoseDemo
 
 
 @dataclass(frozen=True, eq=False)
@@ -179,6 +207,7 @@ def run_demo(
     progress: Callable[[str], None] | None = None,
     *,
     screenshot: bool = True,
+    command_tolerance_mm: float | None = None,
 ) -> DemoResult:
     """Run the whole job on the demo garment and write its outputs into ``out_dir``.
 
@@ -191,6 +220,9 @@ def run_demo(
         Called with each label of :data:`DEMO_STEPS` after that step.
     screenshot : bool
         Render the 3D view (off-screen, no display needed). False skips it (no pyvista/VTK work).
+    command_tolerance_mm : float, optional
+        Merge tolerance of the command lists, mm (None: the default of
+        :func:`garnav.export.commands.route_commands`, 0.5).
 
     Returns
     -------
@@ -200,19 +232,20 @@ def run_demo(
 
     if active_set() is None:  # called from Python: the demo's files are one set too (docs/outputs.md)
         with writing_set() as files_set:
-            result = run_demo(out_dir, progress, screenshot=screenshot)
+            result = run_demo(out_dir, progress, screenshot=screenshot, command_tolerance_mm=command_tolerance_mm)
             files_set.commit()
         return result
     from garnav.demo.build import BODY_NAME, DRAPE_NAME, SPEC_NAME
     from garnav.demo.mesh import body_obj_text, drape_obj_text
     from garnav.drape import lift_route
     from garnav.drape.inverse import pattern_locator
-    from garnav.export.commands import route_commands, write_commands
+    from garnav.export.commands import DEFAULT_TOLERANCE_MM, precision_comment, route_commands, write_commands
     from garnav.export.waypoints import route_document, write_route_csv, write_route_json
     from garnav.plan import Planner
     from garnav.errors import GarnavError
     from garnav.spec import save_garment
 
+    tolerance = DEFAULT_TOLERANCE_MM if command_tolerance_mm is None else float(command_tolerance_mm)
     step = progress or (lambda label: None)
     out = Path(out_dir)
     try:  # fail before the work, not after it
@@ -245,6 +278,9 @@ def run_demo(
 
     files: dict[str, Path] = {}
     routes = []
+    from garnav.uncertainty.montecarlo import RiskMap
+
+    risk = RiskMap(zoned, robot)  # keep-outs, body zones and open edges, as the robot's disc meets them
     for start, goal, about in DEMO_ROUTES:
         planned = None
         if physics is not None:
@@ -253,7 +289,8 @@ def run_demo(
         else:
             route = planner.route(start, goal)
             lifted = lift_route(drape, garment, route)
-        doc = route_document(route, garment, robot, lifted, planned.mechanics if planned else None)
+        doc = route_document(route, garment, robot, lifted, planned.mechanics if planned else None,
+                             command_tolerance_mm=tolerance)
         name = f"{start}_to_{goal}"
         rfiles = {
             "json": Path(write_route_json(out / f"{name}.json", doc)),
@@ -261,15 +298,23 @@ def run_demo(
             "commands": Path(
                 write_commands(
                     out / f"{name}.cmd",
-                    route_commands(route, garment, robot),
-                    comment=f"{start} to {goal} on garment '{garment.name}', robot '{robot.name}'",
+                    route_commands(route, garment, robot, tolerance_mm=tolerance),
+                    comment=f"{start} to {goal} on garment '{garment.name}', robot '{robot.name}'\n"
+                    + precision_comment(tolerance),
                 )
             ),
         }
         for path in rfiles.values():
             files[path.name] = path
-        routes.append(DemoRoute(name, start, goal, about, route, lifted, doc, rfiles, planned))
+        routes.append(DemoRoute(name, start, goal, about, route, lifted, doc, rfiles, planned,
+                                route_drift(zoned, robot, route, risk)))
         done(f"route {start} → {goal}")
+
+    from garnav.demo.pose_demo import run_pose_demo  # one route in both poses (docs/poses.md)
+
+    poses = run_pose_demo(scene, out, tolerance)
+    files.update(poses.files)
+    done("poses")
 
     files["spec"] = Path(save_garment(garment, out / SPEC_NAME))
     files["drape"] = Path(write_text_atomic(out / DRAPE_NAME, drape_obj_text(mesh, garment.name)))
@@ -320,7 +365,7 @@ def run_demo(
                      free_space=planner.free, title=f"Demo plan: robot routes on {garment.name} (invented scenario)")
     files["page"] = write_plan_page(out / PAGE_NAME, page)
     done("page")
-    return DemoResult(out, garment, robot, tuple(routes), files, px, seconds, tuple(notes))
+    return DemoResult(out, garment, robot, tuple(routes), files, px, seconds, tuple(notes), poses)
 
 
 def _margins(r: DemoRoute):
@@ -334,7 +379,8 @@ def summary_table(result: DemoResult) -> str:
     (world z) and the estimated time (driving plus turning in place); with the robot's physics
     profile also the energy (J and share of the battery) and the worst margin, followed by a note
     for every route whose shortest version was not drivable."""
-    head = ("route", "length", "3D length", "seams crossed", "turns", "climb up/down", "time")
+    head = ("route", "length", "3D length", "seams crossed", "turns", "climb up/down", "time", "drift 2σ",
+            "P(touch)")
     with_physics = any(r.planned is not None for r in result.routes)
     if with_physics:
         head += ("energy", "worst margin")
@@ -352,12 +398,17 @@ def summary_table(result: DemoResult) -> str:
                 f"{r.route.turn_count()} ({float(np.sum(np.abs(r.route.turns_deg))):.0f}°)",
                 f"{s['climb_up_mm']:.0f}/{s['climb_down_mm']:.0f} mm",
                 f"{s['estimated_time_s']:.1f} s",
+                *_drift_cells(r),
             )
             + (_physics_cells(r) if with_physics else ())
         )
     widths = [max(len(row[i]) for row in rows) for i in range(len(head))]
     lines = ["  ".join(cell.ljust(w) for cell, w in zip(row, widths)).rstrip() for row in rows]
     lines.insert(1, "  ".join("-" * w for w in widths))
+    if any(r.drift is not None for r in result.routes):
+        lines.append(f"drift: open-loop dead reckoning of each route's commands, {DRIFT_RUNS} seeded Monte Carlo "
+                     "runs of the invented odometry model; P(touch) = share of runs whose disc touches a hard "
+                     "keep-out, a body zone or an open edge (body zones keep a 15 mm drift allowance; docs/demo.md)")
     for r in result.routes:  # -- physics: why a longer route was taken
         if r.planned is not None and r.planned.shortest is not None:
             short = r.planned.shortest
@@ -369,6 +420,13 @@ def summary_table(result: DemoResult) -> str:
                 f"the planner took a longer one ({r.route.length_mm:.0f} mm) that keeps every margin"
             )
     return "\n".join(lines)
+
+
+def _drift_cells(r: DemoRoute) -> tuple[str, str]:
+    if r.drift is None:
+        return ("", "")
+    d = r.drift
+    return (f"{d['cross_track_2sigma_mm']:.0f} mm", f"{100 * d['contact']:.1f} % (zones {100 * d['zone_contact']:.1f} %)")
 
 
 def _physics_cells(r: DemoRoute) -> tuple[str, str]:

@@ -329,7 +329,7 @@ def parse_obj(text: str, source: str = "<string>") -> tuple[np.ndarray, np.ndarr
     if missing_uv or not uvs:
         return positions, faces, np.zeros(0)
     tidx = np.array(ft, dtype=np.int64).reshape(-1, 3)
-    if tidx.min() < 0 or tidx.max() >= len(uvs):
+    if tidx.size and (tidx.min() < 0 or tidx.max() >= len(uvs)):
         raise MeshError(f"{source}: a face refers to a texture coordinate that does not exist")
     return positions, faces, np.array(uvs, dtype=float)[tidx]
 

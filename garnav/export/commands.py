@@ -24,8 +24,12 @@ Text syntax (documented in docs/commands.md)::
     cross side_left_lower at 80 mm angle 72 deg lead left 11.04 mm
     go 200 mm
 
-Numbers are written in Python's shortest round-trip form, so a parsed file gives back the very
-same floats.
+Numbers are written to a fixed precision — 0.01 mm for distances, 0.01° for angles, 0.001 mm for
+the start position, 0.001 s for waits — with trailing zeros dropped. :func:`route_commands` puts
+every number on that precision already, so a written list reads back equal to the one in memory.
+It also merges the long chains of tiny turn/go pairs a route has along arcs into fewer, longer
+ones within a stated tolerance (:mod:`garnav.export.steer`); :func:`precision_comment` says so
+in the file's header.
 """
 
 from __future__ import annotations
@@ -42,8 +46,22 @@ from garnav.atomic import write_text_atomic
 from garnav.errors import GarnavError, QueryError, did_you_mean
 from garnav.export.path import ZERO_STEP_MM
 from garnav.export.seams import seam_transfer
-from garnav.model import Garment, Robot
+from garnav.export.steer import (
+    ANGLE_DECIMALS,
+    DEFAULT_TOLERANCE_MM,
+    DISTANCE_DECIMALS,
+    POSITION_DECIMALS,
+    TIME_DECIMALS,
+    Steering,
+    merge_tolerance,
+    round_deg,
+    round_mm,
+    round_position,
+    simplify_leg,
+)
+from garnav.model import Garment, Robot, SeamSide
 from garnav.plan.route import crossing_side
+from garnav.spec.fields import MAX_ABS
 from garnav.textio import read_text
 
 __all__ = [
@@ -63,14 +81,17 @@ __all__ = [
     "commands_to_json",
     "FORMAT_NAME",
     "FORMAT_VERSION",
+    "MAX_NUMBER",
+    "DEFAULT_TOLERANCE_MM",
+    "precision_comment",
 ]
 
 FORMAT_NAME = "garnav-commands"
 FORMAT_VERSION = 1
 
-# Turns smaller than this (degrees) are not emitted; 1e-9° over 10 m of driving moves the end by
-# 1.7e-7 mm.
-MIN_TURN_DEG = 1e-9
+#: Largest magnitude of a number in a command list (mm, degrees, seconds): the garment spec's limit
+#: (:data:`garnav.spec.fields.MAX_ABS`, 10 km), so a replayed go stays a bounded amount of work.
+MAX_NUMBER = MAX_ABS
 
 
 class CommandSyntaxError(GarnavError):
@@ -157,8 +178,16 @@ class CommandList:
 # --------------------------------------------------------------------------- route -> commands
 
 
-def route_commands(route, garment: Garment, robot: Robot | None = None) -> CommandList:
-    """Turn-and-go commands that drive ``route``.
+def route_commands(route, garment: Garment, robot: Robot | None = None,
+                   tolerance_mm: float = DEFAULT_TOLERANCE_MM) -> CommandList:
+    """Turn-and-go commands that drive ``route``, merged within ``tolerance_mm`` and rounded.
+
+    Each leg is merged by Douglas–Peucker (start, seam crossings and goal kept, and the steps into
+    and out of each crossing, so seams are crossed at their planned angle), then turns and
+    distances are rounded to 0.01° and 0.01 mm in closed loop (:mod:`garnav.export.steer`). The
+    merge uses the tolerance less what the rounding needs (0.1 mm, or half a tolerance below
+    0.2 mm), so the replay of the list stays within ``tolerance_mm`` of the route everywhere as
+    long as no go is longer than 1 m (a rounded go strays 0.005 mm + 8.7e-5 × its length).
 
     Parameters
     ----------
@@ -169,82 +198,87 @@ def route_commands(route, garment: Garment, robot: Robot | None = None) -> Comma
         For the seams' geometry.
     robot : Robot, optional
         Side and wheel base; defaults to ``garment.robot`` or ``Robot()``.
+    tolerance_mm : float
+        How far (mm) the merged path may stray from the planned one; 0 keeps every vertex.
 
     Returns
     -------
     CommandList
-        Starts facing the first step of the route (no initial turn).
+        Starts facing the first step of the route (no initial turn); every number on the written
+        precision (a written file reads back equal).
 
     Raises
     ------
     QueryError
         When a crossing does not fit the garment's seams (unknown seam, wrong piece, or a
-        ``point_to`` more than 1e-6 mm from the partner of ``point_from``).
+        ``point_to`` more than 1e-6 mm from the partner of ``point_from``), or the tolerance is
+        negative or not finite.
     """
     robot = robot or garment.robot or Robot()
+    if not (math.isfinite(tolerance_mm) and tolerance_mm >= 0.0):
+        raise QueryError(f"the command tolerance must be zero or more mm, got {tolerance_mm!r}")
     sign = 1.0 if robot.side == "outside" else -1.0
     legs, crossings = tuple(route.legs), tuple(route.crossings)
     if len(crossings) != len(legs) - 1:
         raise QueryError(f"route has {len(legs)} legs but {len(crossings)} crossings (need legs - 1)")
-
-    commands: list[Command] = []
-    notices: list[Cross] = []
-    go_len = 0.0
-    heading: float | None = None  # radians, frame of the current leg's piece
-    start: Start | None = None
-
-    def flush() -> None:
-        nonlocal go_len, notices
-        if go_len > 0.0 or notices:
-            commands.extend(notices)
-            commands.append(Go(go_len))
-        go_len, notices = 0.0, []
-
+    sides = [_checked_side(garment, c) for c in crossings]
+    p0 = np.asarray(legs[0].points, dtype=float).reshape(-1, 2)[0]
+    drive = Steering(garment, legs[0].piece, np.array([round_position(p0[0]), round_position(p0[1])]))
     for i, leg in enumerate(legs):
         pts = np.asarray(leg.points, dtype=float).reshape(-1, 2)
-        for k in range(len(pts) - 1):
-            dx, dy = pts[k + 1] - pts[k]
-            length = math.hypot(dx, dy)
-            if length <= ZERO_STEP_MM:
-                continue
-            new_heading = math.atan2(dy, dx)
-            if heading is None:
-                if start is None:
-                    start = Start(leg.piece, float(pts[0, 0]), float(pts[0, 1]), math.degrees(new_heading))
-            else:
-                turn = math.degrees(math.remainder(new_heading - heading, 2.0 * math.pi))
-                if abs(turn) > MIN_TURN_DEG:
-                    flush()
-                    commands.append(Turn(sign * turn))
-            heading = new_heading
-            go_len += length
+        merged = simplify_leg(pts, merge_tolerance(tolerance_mm), garment.piece(leg.piece).polygon,
+                              keep_first_step=i > 0, keep_last_step=i < len(crossings))
+        for prev, v in zip(merged[:-1], merged[1:]):
+            drive.toward(v, prev)
         if i == len(crossings):
             break
         c = crossings[i]
-        try:
-            seam = garment.seam(c.seam)
-        except KeyError:
-            raise QueryError(f"route crosses seam '{c.seam}', which the garment does not have") from None
-        side = crossing_side(garment, c)
-        tr = seam_transfer(garment, seam, side, np.asarray(c.point_from, dtype=float))
-        gap = float(np.hypot(*(tr.point_to - np.asarray(c.point_to, dtype=float))))
-        if tr.to_piece != c.to_piece or gap > 1e-6:
-            raise QueryError(
-                f"route crossing at seam '{c.seam}': from {c.from_piece} "
-                f"({c.point_from[0]:.3f}, {c.point_from[1]:.3f}) mm the partner point is on "
-                f"'{tr.to_piece}' at ({tr.point_to[0]:.3f}, {tr.point_to[1]:.3f}) mm, but the route "
-                f"continues on '{c.to_piece}' at ({c.point_to[0]:.3f}, {c.point_to[1]:.3f}) mm"
-            )
-        if heading is None:  # crossing before any motion: take the next leg's direction
-            heading = _first_heading(legs[i + 1 :], default=0.0) - tr.rotation_rad
-        notices.append(_notice(c.seam, go_len, heading, tr.tangent_from, robot, sign))
-        heading = heading + tr.rotation_rad
-    flush()
-    if start is None:
-        first = legs[0]
-        p0 = np.asarray(first.points, dtype=float).reshape(-1, 2)[0]
-        start = Start(first.piece, float(p0[0]), float(p0[1]), 0.0)
+        first = _first_heading(legs[i + 1 :], default=0.0)
+        drive.cross(garment.seam(c.seam), sides[i], np.asarray(c.point_from, dtype=float),
+                    first - seam_transfer(garment, garment.seam(c.seam), sides[i],
+                                          np.asarray(c.point_from, dtype=float)).rotation_rad)
+    drive.finish()
+    commands: list[Command] = []
+    for op in drive.ops:
+        if op[0] == "turn":
+            commands.append(Turn(sign * op[1]))
+        elif op[0] == "go":
+            commands.append(Go(op[1]))
+        else:
+            commands.append(_notice(op[1], op[2], op[3], op[4], robot, sign))
+    if drive.start is None:
+        first_leg = legs[0]
+        q = np.asarray(first_leg.points, dtype=float).reshape(-1, 2)[0]
+        start = Start(first_leg.piece, round_position(q[0]), round_position(q[1]), 0.0)
+    else:
+        start = Start(*drive.start)
     return CommandList(tuple(commands), side=robot.side, start=start)
+
+
+def precision_comment(tolerance_mm: float) -> str:
+    """The header comment line that states a list's rounding and merge tolerance."""
+    merged = (f"arcs merged within {_num(tolerance_mm)} mm of the planned path" if tolerance_mm > 0
+              else "every planned vertex kept")
+    return f"turns to 0.01 deg, distances to 0.01 mm; {merged}"
+
+
+def _checked_side(garment: Garment, c) -> SeamSide:
+    """The seam side a route crossing leaves from, after checking it fits the garment's seams."""
+    try:
+        seam = garment.seam(c.seam)
+    except KeyError:
+        raise QueryError(f"route crosses seam '{c.seam}', which the garment does not have") from None
+    side = crossing_side(garment, c)
+    tr = seam_transfer(garment, seam, side, np.asarray(c.point_from, dtype=float))
+    gap = float(np.hypot(*(tr.point_to - np.asarray(c.point_to, dtype=float))))
+    if tr.to_piece != c.to_piece or gap > 1e-6:
+        raise QueryError(
+            f"route crossing at seam '{c.seam}': from {c.from_piece} "
+            f"({c.point_from[0]:.3f}, {c.point_from[1]:.3f}) mm the partner point is on "
+            f"'{tr.to_piece}' at ({tr.point_to[0]:.3f}, {tr.point_to[1]:.3f}) mm, but the route "
+            f"continues on '{c.to_piece}' at ({c.point_to[0]:.3f}, {c.point_to[1]:.3f}) mm"
+        )
+    return side
 
 
 def _first_heading(legs, default: float) -> float:
@@ -264,14 +298,14 @@ def _notice(seam: str, at_mm: float, heading: float, tangent: np.ndarray, robot:
     across = float(u[0] * tangent[1] - u[1] * tangent[0])  # sin of it (signed)
     angle = math.degrees(math.atan2(abs(across), abs(along)))
     if abs(along) <= 1e-12 or across == 0.0:
-        return Cross(seam, at_mm, angle, "both", 0.0)
+        return Cross(seam, round_mm(at_mm), round_deg(angle), "both", 0.0)
     # Left wheel (piece frame, outside view) sits at +90° from u; it meets the ridge first when
     # its offset points along the ridge normal m chosen with u·m > 0; rot90(u)·rot90(t) = u·t.
     left_first = along * math.copysign(1.0, -across) > 0
     if sign < 0:  # inside: the robot's left is the piece frame's right
         left_first = not left_first
     lead_mm = robot.wheel_base_mm * abs(along) / abs(across)
-    return Cross(seam, at_mm, angle, "left" if left_first else "right", lead_mm)
+    return Cross(seam, round_mm(at_mm), round_deg(angle), "left" if left_first else "right", round_mm(lead_mm))
 
 
 # --------------------------------------------------------------------------- text format
@@ -282,16 +316,33 @@ _UNESCAPE = {"n": "\n", "r": "\r"}
 _TOKEN_RE = re.compile(r'\s*(?:(#.*)|("(?:[^"\\]|\\.)*")|([^\s"#]+))')
 
 
-def _num(value: float, signed: bool = False) -> str:
+def _num(value: float, signed: bool = False, decimals: int | None = None) -> str:
+    """``value`` as text: rounded to ``decimals`` places with trailing zeros dropped, or (None) in
+    Python's shortest round-trip form (for messages)."""
     value = float(value)
-    if value == 0.0:
-        value = 0.0  # no "-0.0"
-    text = repr(value)
+    if decimals is None:
+        text = repr(value + 0.0)
+    else:
+        text = f"{value:.{decimals}f}"
+        if "." in text:
+            text = text.rstrip("0").rstrip(".")
+        if text in ("-0", ""):
+            text = "0"
     if text.endswith(".0"):
         text = text[:-2]
-    if signed and value >= 0:
+    if text == "-0":
+        text = "0"
+    if signed and not text.startswith("-"):
         text = "+" + text
     return text
+
+
+def _mm(value: float) -> str:
+    return _num(value, decimals=DISTANCE_DECIMALS)
+
+
+def _deg(value: float, signed: bool = False) -> str:
+    return _num(value, signed, decimals=ANGLE_DECIMALS)
 
 
 def _name(name: str) -> str:
@@ -313,19 +364,20 @@ def format_commands(commands: CommandList, comment: str | None = None) -> str:
     s = commands.start
     if s is not None:
         lines.append(
-            f"start {_name(s.piece)} {_num(s.x_mm)} {_num(s.y_mm)} mm heading {_num(s.heading_deg)} deg"
+            f"start {_name(s.piece)} {_num(s.x_mm, decimals=POSITION_DECIMALS)} "
+            f"{_num(s.y_mm, decimals=POSITION_DECIMALS)} mm heading {_deg(s.heading_deg)} deg"
         )
     for c in commands.commands:
         if isinstance(c, Turn):
-            lines.append(f"turn {_num(c.angle_deg, signed=True)} deg")
+            lines.append(f"turn {_deg(c.angle_deg, signed=True)} deg")
         elif isinstance(c, Go):
-            lines.append(f"go {_num(c.distance_mm)} mm")
+            lines.append(f"go {_mm(c.distance_mm)} mm")
         elif isinstance(c, Wait):
-            lines.append(f"wait {_num(c.seconds)} s")
+            lines.append(f"wait {_num(c.seconds, decimals=TIME_DECIMALS)} s")
         elif isinstance(c, Cross):
             lines.append(
-                f"cross {_name(c.seam)} at {_num(c.at_mm)} mm angle {_num(c.angle_deg)} deg "
-                f"lead {c.lead} {_num(c.lead_mm)} mm"
+                f"cross {_name(c.seam)} at {_mm(c.at_mm)} mm angle {_deg(c.angle_deg)} deg "
+                f"lead {c.lead} {_mm(c.lead_mm)} mm"
             )
         else:  # pragma: no cover - CommandList is typed
             raise TypeError(f"not a command: {c!r}")
@@ -378,7 +430,12 @@ class _Line:
         tok = self._next(what)
         if not _NUMBER_RE.fullmatch(tok):
             raise self.fail(f"{what} must be a number, got {tok.lstrip(chr(0))!r}")
-        return float(tok)
+        value = float(tok)
+        if not abs(value) <= MAX_NUMBER:  # 1e999 reads as infinity; a huge go never ends on a tube
+            shown = tok if len(tok) <= 24 else tok[:21] + "..."
+            raise self.fail(f"{what} {shown} is too large: numbers in a command list are at most "
+                            f"{MAX_NUMBER:.0e} in size (10 km in mm, as in a garment spec)")
+        return value
 
     def keyword(self, *choices: str) -> str:
         tok = self._next(" or ".join(repr(c) for c in choices))

@@ -9,7 +9,8 @@ cuff, neckline, opening) before the go is done is a fall: :class:`ReplayError`.
 
 A go that ends exactly on a seam crosses it only if a ``cross`` notice announced the seam there;
 otherwise the robot stops on this side (physically the same place, and a following turn is the same
-rotation in either frame).
+rotation in either frame). Command lists are written to 0.01 mm and 0.01° (docs/commands.md), so
+"exactly" allows for that rounding: see :data:`NOTICE_TOL_MM`.
 """
 
 from __future__ import annotations
@@ -23,17 +24,21 @@ import shapely
 from garnav.errors import QueryError
 from garnav.export.path import wrap_deg
 from garnav.export.commands import CommandList, Cross, Go, Start, Turn, Wait
-from garnav.export.seams import locate_on_run, seam_transfer
+from garnav.export.steer import NOTICE_TOL_MM as STEER_NOTICE_TOL_MM
+from garnav.export.seams import VERTEX_SNAP_MM, locate_on_run, seam_transfer, snap_to_vertex
 from garnav.model import SEAM_SIDES, Garment, SeamSide
 
-__all__ = ["Pose", "ReplayCrossing", "Replay", "ReplayError", "replay_commands"]
+__all__ = ["Pose", "ReplayCrossing", "Replay", "ReplayError", "replay_commands", "MAX_CROSSINGS_PER_GO"]
 
 # How close a seam hit must be to a go's end to count as "at the end" (mm).
 END_TOL_MM = 1e-6
 # How close a hit point must be to a seam run to lie on it (mm).
 ON_RUN_TOL_MM = 1e-6
-# How close a hit must be to a notice's announced distance to match it (mm).
-NOTICE_TOL_MM = 1e-6
+# How close a hit must be to a notice's announced distance to match it (mm): one unit of the
+# written 0.01 mm; a go ending this close to an announced seam, short of it or past it, ends on it.
+# An announced seam whose run passes within VERTEX_SNAP_MM of the hit (next to a corner) matches
+# too, and a crossing that close to a run's vertex is carried over at the vertex.
+NOTICE_TOL_MM = STEER_NOTICE_TOL_MM
 # A hit is an exit when the point EXIT_PROBE_MM beyond it lies more than EXIT_DEPTH_MM outside the
 # piece: a crossing at angle α puts it 0.01·sin α outside, so crossings steeper than 0.06° count,
 # while a robot running along a seam edge, a hair (well under 1e-5 mm) off it, does not cross.
@@ -41,6 +46,10 @@ EXIT_PROBE_MM = 1e-2
 EXIT_DEPTH_MM = 1e-5
 # Crossings in a row without moving (a heading out of a corner where seams meet) before giving up.
 _MAX_STALLS = 16
+#: Most seam crossings one go may make. A go round and round a tube (a sleeve, a torso) crosses its
+#: seam once a lap; each crossing costs about a millisecond, so without a bound a long go on a
+#: thin tube is minutes of work. No route of a garment crosses seams this often in one straight go.
+MAX_CROSSINGS_PER_GO = 1000
 
 
 class ReplayError(QueryError):
@@ -163,12 +172,12 @@ def _first_exit(bound: _Boundary, p: np.ndarray, u: np.ndarray, reach: float):
     return None
 
 
-def _runs_under(bound: _Boundary, q: np.ndarray) -> list[tuple[float, str, SeamSide]]:
-    """Seam runs of the piece passing within ON_RUN_TOL_MM of q: (distance, seam, side), nearest first."""
+def _runs_under(bound: _Boundary, q: np.ndarray, tol: float = ON_RUN_TOL_MM) -> list[tuple[float, str, SeamSide]]:
+    """Seam runs of the piece passing within ``tol`` (mm) of q: (distance, seam, side), nearest first."""
     out = []
     for seam_name, side, pts in bound.runs:
         _, dist = locate_on_run(pts, q)
-        if dist <= ON_RUN_TOL_MM:
+        if dist <= tol:
             out.append((dist, seam_name, side))
     return sorted(out)
 
@@ -254,7 +263,8 @@ class _Drive:
         seam_name, side, notice = match
         if notice is not None:
             self.notices.remove(notice)
-        tr = seam_transfer(self.garment, self.garment.seam(seam_name), side, self.p)
+        seam = self.garment.seam(seam_name)
+        tr = seam_transfer(self.garment, seam, side, snap_to_vertex(self.garment.run_polyline(seam.run(side)), self.p))
         piece, p = self.piece, self.p
         last = self.poses[-1]
         if last.piece != piece or math.hypot(last.x_mm - p[0], last.y_mm - p[1]) > END_TOL_MM:
@@ -285,17 +295,27 @@ class _Drive:
         a seam transfer)."""
         done = 0.0
         stalls = 0
+        first = len(self.crossings)
         while True:
+            if len(self.crossings) - first > MAX_CROSSINGS_PER_GO:
+                raise ReplayError(
+                    f"after {self.travelled + done:.3f} mm the robot has crossed seams {MAX_CROSSINGS_PER_GO} times "
+                    f"in one go (last '{self.crossings[-1].seam}', now on piece '{self.piece}'), with "
+                    f"{remaining:.3f} mm of it still to drive: the go laps the garment; replay stops at "
+                    f"{MAX_CROSSINGS_PER_GO} crossings per go"
+                )
             u = np.array([math.cos(self.heading), math.sin(self.heading)])
             bound = self.bounds[self.piece]
-            hit = _first_exit(bound, self.p, u, remaining + END_TOL_MM)
+            hit = _first_exit(bound, self.p, u, remaining + (NOTICE_TOL_MM if self.notices else END_TOL_MM))
             if hit is None:
                 return remaining, done, False
             t, seg = hit
             q = self.p + max(t, 0.0) * u
             at_end = t >= remaining - END_TOL_MM
             runs = _runs_under(bound, q)
-            if not runs:
+            # an announced seam may be met a rounding away from where it ends (a corner of the piece)
+            match = _announced(_runs_under(bound, q, VERTEX_SNAP_MM), self.notices, done + min(max(t, 0.0), remaining))
+            if not runs and match is None:
                 if at_end:
                     return remaining, done, False
                 raise ReplayError(
@@ -303,7 +323,6 @@ class _Drive:
                     f"through open {bound.label[seg]} at ({q[0]:.3f}, {q[1]:.3f}) mm"
                 )
             step = min(max(t, 0.0), remaining)
-            match = _announced(runs, self.notices, done + step)
             if match is None:
                 if at_end:
                     return remaining, done, False
@@ -313,9 +332,11 @@ class _Drive:
             self.p = q
             self.cross(match, done)
             # further crossings announced at the same place: seams meeting at a corner
-            while (chained := _announced(_runs_under(self.bounds[self.piece], self.p), self.notices, done)) is not None:
+            while (chained := _announced(_runs_under(self.bounds[self.piece], self.p, VERTEX_SNAP_MM), self.notices,
+                                         done)) is not None:
                 self.cross(chained, done)
-            if remaining <= END_TOL_MM:
+            # a go ending within NOTICE_TOL_MM past an announced seam ends on it (its distance is rounded)
+            if remaining <= (NOTICE_TOL_MM if match[2] is not None else END_TOL_MM):
                 return 0.0, done, True
             stalls = stalls + 1 if step <= END_TOL_MM else 0
             if stalls > _MAX_STALLS:

@@ -21,7 +21,13 @@ from garnav.model import Garment, Seam, SeamSide, other_side
 from garnav.plan.freespace import run_frame
 from garnav.polyline import cumulative_length
 
-__all__ = ["SeamTransfer", "locate_on_run", "seam_transfer"]
+__all__ = ["SeamTransfer", "locate_on_run", "seam_transfer", "snap_to_vertex", "VERTEX_SNAP_MM"]
+
+# A crossing this close (mm) to a vertex of a seam run is taken at the vertex. A run is a polyline,
+# so the heading's rotation over the seam jumps at its vertices; planned crossings often sit on
+# one, and a go rounded to 0.01 mm and 0.01° (docs/commands.md) meets the run up to a few
+# hundredths of a mm beside it. Snapping makes that crossing turn the heading as planned.
+VERTEX_SNAP_MM = 0.1
 
 @dataclass(frozen=True)
 class SeamTransfer:
@@ -76,6 +82,16 @@ def locate_on_run(points: np.ndarray, point: np.ndarray) -> tuple[float, float]:
     k = int(np.argmin(dist))
     cum = cumulative_length(points)
     return float(cum[k] + t[k] * math.sqrt(dd[k])), float(dist[k])
+
+
+def snap_to_vertex(points: np.ndarray, point: np.ndarray, snap_mm: float = VERTEX_SNAP_MM) -> np.ndarray:
+    """``point`` (2,), or the nearest vertex of polyline ``points`` (n, 2) when it lies within
+    ``snap_mm`` of it (mm)."""
+    pts = np.asarray(points, dtype=float).reshape(-1, 2)
+    q = np.asarray(point, dtype=float)
+    d = np.hypot(*(pts - q).T)
+    k = int(np.argmin(d))
+    return pts[k].copy() if d[k] <= snap_mm else q.copy()
 
 
 def seam_transfer(garment: Garment, seam: Seam, side: SeamSide, point: np.ndarray) -> SeamTransfer:

@@ -32,7 +32,7 @@ import numpy as np
 
 from garnav.atomic import write_text_atomic
 from garnav.errors import QueryError
-from garnav.export.commands import CommandList, Turn, commands_to_json, route_commands
+from garnav.export.commands import DEFAULT_TOLERANCE_MM, CommandList, Turn, commands_to_json, route_commands
 from garnav.export.path import Waypoint, route_waypoints
 from garnav.model import Garment, Robot
 from garnav.plan.route import route_headings_deg
@@ -184,7 +184,8 @@ def _vec(v) -> list[float]:
 
 
 def route_document(
-    route, garment: Garment, robot: Robot | None = None, lifted: LiftedLike | None = None, mechanics=None
+    route, garment: Garment, robot: Robot | None = None, lifted: LiftedLike | None = None, mechanics=None,
+    command_tolerance_mm: float = DEFAULT_TOLERANCE_MM,
 ) -> dict:
     """The ``garnav-route`` document of a route, as a JSON-ready dict.
 
@@ -200,6 +201,9 @@ def route_document(
     mechanics : garnav.mechanics.RouteMechanics, optional
         The lifted route's mechanics (needs ``lifted``): adds the ``physics`` object (posture,
         gravity, energy, battery, margins per segment of ``path3d`` and per waypoint).
+    command_tolerance_mm : float
+        How far the ``commands`` may stray from the route where they merge tiny turns along arcs,
+        mm (:func:`garnav.export.commands.route_commands`); recorded as ``command_tolerance_mm``.
 
     Returns
     -------
@@ -208,7 +212,7 @@ def route_document(
     """
     robot = robot or garment.robot or Robot()
     waypoints = route_waypoints(route)
-    commands = route_commands(route, garment, robot)
+    commands = route_commands(route, garment, robot, tolerance_mm=command_tolerance_mm)
     last_of_leg = {w.index for w in waypoints if w.index + 1 == len(waypoints) or waypoints[w.index + 1].leg != w.leg}
 
     world = normals = quats = None
@@ -255,6 +259,7 @@ def route_document(
         "waypoints": wp_list,
         "crossings": crossings,
         "commands": commands_to_json(commands),
+        "command_tolerance_mm": float(command_tolerance_mm),
         "path3d": None if lifted is None else _vecs(lifted.points),
         "path3d_detail": None if lifted is None else _path3d_detail(lifted),
     }
@@ -421,6 +426,9 @@ def read_route_document(path) -> dict:
     need = ("seam", "from_piece", "to_piece", "from_mm", "to_mm", "fraction", "angle_deg")
     if not isinstance(crossings, list) or not all(isinstance(c, dict) and all(k in c for k in need) for c in crossings):
         raise QueryError(f"{p}: 'crossings' must be a list of objects with " + ", ".join(need))
+    for j, c in enumerate(crossings):
+        _check_crossing(c, f"{p}: crossing {j}")
+    _check_robot(doc.get("robot"), f"{p}: 'robot'")
     wps = doc.get("waypoints")
     if not isinstance(wps, list) or len(wps) < 2:
         raise QueryError(f"{p}: 'waypoints' must be a list of at least two waypoints")
@@ -434,6 +442,8 @@ def read_route_document(path) -> dict:
                                 ("y", (int, float), "a number")):
             if not isinstance(w, dict) or not isinstance(w.get(key), kind) or isinstance(w.get(key), bool):
                 raise QueryError(f"{p}: waypoint {i}: '{key}' is missing or not {what}")
+        if "heading_deg" in w and _finite(w["heading_deg"]) is None:
+            raise QueryError(f"{p}: waypoint {i}: 'heading_deg' is not a finite number ({_shown(w['heading_deg'])})")
     path3d = doc.get("path3d")
     if path3d is not None:
         if not isinstance(path3d, list) or not all(isinstance(q, list) and len(q) == 3 for q in path3d):
@@ -443,6 +453,55 @@ def read_route_document(path) -> dict:
     if normals is not None and (not isinstance(normals, list) or len(normals) != len(path3d or [])):
         raise QueryError(f"{p}: 'path3d_detail.normals' must have one normal per 'path3d' point")
     return doc
+
+
+def _finite(v) -> float | None:
+    """``v`` as a float when it is a finite JSON number (not a boolean), else None."""
+    if isinstance(v, bool) or not isinstance(v, (int, float)):
+        return None
+    try:
+        f = float(v)
+    except OverflowError:  # an integer of hundreds of digits
+        return None
+    return f if math.isfinite(f) else None
+
+
+def _shown(v) -> str:
+    text = repr(v)
+    return text if len(text) <= 40 else text[:37] + "..."
+
+
+def _check_crossing(c: dict, where: str) -> None:
+    """Refuse a crossing whose names are not strings or whose numbers are not finite."""
+    for key in ("seam", "from_piece", "to_piece"):
+        if not isinstance(c[key], str):
+            raise QueryError(f"{where}: '{key}' is not a string ({_shown(c[key])})")
+    for key in ("from_mm", "to_mm"):
+        q = c[key]
+        if not isinstance(q, list) or len(q) != 2 or any(_finite(v) is None for v in q):
+            raise QueryError(f"{where}: '{key}' is not two finite numbers [x, y] ({_shown(q)})")
+    for key in ("fraction", "angle_deg"):
+        if _finite(c[key]) is None:
+            raise QueryError(f"{where}: '{key}' is not a finite number ({_shown(c[key])})")
+
+
+def _check_robot(robot, where: str) -> None:
+    """Refuse a ``robot`` entry that is not an object or whose sizes are not finite and positive."""
+    if robot is None:
+        return
+    if not isinstance(robot, dict):
+        raise QueryError(f"{where} must be an object, found {_shown(robot)}")
+    if "name" in robot and not isinstance(robot["name"], str):
+        raise QueryError(f"{where}: 'name' is not a string ({_shown(robot['name'])})")
+    if robot.get("side", "outside") not in ("outside", "inside"):
+        raise QueryError(f"{where}: 'side' must be \"outside\" or \"inside\", found {_shown(robot['side'])}")
+    for key, low in (("radius_mm", 0.0), ("wheel_base_mm", 0.0), ("speed_mm_s", 0.0), ("edge_margin_mm", None)):
+        if key not in robot:
+            continue
+        v = _finite(robot[key])
+        if v is None or (v <= low if low is not None else v < 0.0):
+            want = "a finite number > 0" if low is not None else "a finite number >= 0"
+            raise QueryError(f"{where}: '{key}' must be {want}, found {_shown(robot[key])}")
 
 
 def document_route(document: dict):

@@ -17,6 +17,7 @@ import numpy as np
 from garnav.errors import QueryError
 from garnav.export.commands import Command, CommandList, Cross, Go, Turn, Wait, route_commands
 from garnav.export.seams import locate_on_run, seam_transfer
+from garnav.export.steer import round_deg, round_mm, round_s
 from garnav.fleet.schedule import RobotPlan
 from garnav.model import Garment
 from garnav.plan import Crossing, Leg
@@ -90,11 +91,12 @@ def _insert_waits(commands: list[Command], stops: list[tuple[float, float]]) -> 
                 if cut > _TOL_MM or pending:
                     first = [n for n in pending if n.at_mm <= cut + _TOL_MM]
                     out.extend(first)
+                    cut = round_mm(cut)
                     out.append(Go(cut))
-                    pending = [Cross(n.seam, n.at_mm - cut, n.angle_deg, n.lead, n.lead_mm)
+                    pending = [Cross(n.seam, round_mm(n.at_mm - cut), n.angle_deg, n.lead, n.lead_mm)
                                for n in pending if n.at_mm > cut + _TOL_MM]
-                    start, rest = start + cut, rest - cut
-                out.append(Wait(stops[k][1]))
+                    start, rest = start + cut, round_mm(rest - cut)
+                out.append(Wait(round_s(stops[k][1])))
                 k += 1
             out.extend(pending)
             pending = []
@@ -102,18 +104,18 @@ def _insert_waits(commands: list[Command], stops: list[tuple[float, float]]) -> 
             done = start + rest
             continue
         while k < len(stops) and stops[k][0] <= done + _TOL_MM:
-            out.append(Wait(stops[k][1]))
+            out.append(Wait(round_s(stops[k][1])))
             k += 1
         out.append(c)
     out.extend(pending)
-    out.extend(Wait(s[1]) for s in stops[k:])
+    out.extend(Wait(round_s(s[1])) for s in stops[k:])
     return out
 
 
 def plan_commands(garment: Garment, plan: RobotPlan) -> CommandList:
     """Commands that drive ``plan`` (waits included) and end facing ``plan.final_heading_deg``."""
     path, stops = _path(garment, plan)
-    base = route_commands(path, garment, plan.robot)
+    base = route_commands(path, garment, plan.robot, tolerance_mm=0.0)  # timed: every vertex kept
     cmds = _insert_waits(list(base.commands), stops)
     # the final heading: the last step's direction in the goal piece's frame
     last = path.legs[-1]
@@ -128,6 +130,6 @@ def plan_commands(garment: Garment, plan: RobotPlan) -> CommandList:
         now = None
     if now is not None:
         turn = math.degrees(math.remainder(math.radians(plan.final_heading_deg) - now, 2 * math.pi))
-        if abs(turn) > 1e-9:
-            cmds.append(Turn(sign * turn))
+        if round_deg(turn) != 0.0:
+            cmds.append(Turn(sign * round_deg(turn)))
     return CommandList(tuple(cmds), side=base.side, start=base.start)

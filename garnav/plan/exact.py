@@ -35,13 +35,19 @@ import scipy.sparse as sp
 from scipy.sparse.csgraph import dijkstra
 
 from garnav.plan.points import PiecePoint
-from garnav.plan.portals import approach_points, seam_sides
+from garnav.plan.portals import approach_points, seam_sides, seam_spacing_mm
 from garnav.plan.refine import plan_legs, refine
 from garnav.plan.search import min_matrix
 from garnav.plan.visgraph import segments_free
 from garnav.plan.windows import MovingPoints, arc_radius, corner_links, cost_factor, pair_links, run_turning
 
-__all__ = ["SeamSearch", "ExactResult"]
+__all__ = ["SeamSearch", "ExactResult", "MAX_SPLIT_WINDOWS"]
+
+#: Most windows one query may add by splitting. Each split window brings points linked to every
+#: other point of its pieces, so the work grows faster than the windows: on two empty 300 × 400 mm
+#: panels a rel_tol of 1e-4 took more than 20 s and a 30 m seam ran out of 7.6 GB. At the limit the
+#: search stops with the best route found and its lower bound (``ExactResult.limited``).
+MAX_SPLIT_WINDOWS = 2000
 
 WIN, APP, START, GOAL = 0, 1, 2, 3
 _PRE, _POST = 0, 1
@@ -82,7 +88,9 @@ class ExactResult:
     """Outcome of one search: the route's legs and crossings, its cost and the certificate.
 
     ``lower_mm`` is the last lower bound (no route is cheaper), ``cost_mm`` the route's cost before
-    polishing, ``rounds`` the number of branch-and-bound rounds.
+    polishing, ``rounds`` the number of branch-and-bound rounds. ``limited`` is True when the search
+    stopped at :data:`MAX_SPLIT_WINDOWS` (or ``max_rounds``) before the bound met the tolerance: the
+    route is then the best found, within ``cost_mm − lower_mm`` of the optimum.
     """
 
     legs: list
@@ -91,6 +99,7 @@ class ExactResult:
     lower_mm: float
     rounds: int
     goal: int
+    limited: bool = False
 
 
 class _Tables:
@@ -117,13 +126,19 @@ class SeamSearch:
         Stop when the route is within ``rel_tol`` × its cost (plus 1e-9 mm) of the lower bound.
     max_rounds : int
         Most branch-and-bound rounds per query.
+    max_split_windows : int
+        Most windows a query may add by splitting (:data:`MAX_SPLIT_WINDOWS`).
     """
 
-    def __init__(self, planner, spacing_mm: float = 20.0, rel_tol: float = 1e-4, max_rounds: int = 40):
+    def __init__(self, planner, spacing_mm: float = 20.0, rel_tol: float = 1e-4, max_rounds: int = 40,
+                 max_split_windows: int = MAX_SPLIT_WINDOWS):
         self.planner = planner
         self.nav = planner.nav
         self.rel_tol = float(rel_tol)
         self.max_rounds = int(max_rounds)
+        self.max_split_windows = int(max_split_windows)
+        #: ``progress(round, windows_added, lower_mm, upper_mm)`` after every round, or None (the CLI's bar)
+        self.progress = None
         ng = self.nav
         self.n0 = ng.graph.number_of_nodes()
         self.factor = [cost_factor(planner.free[p]) for p in ng.pieces]
@@ -133,8 +148,9 @@ class SeamSearch:
         self.base = _Tables()
         for si, seam in enumerate(ng.seams):
             la = planner.garment.run_length(seam.a)
+            step = seam_spacing_mm(la, spacing_mm)  # as the portals: wider on a very long seam
             for lo, hi in ng.intervals[seam.name]:
-                n = max(int(math.ceil((hi - lo) * la / spacing_mm)), 1)
+                n = max(int(math.ceil((hi - lo) * la / step)), 1)
                 edges = np.linspace(lo, hi, n + 1)
                 for t0, t1 in zip(edges[:-1], edges[1:], strict=False):
                     self._add_window(self.base, _Window(si, float(t0), float(t1)))
@@ -534,12 +550,13 @@ class _Query:
         lower = 0.0
         rounds = 0
         seen: set = set()
+        limited = True  # until the bound meets the tolerance
         while rounds < ss.max_rounds:
             rounds += 1
             margin = ss.rel_tol * upper + 1e-9 if math.isfinite(upper) else 0.0
             found = self.astar(margin)
             if found is None:  # nothing below the best route found: it is optimal
-                lower = upper
+                lower, limited = upper, False
                 break
             path, lower, wins = found
             crossings, path_wins, k = self.crossings_of(path)
@@ -553,15 +570,22 @@ class _Query:
                 upper = cost
                 self.upper = cost
                 best = (legs, crossings, cost, k)
+            if ss.progress is not None:
+                ss.progress(rounds, len(self.windows) - len(ss.base.windows), lower, upper)
             if lower >= upper - (ss.rel_tol * upper + 1e-9):
+                limited = False
                 break
             if rounds == 1 or not wins:
                 wins = path_wins
             split = [w for w in dict.fromkeys(wins) if (self.windows[w].t1 - self.windows[w].t0) > 1e-12]
             if not split:
+                limited = False
                 break
+            added = len(self.windows) - len(ss.base.windows)
+            if added + _SPLIT * len(split) > ss.max_split_windows:
+                break  # bounded work: the best route so far, with its gap to the lower bound
             self._split(split)
         if best is None:
             return None
         legs, crossings, cost, k = best
-        return ExactResult(legs, crossings, cost, min(lower, cost), rounds, k)
+        return ExactResult(legs, crossings, cost, min(lower, cost), rounds, k, limited)

@@ -25,7 +25,15 @@ import shapely
 
 from garnav.model import Garment
 from garnav.plan.freespace import FreeSpace, PieceFreeSpace
-from garnav.plan.portals import SeamSides, angle_ok, approach_points, free_intervals, portal_fractions, seam_sides
+from garnav.plan.portals import (
+    SeamSides,
+    angle_ok,
+    approach_points,
+    free_intervals,
+    portal_fractions,
+    seam_sides,
+    seam_spacing_mm,
+)
 from garnav.plan.visgraph import (
     Corners,
     bitangent_pairs,
@@ -196,7 +204,8 @@ def seam_portals(garment: Garment, free: FreeSpace, seams: tuple, spacing_mm: fl
             continue
         ivs = free_intervals(garment, seam, free, runs=runs[seam.name])
         intervals[seam.name] = ivs
-        t = portal_fractions(ivs, garment.run_length(seam.a), spacing_mm)
+        la = garment.run_length(seam.a)
+        t = portal_fractions(ivs, la, seam_spacing_mm(la, spacing_mm))  # wider on a very long seam
         if len(t) == 0:
             continue
         sides = seam_sides(garment, seam, t, runs=runs[seam.name])

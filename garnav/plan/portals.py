@@ -21,7 +21,28 @@ from garnav.polyline import cumulative_length, point_at_length, tangent_at
 
 INSET_MM = 1e-7
 
-__all__ = ["INSET_MM", "SeamSides", "approach_points", "seam_sides", "free_intervals", "portal_fractions", "angle_ok"]
+#: Most portals one seam gets. Portals on a piece are linked pairwise by visibility, so the graph
+#: grows with the square of a seam's length over the spacing: a 30 m seam at 20 mm was 1,500 portals
+#: a side, 2.3 million edges, 1.7 GB and 20 s of build. Above ``MAX_PORTALS_PER_SEAM × spacing``
+#: (5 m at the default 20 mm) the spacing grows with the seam instead (:func:`seam_spacing_mm`);
+#: crossings are slid to their locally shortest place afterwards (:mod:`garnav.plan.refine`), so
+#: this bounds the build, not the route length.
+MAX_PORTALS_PER_SEAM = 250
+#: Most samples of the fit test along one seam (:func:`free_intervals`): 0.5 mm steps up to 50 m.
+MAX_FIT_SAMPLES = 100_000
+
+__all__ = ["INSET_MM", "MAX_PORTALS_PER_SEAM", "MAX_FIT_SAMPLES", "SeamSides", "approach_points", "seam_sides",
+           "free_intervals", "portal_fractions", "seam_spacing_mm", "angle_ok"]
+
+
+def seam_spacing_mm(length_mm: float, spacing_mm: float, max_portals: int = MAX_PORTALS_PER_SEAM) -> float:
+    """The portal spacing (mm) on a seam ``length_mm`` long: ``spacing_mm``, or wider on a seam so
+    long that it would get more than ``max_portals`` portals.
+
+    >>> seam_spacing_mm(800.0, 20.0), seam_spacing_mm(30000.0, 20.0)
+    (20.0, 120.0)
+    """
+    return max(float(spacing_mm), float(length_mm) / int(max_portals))
 
 
 @dataclass(frozen=True)
@@ -119,11 +140,12 @@ def free_intervals(
 ) -> list[tuple[float, float]]:
     """Fraction intervals ``[t0, t1]`` of ``seam`` where the robot fits on both sides.
 
-    Sampled every ``step_mm`` along run a; all interval ends are then bisected together (one
-    batched fit test per step, 40 steps: 1e-12 of the sample gap).
+    Sampled every ``step_mm`` along run a (at most :data:`MAX_FIT_SAMPLES` samples: on a seam
+    longer than 50 m the step grows); all interval ends are then bisected together (one batched fit
+    test per step, 40 steps: 1e-12 of the sample gap).
     """
     la = garment.run_length(seam.a)
-    m = max(int(math.ceil(la / step_mm)) + 1, 3)
+    m = min(max(int(math.ceil(la / step_mm)) + 1, 3), MAX_FIT_SAMPLES)
     t = np.linspace(0.0, 1.0, m)
     ok = _fits(garment, seam, free, t, runs)
     if not ok.any():

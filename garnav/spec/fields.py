@@ -139,6 +139,8 @@ SECTIONS: dict[str, dict[str, Field]] = {
         Field("landmark", "tables", section="landmark", doc="named points"),
         Field("body_zone", "tables", doc="zones on the body kept away from through the drape: "
               "[[body_zone]] (docs/zones.md)"),
+        Field("pose", "tables", doc="further drapes of the same pattern, one per pose of the "
+              "wearer: [[pose]] (docs/poses.md)"),
     ),
     "robot": _fields(
         Field("name", "str", default="robot", doc="robot name"),

@@ -148,7 +148,7 @@ def _is_number(v: Any) -> bool:
 _MAX_INT = 2**63 - 1  # TOML integers are 64-bit; tomllib accepts longer ones
 
 
-_SECTION_ORDER = ("file", "top level", "robot", "piece", "seam", "keepout", "landmark", "body_zone")
+_SECTION_ORDER = ("file", "top level", "robot", "piece", "seam", "keepout", "landmark", "body_zone", "pose")
 
 
 def _section_rank(problem: Problem) -> int:
@@ -309,6 +309,18 @@ class _Reader:
             body_zones, found = parse_body_zones(v["body_zone"], self.source, known)
             for item, reason, hint in found:
                 self.add(item, reason, hint=hint)
+        poses: tuple = ()
+        drape, body = v["drape"], v["body"]
+        if v["pose"] is not None:  # [[pose]]: garnav.poses.model
+            from garnav.poses.model import default_pose_problems, parse_poses
+
+            poses, found = parse_poses(v["pose"], self.source)
+            found += default_pose_problems(poses, drape)
+            for item, reason, hint in found:
+                self.add(item, reason, hint=hint)
+            default = next((p for p in poses if p.drape == drape), poses[0] if poses else None)
+            if default is not None:  # the top-level drape's pose (else the first) is the default
+                drape, body = default.drape, (default.body if body is None else body)
         garment = Garment(
             name=v["name"] if isinstance(v["name"], str) else "",
             pieces=tuple(pieces),
@@ -317,10 +329,11 @@ class _Reader:
             landmarks=tuple(landmarks),
             robot=robot,
             sheet_size_mm=v["sheet_size_mm"] or (1000.0, 1000.0),
-            drape=v["drape"],
-            body=v["body"],
+            drape=drape,
+            body=body,
             description=v["description"] or "",
             body_zones=body_zones,
+            poses=poses,
         )
         self.problems.extend(
             geometry_problems(

@@ -171,6 +171,14 @@ def garment_summary(garment: Garment) -> tuple[Section, ...]:
                 for z in g.body_zones
             ),
         ))
+    if g.poses:  # [[pose]]: drapes of the same pattern (docs/poses.md)
+        sections.append(Section(
+            "poses (drapes of the same pattern)",
+            ("pose", "drape", "body", "posture", "default"),
+            tuple((p.name, p.drape, p.body or "-", p.posture, "yes" if p.drape == g.drape and
+                   p == next(q for q in g.poses if q.drape == g.drape) else "")
+                  for p in g.poses),
+        ))
     r = g.robot
     sections.append(Section(
         "robot",

@@ -143,6 +143,10 @@ def garment_to_dict(garment: Garment) -> dict[str, Any]:
         from garnav.zones.model import body_zone_to_table
 
         d["body_zone"] = [body_zone_to_table(z) for z in g.body_zones]
+    if g.poses:  # [[pose]]: garnav.poses.model
+        from garnav.poses.model import pose_to_table
+
+        d["pose"] = [pose_to_table(p) for p in g.poses]
     return d
 
 
@@ -206,7 +210,7 @@ def dumps_garment(garment: Garment) -> str:
     format = "garnav-garment"
     """
     d = garment_to_dict(garment)
-    top = {k: v for k, v in d.items() if k not in ("robot", "piece", "seam", "keepout", "landmark", "body_zone")}
+    top = {k: v for k, v in d.items() if k not in ("robot", "piece", "seam", "keepout", "landmark", "body_zone", "pose")}
     out = _body(top)
     if "robot" in d:
         out += robot_lines(d["robot"])
@@ -216,7 +220,7 @@ def dumps_garment(garment: Garment) -> str:
             out += ["", "[[piece.edge]]"] + _body(e)
         for o in p.get("opening", ()):
             out += ["", "[[piece.opening]]"] + _body(o)
-    for section in ("seam", "keepout", "landmark", "body_zone"):
+    for section in ("seam", "keepout", "landmark", "body_zone", "pose"):
         for t in d.get(section, ()):
             out += ["", f"[[{section}]]"] + _body(t)
     return "\n".join(out) + "\n"

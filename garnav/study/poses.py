@@ -4,9 +4,9 @@ A *pose* is one drape of the garment — the same pattern on the body in one arm
 — so every pose gives its own 3D lengths, slopes and body-landmark positions. (A *posture* is
 different: the direction of gravity, :mod:`garnav.mechanics.gravity`; it needs no new drape.)
 
-Today a spec names one drape (``drape = ...``), which is the pose ``"default"``. This function is
-the one place a study learns the poses of a spec: when specs name several drapes, it returns them
-all, and nothing else in :mod:`garnav.study` changes.
+A spec's poses are its ``[[pose]]`` tables (:mod:`garnav.poses`); a spec with one ``drape`` and
+no tables has the one pose ``"default"``; ``"default"`` always names the spec's default pose (its
+top-level ``drape``), beside the named ones. This function is the one place a study learns them.
 """
 
 from __future__ import annotations
@@ -15,7 +15,7 @@ from garnav.model import Garment
 
 __all__ = ["DEFAULT_POSE", "garment_poses"]
 
-DEFAULT_POSE = "default"
+DEFAULT_POSE = "default"  # = garnav.poses.load.SINGLE_POSE
 
 
 def garment_poses(garment: Garment) -> dict[str, str | None]:
@@ -25,4 +25,8 @@ def garment_poses(garment: Garment) -> dict[str, str | None]:
     >>> garment_poses(Garment("g", ()))
     {'default': None}
     """
-    return {DEFAULT_POSE: garment.drape}
+    from garnav.poses.load import garment_poses as poses_of
+
+    out: dict[str, str | None] = {DEFAULT_POSE: garment.drape}  # always: the spec's default pose
+    out.update((p.name, p.drape) for p in poses_of(garment))
+    return out

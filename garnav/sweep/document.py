@@ -27,6 +27,7 @@ def sweep_document(
     region_text: Sequence[str] = (),
     energy_J: float | None = None,
     battery_j: float | None = None,
+    command_tolerance_mm: float | None = None,
 ) -> dict:
     """Route document of a sweep with its ``sweep`` figures (JSON-ready dict).
 
@@ -43,8 +44,11 @@ def sweep_document(
         Energy of the route from a physics profile, J (None: not known).
     battery_j : float, optional
         The battery's capacity, J, for the share of it the sweep uses.
+    command_tolerance_mm : float, optional
+        Merge tolerance of the commands, mm (default: that of ``route_document``).
     """
-    doc = route_document(sweep.route, garment, robot, lifted)
+    extra = {} if command_tolerance_mm is None else {"command_tolerance_mm": command_tolerance_mm}
+    doc = route_document(sweep.route, garment, robot, lifted, **extra)
     figures = sweep.figures(doc["summary"], energy_J=energy_J, battery_j=battery_j)
     doc["sweep"] = {"region": [str(t) for t in region_text], **figures}
     return doc

@@ -25,7 +25,7 @@ import numpy as np
 import shapely
 
 from garnav.errors import NoRouteError, QueryError
-from garnav.export.commands import route_commands
+from garnav.export.commands import DEFAULT_TOLERANCE_MM, route_commands
 from garnav.model import Garment, Robot
 from garnav.plan import Planner, Route
 from garnav.uncertainty.model import OdometryModel
@@ -80,10 +80,12 @@ def runs_for(confidence: float) -> int:
 
 
 def route_risk(garment: Garment, robot: Robot, route: Route, model: OdometryModel, risk: RiskMap,
-               runs: int, seed: int) -> tuple[MonteCarlo, dict[str, float]]:
+               runs: int, seed: int, command_tolerance_mm: float = DEFAULT_TOLERANCE_MM,
+               ) -> tuple[MonteCarlo, dict[str, float]]:
     """Monte Carlo of a planned route, and per piece the largest 1σ position spread on it (mm,
-    linearised: the largest semi-axis of the position covariance before or after any step there)."""
-    plan = compile_commands(garment, route_commands(route, garment, robot), robot)
+    linearised: the largest semi-axis of the position covariance before or after any step there).
+    The route is driven by its command list merged within ``command_tolerance_mm``."""
+    plan = compile_commands(garment, route_commands(route, garment, robot, tolerance_mm=command_tolerance_mm), robot)
     prop = propagate_covariance(plan, model)
     sigma: dict[str, float] = {}
     for i, st in enumerate(plan.steps):
@@ -106,6 +108,7 @@ def confident_route(
     seed: int = 0,
     max_rounds: int = 8,
     first: tuple[Planner, Route] | None = None,
+    command_tolerance_mm: float = DEFAULT_TOLERANCE_MM,
 ) -> ConfidentRoute:
     """Plan from ``stops[0]`` via ``stops[1:-1]`` to ``stops[-1]`` with P(contact) ≤ 1 − confidence.
 
@@ -127,6 +130,8 @@ def confident_route(
     max_rounds : int
     first : (Planner, Route), optional
         An already planned route at the base clearance (saves the first plan).
+    command_tolerance_mm : float
+        Merge tolerance of the command list whose drift is checked (the one that will be written).
 
     Raises
     ------
@@ -171,7 +176,7 @@ def confident_route(
                 edge_extra = prev_edge + 0.5 * (edge_extra - prev_edge)
                 continue
         rnd += 1
-        mc, sigma = route_risk(garment, robot, route, model, risk, runs, seed)
+        mc, sigma = route_risk(garment, robot, route, model, risk, runs, seed, command_tolerance_mm)
         lo, hi = mc.interval()
         if hi <= delta:
             grown = dict(grow)

@@ -79,8 +79,9 @@ class RiskMap:
     def _across_seams(self, garment: Garment, grow: float, quad_segs: int) -> None:
         """Keep-outs within reach of a seam, mapped into the piece on its other side.
 
-        A disc near a seam can touch a zone just across it. The zone (grown by the radius) is carried
-        over by the seam's mapping linearised at the run point nearest to it (the rigid motion of
+        A disc near a seam can touch a zone just across it. The part of the zone (grown by the
+        radius) within reach of each run segment is carried over by the seam's mapping linearised at
+        that segment's point nearest to the zone (the rigid motion of
         :func:`garnav.export.seams.seam_transfer`), and added to the other piece's regions under its
         own name.
         """
@@ -89,19 +90,33 @@ class RiskMap:
                 other = seam.b if side == "a" else seam.a
                 if other.piece == run.piece:
                     continue
-                line = shapely.LineString(garment.run_polyline(run))
+                pts = garment.run_polyline(run)
+                line = shapely.LineString(pts)
                 for k in garment.keepouts_on(run.piece):
                     zone = k.shape.exact_geometry()
                     if shapely.distance(zone, line) >= grow:
                         continue
-                    q = shapely.get_coordinates(shapely.shortest_line(line, zone))[0]
-                    tr = seam_transfer(garment, seam, side, q)  # type: ignore[arg-type]
-                    c, s_ = math.cos(tr.rotation_rad), math.sin(tr.rotation_rad)
-                    px, py = float(tr.point_from[0]), float(tr.point_from[1])
-                    tx, ty = float(tr.point_to[0]), float(tr.point_to[1])
-                    # p ↦ R(p − from) + to, as shapely's [a, b, d, e, xoff, yoff]
-                    mat = [c, -s_, s_, c, tx - (c * px - s_ * py), ty - (s_ * px + c * py)]
-                    g = shapely.affinity.affine_transform(zone.buffer(grow, quad_segs=quad_segs), mat)
+                    grown = zone.buffer(grow, quad_segs=quad_segs)
+                    parts = []
+                    # segment by segment: the seam's mapping, linearised at the segment's point
+                    # nearest the zone, holds near that segment — not across a whole large zone
+                    # (a body zone can span a panel and reach a curved armhole along its length)
+                    for a, b in zip(pts[:-1], pts[1:], strict=True):
+                        seg = shapely.LineString([a, b])
+                        if shapely.distance(zone, seg) >= grow:
+                            continue
+                        q = shapely.get_coordinates(shapely.shortest_line(seg, zone))[0]
+                        tr = seam_transfer(garment, seam, side, q)  # type: ignore[arg-type]
+                        c, s_ = math.cos(tr.rotation_rad), math.sin(tr.rotation_rad)
+                        px, py = float(tr.point_from[0]), float(tr.point_from[1])
+                        tx, ty = float(tr.point_to[0]), float(tr.point_to[1])
+                        # p ↦ R(p − from) + to, as shapely's [a, b, d, e, xoff, yoff]
+                        mat = [c, -s_, s_, c, tx - (c * px - s_ * py), ty - (s_ * px + c * py)]
+                        near = grown.intersection(seg.buffer(grow, quad_segs=quad_segs))
+                        parts.append(shapely.affinity.affine_transform(near, mat))
+                    if not parts:
+                        continue
+                    g = shapely.union_all(parts)
                     shapely.prepare(g)
                     self.regions[tr.to_piece].append(_Region(k.name, k.hard, g, tuple(g.bounds)))
 

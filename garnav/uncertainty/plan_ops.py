@@ -22,7 +22,7 @@ import numpy as np
 
 from garnav.errors import QueryError
 from garnav.export.commands import CommandList, Cross, Go, Start, Turn
-from garnav.export.seams import seam_transfer
+from garnav.export.seams import seam_transfer, snap_to_vertex
 from garnav.plan.route import seam_side_at
 from garnav.model import Garment, Robot
 
@@ -167,7 +167,7 @@ def compile_commands(garment: Garment, commands: CommandList, robot: Robot, star
                         f"'cross {n.seam}' after {travelled:.1f} mm: the robot is then on piece '{piece}', "
                         f"which seam '{n.seam}' does not touch"
                     ) from None
-                tr = seam_transfer(garment, seam, side, p)
+                tr = seam_transfer(garment, seam, side, snap_to_vertex(garment.run_polyline(seam.run(side)), p))
                 steps.append(Step("cross", piece, float(p[0]), float(p[1]), th, seam=n.seam, to_piece=tr.to_piece,
                                   point_to=(float(tr.point_to[0]), float(tr.point_to[1])),
                                   rotation_rad=float(tr.rotation_rad),

@@ -101,6 +101,10 @@ class BodyZone:
         the neck); False: entered at ``cost_factor``.
     cost_factor : float
         For soft zones: length driven inside counts this many times (>= 1).
+    clearance_mm : float
+        Distance the robot keeps beyond the zone's keep-out on the pattern, on top of its radius,
+        mm (>= 0): an allowance for dead-reckoning drift (docs/uncertainty.md), not part of the
+        zone itself — the zone's ``distance_mm`` is what the device maker or clinician decides.
     description : str
     """
 
@@ -113,6 +117,7 @@ class BodyZone:
     hard: bool = True
     cost_factor: float = 1.0
     description: str = ""
+    clearance_mm: float = 0.0
 
     def __post_init__(self) -> None:
         if self.distance_mm is None and self.kind == "implanted_device":
@@ -165,6 +170,8 @@ def body_zone_problems(zone: BodyZone) -> list[str]:
         out.append("a sphere or capsule needs radius_mm + distance_mm > 0")
     if not _finite(zone.cost_factor) or zone.cost_factor < 1:
         out.append(f"'cost_factor' must be a finite number >= 1, found {zone.cost_factor}")
+    if not _finite(zone.clearance_mm) or zone.clearance_mm < 0:
+        out.append(f"'clearance_mm' must be a finite number >= 0, found {zone.clearance_mm}")
     if zone.shape == "above_plane" and zone.radius_mm:
         out.append("'radius_mm' does not apply to an above_plane zone (give distance_mm)")
     return out
@@ -181,6 +188,7 @@ _KEYS = {
     "distance_mm": "float",
     "hard": "bool",
     "cost_factor": "float",
+    "clearance_mm": "float",
     "description": "str",
 }
 _REQUIRED = ("name", "kind", "shape", "anchors")
@@ -304,6 +312,8 @@ def body_zone_to_table(zone: BodyZone) -> dict[str, Any]:
         d["distance_mm"] = float(zone.distance_mm)
     d["hard"] = bool(zone.hard)
     d["cost_factor"] = float(zone.cost_factor)
+    if zone.clearance_mm:
+        d["clearance_mm"] = float(zone.clearance_mm)
     if zone.description:
         d["description"] = zone.description
     return d

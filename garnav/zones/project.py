@@ -246,8 +246,9 @@ def zone_keepouts(garment: Garment, drape: Drape, zones: tuple[BodyZone, ...] | 
     """Keep-outs (kind ``body_zone``) of the garment's body zones on this drape (pure).
 
     Each zone gives one keep-out per connected part per piece, named ``ZONE@PIECE`` (and
-    ``ZONE@PIECE#2``, ... for further parts), hard or soft as the zone is, clearance 0 (the zone's
-    distance is already in the polygon; the planner adds the robot's radius as for any keep-out).
+    ``ZONE@PIECE#2``, ... for further parts), hard or soft as the zone is, with the zone's
+    ``clearance_mm`` (a drift allowance; the zone's distance is already in the polygon, and the
+    planner adds the robot's radius as for any keep-out).
 
     Parameters
     ----------
@@ -268,7 +269,8 @@ def zone_keepouts(garment: Garment, drape: Drape, zones: tuple[BodyZone, ...] | 
                 pts = np.asarray(part.exterior.coords)[:-1]
                 name = f"{zone.name}@{piece}" + (f"#{k + 1}" if k else "")
                 shape = PolygonShape(tuple((float(x), float(y)) for x, y in pts))
-                out.append(KeepOut(name, piece, BODY_ZONE_KIND, shape, 0.0, zone.hard, zone.cost_factor))
+                out.append(KeepOut(name, piece, BODY_ZONE_KIND, shape, zone.clearance_mm, zone.hard,
+                                   zone.cost_factor))
     return tuple(out)
 
 
