@@ -39,11 +39,16 @@ from garnav.plan.points import PiecePoint
 from garnav.plan.refine import plan_legs, refine
 from garnav.plan.windows import MovingPoints, pair_links
 
-__all__ = ["SequenceSearch", "SequenceResult", "WindowGraph", "LayerBound", "ALTERNATIVE_MARGIN"]
+__all__ = ["SequenceSearch", "SequenceResult", "WindowGraph", "LayerBound", "ALTERNATIVE_MARGIN", "CROSSING_ALLOWANCE"]
 
 #: A sequence's portal route is refined when its graph cost is at most the best cost plus twice
-#: the largest gain of refinement seen in the query plus this fraction of its graph cost.
+#: the largest gain of refinement seen in the query plus this fraction of its graph cost ...
 ALTERNATIVE_MARGIN = 0.002
+#: ... plus this fraction of the portal spacing per crossing: sliding a crossing by up to half a
+#: portal gap may gain that much where the route is oblique to the seam (a measured allowance, no
+#: source: on the demo garment a three-crossing sequence 3.0 mm dearer on the portals than the
+#: best route was 3.6 mm cheaper after refinement, a gain of 2.2 mm per crossing at 20 mm portals).
+CROSSING_ALLOWANCE = 0.1
 
 _WIN, _APP = 0, 1  # point kinds of garnav.plan.exact (WIN, APP)
 
@@ -424,12 +429,13 @@ class SequenceSearch:
                 self._pairs = _PortalPairs(planner)
             layer = LayerBound(self._pairs, goals[k], seq)
             floor_cost = layer.start_bound(start)  # no portal route of the sequence is cheaper
-            if floor_cost > upper + 2.0 * gain + ALTERNATIVE_MARGIN * floor_cost:
+            allowance = 2.0 * gain + CROSSING_ALLOWANCE * planner.nav.spacing_mm * len(seq)
+            if floor_cost > upper + allowance + ALTERNATIVE_MARGIN * floor_cost:
                 continue
             if k not in edges:
                 edges[k] = planner.query_edges(start, [goals[k]])
             nodes, graph_cost = planner.sequence_search(start, goals[k], seq, edges[k], layer)
-            if nodes is None or graph_cost > upper + 2.0 * gain + ALTERNATIVE_MARGIN * graph_cost:
+            if nodes is None or graph_cost > upper + allowance + ALTERNATIVE_MARGIN * graph_cost:
                 continue
             legs, crossings = planner.split_path(nodes, start, goals[k])
             solved += 1
