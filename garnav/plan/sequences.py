@@ -49,6 +49,8 @@ ALTERNATIVE_MARGIN = 0.002
 #: source: on the demo garment a three-crossing sequence 3.0 mm dearer on the portals than the
 #: best route was 3.6 mm cheaper after refinement, a gain of 2.2 mm per crossing at 20 mm portals).
 CROSSING_ALLOWANCE = 0.1
+#: Most labels the sequence search expands per query (bounded work; see ``_LabelSearch``).
+MAX_LABELS = 4000
 
 _WIN, _APP = 0, 1  # point kinds of garnav.plan.exact (WIN, APP)
 
@@ -479,8 +481,10 @@ class _LabelSearch:
     """Iterator over (bound, goal index, window sides crossed) of complete seam sequences in
     increasing order of bound; labels are (node, sequence) pairs, pruned at the current U."""
 
-    def __init__(self, wg: WindowGraph, to_pre, goal_post, h_pre, h_post, upper, tried, rel_tol):
+    def __init__(self, wg: WindowGraph, to_pre, goal_post, h_pre, h_post, upper, tried, rel_tol, max_labels: int = MAX_LABELS):
         self.wg = wg
+        self.pops = 0
+        self.max_labels = int(max_labels)
         self.goal_post = goal_post
         self.h_pre, self.h_post = h_pre, h_post
         self.upper = upper
@@ -527,6 +531,12 @@ class _LabelSearch:
             f, _, g, state = heapq.heappop(self.heap)
             if g > self.best.get(state, math.inf):
                 continue
+            self.pops += 1
+            if self.pops > self.max_labels:
+                # bounded work: with crossings of cost 0 the number of sequences below U (going
+                # back and forth over a seam) has no limit; stop, not certified
+                self.heap.clear()
+                raise StopIteration
             if f >= self._limit():
                 self.heap.clear()
                 return (f, -1, [])
