@@ -20,7 +20,10 @@ sequences; labels as in Martins 1984, the multi-label shortest path). Each poppe
 solved — legs planned at its bound path's windows, then its crossings slid to their best places
 (:func:`garnav.plan.refine.refine`) — and the best cost U is kept; the search stops when the next
 lower bound is not below U (branch and bound, Land & Doig 1960). Every sequence not solved
-therefore costs at least U.
+therefore costs at least U; the result says whether the search ended so (``certified``) or at its
+budget (``max_sequences`` refined, three times as many popped, or ``MAX_LABELS`` labels). Which
+popped sequences are refined is decided on their portal routes (``ALTERNATIVE_MARGIN``,
+``CROSSING_ALLOWANCE``), a heuristic rule; docs/planning.md §4c has the whole argument.
 """
 
 from __future__ import annotations
@@ -61,9 +64,9 @@ class SequenceResult:
 
     ``legs``, ``crossings`` and ``cost_mm`` are the best route; ``lower_mm`` a lower bound of every
     route (the window graph's least cost); ``certified``: the search stopped because every seam
-    sequence not solved has a lower bound at least the route's cost (else it stopped at
-    ``max_sequences``); ``solved`` the number of seam sequences solved; ``goal`` the index of the
-    goal reached.
+    sequence not refined has a lower bound at least the route's cost (else it stopped at a budget
+    or skipped a sequence below it by the refinement threshold); ``solved`` the number of seam
+    sequences solved; ``goal`` the index of the goal reached.
     """
 
     legs: list
@@ -412,11 +415,13 @@ class SequenceSearch:
         # than the exact same-piece cost found above
         floor = min(float(np.min(to_pre + h_pre)) if w else math.inf, upper)
         labels = _LabelSearch(wg, to_pre, goal_post, h_pre, h_post, upper, tried, self.rel_tol)
-        certified = False
+        certified = skipped = False
         for bound, k, path in labels:  # complete seam sequences in increasing order of bound
             margin = self.rel_tol * upper if math.isfinite(upper) else 0.0
             if bound >= upper - margin:
-                certified = True  # every sequence not solved costs at least the best route
+                # every sequence not popped costs at least the best route; the popped ones count
+                # only if they were all refined (skipping one is the heuristic rule, no proof)
+                certified = not skipped
                 break
             if solved >= self.max_sequences:
                 break
@@ -433,11 +438,15 @@ class SequenceSearch:
             floor_cost = layer.start_bound(start)  # no portal route of the sequence is cheaper
             allowance = 2.0 * gain + CROSSING_ALLOWANCE * planner.nav.spacing_mm * len(seq)
             if floor_cost > upper + allowance + ALTERNATIVE_MARGIN * floor_cost:
+                skipped = True
                 continue
             if k not in edges:
                 edges[k] = planner.query_edges(start, [goals[k]])
             nodes, graph_cost = planner.sequence_search(start, goals[k], seq, edges[k], layer)
-            if nodes is None or graph_cost > upper + allowance + ALTERNATIVE_MARGIN * graph_cost:
+            if nodes is None:
+                continue  # no route crosses exactly so: nothing to miss
+            if graph_cost > upper + allowance + ALTERNATIVE_MARGIN * graph_cost:
+                skipped = True
                 continue
             legs, crossings = planner.split_path(nodes, start, goals[k])
             solved += 1
