@@ -37,7 +37,7 @@ from benchmarks.measure import growth_exponent, machine_info, peak_memory, summa
 from benchmarks.report import evaluate_targets, format_report, markdown_report
 from benchmarks.single import run_single
 
-ALL_CASES = ("single", "demo", "lift", "cli", "sweep", "drift", "physics", "seams", "study", "zones", "fuzz")
+ALL_CASES = ("single", "demo", "lift", "cli", "sweep", "drift", "physics", "seams", "study", "zones", "fuzz", "startup")
 FULL_N = (10, 50, 200, 500)
 QUICK_N = (2, 4)
 
@@ -216,6 +216,7 @@ def run_lift(opts: Options, log) -> dict[str, Any]:
         if "length_mm" in fo:
             gar["lift"]["rel_diff_3d_vs_flipout"] = (length3 - fo["length_mm"]) / fo["length_mm"]
         gar["to_pattern"], out["trimesh_closest_point"] = _to_pattern(drape, case, rng)
+        gar["verify"], out["trimesh_adjacency_angles"] = _verify(garment, case)
     except Exception as exc:
         gar["error"] = _err(exc)
     return out
@@ -243,6 +244,27 @@ def _to_pattern(drape, case: C.LiftCase, rng) -> tuple[dict[str, Any], dict[str,
     ours = {"points": n, "query_s": t_ours, "points_per_s": n / t_ours,
             "max_distance_diff_mm": float(np.abs(d_ours - d_ref).max())}
     return ours, {"points": m, "query_s": t_ref, "points_per_s": m / t_ref}
+
+
+def _verify(garment, case: C.LiftCase) -> tuple[dict[str, Any], dict[str, Any]]:
+    """Verifying a freshly linked drape (orientation, folds, placement, seams: every fault of
+    garnav.drape.verify) against trimesh computing its face-adjacency angles alone (the 3D part of
+    the fold test, one reference figure)."""
+    import trimesh
+
+    from garnav.drape import link_drape, uv_mesh_from_arrays
+    from garnav.drape.verify import drape_faults
+
+    size = np.asarray(garment.sheet_size_mm, dtype=float)
+    mesh = uv_mesh_from_arrays(case.vertices, case.faces, (case.uv / size)[case.faces])
+    drape = link_drape(garment, mesh, verify=False)
+    faults, t_ours = timed(lambda: drape_faults(garment, drape))
+
+    def angles():
+        return trimesh.Trimesh(case.vertices, case.faces, process=False).face_adjacency_angles
+
+    _, t_ref = timed(angles)
+    return {"faults": len(faults), "verify_s": t_ours}, {"query_s": t_ref}
 
 
 def _isometry_defect(case: C.LiftCase) -> float:
@@ -409,6 +431,15 @@ def run(opts: Options, which: tuple[str, ...], log=print, checkpoint=None) -> di
             results["cases"]["study"] = run_study_case(opts.quick, log=log)
         except Exception as exc:
             results["cases"]["study"] = {"kind": "study", "error": _err(exc)}
+        save(results)
+    if "startup" in which:  # the command line's start: benchmarks/startup.py
+        from benchmarks.startup import run_startup
+
+        log("case startup (garnav --help, --version, a missing spec; against python -c 'import numpy') ...")
+        try:
+            results["cases"]["startup"] = run_startup(opts, log)
+        except Exception as exc:
+            results["cases"]["startup"] = {"kind": "startup", "error": _err(exc)}
         save(results)
     results["targets"] = evaluate_targets(results)
     results["total_s"] = time.perf_counter() - t_all

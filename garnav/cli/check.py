@@ -20,8 +20,9 @@ from garnav.errors import GarnavError, SpecError
 __all__ = ["register", "run", "SEAM_GAP_ERROR_MM", "EXIT_CODES"]
 
 #: A seam whose two runs lie farther apart than this in 3D (through the drape) is an error, mm:
-#: the drape and the pattern disagree there and a lifted route would jump.
-SEAM_GAP_ERROR_MM = 1.0
+#: the drape and the pattern disagree there and a lifted route would jump. The same limit makes
+#: every command that lifts a route refuse the drape (:mod:`garnav.drape.verify`).
+SEAM_GAP_ERROR_MM = 1.0  # = garnav.drape.verify.SEAM_GAP_MAX_MM (not imported here: --help stays light)
 
 EXIT_CODES = "exit status: 0 nothing found, 1 warnings only, 2 errors (or bad input)"
 
@@ -70,7 +71,8 @@ def run(args: argparse.Namespace) -> int:
         return _finish(report, as_json)
     folder = Path(args.garment).parent
     findings = list(route_readiness(garment))
-    mesh_lines, drape_text = _meshes(garment, folder, getattr(args, "drape", None), report, findings)
+    mesh_lines, drape_text = _meshes(garment, folder, getattr(args, "drape", None), report, findings,
+                                     as_json is not None)
     report["errors"] = [f.as_dict() for f in findings if f.level == "error"]
     report["warnings"] = [f.as_dict() for f in findings if f.level == "warning"]
     report["summary"] = {"pieces": len(garment.pieces), "seams": len(garment.seams),
@@ -93,8 +95,12 @@ def run(args: argparse.Namespace) -> int:
     return _finish(report, as_json)
 
 
-def _meshes(garment, folder: Path, drape_opt, report: dict, findings: list) -> tuple[list[str], str]:
-    """Mesh notes and the drape report; unreadable or ill-fitting meshes become findings."""
+def _meshes(garment, folder: Path, drape_opt, report: dict, findings: list,
+            as_json: bool = False) -> tuple[list[str], str]:
+    """Mesh notes and the drape report; unreadable or ill-fitting meshes become findings (a drape
+    given with ``--drape`` that cannot be linked at all stops the check, except with ``--json``,
+    which carries it as a finding); every fault of :func:`garnav.drape.verify.drape_faults` is an
+    error finding."""
     from garnav.plan.readiness import Finding
 
     lines = []
@@ -115,30 +121,37 @@ def _meshes(garment, folder: Path, drape_opt, report: dict, findings: list) -> t
     want = drape_opt if drape_opt is not None else (garment.drape if garment.drape and (folder / garment.drape).is_file() else None)
     if want is None:
         return lines, ""
-    from garnav.drape import drape_report, load_drape
-
     try:
-        drape = load_drape(garment, drape_opt or "", str(folder))
-        rep = drape_report(garment, drape)
+        drape, rep = _checked_drape(garment, drape_opt or "", folder, findings)
     except GarnavError as exc:
-        if drape_opt is not None:
+        if drape_opt is not None and not as_json:
             raise
-        findings.insert(0, Finding("error", "drape_unreadable", f"drape '{garment.drape}'", str(exc)))
+        findings.insert(0, Finding("error", "drape_unreadable", f"drape '{drape_opt or garment.drape}'", str(exc)))
         return lines, ""
-    findings[:0] = _seam_gap_findings(rep)
+    if rep is None:
+        return lines, ""
     report["drape"] = dataclasses.asdict(rep)
     if drape_opt is None:
         return lines, ""
     return lines, _drape_text(garment, drape, rep)
 
 
-def _seam_gap_findings(rep, where: str = "") -> list:
+def _checked_drape(garment, mesh: str, folder: Path, findings: list, where: str = ""):
+    """Link a drape without refusing it, put every fault of :mod:`garnav.drape.verify` at the head
+    of ``findings`` (items start with ``where``), and report it: ``(drape, report or None)``
+    (None when a seam is off the drape: already a finding). Raises what linking raises."""
+    from garnav.drape import drape_report, load_drape
+    from garnav.drape.verify import drape_faults
     from garnav.plan.readiness import Finding
 
-    return [Finding("error", "seam_gap", f"{where}seam '{c.seam}'",
-                    f"its two runs lie up to {c.max_gap_mm:.2f} mm apart on the drape "
-                    f"(more than {SEAM_GAP_ERROR_MM:g} mm): drape and pattern disagree")
-            for c in rep.seams if c.max_gap_mm > SEAM_GAP_ERROR_MM]
+    drape = load_drape(garment, mesh, str(folder), verify=False)
+    faults = drape_faults(garment, drape, seam_gap_mm=SEAM_GAP_ERROR_MM)
+    findings[:0] = [Finding("error", f.code, f"{where}drape {drape.source}: {f.item}", f.reason, f.where)
+                    for f in faults]
+    try:
+        return drape, drape_report(garment, drape)
+    except GarnavError:
+        return drape, None
 
 
 def _drape_text(garment, drape, rep) -> str:
@@ -153,7 +166,6 @@ def _drape_text(garment, drape, rep) -> str:
 def _pose_drapes(garment, folder: Path, show: bool, report: dict, findings: list) -> str:
     """Link and report every pose's drape (``show``: the text too); each pose's problems are
     findings naming the pose. ``report["drape"]`` is the default pose's, ``report["poses"]`` all."""
-    from garnav.drape import drape_report, load_drape
     from garnav.plan.readiness import Finding
     from garnav.poses.load import default_pose
 
@@ -165,13 +177,13 @@ def _pose_drapes(garment, folder: Path, show: bool, report: dict, findings: list
         if not show and not path.is_file():
             continue
         try:
-            drape = load_drape(garment, str(path))
-            rep = drape_report(garment, drape)
+            drape, rep = _checked_drape(garment, str(path), Path("."), findings, f"pose '{pose.name}' ")
         except GarnavError as exc:
             findings.insert(0, Finding("error", "drape_unreadable", f"pose '{pose.name}' drape '{pose.drape}'",
                                        str(exc)))
             continue
-        findings[:0] = _seam_gap_findings(rep, f"pose '{pose.name}' ")
+        if rep is None:
+            continue
         entry = {"pose": pose.name, "posture": pose.posture, "drape": dataclasses.asdict(rep)}
         report["poses"].append(entry)
         if pose == base:

@@ -341,17 +341,21 @@ def _loop_polygon(loops_xy: list[np.ndarray]) -> shapely.Geometry:
     return shapely.Polygon(rings[0], rings[1:])
 
 
-def link_drape(garment: Garment, mesh: UVMesh) -> Drape:
+def link_drape(garment: Garment, mesh: UVMesh, *, verify: bool = True) -> Drape:
     """Link a UV-mapped mesh to a garment's pieces.
 
     Each UV island is assigned to the piece (on the sheet, via the placements) that holds most of
-    its area.
+    its area. Then the linked drape is verified (:func:`garnav.drape.verify.verify_drape`):
+    mirrored, misplaced or swapped islands, folds in 3D and seams that gap are refused.
 
     Parameters
     ----------
     garment : Garment
     mesh : UVMesh
         UVs are sheet position / ``garment.sheet_size_mm``.
+    verify : bool
+        Run the verification (``garnav check`` turns it off to report the faults as findings with
+        :func:`garnav.drape.verify.drape_faults`).
 
     Returns
     -------
@@ -361,7 +365,8 @@ def link_drape(garment: Garment, mesh: UVMesh) -> Drape:
     ------
     MeshError
         An island on no piece or across two pieces, a piece without an island, UV triangles
-        folded over within an island, or islands overlapping each other.
+        folded over or wound the other way within an island, islands overlapping each other, or
+        (with ``verify``) any fault of :func:`garnav.drape.verify.drape_faults`.
     """
     src = mesh.source
     sheet = np.asarray(garment.sheet_size_mm, dtype=float)
@@ -406,11 +411,8 @@ def link_drape(garment: Garment, mesh: UVMesh) -> Drape:
         s_sel = signed[sel]
         pos, neg = area[sel][s_sel > 0].sum(), area[sel][s_sel < 0].sum()
         if min(pos, neg) > 0:
-            flipped = int((s_sel < 0).sum() if pos >= neg else (s_sel > 0).sum())
-            problems.append(
-                f"UV island {isl} (piece '{garment.pieces[best].name}', {where}) is folded over: "
-                f"{flipped} triangle(s) face the other way in UV"
-            )
+            problems.append(_turned_text(mesh, topo, signed, np.flatnonzero(sel), pos >= neg,
+                                         f"UV island {isl} (piece '{garment.pieces[best].name}', {where})"))
     if problems:
         raise MeshError(f"{src}: " + "\n  ".join(problems))
     missing = [garment.pieces[i].name for i in range(n_p) if i not in set(island_piece.tolist())]
@@ -421,12 +423,16 @@ def link_drape(garment: Garment, mesh: UVMesh) -> Drape:
         )
     _check_overlaps(src, garment, mesh, topo, corner_sheet, area, island_piece)
 
+    notes = mesh.notes
+    if area[signed < 0].sum() > area[signed > 0].sum():
+        notes += ("the faces are wound clockwise seen from the outside (the side the UVs' pattern "
+                  "faces): the file's normals point inwards",)
     face_piece = island_piece[topo.island]
     corner_pattern = np.empty_like(corner_sheet)
     for i, p in enumerate(garment.pieces):
         sel = face_piece == i
         corner_pattern[sel] = p.placement.from_sheet(corner_sheet[sel])
-    return Drape(
+    drape = Drape(
         positions=mesh.positions,
         faces=mesh.faces,
         corner_uv=mesh.corner_uv,
@@ -436,11 +442,40 @@ def link_drape(garment: Garment, mesh: UVMesh) -> Drape:
         corner_pattern=_ro(corner_pattern),
         topology=topo,
         source=src,
-        notes=mesh.notes,
+        notes=notes,
     )
+    if verify:
+        from garnav.drape.verify import verify_drape
+
+        verify_drape(garment, drape)
+    return drape
 
 
-def load_drape(garment: Garment, mesh: str | None = None, folder: str = ".") -> Drape:
+def _turned_text(mesh: UVMesh, topo: UVTopology, signed: np.ndarray, faces: np.ndarray,
+                 positive: bool, label: str) -> str:
+    """Why an island's triangles turn both ways in UV: folded over (the UV map reverses against
+    its neighbours') or wound the other way (corners reversed in 3D and UV alike, so the map
+    itself agrees with the neighbours': its outside normal, sign(UV area) × winding normal)."""
+    q = mesh.positions[mesh.faces]
+    n_w = np.cross(q[:, 1] - q[:, 0], q[:, 2] - q[:, 0])
+    n_map = np.sign(signed)[:, None] * n_w
+    turned = faces[(signed[faces] < 0) if positive else (signed[faces] > 0)]
+    nb = topo.neighbor[turned]
+    ok = nb >= 0
+    dots = np.einsum("fd,fkd->fk", n_map[turned], n_map[np.maximum(nb, 0)])
+    agree = (np.where(ok, np.sign(dots), 0.0).sum(axis=1) > 0)
+    wound, folded = int(agree.sum()), int((~agree).sum())
+    parts = []
+    if folded:
+        parts.append(f"is folded over: {folded} triangle(s) face the other way in UV")
+    if wound:
+        parts.append(f"has {wound} triangle(s) wound the other way (3D and UV corners both "
+                     "reversed; drape faces turn counter-clockwise seen from the outside)")
+    return f"{label} " + "; it ".join(parts)
+
+
+def load_drape(garment: Garment, mesh: str | None = None, folder: str = ".", *,
+               verify: bool = True) -> Drape:
     """Read and link a garment's drape mesh.
 
     Parameters
@@ -450,11 +485,13 @@ def load_drape(garment: Garment, mesh: str | None = None, folder: str = ".") -> 
         Mesh file; default: the garment's own ``drape``, relative to ``folder``.
     folder : str
         The spec file's folder (what the garment's ``drape`` path is relative to).
+    verify : bool
+        See :func:`link_drape`.
 
     Raises
     ------
     MeshError
-        No mesh given and the garment names none, or any loading or linking problem.
+        No mesh given and the garment names none, or any loading, linking or verifying problem.
     """
     if not mesh:
         if garment.drape is None:
@@ -462,7 +499,7 @@ def load_drape(garment: Garment, mesh: str | None = None, folder: str = ".") -> 
                 f"garment '{garment.name}' names no drape mesh; give one (e.g. --drape MESH)"
             )
         mesh = os.path.join(folder, garment.drape)
-    return link_drape(garment, load_uv_mesh(mesh))
+    return link_drape(garment, load_uv_mesh(mesh), verify=verify)
 
 
 def island_polygons(topo: UVTopology, corner_xy: np.ndarray) -> list[shapely.Geometry]:
@@ -473,7 +510,10 @@ def island_polygons(topo: UVTopology, corner_xy: np.ndarray) -> list[shapely.Geo
     for loop in topo.boundary_loops():
         isl = int(topo.island[f[loop[0]]])
         loops_by_island.setdefault(isl, []).append(corner_xy[f[loop], c0[loop]])
-    return [_loop_polygon(loops_by_island[i]) for i in range(topo.n_islands)]
+    # an island without a boundary (a closed surface in UV) has no region: the overlap test
+    # then compares its triangles' area with 0 and refuses it
+    return [_loop_polygon(loops_by_island[i]) if i in loops_by_island else shapely.Polygon()
+            for i in range(topo.n_islands)]
 
 
 def _check_overlaps(src, garment, mesh, topo, corner_sheet, area, island_piece) -> None:

@@ -58,9 +58,11 @@ class UVTopology:
     def boundary_loops(self) -> list[np.ndarray]:
         """Boundary half-edges chained into closed loops, each an int array of rows of ``boundary``.
 
-        Loops are returned in order of their lowest half-edge row; each starts at that row.
+        Loops are returned in order of their lowest half-edge row; each starts at that row. A loop
+        stays in one island (two islands may touch at a UV vertex).
         """
         f = self.boundary[:, 0]
+        isl = self.island[f]
         c0, c1 = self.boundary_corners()
         start_v = self.uv_vertex[f, c0]
         end_v = self.uv_vertex[f, c1]
@@ -76,7 +78,7 @@ class UVTopology:
             used[first] = True
             row = first
             while True:
-                nxt = [r for r in by_start.get(int(end_v[row]), []) if not used[r]]
+                nxt = [r for r in by_start.get(int(end_v[row]), []) if not used[r] and isl[r] == isl[row]]
                 if not nxt:
                     break
                 row = nxt[0]
