@@ -37,7 +37,7 @@ from benchmarks.measure import growth_exponent, machine_info, peak_memory, summa
 from benchmarks.report import evaluate_targets, format_report, markdown_report
 from benchmarks.single import run_single
 
-ALL_CASES = ("single", "demo", "lift", "cli", "sweep", "drift", "physics", "seams", "study", "zones", "fuzz")
+ALL_CASES = ("single", "demo", "lift", "cli", "sweep", "drift", "physics", "seams", "study", "zones", "fuzz", "startup")
 FULL_N = (10, 50, 200, 500)
 QUICK_N = (2, 4)
 
@@ -431,6 +431,15 @@ def run(opts: Options, which: tuple[str, ...], log=print, checkpoint=None) -> di
             results["cases"]["study"] = run_study_case(opts.quick, log=log)
         except Exception as exc:
             results["cases"]["study"] = {"kind": "study", "error": _err(exc)}
+        save(results)
+    if "startup" in which:  # the command line's start: benchmarks/startup.py
+        from benchmarks.startup import run_startup
+
+        log("case startup (garnav --help, --version, a missing spec; against python -c 'import numpy') ...")
+        try:
+            results["cases"]["startup"] = run_startup(opts, log)
+        except Exception as exc:
+            results["cases"]["startup"] = {"kind": "startup", "error": _err(exc)}
         save(results)
     results["targets"] = evaluate_targets(results)
     results["total_s"] = time.perf_counter() - t_all

@@ -30,7 +30,7 @@ import wrong_drapes as wd
 from garnav.cli import main
 from garnav.cli.check import SEAM_GAP_ERROR_MM
 from garnav.drape.drape import link_drape
-from garnav.drape.meshio import load_uv_mesh, save_obj, uv_mesh_from_arrays
+from garnav.drape.meshio import save_obj, uv_mesh_from_arrays
 from garnav.drape.verify import SEAM_GAP_MAX_MM, drape_faults, fit_outline, rigid_fit_2d
 from garnav.errors import MeshError
 
@@ -237,10 +237,10 @@ class TestFolded:
 
 @pytest.fixture(scope="module")
 def folder(demo, tmp_path_factory):
-    """The demo's files, with the left sleeve's island mirrored in the (default) standing drape."""
+    """The demo spec beside a drape with the left sleeve's island mirrored."""
     g, m = demo
     d = tmp_path_factory.mktemp("mirrored")
-    shutil.copytree(wd.MESH.parent, d, dirs_exist_ok=True)
+    shutil.copy(wd.SPEC, d / "sensing_top.toml")
     save_obj(wd.mirrored(g, m, "sleeve_left"), d / "sensing_top_drape.obj")
     return d
 
@@ -271,11 +271,15 @@ class TestCommands:
         assert "lies across pieces 'sleeve_left' 58%" in err["reason"]
 
     def test_check_names_the_pose_whose_drape_is_wrong(self, demo, tmp_path, capsys):
-        g, _ = demo
-        shutil.copytree(wd.MESH.parent, tmp_path, dirs_exist_ok=True)
-        raised = tmp_path / "sensing_top_arm_raised_drape.obj"  # the demo's second [[pose]]
-        save_obj(wd.mirrored(g, load_uv_mesh(raised), "front"), raised)
-        assert main(["check", str(tmp_path / "sensing_top.toml"), "--json"]) == 2
+        g, m = demo
+        shutil.copy(wd.MESH, tmp_path / "sensing_top_drape.obj")
+        save_obj(wd.mirrored(g, m, "front"), tmp_path / "arm_raised.obj")
+        spec = tmp_path / "sensing_top.toml"
+        text = wd.SPEC.read_text(encoding="utf-8")  # the demo's two poses, arm_raised's drape replaced
+        assert 'drape = "sensing_top_arm_raised_drape.obj"' in text
+        spec.write_text(text.replace('drape = "sensing_top_arm_raised_drape.obj"', 'drape = "arm_raised.obj"'),
+                        encoding="utf-8")
+        assert main(["check", str(spec), "--json"]) == 2
         doc = json.loads(capsys.readouterr().out)
         (err,) = doc["errors"]
         assert err["code"] == "drape_mirrored"

@@ -4,6 +4,7 @@ stated tolerance of the planned path (checked with shapely's Hausdorff distance)
 from __future__ import annotations
 
 import dataclasses
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -120,7 +121,8 @@ def test_tolerance_is_checked_and_the_help_states_the_default(capsys):
 
 
 def test_cli_refuses_a_negative_tolerance_before_any_work(capsys):
-    for command in (["route", "no_such_spec.toml", "--from", "a", "--to", "b"], ["demo", "--out", "never_written"]):
+    spec = str(Path(__file__).resolve().parents[1] / "meshes" / "sensing_top.toml")  # a missing spec is refused first
+    for command in (["route", spec, "--from", "a", "--to", "b"], ["demo", "--out", "never_written"]):
         assert main([*command, "--command-tolerance", "-1"]) == 2
         assert "--command-tolerance must be zero or more mm, got -1" in capsys.readouterr().err
     with pytest.raises(SystemExit):

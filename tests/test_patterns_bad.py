@@ -223,7 +223,8 @@ def test_cli_prints_one_message(tmp_path, capsys):
     assert "garnav import: error:" in err and "XML external entity 'xxe'" in err
     assert "Traceback" not in err and not (tmp_path / "x.toml").exists()
     assert main(["import", str(tmp_path / "missing.dxf"), "--out", str(tmp_path / "x.toml")]) == 2
-    assert "missing.dxf: file: not found" in capsys.readouterr().err
+    # a missing input is refused by the output plan before any reader runs (garnav.textio's words)
+    assert "missing.dxf: does not exist" in capsys.readouterr().err
 
 
 def test_missing_extra_says_how_to_install(monkeypatch):

@@ -144,7 +144,9 @@ def test_route_fine_in_one_pose_not_the_other(spec, tmp_path, capsys):
     (["--robust", "--no-drape"], "leave out --no-drape"),
     (["--robust", "--pose", "flat"], "--robust plans for every pose"),
 ])
-def test_pose_option_errors(spec, extra, message, capsys):
+def test_pose_option_errors(spec, extra, message, capsys, monkeypatch):
+    monkeypatch.chdir(spec.parent)  # x.obj exists there: a missing input would be refused first
+    (spec.parent / "x.obj").write_text("", encoding="utf-8")
     assert main(["route", str(spec), "--from", "panel:30,150", "--to", "panel:380,150", "--quiet"] + extra) == 2
     err = capsys.readouterr().err
     assert message in err and "Traceback" not in err

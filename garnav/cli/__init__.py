@@ -3,8 +3,11 @@
 Each sub-command lives in its own module with ``register(subparsers)`` (adds its parser and sets
 ``func``) and a ``run(args) -> int``. A command module that fails to import stops the CLI with an
 ``ImportError`` naming the command (never a silently missing command). Command modules import
-the heavy parts (planner, drape, export, rendering) inside ``run`` so that ``--help`` stays fast. Errors of the :class:`~garnav.errors.GarnavError` family are
-printed as one clear message on stderr with exit status 2; they never show a traceback.
+numpy, the model and the heavy parts (planner, drape, export, rendering) inside ``run``, so that
+``--help``, ``--version``, a command's ``--help`` and a missing input file (refused by the output
+plan before ``run``) load none of them (tests/test_cli_loading.py). Errors of the
+:class:`~garnav.errors.GarnavError` family are printed as one clear message on stderr with exit
+status 2; they never show a traceback.
 """
 
 from __future__ import annotations

@@ -9,7 +9,7 @@ import dataclasses
 from garnav.errors import QueryError
 if TYPE_CHECKING:  # loaded when the command runs (a fast --help)
     from garnav.export.commands import CommandList
-from garnav.model import Garment, Robot
+    from garnav.model import Garment, Robot
 
 __all__ = ["route_inputs", "add_garment_option", "add_command_tolerance_option", "command_tolerance",
            "with_body_zones"]
@@ -54,6 +54,7 @@ def route_inputs(route_path: str, garment_path: str | None) -> tuple[Garment, Ro
     in documents written before it existed), so they are the document's own."""
     from garnav.export.commands import route_commands
     from garnav.export.waypoints import document_route, read_route_document
+    from garnav.model import Robot
 
     doc = read_route_document(route_path)
     name = doc["garment"]["name"]

@@ -7,7 +7,6 @@ import dataclasses
 import math
 
 from garnav.atomic import write_text_atomic
-from garnav.model import Robot
 
 __all__ = ["register", "run"]
 
@@ -30,6 +29,7 @@ def register(subparsers) -> None:
 
 def run(args: argparse.Namespace) -> int:
     from garnav.uncertainty.calibrate import calibrated_robot, read_runs, robot_toml, umbmark
+    from garnav.model import Robot
 
     cw, ccw, side, base = read_runs(args.runs)
     robot = Robot()

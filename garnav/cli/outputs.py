@@ -2,7 +2,9 @@
 
 :func:`run_planned` is how the dispatcher runs a command (docs/outputs.md):
 
-1. **Check before any work** (:func:`check_outputs`): every output option of the command
+1. **Check before any work**: every input file named on the command line must be there and
+   whole (:func:`check_inputs`: the words of :mod:`garnav.textio`, before any heavy module is
+   imported, so a mistyped file name is answered at once); every output option of the command
    (:data:`ROLES`) is refused when it is the same file as one of the command's inputs (resolved
    real path or file identity, :func:`os.path.samefile`'s test) or as another of its outputs, when
    it is a folder, FIFO, device or socket (:func:`garnav.atomic.check_target`; a symbolic link is
@@ -37,8 +39,10 @@ from pathlib import Path
 
 from garnav.atomic import STDOUT, OutputSet, check_target, writing_set
 from garnav.errors import QueryError
+from garnav.textio import file_problem, incomplete_reason
 
-__all__ = ["Output", "Roles", "ROLES", "check_outputs", "run_planned", "terminal_safe", "declared_paths"]
+__all__ = ["Output", "Roles", "ROLES", "check_inputs", "check_outputs", "run_planned", "terminal_safe",
+           "declared_paths"]
 
 
 @dataclass(frozen=True)
@@ -157,6 +161,17 @@ def _same(a: str, b: str) -> bool:
         return False
 
 
+def check_inputs(args: argparse.Namespace) -> None:
+    """Refuse, before any work, an input file named on the command line that is missing, a
+    folder, or part of an incompletely written output set. Raises
+    :class:`~garnav.errors.QueryError` ``"<path>: <reason>"`` with the reasons every reader gives
+    (:mod:`garnav.textio`)."""
+    for path in declared_paths(args)[0]:
+        reason = file_problem(path) or incomplete_reason(path)
+        if reason is not None:
+            raise QueryError(f"{path}: {reason}")
+
+
 def check_outputs(args: argparse.Namespace) -> bool:
     """Refuse a bad output plan before any work (see the module text); True when an output is
     standard output. Raises :class:`~garnav.errors.QueryError` naming the option and the reason."""
@@ -251,6 +266,7 @@ def _wrote_lines(args: argparse.Namespace, files: list[str]) -> list[str]:
 
 def run_planned(args: argparse.Namespace) -> int:
     """Run ``args.func(args)`` under the output plan; returns its exit status."""
+    check_inputs(args)
     to_stdout = check_outputs(args)
     if ROLES.get(getattr(args, "command", "") or "", Roles()).live:
         return int(args.func(args) or 0)

@@ -15,7 +15,6 @@ from pathlib import Path
 from typing import Any
 
 from garnav.errors import MeshError, QueryError
-from garnav.model import Robot
 
 __all__ = ["register", "run", "check_stretches"]
 
@@ -82,6 +81,7 @@ def run(args: argparse.Namespace) -> int:
 
     tolerance = command_tolerance(args)  # a bad tolerance fails before any work
     from garnav.export.waypoints import write_route_csv, write_route_json
+    from garnav.model import Robot
     from garnav.plan import Planner
     from garnav.sweep import coverage_face_mask, figures_lines, parse_region, plan_sweep, resolve_region, sweep_document
     from garnav.mechanics import parse_gravity

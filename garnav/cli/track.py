@@ -14,7 +14,6 @@ from pathlib import Path
 
 from garnav.atomic import write_text_atomic
 from garnav.errors import MeshError, QueryError
-from garnav.model import Robot
 
 __all__ = ["register", "run"]
 
@@ -47,6 +46,7 @@ def run(args: argparse.Namespace) -> int:
     from garnav.telemetry.report import sample_xyz, track_document, track_lines
     from garnav.telemetry.track import compare_to_plan, track_log
     from garnav.uncertainty.model import OdometryModel
+    from garnav.model import Robot
 
     from garnav.drape.sources import garment_and_drape
 

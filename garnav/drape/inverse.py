@@ -11,7 +11,6 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-import trimesh
 
 from garnav.drape.drape import Drape
 from garnav.errors import QueryError
@@ -74,16 +73,18 @@ def closest_surface_points(drape: Drape, xyz: np.ndarray) -> tuple[np.ndarray, n
     distance : (n,) float array
     face : (n,) int array
     """
+    from trimesh.triangles import closest_point  # trimesh loads slowly: only when 3D points are asked
+
     pts = np.asarray(xyz, dtype=float).reshape(-1, 3)
     idx = drape.surface_index
     _, first = idx.tree.query(pts)
-    first_pt = trimesh.triangles.closest_point(idx.tri[first], pts)
+    first_pt = closest_point(idx.tri[first], pts)
     bound = np.linalg.norm(first_pt - pts, axis=1)
     cands = idx.tree.query_ball_point(pts, bound + idx.rmax + 1e-9)
     counts = np.array([len(c) for c in cands])
     pid = np.repeat(np.arange(len(pts)), counts)
     fid = np.concatenate([np.asarray(c, dtype=np.int64) for c in cands]) if len(pts) else np.zeros(0, int)
-    q = trimesh.triangles.closest_point(idx.tri[fid], pts[pid])
+    q = closest_point(idx.tri[fid], pts[pid])
     d = np.linalg.norm(q - pts[pid], axis=1)
     order = np.lexsort((fid, d, pid))  # per point: nearest first, ties by lowest face
     firsts = order[np.r_[True, pid[order][1:] != pid[order][:-1]]]
@@ -92,8 +93,10 @@ def closest_surface_points(drape: Drape, xyz: np.ndarray) -> tuple[np.ndarray, n
 
 def surface_to_pattern(drape: Drape, xyz: np.ndarray) -> SurfaceHits:
     """Closest drape points of 3D points (n, 3), with their piece and piece-frame position."""
+    from trimesh.triangles import points_to_barycentric
+
     point, dist, face = closest_surface_points(drape, xyz)
-    bary = trimesh.triangles.points_to_barycentric(drape.positions[drape.faces[face]], point)
+    bary = points_to_barycentric(drape.positions[drape.faces[face]], point)
     bary = np.clip(bary, 0.0, None)
     bary /= bary.sum(axis=1, keepdims=True)
     return SurfaceHits(

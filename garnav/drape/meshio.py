@@ -31,6 +31,7 @@ import scipy.sparse.csgraph
 from scipy.spatial import cKDTree
 
 from garnav.atomic import write_text_atomic
+from garnav.drape.objplain import parse_plain_obj
 from garnav.errors import MeshError
 from garnav.textio import file_problem, read_text
 
@@ -39,6 +40,7 @@ __all__ = [
     "uv_mesh_from_arrays",
     "load_uv_mesh",
     "parse_obj",
+    "parse_obj_lines",
     "dumps_obj",
     "save_obj",
     "weld_positions",
@@ -285,6 +287,14 @@ def parse_obj(text: str, source: str = "<string>") -> tuple[np.ndarray, np.ndarr
     MeshError
         On a malformed ``v``/``vt``/``f`` line or an index out of range.
     """
+    plain = parse_plain_obj(text)  # the same arrays, read in blocks, for plain triangle files
+    if plain is not None:
+        return plain
+    return parse_obj_lines(text, source)
+
+
+def parse_obj_lines(text: str, source: str = "<string>") -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """:func:`parse_obj` one line at a time: any OBJ text, with a message naming the bad line."""
     verts: list[list[float]] = []
     uvs: list[list[float]] = []
     fv: list[int] = []
@@ -322,15 +332,16 @@ def parse_obj(text: str, source: str = "<string>") -> tuple[np.ndarray, np.ndarr
                     ft.extend((ti[0], ti[k], ti[k + 1]))
         except (ValueError, IndexError) as exc:
             raise MeshError(f"{source}: line {lineno}: cannot read '{raw.strip()[:60]}': {exc}") from None
+    # ranges checked on the Python ints: an index beyond int64 is out of range, not an overflow
+    if fv and (min(fv) < 0 or max(fv) >= len(verts)):
+        raise MeshError(f"{source}: a face refers to a vertex that does not exist")
     positions = np.array(verts, dtype=float).reshape(-1, 3)
     faces = np.array(fv, dtype=np.int64).reshape(-1, 3)
-    if faces.size and (faces.min() < 0 or faces.max() >= len(positions)):
-        raise MeshError(f"{source}: a face refers to a vertex that does not exist")
     if missing_uv or not uvs:
         return positions, faces, np.zeros(0)
-    tidx = np.array(ft, dtype=np.int64).reshape(-1, 3)
-    if tidx.size and (tidx.min() < 0 or tidx.max() >= len(uvs)):
+    if ft and (min(ft) < 0 or max(ft) >= len(uvs)):
         raise MeshError(f"{source}: a face refers to a texture coordinate that does not exist")
+    tidx = np.array(ft, dtype=np.int64).reshape(-1, 3)
     return positions, faces, np.array(uvs, dtype=float)[tidx]
 
 

@@ -11,7 +11,6 @@ from pathlib import Path
 from typing import Callable
 
 from garnav.drape.drape import Drape, link_drape, load_drape
-from garnav.drape.import_mesh import garment_from_mesh
 from garnav.drape.inverse import DEFAULT_MAX_SNAP_MM, pattern_locator
 from garnav.drape.meshio import MESH_SUFFIXES, load_uv_mesh
 from garnav.model import Garment
@@ -45,6 +44,8 @@ def garment_and_drape(
     (Garment, Drape or None)
     """
     if is_mesh_path(path):
+        from garnav.drape.import_mesh import garment_from_mesh
+
         mesh = load_uv_mesh(path)
         garment = garment_from_mesh(mesh, name=Path(path).stem, drape=Path(path).name)
         return garment, link_drape(garment, mesh)

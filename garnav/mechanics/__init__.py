@@ -10,9 +10,13 @@
 The model, its sources and its limits: docs/physics.md.
 """
 
-from garnav.mechanics.balance import Balance, HeadingLimits, force_balance, heading_limits
-from garnav.mechanics.gravity import POSTURES, gravity_vector, parse_gravity, posture_rotation
+from typing import TYPE_CHECKING
+
 from garnav.mechanics.profile import PHYSICS_FIELDS, STANDARD_GRAVITY_M_S2, RobotPhysics, physics_problems
+
+if TYPE_CHECKING:
+    from garnav.mechanics.balance import Balance, HeadingLimits, force_balance, heading_limits
+    from garnav.mechanics.gravity import POSTURES, gravity_vector, parse_gravity, posture_rotation
 
 __all__ = [
     "Balance",
@@ -35,6 +39,14 @@ __all__ = [
 ]
 
 _LAZY = {
+    "Balance": "garnav.mechanics.balance",
+    "HeadingLimits": "garnav.mechanics.balance",
+    "force_balance": "garnav.mechanics.balance",
+    "heading_limits": "garnav.mechanics.balance",
+    "POSTURES": "garnav.mechanics.gravity",
+    "gravity_vector": "garnav.mechanics.gravity",
+    "parse_gravity": "garnav.mechanics.gravity",
+    "posture_rotation": "garnav.mechanics.gravity",
     "RouteMechanics": "garnav.mechanics.evaluate",
     "route_mechanics": "garnav.mechanics.evaluate",
     "PhysicsPlanner": "garnav.mechanics.planning",
@@ -44,8 +56,9 @@ _LAZY = {
 
 
 def __getattr__(name: str):
-    """The evaluation and planning parts load on first use (they pull in the drape and the
-    planner, which the spec reader, a user of the profile, does not need)."""
+    """Everything but the profile loads on first use: the spec reader, a user of the profile,
+    needs neither the force balance nor the evaluation and planning parts (which pull in the
+    drape and the planner)."""
     if name in _LAZY:
         import importlib
 

@@ -112,9 +112,11 @@ def load_nav_graph(path: str | Path, garment: Garment, free: FreeSpace, key: str
     g = nx.Graph()
     g.add_nodes_from(range(len(arrays["xy"])))
     i, j, ln, w, cr = edges
+    # .tolist() gives the same Python ints, floats and bools as int()/float()/bool() per element,
+    # without a numpy scalar per value (the graph of the demo has ~50,000 edges)
     g.add_edges_from(
-        (int(a), int(b), {"length": float(c), "weight": float(d), "crossing": bool(e)})
-        for a, b, c, d, e in zip(i, j, ln, w, cr, strict=False)
+        (a, b, {"length": c, "weight": d, "crossing": e})
+        for a, b, c, d, e in zip(i.tolist(), j.tolist(), ln.tolist(), w.tolist(), cr.tolist(), strict=True)
     )
     return NavGraph(
         garment=garment,

@@ -13,11 +13,11 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 from garnav.errors import QueryError
-from garnav.model import Garment
 from garnav.zones.model import BodyZone
 
-if TYPE_CHECKING:
+if TYPE_CHECKING:  # the commands' parsers import this module: keep it light (a fast --help)
     from garnav.drape.drape import Drape
+    from garnav.model import Garment
 
 __all__ = [
     "garment_and_drape_with_zones",
