@@ -208,6 +208,10 @@ class SeamSearch:
             tab.cp.setdefault(ni + off, {})[a] = wi
         _store_pairs(tab, points, fs, new, old)
 
+    def ensure_links(self, piece: int) -> None:
+        """Compute the base links of piece index ``piece`` (once; kept on the searcher)."""
+        self._ensure_base_links(piece)
+
     def _ensure_base_links(self, piece: int) -> None:
         if piece in self._linked:
             return
@@ -231,7 +235,7 @@ class SeamSearch:
         for pi in np.unique(piece):
             sel = np.nonzero(piece == pi)[0]
             a, b = np.triu_indices(len(sel), 1)
-            d = np.hypot(*(xy[sel[a]] - xy[sel[b]]).T) - self.factor[pi] * (rh[sel[a]] + rh[sel[b]])
+            d = np.hypot(*(xy[sel[a]] - xy[sel[b]]).T) - (rh[sel[a]] + rh[sel[b]])  # straight: F not needed
             rows.append(sel[a])
             cols.append(sel[b])
             vals.append(np.maximum(d, 0.0))
@@ -260,7 +264,7 @@ class SeamSearch:
         for g in goals:
             gi = ng.piece_index(g.piece)
             on = self._hpiece == gi
-            d = np.maximum(np.hypot(*(self._hxy - g.xy).T) - self.factor[gi] * self._hrh, 0.0)
+            d = np.maximum(np.hypot(*(self._hxy - g.xy).T) - self._hrh, 0.0)
             link = np.where(on, np.minimum(link, d), link)
         fin = np.isfinite(link)
         extra = sp.csr_matrix((link[fin] + self._eps, (np.nonzero(fin)[0], np.full(fin.sum(), p))), shape=(p + 1, p + 1))
@@ -461,7 +465,7 @@ class _Query:
 
     def _h_at(self, piece: int, xy: np.ndarray, r: float) -> float:
         ss = self.ss
-        f = ss.factor[piece]
+        f = 1.0  # straight distances: shrinking by the radius alone is a lower bound of the length
         best = math.inf
         for g in self.goals:
             if self.nav.piece_index(g.piece) == piece:

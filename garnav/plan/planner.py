@@ -37,6 +37,7 @@ from garnav.plan.navgraph import (
 from garnav.plan.points import PiecePoint, PointLike, resolve_point
 from garnav.plan.exact import ExactResult, SeamSearch
 from garnav.plan.refine import refine
+from garnav.plan.sequences import SequenceResult, SequenceSearch, interval_index
 from garnav.plan.route import Leg, Route, join_routes, make_route
 from garnav.plan.search import NodePortalTable, PortalGraph, astar, lazy_heuristic
 
@@ -76,6 +77,10 @@ class Planner:
         docs/planning.md) instead of A* on the portals followed by crossing refinement.
     rel_tol : float
         Relative optimality tolerance of the exact cross-seam search.
+    seam_sequences : int
+        Most seam sequences the branch and bound over sequences (:mod:`garnav.plan.sequences`)
+        solves per query after A* and refinement; 0 = none (A* on the portals, refinement and
+        the alternatives of docs/planning.md §3 only).
     """
 
     def __init__(
@@ -91,6 +96,7 @@ class Planner:
         cache_dir: str | Path | None = None,
         exact_seams: bool = False,
         rel_tol: float = 1e-4,
+        seam_sequences: int = 4,
     ):
         self.garment = garment
         self.robot = robot or garment.robot or Robot()
@@ -124,6 +130,11 @@ class Planner:
         self._rel_tol = float(rel_tol)
         self._seam_search: SeamSearch | None = None
         self.last_search: ExactResult | None = None
+        self.seam_sequences = int(seam_sequences)
+        self._sequence_search: SequenceSearch | None = None
+        self._portal_interval: np.ndarray | None = None
+        self._first_gain = 0.0
+        self.last_sequences: SequenceResult | None = None
 
     def corner_matrix(self, piece: str):
         """(k, k) sparse matrix of the corner–corner edge costs of one piece (upper triangle)."""
@@ -250,6 +261,68 @@ class Planner:
         path, cost = found
         return path, cost, path[-1] - n0 - 1
 
+    def portal_intervals(self) -> np.ndarray:
+        """(N,) free-interval index of each portal node (−1 for other nodes), computed once."""
+        if self._portal_interval is None:
+            ng = self.nav
+            self._portal_interval = np.array(
+                [interval_index(ng, int(s), float(t)) if s >= 0 else -1 for s, t in zip(ng.portal_seam, ng.portal_t, strict=True)],
+                dtype=int,
+            )
+        return self._portal_interval
+
+    def sequence_search(
+        self, start: PiecePoint, goal: PiecePoint, sequence: tuple, edges: list | None = None, h_layer: Callable | None = None
+    ) -> tuple[list[int] | None, float]:
+        """A* on the navigation graph over the routes that cross exactly ``sequence``: (seam
+        index, free interval index, from side) per crossing, in order. States are (node, crossings
+        done); the heuristic of :meth:`search` stays admissible (fewer routes). Returns (node path,
+        graph cost) or (None, inf). ``edges``: ``query_edges(start, [goal])`` when already known;
+        ``h_layer(node, crossings done, piece index, xy)``: an admissible, consistent heuristic of
+        the constrained search to use instead (e.g. :class:`garnav.plan.sequences.LayerBound`)."""
+        ng = self.nav
+        n0 = ng.graph.number_of_nodes()
+        iv = self.portal_intervals()
+        steps = len(sequence)
+        width = steps + 1
+        extra: dict[int, list[tuple[int, float]]] = {}
+        for u, v, w in self.query_edges(start, [goal]) if edges is None else edges:
+            if steps and {u, v} == {n0, n0 + 1}:
+                continue  # the direct link crosses nothing
+            extra.setdefault(u, []).append((v, w))
+            extra.setdefault(v, []).append((u, w))
+        h_at = lazy_heuristic(self.node_portal_table, [(ng.piece_index(goal.piece), goal.xy)])
+        si = ng.piece_index(start.piece)
+
+        def h(state: int) -> float:
+            n, j = divmod(state, width)
+            if n > n0:
+                return 0.0
+            if h_layer is not None:
+                return h_layer(n, j, si, start.xy) if n == n0 else h_layer(n, j, int(ng.node_piece[n]), ng.xy[n])
+            if n == n0:
+                return h_at(n, si, start.xy)
+            return h_at(n, int(ng.node_piece[n]), ng.xy[n])
+
+        def neighbors(state: int):
+            n, j = divmod(state, width)
+            out = []
+            for m, w in (ng.neighbours(n) if n < n0 else []):
+                s = ng.portal_seam[n]
+                if s >= 0 and m < n0 and ng.portal_seam[m] == s and ng.graph[n][m]["crossing"]:
+                    if j < steps and sequence[j] == (int(s), int(iv[n]), int(ng.portal_side[n])):
+                        out.append((m * width + j + 1, w))
+                    continue
+                out.append((m * width + j, w))
+            out.extend((m * width + j, w) for m, w in sorted(extra.get(n, [])))
+            return out
+
+        found = astar(neighbors, {n0 * width: 0.0}, {(n0 + 1) * width + steps}, h)
+        if found is None:
+            return None, np.inf
+        path, cost = found
+        return [state // width for state in path], cost
+
     # ------------------------------------------------------------------ queries
 
     def route(self, start: PointLike, goal: PointLike, via: Sequence[PointLike] = (), *, snap: bool = False) -> Route:
@@ -284,6 +357,13 @@ class Planner:
             legs, crossings, cost, k = found.legs, found.crossings, found.cost_mm, found.goal
         else:
             legs, crossings, cost, k = self._portal_route(start, goals)
+            if self.seam_sequences > 0 and any(s.crossable for s in self.nav.seams):
+                if self._sequence_search is None:
+                    self._sequence_search = SequenceSearch(self, max_sequences=self.seam_sequences)
+                found_seq = self._sequence_search.search(start, goals, (legs, crossings, cost, k), self._first_gain)
+                self.last_sequences = found_seq
+                if found_seq is not None and found_seq.cost_mm < cost:
+                    legs, crossings, cost, k = found_seq.legs, found_seq.crossings, found_seq.cost_mm, found_seq.goal
         route = make_route(
             self.garment,
             self.robot,
@@ -300,8 +380,9 @@ class Planner:
         after refinement may rank second on the graph (e.g. round a corner where several seams
         meet). Returns the cheapest (legs, crossings, cost, goal index)."""
         path, first_cost, k = self.search(start, goals)
-        legs, crossings = self._split(path, start, goals[k])
+        legs, crossings = self.split_path(path, start, goals[k])
         best = (*refine(self, legs, crossings), k)
+        self._first_gain = max(first_cost - best[2], 0.0)
         tried = {tuple((s, side) for s, _, side in best[1])}
         for seam in sorted({s for s, _, _ in best[1]}):
             alt, alt_cost, ak = self._search(start, goals, frozenset([seam]))
@@ -310,7 +391,7 @@ class Planner:
             reach = best[2] + 2.0 * max(first_cost - best[2], 0.0) + ALTERNATIVE_MARGIN * first_cost
             if alt is None or alt_cost > reach:
                 continue
-            a_legs, a_cross = self._split(alt, start, goals[ak])
+            a_legs, a_cross = self.split_path(alt, start, goals[ak])
             key = tuple((s, side) for s, _, side in a_cross)
             if key in tried:
                 continue
@@ -320,7 +401,7 @@ class Planner:
                 best = (*cand, ak)
         return best
 
-    def _split(self, path: list[int], start: PiecePoint, goal: PiecePoint):
+    def split_path(self, path: list[int], start: PiecePoint, goal: PiecePoint):
         """Node path → legs [(piece, (n, 2) points)] and crossings [(seam index, t, from side)]."""
         ng = self.nav
         n0 = ng.graph.number_of_nodes()

@@ -277,9 +277,9 @@ def _anchor(planner, legs, crossings, i: int, end: str) -> Anchor:
     return Anchor(xy[0], tan[0], inward[0], amin)
 
 
-def refine(planner, legs: list[tuple[str, np.ndarray]], crossings: list[tuple[int, float, int]]):
+def refine(planner, legs: list[tuple[str, np.ndarray]], crossings: list[tuple[int, float, int]], max_rounds: int = _MAX_ROUNDS):
     """Refine the crossings of a route given as legs [(piece, (n, 2))] and crossings
-    [(seam index, t, from side)]. Returns (legs, crossings, cost)."""
+    [(seam index, t, from side)], in at most ``max_rounds`` rounds. Returns (legs, crossings, cost)."""
     legs = [(p, np.array(pts, dtype=float)) for p, pts in legs]
     crossings = list(crossings)
     if crossings:
@@ -287,7 +287,7 @@ def refine(planner, legs: list[tuple[str, np.ndarray]], crossings: list[tuple[in
         # a crossing whose neighbours did not move has the same cost function as when it was
         # placed, so placing it again cannot gain (skipped: the result is unchanged)
         stale = [True] * len(crossings)
-        for _ in range(_MAX_ROUNDS):
+        for _ in range(max_rounds):
             gain = 0.0
             for i, (s, t, side) in enumerate(crossings):
                 if not stale[i]:

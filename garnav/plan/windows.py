@@ -103,9 +103,16 @@ def widened_limit_deg(alpha: np.ndarray, r_sum: np.ndarray, dist: np.ndarray, tu
     return np.where(alpha > 0, alpha - np.degrees(spread + turn), 0.0)
 
 
-def link_lower_bound(cost: np.ndarray, factor: float, r_sum: np.ndarray) -> np.ndarray:
-    """``max(0, cost − F·r_sum)``: a lower bound of every link between the represented places."""
-    return np.maximum(cost - factor * r_sum, 0.0)
+def link_lower_bound(cost: np.ndarray, factor: float, r_sum: np.ndarray, length: np.ndarray | None = None) -> np.ndarray:
+    """``max(0, cost − F·r_sum, length − r_sum)``: a lower bound of every link between the
+    represented places. Both terms bound the cost of a link x'–y' with |x' − x| + |y' − y| ≤ r_sum:
+    its length is at least |x − y| − r_sum (triangle inequality) and its cost at least its length
+    (factors ≥ 1); its cost changes by at most F per mm its ends move. With a soft zone (F > 1) the
+    length term is the tighter one unless the zone's surcharge exceeds (F − 1)·r_sum."""
+    out = np.maximum(cost - factor * r_sum, 0.0)
+    if length is not None:
+        out = np.maximum(out, length - r_sum)
+    return out
 
 
 def corner_links(fs: PieceFreeSpace, corners: Corners, pts: MovingPoints) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -128,8 +135,8 @@ def corner_links(fs: PieceFreeSpace, corners: Corners, pts: MovingPoints) -> tup
     q, n = np.nonzero(ok)
     vis = segments_free(fs.region, pts.xy[q], corners.xy[n])
     q, n = q[vis], n[vis]
-    cost = edge_costs(fs, pts.xy[q], corners.xy[n])[1]
-    return q, n, link_lower_bound(cost, cost_factor(fs), pts.r[q])
+    length, cost = edge_costs(fs, pts.xy[q], corners.xy[n])
+    return q, n, link_lower_bound(cost, cost_factor(fs), pts.r[q], length)
 
 
 def pair_links(
@@ -156,8 +163,8 @@ def pair_links(
     ia, ib = ia[ok], ib[ok]
     vis = segments_free(fs.region, a.xy[ia], b.xy[ib])
     ia, ib = ia[vis], ib[vis]
-    cost = edge_costs(fs, a.xy[ia], b.xy[ib])[1]
-    return ia, ib, link_lower_bound(cost, cost_factor(fs), a.r[ia] + b.r[ib])
+    length, cost = edge_costs(fs, a.xy[ia], b.xy[ib])
+    return ia, ib, link_lower_bound(cost, cost_factor(fs), a.r[ia] + b.r[ib], length)
 
 
 def arc_radius(half_width_frac: float, run_length_mm: float) -> float:

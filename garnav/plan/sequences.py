@@ -1,0 +1,584 @@
+"""Branch and bound over seam sequences: the cross-seam route of least cost over all sequences.
+
+The seam windows and the bound links of :mod:`garnav.plan.exact` (a window side stands for every
+crossing point of its window; a link from it is shortened by the window's radius, see
+:mod:`garnav.plan.windows`) are condensed into a small *window graph*, built once per planner:
+
+* nodes ``pre(i)`` and ``post(i)`` for every window side i (about to cross from side i; arrived on
+  side i by crossing);
+* ``pre(i) → post(partner(i))`` at the seam's crossing cost;
+* ``post(i) → pre(j)`` for two sides on one piece at ``M[i, j]``, the least cost in the bound graph
+  of the piece (corners, the window points, their approach ends; a path never passes another
+  window point): one scipy ``csgraph`` Dijkstra per piece from all its window sides at once.
+
+A query adds the start and the goals (exact links to the corners, bound links to window points),
+so the window graph holds, for every route R, a path with the same seam sequence and no dearer
+than R (docs/planning.md §4c). A label-setting best-first search over (node, seam sequence so far)
+with the exact Dijkstra distance to the goals on the window graph as heuristic (consistent)
+pops complete seam sequences in increasing order of their lower bound (the k shortest distinct
+sequences; labels as in Martins 1984, the multi-label shortest path). Each popped sequence is
+solved — legs planned at its bound path's windows, then its crossings slid to their best places
+(:func:`garnav.plan.refine.refine`) — and the best cost U is kept; the search stops when the next
+lower bound is not below U (branch and bound, Land & Doig 1960). Every sequence not solved
+therefore costs at least U; the result says whether the search ended so (``certified``) or at its
+budget (``max_sequences`` refined, three times as many popped, or ``MAX_LABELS`` labels). Which
+popped sequences are refined is decided on their portal routes (``ALTERNATIVE_MARGIN``,
+``CROSSING_ALLOWANCE``), a heuristic rule; docs/planning.md §4c has the whole argument.
+"""
+
+from __future__ import annotations
+
+import heapq
+import itertools
+import math
+from dataclasses import dataclass
+from typing import Sequence
+
+import numpy as np
+import scipy.sparse as sp
+from scipy.sparse.csgraph import dijkstra
+
+from garnav.plan.points import PiecePoint
+from garnav.plan.refine import plan_legs, refine
+from garnav.plan.windows import MovingPoints, pair_links
+
+__all__ = ["SequenceSearch", "SequenceResult", "WindowGraph", "LayerBound", "ALTERNATIVE_MARGIN", "CROSSING_ALLOWANCE"]
+
+#: A sequence's portal route is refined when its graph cost is at most the best cost plus twice
+#: the largest gain of refinement seen in the query plus this fraction of its graph cost ...
+ALTERNATIVE_MARGIN = 0.002
+#: ... plus this fraction of the portal spacing per crossing: sliding a crossing by up to half a
+#: portal gap may gain that much where the route is oblique to the seam (a measured allowance, no
+#: source: on the demo garment a three-crossing sequence 3.0 mm dearer on the portals than the
+#: best route was 3.6 mm cheaper after refinement, a gain of 2.2 mm per crossing at 20 mm portals).
+CROSSING_ALLOWANCE = 0.1
+#: Most labels the sequence search expands per query (bounded work; see ``_LabelSearch``).
+MAX_LABELS = 4000
+
+_WIN, _APP = 0, 1  # point kinds of garnav.plan.exact (WIN, APP)
+
+
+@dataclass(frozen=True)
+class SequenceResult:
+    """Outcome of one query.
+
+    ``legs``, ``crossings`` and ``cost_mm`` are the best route; ``lower_mm`` a lower bound of every
+    route (the window graph's least cost); ``certified``: the search stopped because every seam
+    sequence not refined has a lower bound at least the route's cost (else it stopped at a budget
+    or skipped a sequence below it by the refinement threshold); ``solved`` the number of seam
+    sequences solved; ``goal`` the index of the goal reached.
+    """
+
+    legs: list
+    crossings: list
+    cost_mm: float
+    lower_mm: float
+    certified: bool
+    solved: int
+    goal: int
+
+
+class _PieceGraph:
+    """The directed bound graph of one piece: corners [0, k), then for point j of ``ids`` an
+    out-copy ``k + 2j`` (paths leave the point) and an in-copy ``k + 2j + 1`` (paths end there)."""
+
+    def __init__(self, ss, piece: int):
+        ng = ss.nav
+        name = ng.pieces[piece]
+        corners, off = ng.corners[name]
+        self.k = k = len(corners)
+        self.off = off
+        tabs = ss.base
+        self.ids = [i for i, p in enumerate(tabs.points) if p.piece == piece]
+        self.slot = {pid: j for j, pid in enumerate(self.ids)}
+        n = k + 2 * len(self.ids)
+        self.size = n
+        cm = ss.planner.corner_matrix(name).tocoo()
+        rows = [cm.row, cm.col]
+        cols = [cm.col, cm.row]
+        vals = [cm.data, cm.data]
+        r, c, v = [], [], []
+        ell = ng.approach_mm
+        for pid in self.ids:
+            j = self.slot[pid]
+            out_, in_ = k + 2 * j, k + 2 * j + 1
+            for cn, w in tabs.pc.get(pid, {}).items():
+                r += [out_, cn - off]
+                c += [cn - off, in_]
+                v += [w, w]
+            for q, w in tabs.pp.get(pid, {}).items():
+                r.append(out_)
+                c.append(k + 2 * self.slot[q] + 1)
+                v.append(w)
+            p = tabs.points[pid]
+            if p.kind == _WIN:
+                for e in tabs.windows[p.window].approach[p.side]:
+                    je = self.slot[e]
+                    r += [out_, k + 2 * je + 1]
+                    c += [k + 2 * je, in_]
+                    v += [ell, ell]
+        rows.append(np.array(r, dtype=int))
+        cols.append(np.array(c, dtype=int))
+        vals.append(np.array(v, dtype=float))
+        self.eps = 1e-12  # csgraph drops explicit zeros: a tiny positive stand-in, removed below
+        self.matrix = _min_directed(np.concatenate(rows), np.concatenate(cols), np.concatenate(vals) + self.eps, n)
+        self.win = [pid for pid in self.ids if tabs.points[pid].kind == _WIN]
+
+    def out_node(self, pid: int) -> int:
+        return self.k + 2 * self.slot[pid]
+
+    def in_node(self, pid: int) -> int:
+        return self.k + 2 * self.slot[pid] + 1
+
+    def with_point(self, ss, pp: PiecePoint, reverse: bool) -> tuple[sp.csr_matrix, int]:
+        """The piece graph plus a query point (last node): exact links to the corners, bound links
+        to the points' in-copies (``reverse``: from their out-copies, for a goal)."""
+        n = self.size
+        r, c, v = [], [], []
+        for m, w in ss.planner.links(pp, corners_only=True):
+            r.append(n)
+            c.append(m - self.off)
+            v.append(w)
+        fs = ss.planner.free[pp.piece]
+        pts = ss.base.points
+        mp = _moving([pts[i] for i in self.ids])
+        one = MovingPoints(pp.xy[None], np.zeros((1, 2)), np.zeros(1), np.zeros(1), np.zeros(1))
+        _, jb, w = pair_links(fs, one, mp)
+        for j, wv in zip(jb.tolist(), w.tolist(), strict=True):
+            r.append(n)
+            c.append(self.k + 2 * j + (0 if reverse else 1))
+            v.append(wv)
+        extra = _min_directed(np.array(r, dtype=int), np.array(c, dtype=int), np.array(v, dtype=float) + self.eps, n + 1)
+        base = sp.bmat([[self.matrix, None], [None, sp.csr_matrix((1, 1))]]).tocsr()
+        if reverse:
+            return (base.T + extra).tocsr(), n  # edges reversed: Dijkstra from the goal backwards
+        return (base + extra).tocsr(), n
+
+
+def interval_index(ng, seam: int, t: float) -> int:
+    """Index of the free interval of seam ``seam`` that holds fraction ``t`` (the nearest one)."""
+    iv = ng.intervals[ng.seams[seam].name]
+    gaps = [0.0 if lo - 1e-12 <= t <= hi + 1e-12 else min(abs(t - lo), abs(t - hi)) for lo, hi in iv]
+    return int(np.argmin(gaps)) if gaps else -1
+
+
+def sequence_key(ng, goal: int, crossings) -> tuple:
+    """The seam sequence of a route: goal index and (seam, free interval, from side) per crossing.
+    Crossing refinement (:func:`garnav.plan.refine.refine`) keeps each crossing in its interval, so
+    two routes with different keys are different candidates of the search."""
+    return (goal, tuple((int(s), interval_index(ng, int(s), float(t)), int(side)) for s, t, side in crossings))
+
+
+def _min_directed(r: np.ndarray, c: np.ndarray, v: np.ndarray, size: int) -> sp.csr_matrix:
+    """Directed (size, size) sparse matrix keeping the smallest value of duplicate entries."""
+    if not len(r):
+        return sp.csr_matrix((size, size))
+    order = np.lexsort((v, c, r))
+    r, c, v = r[order], c[order], v[order]
+    first = np.ones(len(r), dtype=bool)
+    first[1:] = (r[1:] != r[:-1]) | (c[1:] != c[:-1])
+    return sp.csr_matrix((v[first], (r[first], c[first])), shape=(size, size))
+
+
+def _moving(pts) -> MovingPoints:
+    return MovingPoints(
+        np.array([p.xy for p in pts], dtype=float).reshape(-1, 2),
+        np.array([p.tan for p in pts], dtype=float).reshape(-1, 2),
+        np.array([p.alpha for p in pts], dtype=float),
+        np.array([p.r for p in pts], dtype=float),
+        np.array([p.turn for p in pts], dtype=float),
+    )
+
+
+class WindowGraph:
+    """The window graph of a planner (module docstring), built from the base windows of its
+    :class:`garnav.plan.exact.SeamSearch`.
+
+    Attributes
+    ----------
+    win : (w,) point ids of the window sides (base points of the seam search)
+    piece : (w,) piece index of each side
+    partner : (w,) index of the other side of the same window
+    seam, side : (w,) seam index and side (0 = run a) of each window side
+    t : (w,) middle fraction of each side's window
+    cross : (w,) crossing cost, mm
+    inner : dict piece → (indices into ``win`` (n,), (n, n) bound costs post(i) → pre(j), mm)
+    """
+
+    def __init__(self, ss):
+        self.ss = ss
+        ng = ss.nav
+        for pi in range(len(ng.pieces)):
+            ss.ensure_links(pi)
+        pts = ss.base.points
+        self.win = np.array([i for i, p in enumerate(pts) if p.kind == _WIN], dtype=int)
+        index = {int(pid): k for k, pid in enumerate(self.win)}
+        self.piece = np.array([pts[i].piece for i in self.win], dtype=int)
+        self.side = np.array([pts[i].side for i in self.win], dtype=int)
+        windows = ss.base.windows
+        self.seam = np.array([windows[pts[i].window].seam for i in self.win], dtype=int)
+        self.t = np.array([windows[pts[i].window].tm for i in self.win], dtype=float)
+        self.interval = np.array([interval_index(ng, int(s), float(t)) for s, t in zip(self.seam, self.t, strict=True)], dtype=int)
+        self.partner = np.array([index[windows[pts[i].window].points[1 - pts[i].side]] for i in self.win], dtype=int)
+        self.cross = np.array([float(ng.seams[s].crossing_cost_mm) for s in self.seam], dtype=float)
+        self.graphs: dict[int, _PieceGraph] = {}
+        self.inner: dict[int, tuple[np.ndarray, np.ndarray]] = {}
+        for pi in range(len(ng.pieces)):
+            g = self.graphs[pi] = _PieceGraph(ss, pi)
+            sel = np.nonzero(self.piece == pi)[0]
+            if not len(sel):
+                continue
+            src = [g.out_node(int(self.win[k])) for k in sel]
+            dst = [g.in_node(int(self.win[k])) for k in sel]
+            d = dijkstra(g.matrix, directed=True, indices=src)[:, dst]
+            d = np.maximum(d - g.size * g.eps, 0.0)
+            np.fill_diagonal(d, np.inf)  # crossing back at the same window side gains nothing
+            self.inner[pi] = (sel, d)
+
+    def ends(self, pp: PiecePoint, reverse: bool) -> tuple[np.ndarray, np.ndarray]:
+        """Bound costs from a start point to pre(i) (``reverse``: from post(i) to a goal point),
+        as (indices into ``win`` (n,), costs (n,)) for the window sides of the point's piece."""
+        ss = self.ss
+        pi = ss.nav.piece_index(pp.piece)
+        g = self.graphs[pi]
+        mat, q = g.with_point(ss, pp, reverse)
+        d = dijkstra(mat, directed=True, indices=q)
+        d = np.maximum(d - (g.size + 1) * g.eps, 0.0)
+        sel = np.nonzero(self.piece == pi)[0]
+        nodes = [(g.out_node if reverse else g.in_node)(int(self.win[k])) for k in sel]
+        return sel, d[nodes]
+
+
+class LayerBound:
+    """Lower bound of the navigation-graph cost of a route that still has to cross
+    ``sequence[j:]``, from any point: the *layered portal graph* (the portal graph of
+    :mod:`garnav.plan.search` copied once per number of crossings done, its crossing edges only
+    from layer j to j + 1 and only for the portals of step j) searched backwards from the goal
+    (scipy ``csgraph``). An in-piece stretch between portals is at least the straight distance and
+    a crossing costs exactly the crossing cost, so every such route is a path of the layered graph
+    no dearer than it: the bound is admissible, and consistent as in :mod:`garnav.plan.search`.
+
+    ``start_bound(start)`` bounds the whole sequence's graph cost, so a sequence whose bound is
+    already above the refinement threshold is skipped without searching it (same decision as
+    after the search, which can only cost more).
+    """
+
+    def __init__(self, pre: "_PortalPairs", goal: PiecePoint, sequence: tuple):
+        ng = pre.ng
+        P = pre.p
+        K = len(sequence)
+        self.pre, self.K, self.goal = pre, K, goal
+        gi = ng.piece_index(goal.piece)
+        rows, cols, vals = [], [], []
+        for j, step in enumerate(sequence):  # reversed edges: a -> b is stored as b -> a
+            sel = pre.by_step.get(step, np.zeros(0, int))
+            rows.append(pre.c_to[sel] + (j + 1) * P)
+            cols.append(pre.c_from[sel] + j * P)
+            vals.append(pre.c_w[sel])
+        on = np.nonzero(pre.piece == gi)[0]
+        rows.append(np.full(len(on), (K + 1) * P))
+        cols.append(on + K * P)
+        vals.append(np.hypot(*(pre.xy[on] - goal.xy).T))
+        eps = pre.eps
+        size = (K + 1) * P + 1
+        # in-piece edges are symmetric: the same block on the diagonal for every layer
+        inner = sp.block_diag([pre.inner] * (K + 1) + [sp.csr_matrix((1, 1))], format="csr")
+        extra = sp.csr_matrix((np.concatenate(vals) + eps, (np.concatenate(rows), np.concatenate(cols))), shape=(size, size))
+        mat = inner + extra  # no entry in both: crossing and goal edges join different layers or the goal
+        d = dijkstra(mat, directed=True, indices=size - 1)[: size - 1]
+        self.lb = np.maximum(d - size * eps, 0.0).reshape(K + 1, P)
+        self.goal_piece = gi
+        self._cache: dict[tuple[int, int], np.ndarray] = {}
+
+    def __call__(self, n: int, j: int, pi: int, xy: np.ndarray) -> float:
+        pre = self.pre
+        ng = pre.ng
+        best = math.inf
+        if j == self.K and pi == self.goal_piece:
+            best = float(np.hypot(*(xy - self.goal.xy)))
+        if n < len(ng.xy):
+            vals = self._cache.get((pi, j))
+            if vals is None:
+                on, dist = pre.table.block(pi)
+                vals = (dist + self.lb[j][on][None, :]).min(axis=1) if len(on) else np.full(len(dist), math.inf)
+                self._cache[(pi, j)] = vals
+            return min(best, float(vals[n - pre.table.first[pi]]))
+        on = pre.on_piece[pi]
+        if len(on):
+            best = min(best, float((np.hypot(*(pre.xy[on] - xy).T) + self.lb[j][on]).min()))
+        return best
+
+    def start_bound(self, start: PiecePoint) -> float:
+        pi = self.pre.ng.piece_index(start.piece)
+        return self(len(self.pre.ng.xy), 0, pi, start.xy)
+
+
+class _PortalPairs:
+    """The pieces of the layered portal graph that do not depend on the sequence (built once)."""
+
+    def __init__(self, planner):
+        ng = planner.nav
+        pg = planner.portal_graph
+        self.ng = ng
+        self.table = planner.node_portal_table
+        portals = pg.portals
+        self.p = len(portals)
+        self.xy = ng.xy[portals]
+        self.piece = ng.node_piece[portals]
+        self.on_piece = {pi: np.nonzero(self.piece == pi)[0] for pi in range(len(ng.pieces))}
+        ia, ib, d = [], [], []
+        for on in self.on_piece.values():
+            a, b = np.triu_indices(len(on), 1)
+            dist = np.hypot(*(self.xy[on[a]] - self.xy[on[b]]).T)
+            ia += [on[a], on[b]]
+            ib += [on[b], on[a]]
+            d += [dist, dist]
+        self.eps = 1e-12  # csgraph drops explicit zeros: tiny positive stand-ins, removed after
+        ra = np.concatenate(ia) if ia else np.zeros(0, int)
+        rb = np.concatenate(ib) if ib else np.zeros(0, int)
+        self.inner = sp.csr_matrix(((np.concatenate(d) if d else np.zeros(0)) + self.eps, (ra, rb)), shape=(self.p, self.p))
+        iv = planner.portal_intervals()
+        cf, ct, cw, steps = [], [], [], []
+        for n, m, data in ng.graph.edges(data=True):
+            if data["crossing"]:
+                for u, v in ((n, m), (m, n)):
+                    cf.append(int(np.searchsorted(portals, u)))
+                    ct.append(int(np.searchsorted(portals, v)))
+                    cw.append(float(data["weight"]))
+                    steps.append((int(ng.portal_seam[u]), int(iv[u]), int(ng.portal_side[u])))
+        self.c_from = np.array(cf, dtype=int)
+        self.c_to = np.array(ct, dtype=int)
+        self.c_w = np.array(cw, dtype=float)
+        by_step: dict[tuple, list[int]] = {}
+        for k, step in enumerate(steps):
+            by_step.setdefault(step, []).append(k)
+        self.by_step = {step: np.array(ks, dtype=int) for step, ks in by_step.items()}
+
+
+class SequenceSearch:
+    """The least-cost cross-seam route over all seam sequences (module docstring), for one planner.
+
+    Parameters
+    ----------
+    planner : Planner
+    rel_tol : float
+        A sequence whose lower bound is at least ``U·(1 − rel_tol)`` is not solved.
+    """
+
+    def __init__(self, planner, rel_tol: float = 1e-9, max_sequences: int = 4):
+        self.planner = planner
+        self.rel_tol = float(rel_tol)
+        self.max_sequences = int(max_sequences)
+        self._graph: WindowGraph | None = None
+        self._pairs: _PortalPairs | None = None
+
+    @property
+    def graph(self) -> WindowGraph:
+        if self._graph is None:
+            self._graph = WindowGraph(self.planner.seam_search)
+        return self._graph
+
+    def search(self, start: PiecePoint, goals: Sequence[PiecePoint], best=None, gain: float = 0.0) -> SequenceResult | None:
+        """Least-cost route from ``start`` to the cheapest goal; ``best`` = (legs, crossings, cost,
+        goal index) of a known route (its cost is the first U), ``gain`` what refining it gained
+        (mm). None when no goal is reachable."""
+        wg = self.graph
+        planner = self.planner
+        upper = math.inf if best is None else float(best[2])
+        ng = planner.nav
+        tried: set = set()
+        if best is not None:
+            tried.add(sequence_key(ng, best[3], best[1]))
+        solved = popped = 0
+        gain = float(gain)
+        edges: dict[int, list] = {}
+        # the same-piece route (no crossing) is solved exactly by the in-piece search
+        w = len(wg.win)
+        s_idx, s_cost = wg.ends(start, reverse=False)
+        to_pre = np.full(w, np.inf)
+        to_pre[s_idx] = s_cost
+        goal_post = []
+        for g in goals:
+            g_idx, g_cost = wg.ends(g, reverse=True)
+            arr = np.full(w, np.inf)
+            arr[g_idx] = g_cost
+            goal_post.append(arr)
+        for k, g in enumerate(goals):
+            if g.piece == start.piece and (k, ()) not in tried:
+                tried.add((k, ()))
+                legs, cost = plan_legs(planner, start, g, [])
+                solved += 1
+                if cost < upper:
+                    upper, best = cost, (legs, [], cost, k)
+        h_pre, h_post = self._heuristic(goal_post)
+        # no route over seams is cheaper than this (window graph, admissible); nor without seams
+        # than the exact same-piece cost found above
+        floor = min(float(np.min(to_pre + h_pre)) if w else math.inf, upper)
+        labels = _LabelSearch(wg, to_pre, goal_post, h_pre, h_post, upper, tried, self.rel_tol)
+        certified = skipped = False
+        for bound, k, path in labels:  # complete seam sequences in increasing order of bound
+            margin = self.rel_tol * upper if math.isfinite(upper) else 0.0
+            if bound >= upper - margin:
+                # every sequence not popped costs at least the best route; the popped ones count
+                # only if they were all refined (skipping one is the heuristic rule, no proof)
+                certified = not skipped
+                break
+            if solved >= self.max_sequences:
+                break
+            popped += 1
+            if popped > 3 * self.max_sequences:
+                break
+            # the sequence's best route through the portals (an upper bound of its optimum) is
+            # refined when it could win after gaining as much as refinement has gained so far
+            # (twice over, plus ALTERNATIVE_MARGIN of its cost); see docs/planning.md §4c
+            seq = tuple((int(wg.seam[i]), int(wg.interval[i]), int(wg.side[i])) for i in path)
+            if self._pairs is None:
+                self._pairs = _PortalPairs(planner)
+            layer = LayerBound(self._pairs, goals[k], seq)
+            floor_cost = layer.start_bound(start)  # no portal route of the sequence is cheaper
+            allowance = 2.0 * gain + CROSSING_ALLOWANCE * planner.nav.spacing_mm * len(seq)
+            if floor_cost > upper + allowance + ALTERNATIVE_MARGIN * floor_cost:
+                skipped = True
+                continue
+            if k not in edges:
+                edges[k] = planner.query_edges(start, [goals[k]])
+            nodes, graph_cost = planner.sequence_search(start, goals[k], seq, edges[k], layer)
+            if nodes is None:
+                continue  # no route crosses exactly so: nothing to miss
+            if graph_cost > upper + allowance + ALTERNATIVE_MARGIN * graph_cost:
+                skipped = True
+                continue
+            legs, crossings = planner.split_path(nodes, start, goals[k])
+            solved += 1
+            legs, crossings, cost = refine(planner, legs, crossings)
+            gain = max(gain, graph_cost - cost)
+            if cost < upper:
+                upper, best = cost, (legs, crossings, cost, k)
+                labels.upper = upper
+        if best is None:
+            return None
+        legs, crossings, cost, k = best
+        return SequenceResult(legs, crossings, cost, min(floor, cost), certified, solved, k)
+
+    def _heuristic(self, goal_post: list[np.ndarray]) -> tuple[np.ndarray, np.ndarray]:
+        """Exact least window-graph cost from pre(i) and post(i) to any goal: (w,), (w,)."""
+        wg = self.graph
+        w = len(wg.win)
+        eps = 1e-12
+        # nodes: pre(i) = i, post(i) = w + i, goal = 2w; reversed edges, Dijkstra from the goal
+        r, c, v = [], [], []
+        r.append(wg.partner + w)  # reversed pre(i) -> post(partner i)
+        c.append(np.arange(w))
+        v.append(wg.cross)
+        for sel, d in wg.inner.values():
+            a, b = np.nonzero(np.isfinite(d))
+            r.append(sel[b])  # reversed post(sel a) -> pre(sel b)
+            c.append(sel[a] + w)
+            v.append(d[a, b])
+        tg = np.min(np.vstack(goal_post), axis=0) if goal_post else np.full(w, np.inf)
+        fin = np.nonzero(np.isfinite(tg))[0]
+        r.append(np.full(len(fin), 2 * w))
+        c.append(fin + w)
+        v.append(tg[fin])
+        mat = _min_directed(np.concatenate(r), np.concatenate(c), np.concatenate(v) + eps, 2 * w + 1)
+        d = dijkstra(mat, directed=True, indices=2 * w)
+        d = np.maximum(d - (2 * w + 1) * eps, 0.0)
+        return d[:w], d[w : 2 * w]
+
+
+class _LabelSearch:
+    """Iterator over (bound, goal index, window sides crossed) of complete seam sequences in
+    increasing order of bound; labels are (node, sequence) pairs, pruned at the current U."""
+
+    def __init__(self, wg: WindowGraph, to_pre, goal_post, h_pre, h_post, upper, tried, rel_tol, max_labels: int = MAX_LABELS):
+        self.wg = wg
+        self.pops = 0
+        self.max_labels = int(max_labels)
+        self.goal_post = goal_post
+        self.h_pre, self.h_post = h_pre, h_post
+        self.upper = upper
+        self.rel_tol = rel_tol
+        self.tried = set(tried)
+        self.counter = itertools.count()
+        self.heap: list = []
+        self.best: dict = {}
+        self.parent: dict = {}
+        self.inner_of = {}
+        for pi, (sel, d) in wg.inner.items():
+            pos = {int(i): k for k, i in enumerate(sel)}
+            self.inner_of[pi] = (sel, d, pos)
+        for i in np.nonzero(np.isfinite(to_pre))[0].tolist():
+            self._push(("pre", i, ()), float(to_pre[i]), None)
+
+    def _limit(self) -> float:
+        return self.upper - (self.rel_tol * self.upper if math.isfinite(self.upper) else 0.0)
+
+    def _h(self, state) -> float:
+        kind, i, _ = state
+        if kind == "pre":
+            return float(self.h_pre[i])
+        if kind == "post":
+            return float(self.h_post[i])
+        return 0.0
+
+    def _push(self, state, g: float, parent) -> None:
+        if g >= self.best.get(state, math.inf):
+            return
+        f = g + self._h(state)
+        if not math.isfinite(f) or f >= self._limit():
+            return
+        self.best[state] = g
+        self.parent[state] = parent
+        heapq.heappush(self.heap, (f, next(self.counter), g, state))
+
+    def __iter__(self):
+        return self
+
+    def __next__(self):
+        wg = self.wg
+        while self.heap:
+            f, _, g, state = heapq.heappop(self.heap)
+            if g > self.best.get(state, math.inf):
+                continue
+            self.pops += 1
+            if self.pops > self.max_labels:
+                # bounded work: with crossings of cost 0 the number of sequences below U (going
+                # back and forth over a seam) has no limit; stop, not certified
+                self.heap.clear()
+                raise StopIteration
+            if f >= self._limit():
+                self.heap.clear()
+                return (f, -1, [])
+            kind, i, seq = state
+            if kind == "goal":
+                key = (i, seq)
+                if key in self.tried:
+                    continue
+                self.tried.add(key)
+                return (g, i, self._path(state))
+            if kind == "pre":
+                j = int(wg.partner[i])
+                step = (int(wg.seam[i]), int(wg.interval[i]), int(wg.side[i]))
+                self._push(("post", j, seq + (step,)), g + float(wg.cross[i]), state)
+                continue
+            for k, arr in enumerate(self.goal_post):
+                if math.isfinite(arr[i]):
+                    self._push(("goal", k, seq), g + float(arr[i]), state)
+            sel, d, pos = self.inner_of[int(wg.piece[i])]
+            row = d[pos[i]]
+            h = self.h_pre[sel]
+            ok = np.nonzero(g + row + h < self._limit())[0]
+            for k in ok.tolist():
+                self._push(("pre", int(sel[k]), seq), g + float(row[k]), state)
+        return (math.inf, -1, [])
+
+    def _path(self, state) -> list[int]:
+        """Window sides (pre states) crossed on the label's path, in order."""
+        out = []
+        s = state
+        while s is not None:
+            if s[0] == "pre":
+                out.append(s[1])
+            s = self.parent[s]
+        # a pre state is kept only if the path crossed from it (the next state is its post)
+        return out[::-1]
