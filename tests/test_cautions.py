@@ -57,6 +57,7 @@ def test_demo_and_page_use_the_same_text():
     assert PAGE is CAUTIONS
 
 
+@pytest.mark.slow  # about 2-3 s (the quick run stays near a minute)
 def test_route_prints_the_cautions_once_unless_quiet(capsys, tmp_path):
     from garnav.cli import main
 

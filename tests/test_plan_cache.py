@@ -4,6 +4,7 @@ misses; a damaged file is rebuilt. (npz read with allow_pickle=False.)"""
 import dataclasses
 
 import numpy as np
+import pytest
 
 import garments
 from garnav import Circle, KeepOut
@@ -17,6 +18,7 @@ def _garment():
     return dataclasses.replace(g, keepouts=(ko,), seams=(seam,))
 
 
+@pytest.mark.slow  # about 2-3 s (the quick run stays near a minute)
 def test_cache_round_trip(tmp_path):
     g = _garment()
     first = Planner(g, cache_dir=tmp_path)

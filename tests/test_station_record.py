@@ -25,6 +25,7 @@ from tests.test_recording_mcap import read_back, xyz  # noqa: E402
 SPEC = Path(__file__).resolve().parents[1] / "meshes" / "sensing_top.toml"
 
 
+@pytest.mark.slow  # about 2-3 s (the quick run stays near a minute)
 def test_station_run_records_mesh_plan_and_estimated_track(tmp_path):
     garment = load_garment(SPEC)
     drape = load_drape(garment, "", str(SPEC.parent))
@@ -55,6 +56,7 @@ def test_station_cli_offers_record_as_a_declared_output():
     assert any(o.option == "--record" for o in ROLES["station"].outputs)
 
 
+@pytest.mark.slow  # about 2-3 s (the quick run stays near a minute)
 def test_station_refuses_a_route_through_a_body_zone():
     """A route planned without the demo's body zones crosses the implant zone; the station's
     safety check on the garment with the zones' keep-outs (as `garnav station` loads it) refuses it."""

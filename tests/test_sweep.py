@@ -324,6 +324,7 @@ def test_split_among_robots_balances_time_and_keeps_the_route():
         split_sweep(g, s, 0)
 
 
+@pytest.mark.slow  # about 2-3 s (the quick run stays near a minute)
 def test_cli_sweep_robots_writes_one_document_per_robot(tmp_path, capsys):
     from garnav.cli import main
     from garnav.spec import save_garment
