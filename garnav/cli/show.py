@@ -56,7 +56,7 @@ def run(args: argparse.Namespace) -> int:
 
     from garnav.export.route_checks import check_route_on_garment, view_bounds
     from garnav.export.waypoints import read_route_document
-    from garnav.preview.scene import SceneRoute, build_plotter, off_screen_environment, route_polyline, write_screenshot
+    from garnav.preview.scene import SceneRoute, build_plotter, off_screen_environment, route_polyline
     from garnav.drape.drape import load_drape
     from garnav.drape.meshio import load_body_mesh
     from garnav.drape.sources import garment_and_drape
@@ -139,15 +139,22 @@ def run(args: argparse.Namespace) -> int:
     if off:
         off_screen_environment()
     plotter = build_plotter(garment, drape, body, routes, off_screen=off, size=(w, h))
+    return _render(plotter, args.screenshot if off else None, f"garnav — {garment.name}")
+
+
+def _render(plotter, screenshot: str | None, title: str) -> int:
+    """Write ``plotter`` to the PNG ``screenshot``, or open it in a window titled ``title``."""
+    from garnav.preview.scene import write_screenshot
+
     try:
-        if off:
-            write_screenshot(args.screenshot, plotter)  # `wrote FILE` comes from the output plan
+        if screenshot is not None:
+            write_screenshot(screenshot, plotter)  # `wrote FILE` comes from the output plan
         else:
             from garnav.atomic import active_set
 
             if active_set() is not None:  # the --sheet file is in place while the window is open
                 active_set().commit()
-            plotter.show(title=f"garnav — {garment.name}")
+            plotter.show(title=title)
     finally:
         plotter.close()
     return 0
@@ -184,7 +191,7 @@ def _show_poses(args, garment, docs, pose_drapes, spec_path: Path, window: bool)
     from garnav.poses.load import default_pose
     from garnav.polyline import polyline_length
     from garnav.preview.pose_views import build_pose_plotter, pose_grid, pose_views
-    from garnav.preview.scene import off_screen_environment, write_screenshot
+    from garnav.preview.scene import off_screen_environment
 
     w, h = args.size
     rows, cols = pose_grid(len(pose_drapes))
@@ -214,18 +221,8 @@ def _show_poses(args, garment, docs, pose_drapes, spec_path: Path, window: bool)
     if off:
         off_screen_environment()
     plotter = build_pose_plotter(views, off_screen=off, size=(w, h))
-    try:
-        if off:
-            write_screenshot(args.screenshot, plotter)  # `wrote FILE` comes from the output plan
-        else:
-            from garnav.atomic import active_set
-
-            if active_set() is not None:  # the --sheet file is in place while the window is open
-                active_set().commit()
-            plotter.show(title=f"garnav — {garment.name} — {', '.join(v.name for v in views)}")
-    finally:
-        plotter.close()
-    return 0
+    return _render(plotter, args.screenshot if off else None,
+                   f"garnav — {garment.name} — {', '.join(v.name for v in views)}")
 
 
 def display_available() -> bool:
