@@ -108,7 +108,7 @@ def test_class2_demo_killed_between_renames_is_marked_then_rewritten(tmp_path, c
         read_route_document(out / next(n for n in names if n.endswith(".json")))
     assert main(["demo", "--out", str(out)]) == 0
     assert [p.name for p in out.iterdir() if p.name.startswith(".")] == []
-    assert f"wrote {out}/: 19 files" in capsys.readouterr().out
+    assert f"wrote {out}/: 24 files" in capsys.readouterr().out
 
 
 def test_class2_a_telemetry_log_of_an_incomplete_set_is_refused(tmp_path):
