@@ -96,3 +96,20 @@ def did_you_mean(word: str, choices: Iterable[str]) -> str | None:
     """
     close = difflib.get_close_matches(word, sorted(set(choices)), n=1, cutoff=0.6)
     return f"did you mean '{close[0]}'?" if close else None
+
+
+def table_key_problems(table: dict, item: str, known, required, required_note: str = ""
+                       ) -> list[tuple[str, str, str | None]]:
+    """Unknown and missing keys of one spec sub-table, as ``(item, reason, hint)`` problems.
+
+    >>> table_key_problems({"nme": "a"}, "pose #1", ("name", "drape"), ("name",))
+    [('pose #1', "unknown key 'nme'", "did you mean 'name'?"), ('pose #1', "missing required key 'name'", None)]
+    """
+    out: list[tuple[str, str, str | None]] = []
+    for key in table:
+        if key not in known:
+            out.append((item, f"unknown key '{key}'", did_you_mean(key, list(known))))
+    for key in required:
+        if key not in table:
+            out.append((item, f"missing required key '{key}'{required_note}", None))
+    return out

@@ -26,7 +26,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Any
 
-from garnav.errors import did_you_mean
+from garnav.errors import did_you_mean, table_key_problems
 
 __all__ = ["Pose", "POSE_POSTURES", "parse_poses", "pose_to_table", "default_pose_problems"]
 
@@ -85,12 +85,7 @@ def parse_poses(tables: Any, source: str) -> tuple[tuple[Pose, ...], list[tuple[
         name = table.get("name")
         item = f"pose '{name}'" if isinstance(name, str) and not _control(name) else f"pose #{index + 1}"
         before = len(problems)
-        for key in table:
-            if key not in _KEYS:
-                problems.append((item, f"unknown key '{key}'", did_you_mean(key, list(_KEYS))))
-        for key in _REQUIRED:
-            if key not in table:
-                problems.append((item, f"missing required key '{key}' (a string)", None))
+        problems += table_key_problems(table, item, _KEYS, _REQUIRED, " (a string)")
         for key in _KEYS:
             value = table.get(key)
             if value is None:

@@ -34,7 +34,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from garnav.cautions import IMPLANT_GUIDANCE_MM
-from garnav.errors import Problem, SpecError, did_you_mean
+from garnav.errors import Problem, SpecError, did_you_mean, table_key_problems
 
 __all__ = [
     "BodyZone",
@@ -237,12 +237,7 @@ def parse_body_zones(tables: Any, source: str, landmarks: dict[str, bool] | None
         name = table.get("name")
         item = f"body_zone '{name}'" if isinstance(name, str) else f"body_zone #{index + 1}"
         before = len(problems)
-        for key in table:
-            if key not in _KEYS:
-                problems.append((item, f"unknown key '{key}'", did_you_mean(key, list(_KEYS))))
-        for key in _REQUIRED:
-            if key not in table:
-                problems.append((item, f"missing required key '{key}'", None))
+        problems += table_key_problems(table, item, _KEYS, _REQUIRED)
         values: dict[str, Any] = {}
         for key, kind in _KEYS.items():
             if key not in table:
