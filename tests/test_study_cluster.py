@@ -45,3 +45,28 @@ def test_existing_scheduler_rows_equal_serial_rows(serial_rows, tmp_path):
         cluster.close()
     assert done.mode == "scheduler" and done.workers == 1 and done.builds == 2
     assert read_rows(done.out).equals(serial)
+
+
+def _worker_env() -> dict:
+    import os
+
+    return {k: os.environ.get(k) for k in ("MALLOC_TRIM_THRESHOLD_", "OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS")}
+
+
+@pytest.mark.slow
+def test_local_cluster_workers_keep_glibc_malloc_thresholds():
+    """Dask's nanny sets MALLOC_TRIM_THRESHOLD_=65536 in its workers by default, which turns off
+    glibc's dynamic mmap threshold (mallopt(3)) and cost the demo study's queries 15-35 %; the
+    study's local cluster unsets it and keeps the one-thread BLAS/OpenMP limits."""
+    from distributed import Client
+
+    from garnav.study.cluster import local_cluster
+
+    cluster = local_cluster(1)
+    try:
+        with Client(cluster, timeout=60) as client:
+            client.wait_for_workers(1, timeout=60)
+            (env,) = client.run(_worker_env).values()
+    finally:
+        cluster.close()
+    assert env == {"MALLOC_TRIM_THRESHOLD_": None, "OMP_NUM_THREADS": "1", "OPENBLAS_NUM_THREADS": "1"}
