@@ -412,6 +412,7 @@ class SequenceSearch:
         self._edges: dict[int, list] = {}
         self._portal: dict[tuple, tuple | None] = {}
         self._layers = {}
+        self._round = 1
         # the same-piece route (no crossing) is solved exactly by the in-piece search
         w = len(wg.win)
         s_idx, s_cost = wg.ends(start, reverse=False)
@@ -438,6 +439,7 @@ class SequenceSearch:
         rounds = 0
         while True:
             rounds += 1
+            self._round = rounds
             h_pre, h_post = to_goals(bound)
             floor = max(floor, bound.floor(h_pre))
             labels = LabelSearch(bound, bound.to_pre, bound.goal_post, h_pre, h_post, upper, tried, self.rel_tol)
@@ -468,18 +470,19 @@ class SequenceSearch:
                         labels.upper = upper
                     continue
                 pending.update(dict.fromkeys(cut))
-                if len(pending) >= SPLITS_PER_ROUND:
-                    break
+                if len(pending) >= SPLITS_PER_ROUND and rounds > 1:
+                    break  # the first round pops on: its sequences are judged as without splitting
             if not pending:
                 if labels.exhausted:
                     reason = f"label budget: {MAX_LABELS} labels expanded in one round"
                 elif stuck:
                     reason = "a sequence below the route's cost at the smallest windows, not refined (sequence budget)"
                 break
-            if bound.added + SPLIT * len(pending) > self.max_windows:
+            todo = list(pending)[:SPLITS_PER_ROUND]
+            if bound.added + SPLIT * len(todo) > self.max_windows:
                 reason = f"window budget: {bound.added} windows added, sequences below the route's cost remain"
                 break
-            bound.split(list(pending))
+            bound.split(todo)
         if best is None:
             return None
         legs, crossings, cost, k = best
@@ -488,19 +491,28 @@ class SequenceSearch:
 
     def _solve(self, start, goals, k: int, seq: tuple, upper: float, force: bool):
         """Refine seam sequence ``seq`` to goal ``k``: (legs, crossings, cost); or None when it is
-        not refined (the sequence budget is spent, or its portal route is too dear to win after
-        refinement: ``ALTERNATIVE_MARGIN`` and ``CROSSING_ALLOWANCE``, unless ``force``). A
-        sequence with no portal route at all gives an infinite cost (nothing to miss)."""
+        not refined: the sequence budget is spent (``max_sequences`` refined, or three times as
+        many sequences judged on the portals in the first round, six times in all, unless
+        ``force``), or its portal route is too dear
+        to win after refinement (``ALTERNATIVE_MARGIN`` and ``CROSSING_ALLOWANCE``, unless
+        ``force``). A sequence with no portal route at all gives an infinite cost (nothing to
+        miss). The first round judges the sequences as the search without splitting did, in the
+        same order; a sequence judged too dear is judged again in a later round (with the U and
+        the gain of refinement of then), which can only add refinements: the route is never
+        dearer than without splitting."""
+        key = (k, seq)
         if self._solved >= self.max_sequences:
             return None
         planner = self.planner
-        key = (k, seq)
         if key not in self._portal:
             # the sequence's best route through the portals (an upper bound of its optimum); the
             # layered bound skips the search when even it cannot reach the threshold below
             if self._pairs is None:
                 self._pairs = _PortalPairs(planner)
             if key not in self._layers:
+                cap = 3 * self.max_sequences * (1 if self._round == 1 else 2)
+                if len(self._layers) >= cap and not force:
+                    return None  # bounded work: only so many sequences are judged on the portals
                 layer = LayerBound(self._pairs, goals[k], seq)
                 self._layers[key] = (layer, layer.start_bound(start))
             layer, floor_cost = self._layers[key]
