@@ -19,11 +19,14 @@ pops complete seam sequences in increasing order of their lower bound (the k sho
 sequences; labels as in Martins 1984, the multi-label shortest path). Each popped sequence is
 solved — legs planned at its bound path's windows, then its crossings slid to their best places
 (:func:`garnav.plan.refine.refine`) — and the best cost U is kept; the search stops when the next
-lower bound is not below U (branch and bound, Land & Doig 1960). Every sequence not solved
-therefore costs at least U; the result says whether the search ended so (``certified``) or at its
-budget (``max_sequences`` refined, three times as many popped, or ``MAX_LABELS`` labels). Which
-popped sequences are refined is decided on their portal routes (``ALTERNATIVE_MARGIN``,
-``CROSSING_ALLOWANCE``), a heuristic rule; docs/planning.md §4c has the whole argument.
+lower bound is not below U (branch and bound, Land & Doig 1960). Which popped sequences are
+refined is decided on their portal routes (``ALTERNATIVE_MARGIN``, ``CROSSING_ALLOWANCE``), a
+heuristic rule; a popped sequence below U that is not refined has the windows of its bound path
+split (:mod:`garnav.plan.sequence_bound`: the branch step, windows as the intervals of Mitchell,
+Mount & Papadimitriou 1987) and the label search runs again, until every sequence not refined
+has a bound of at least ``U·(1 − CERT_TOL)`` (``certified``) or a budget is hit
+(``max_sequences`` refined, ``MAX_CERTIFY_WINDOWS`` windows added, ``MAX_LABELS`` labels in a
+round; ``reason`` says which). docs/planning.md §4c has the whole argument.
 """
 
 from __future__ import annotations
