@@ -128,3 +128,16 @@ def test_demo_buttons_back_to_yoke_is_certified():
     assert route.cost == pytest.approx(778.5915529204149, rel=1e-9)
     assert found.certified, found.reason
     assert found.lower_mm <= route.cost
+
+
+@pytest.mark.slow
+def test_a_search_stopped_by_the_window_budget_says_so_and_keeps_its_route():
+    g, s, e = _panels(np.random.default_rng([8, 41]))
+    planner = Planner(g)
+    stopped = SequenceSearch(planner, max_windows=0).search(s, [e])
+    full = SequenceSearch(planner).search(s, [e])
+    assert not stopped.certified and stopped.reason.startswith("window budget")
+    assert stopped.windows_added == 0
+    assert full.certified and 0 < full.windows_added <= MAX_CERTIFY_WINDOWS  # observed 32
+    assert stopped.cost_mm == pytest.approx(full.cost_mm, rel=1e-12)
+    assert stopped.lower_mm <= full.lower_mm + 1e-9  # splitting only raises the bound
