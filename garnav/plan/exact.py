@@ -192,6 +192,11 @@ class SeamSearch:
                     tab.points.append(_Point(pi, APP, wid, side, e, np.zeros(2), 0.0, re, 0.0, re))
         return wid
 
+    def add_window(self, tab, seam: int, t0: float, t1: float) -> int:
+        """Append window [t0, t1] of seam index ``seam`` (its points, approach ends) to ``tab``, any
+        object with ``points`` and ``windows`` lists; returns its index in ``tab.windows``."""
+        return self._add_window(tab, _Window(int(seam), float(t0), float(t1)))
+
     def _link(self, tab: _Tables, points: list[_Point], new: list[int], old: list[int], piece: int) -> None:
         """Compute and store the links of points ``new`` to the piece's corners, to each other and
         to points ``old`` (all on piece index ``piece``)."""

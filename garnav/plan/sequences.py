@@ -19,17 +19,18 @@ pops complete seam sequences in increasing order of their lower bound (the k sho
 sequences; labels as in Martins 1984, the multi-label shortest path). Each popped sequence is
 solved — legs planned at its bound path's windows, then its crossings slid to their best places
 (:func:`garnav.plan.refine.refine`) — and the best cost U is kept; the search stops when the next
-lower bound is not below U (branch and bound, Land & Doig 1960). Every sequence not solved
-therefore costs at least U; the result says whether the search ended so (``certified``) or at its
-budget (``max_sequences`` refined, three times as many popped, or ``MAX_LABELS`` labels). Which
-popped sequences are refined is decided on their portal routes (``ALTERNATIVE_MARGIN``,
-``CROSSING_ALLOWANCE``), a heuristic rule; docs/planning.md §4c has the whole argument.
+lower bound is not below U (branch and bound, Land & Doig 1960). Which popped sequences are
+refined is decided on their portal routes (``ALTERNATIVE_MARGIN``, ``CROSSING_ALLOWANCE``), a
+heuristic rule; a popped sequence below U that is not refined has the windows of its bound path
+split (:mod:`garnav.plan.sequence_bound`: the branch step, windows as the intervals of Mitchell,
+Mount & Papadimitriou 1987) and the label search runs again, until every sequence not refined
+has a bound of at least ``U·(1 − CERT_TOL)`` (``certified``) or a budget is hit
+(``max_sequences`` refined, ``MAX_CERTIFY_WINDOWS`` windows added, ``MAX_LABELS`` labels in a
+round; ``reason`` says which). docs/planning.md §4c has the whole argument.
 """
 
 from __future__ import annotations
 
-import heapq
-import itertools
 import math
 from dataclasses import dataclass
 from typing import Sequence
@@ -40,9 +41,20 @@ from scipy.sparse.csgraph import dijkstra
 
 from garnav.plan.points import PiecePoint
 from garnav.plan.refine import plan_legs, refine
+from garnav.plan.sequence_bound import MAX_LABELS, SPLIT, LabelSearch, SequenceBound, min_directed, to_goals
 from garnav.plan.windows import MovingPoints, pair_links
 
-__all__ = ["SequenceSearch", "SequenceResult", "WindowGraph", "LayerBound", "ALTERNATIVE_MARGIN", "CROSSING_ALLOWANCE"]
+__all__ = [
+    "SequenceSearch",
+    "SequenceResult",
+    "WindowGraph",
+    "LayerBound",
+    "ALTERNATIVE_MARGIN",
+    "CROSSING_ALLOWANCE",
+    "MAX_CERTIFY_WINDOWS",
+    "CERT_TOL",
+    "MAX_LABELS",
+]
 
 #: A sequence's portal route is refined when its graph cost is at most the best cost plus twice
 #: the largest gain of refinement seen in the query plus this fraction of its graph cost ...
@@ -52,8 +64,13 @@ ALTERNATIVE_MARGIN = 0.002
 #: source: on the demo garment a three-crossing sequence 3.0 mm dearer on the portals than the
 #: best route was 3.6 mm cheaper after refinement, a gain of 2.2 mm per crossing at 20 mm portals).
 CROSSING_ALLOWANCE = 0.1
-#: Most labels the sequence search expands per query (bounded work; see ``_LabelSearch``).
-MAX_LABELS = 4000
+#: Certificate tolerance: a sequence not refined whose bound is at least U·(1 − CERT_TOL) needs no
+#: split (1e-4: 0.08 mm on an 800 mm route, below the 0.5 mm of the free-interval search).
+CERT_TOL = 1e-4
+#: Most windows one query may add by splitting (four per split window) to certify its route.
+MAX_CERTIFY_WINDOWS = 400
+#: Most windows split in one round of the certification (the bound paths popped first).
+SPLITS_PER_ROUND = 24
 
 _WIN, _APP = 0, 1  # point kinds of garnav.plan.exact (WIN, APP)
 
@@ -63,10 +80,11 @@ class SequenceResult:
     """Outcome of one query.
 
     ``legs``, ``crossings`` and ``cost_mm`` are the best route; ``lower_mm`` a lower bound of every
-    route (the window graph's least cost); ``certified``: the search stopped because every seam
-    sequence not refined has a lower bound at least the route's cost (else it stopped at a budget
-    or skipped a sequence below it by the refinement threshold); ``solved`` the number of seam
-    sequences solved; ``goal`` the index of the goal reached.
+    route (the window graph's least cost, after splitting); ``certified``: every seam sequence not
+    refined has a lower bound at least ``cost_mm·(1 − cert_tol)`` (else ``reason`` says which
+    budget stopped the search); ``solved`` the number of seam sequences refined; ``goal`` the
+    index of the goal reached; ``windows_added`` the windows made by splitting, in ``rounds``
+    rounds of the label search.
     """
 
     legs: list
@@ -76,6 +94,9 @@ class SequenceResult:
     certified: bool
     solved: int
     goal: int
+    windows_added: int = 0
+    rounds: int = 1
+    reason: str = ""
 
 
 class _PieceGraph:
@@ -121,7 +142,7 @@ class _PieceGraph:
         cols.append(np.array(c, dtype=int))
         vals.append(np.array(v, dtype=float))
         self.eps = 1e-12  # csgraph drops explicit zeros: a tiny positive stand-in, removed below
-        self.matrix = _min_directed(np.concatenate(rows), np.concatenate(cols), np.concatenate(vals) + self.eps, n)
+        self.matrix = min_directed(np.concatenate(rows), np.concatenate(cols), np.concatenate(vals) + self.eps, n)
         self.win = [pid for pid in self.ids if tabs.points[pid].kind == _WIN]
 
     def out_node(self, pid: int) -> int:
@@ -148,7 +169,7 @@ class _PieceGraph:
             r.append(n)
             c.append(self.k + 2 * j + (0 if reverse else 1))
             v.append(wv)
-        extra = _min_directed(np.array(r, dtype=int), np.array(c, dtype=int), np.array(v, dtype=float) + self.eps, n + 1)
+        extra = min_directed(np.array(r, dtype=int), np.array(c, dtype=int), np.array(v, dtype=float) + self.eps, n + 1)
         base = sp.bmat([[self.matrix, None], [None, sp.csr_matrix((1, 1))]]).tocsr()
         if reverse:
             return (base.T + extra).tocsr(), n  # edges reversed: Dijkstra from the goal backwards
@@ -167,17 +188,6 @@ def sequence_key(ng, goal: int, crossings) -> tuple:
     Crossing refinement (:func:`garnav.plan.refine.refine`) keeps each crossing in its interval, so
     two routes with different keys are different candidates of the search."""
     return (goal, tuple((int(s), interval_index(ng, int(s), float(t)), int(side)) for s, t, side in crossings))
-
-
-def _min_directed(r: np.ndarray, c: np.ndarray, v: np.ndarray, size: int) -> sp.csr_matrix:
-    """Directed (size, size) sparse matrix keeping the smallest value of duplicate entries."""
-    if not len(r):
-        return sp.csr_matrix((size, size))
-    order = np.lexsort((v, c, r))
-    r, c, v = r[order], c[order], v[order]
-    first = np.ones(len(r), dtype=bool)
-    first[1:] = (r[1:] != r[:-1]) | (c[1:] != c[:-1])
-    return sp.csr_matrix((v[first], (r[first], c[first])), shape=(size, size))
 
 
 def _moving(pts) -> MovingPoints:
@@ -363,14 +373,25 @@ class SequenceSearch:
     planner : Planner
     rel_tol : float
         A sequence whose lower bound is at least ``U·(1 − rel_tol)`` is not solved.
+    max_sequences : int
+        Most sequences refined per query.
+    cert_tol : float
+        Certificate tolerance: the search ends certified when every sequence not refined has a
+        bound of at least ``U·(1 − cert_tol)`` (:data:`CERT_TOL`).
+    max_windows : int
+        Most windows a query adds by splitting (:data:`MAX_CERTIFY_WINDOWS`).
     """
 
-    def __init__(self, planner, rel_tol: float = 1e-9, max_sequences: int = 4):
+    def __init__(self, planner, rel_tol: float = 1e-9, max_sequences: int = 4, cert_tol: float = CERT_TOL,
+                 max_windows: int = MAX_CERTIFY_WINDOWS):
         self.planner = planner
         self.rel_tol = float(rel_tol)
+        self.cert_tol = float(cert_tol)
         self.max_sequences = int(max_sequences)
+        self.max_windows = int(max_windows)
         self._graph: WindowGraph | None = None
         self._pairs: _PortalPairs | None = None
+        self._layers: dict[tuple, tuple] = {}
 
     @property
     def graph(self) -> WindowGraph:
@@ -389,9 +410,12 @@ class SequenceSearch:
         tried: set = set()
         if best is not None:
             tried.add(sequence_key(ng, best[3], best[1]))
-        solved = popped = 0
-        gain = float(gain)
-        edges: dict[int, list] = {}
+        self._solved = 0
+        self._gain = float(gain)
+        self._edges: dict[int, list] = {}
+        self._portal: dict[tuple, tuple | None] = {}
+        self._layers = {}
+        self._round = 1
         # the same-piece route (no crossing) is solved exactly by the in-piece search
         w = len(wg.win)
         s_idx, s_cost = wg.ends(start, reverse=False)
@@ -403,182 +427,118 @@ class SequenceSearch:
             arr = np.full(w, np.inf)
             arr[g_idx] = g_cost
             goal_post.append(arr)
+        no_seam = math.inf  # exact least cost of the routes that cross no seam
         for k, g in enumerate(goals):
             if g.piece == start.piece and (k, ()) not in tried:
                 tried.add((k, ()))
                 legs, cost = plan_legs(planner, start, g, [])
-                solved += 1
+                self._solved += 1
+                no_seam = min(no_seam, cost)
                 if cost < upper:
                     upper, best = cost, (legs, [], cost, k)
-        h_pre, h_post = self._heuristic(goal_post)
-        # no route over seams is cheaper than this (window graph, admissible); nor without seams
-        # than the exact same-piece cost found above
-        floor = min(float(np.min(to_pre + h_pre)) if w else math.inf, upper)
-        labels = _LabelSearch(wg, to_pre, goal_post, h_pre, h_post, upper, tried, self.rel_tol)
-        certified = skipped = False
-        for bound, k, path in labels:  # complete seam sequences in increasing order of bound
-            margin = self.rel_tol * upper if math.isfinite(upper) else 0.0
-            if bound >= upper - margin:
-                # every sequence not popped costs at least the best route; the popped ones count
-                # only if they were all refined (skipping one is the heuristic rule, no proof)
-                certified = not skipped
+        bound = SequenceBound(wg, start, list(goals), to_pre, goal_post)
+        floor = -math.inf  # the best window-graph bound of the rounds (each is admissible)
+        reason = ""
+        rounds = 0
+        while True:
+            rounds += 1
+            self._round = rounds
+            h_pre, h_post = to_goals(bound)
+            floor = max(floor, bound.floor(h_pre))
+            labels = LabelSearch(bound, bound.to_pre, bound.goal_post, h_pre, h_post, upper, tried, self.rel_tol)
+            pending: dict[int, None] = {}  # window sides on bound paths still below U(1 - cert_tol)
+            stuck = False
+            for lb, k, path in labels:  # complete seam sequences in increasing order of bound
+                if k < 0:
+                    break  # every sequence not popped costs at least U (branch and bound)
+                seq = tuple((int(bound.seam[i]), int(bound.interval[i]), int(bound.side[i])) for i in path)
+                found = self._solve(start, goals, k, seq, upper, force=False)
+                if found is not None:
+                    tried.add((k, seq))
+                    if found[2] < upper:
+                        upper, best = found[2], (found[0], found[1], found[2], k)
+                        labels.upper = upper
+                    continue
+                if lb >= upper * (1.0 - self.cert_tol):
+                    continue  # within the certificate's tolerance
+                cut = bound.splittable(path)
+                if not cut:  # the windows cannot shrink further: refine the sequence after all
+                    found = self._solve(start, goals, k, seq, upper, force=True)
+                    if found is None:
+                        stuck = True
+                        continue
+                    tried.add((k, seq))
+                    if found[2] < upper:
+                        upper, best = found[2], (found[0], found[1], found[2], k)
+                        labels.upper = upper
+                    continue
+                pending.update(dict.fromkeys(cut))
+                if len(pending) >= SPLITS_PER_ROUND and rounds > 1:
+                    break  # the first round pops on: its sequences are judged as without splitting
+            if not pending:
+                if labels.exhausted:
+                    reason = f"label budget: {MAX_LABELS} labels expanded in one round"
+                elif stuck:
+                    reason = "a sequence below the route's cost at the smallest windows, not refined (sequence budget)"
                 break
-            if solved >= self.max_sequences:
+            todo = list(pending)[:SPLITS_PER_ROUND]
+            if bound.added + SPLIT * len(todo) > self.max_windows:
+                reason = f"window budget: {bound.added} windows added, sequences below the route's cost remain"
                 break
-            popped += 1
-            if popped > 3 * self.max_sequences:
-                break
-            # the sequence's best route through the portals (an upper bound of its optimum) is
-            # refined when it could win after gaining as much as refinement has gained so far
-            # (twice over, plus ALTERNATIVE_MARGIN of its cost); see docs/planning.md §4c
-            seq = tuple((int(wg.seam[i]), int(wg.interval[i]), int(wg.side[i])) for i in path)
-            if self._pairs is None:
-                self._pairs = _PortalPairs(planner)
-            layer = LayerBound(self._pairs, goals[k], seq)
-            floor_cost = layer.start_bound(start)  # no portal route of the sequence is cheaper
-            allowance = 2.0 * gain + CROSSING_ALLOWANCE * planner.nav.spacing_mm * len(seq)
-            if floor_cost > upper + allowance + ALTERNATIVE_MARGIN * floor_cost:
-                skipped = True
-                continue
-            if k not in edges:
-                edges[k] = planner.query_edges(start, [goals[k]])
-            nodes, graph_cost = planner.sequence_search(start, goals[k], seq, edges[k], layer)
-            if nodes is None:
-                continue  # no route crosses exactly so: nothing to miss
-            if graph_cost > upper + allowance + ALTERNATIVE_MARGIN * graph_cost:
-                skipped = True
-                continue
-            legs, crossings = planner.split_path(nodes, start, goals[k])
-            solved += 1
-            legs, crossings, cost = refine(planner, legs, crossings)
-            gain = max(gain, graph_cost - cost)
-            if cost < upper:
-                upper, best = cost, (legs, crossings, cost, k)
-                labels.upper = upper
+            bound.split(todo)
         if best is None:
             return None
         legs, crossings, cost, k = best
-        return SequenceResult(legs, crossings, cost, min(floor, cost), certified, solved, k)
+        lower = min(floor, no_seam, cost)
+        return SequenceResult(legs, crossings, cost, lower, not reason, self._solved, k, bound.added, rounds, reason)
 
-    def _heuristic(self, goal_post: list[np.ndarray]) -> tuple[np.ndarray, np.ndarray]:
-        """Exact least window-graph cost from pre(i) and post(i) to any goal: (w,), (w,)."""
-        wg = self.graph
-        w = len(wg.win)
-        eps = 1e-12
-        # nodes: pre(i) = i, post(i) = w + i, goal = 2w; reversed edges, Dijkstra from the goal
-        r, c, v = [], [], []
-        r.append(wg.partner + w)  # reversed pre(i) -> post(partner i)
-        c.append(np.arange(w))
-        v.append(wg.cross)
-        for sel, d in wg.inner.values():
-            a, b = np.nonzero(np.isfinite(d))
-            r.append(sel[b])  # reversed post(sel a) -> pre(sel b)
-            c.append(sel[a] + w)
-            v.append(d[a, b])
-        tg = np.min(np.vstack(goal_post), axis=0) if goal_post else np.full(w, np.inf)
-        fin = np.nonzero(np.isfinite(tg))[0]
-        r.append(np.full(len(fin), 2 * w))
-        c.append(fin + w)
-        v.append(tg[fin])
-        mat = _min_directed(np.concatenate(r), np.concatenate(c), np.concatenate(v) + eps, 2 * w + 1)
-        d = dijkstra(mat, directed=True, indices=2 * w)
-        d = np.maximum(d - (2 * w + 1) * eps, 0.0)
-        return d[:w], d[w : 2 * w]
+    def _solve(self, start, goals, k: int, seq: tuple, upper: float, force: bool):
+        """Refine seam sequence ``seq`` to goal ``k``: (legs, crossings, cost); or None when it is
+        not refined: the sequence budget is spent (``max_sequences`` refined, or three times as
+        many sequences judged on the portals in the first round, six times in all, unless
+        ``force``), or its portal route is too dear
+        to win after refinement (``ALTERNATIVE_MARGIN`` and ``CROSSING_ALLOWANCE``, unless
+        ``force``). A sequence with no portal route at all gives an infinite cost (nothing to
+        miss). The first round judges the sequences as the search without splitting did, in the
+        same order; a sequence judged too dear is judged again in a later round (with the U and
+        the gain of refinement of then), which can only add refinements: the route is never
+        dearer than without splitting."""
+        key = (k, seq)
+        if self._solved >= self.max_sequences:
+            return None
+        planner = self.planner
+        if key not in self._portal:
+            # the sequence's best route through the portals (an upper bound of its optimum); the
+            # layered bound skips the search when even it cannot reach the threshold below
+            if self._pairs is None:
+                self._pairs = _PortalPairs(planner)
+            if key not in self._layers:
+                cap = 3 * self.max_sequences * (1 if self._round == 1 else 2)
+                if len(self._layers) >= cap and not force:
+                    return None  # bounded work: only so many sequences are judged on the portals
+                layer = LayerBound(self._pairs, goals[k], seq)
+                self._layers[key] = (layer, layer.start_bound(start))
+            layer, floor_cost = self._layers[key]
+            if not force and floor_cost > self._reach(upper, floor_cost, len(seq)):
+                return None  # decided again when forced (the portal search is then run)
+            if k not in self._edges:
+                self._edges[k] = planner.query_edges(start, [goals[k]])
+            nodes, graph_cost = planner.sequence_search(start, goals[k], seq, self._edges[k], layer)
+            self._portal[key] = None if nodes is None else (nodes, graph_cost)
+        got = self._portal[key]
+        if got is None:
+            return [], [], math.inf  # no route crosses exactly so
+        nodes, graph_cost = got
+        if not force and graph_cost > self._reach(upper, graph_cost, len(seq)):
+            return None
+        legs, crossings = planner.split_path(nodes, start, goals[k])
+        self._solved += 1
+        legs, crossings, cost = refine(planner, legs, crossings)
+        self._gain = max(self._gain, graph_cost - cost)
+        return legs, crossings, cost
 
-
-class _LabelSearch:
-    """Iterator over (bound, goal index, window sides crossed) of complete seam sequences in
-    increasing order of bound; labels are (node, sequence) pairs, pruned at the current U."""
-
-    def __init__(self, wg: WindowGraph, to_pre, goal_post, h_pre, h_post, upper, tried, rel_tol, max_labels: int = MAX_LABELS):
-        self.wg = wg
-        self.pops = 0
-        self.max_labels = int(max_labels)
-        self.goal_post = goal_post
-        self.h_pre, self.h_post = h_pre, h_post
-        self.upper = upper
-        self.rel_tol = rel_tol
-        self.tried = set(tried)
-        self.counter = itertools.count()
-        self.heap: list = []
-        self.best: dict = {}
-        self.parent: dict = {}
-        self.inner_of = {}
-        for pi, (sel, d) in wg.inner.items():
-            pos = {int(i): k for k, i in enumerate(sel)}
-            self.inner_of[pi] = (sel, d, pos)
-        for i in np.nonzero(np.isfinite(to_pre))[0].tolist():
-            self._push(("pre", i, ()), float(to_pre[i]), None)
-
-    def _limit(self) -> float:
-        return self.upper - (self.rel_tol * self.upper if math.isfinite(self.upper) else 0.0)
-
-    def _h(self, state) -> float:
-        kind, i, _ = state
-        if kind == "pre":
-            return float(self.h_pre[i])
-        if kind == "post":
-            return float(self.h_post[i])
-        return 0.0
-
-    def _push(self, state, g: float, parent) -> None:
-        if g >= self.best.get(state, math.inf):
-            return
-        f = g + self._h(state)
-        if not math.isfinite(f) or f >= self._limit():
-            return
-        self.best[state] = g
-        self.parent[state] = parent
-        heapq.heappush(self.heap, (f, next(self.counter), g, state))
-
-    def __iter__(self):
-        return self
-
-    def __next__(self):
-        wg = self.wg
-        while self.heap:
-            f, _, g, state = heapq.heappop(self.heap)
-            if g > self.best.get(state, math.inf):
-                continue
-            self.pops += 1
-            if self.pops > self.max_labels:
-                # bounded work: with crossings of cost 0 the number of sequences below U (going
-                # back and forth over a seam) has no limit; stop, not certified
-                self.heap.clear()
-                raise StopIteration
-            if f >= self._limit():
-                self.heap.clear()
-                return (f, -1, [])
-            kind, i, seq = state
-            if kind == "goal":
-                key = (i, seq)
-                if key in self.tried:
-                    continue
-                self.tried.add(key)
-                return (g, i, self._path(state))
-            if kind == "pre":
-                j = int(wg.partner[i])
-                step = (int(wg.seam[i]), int(wg.interval[i]), int(wg.side[i]))
-                self._push(("post", j, seq + (step,)), g + float(wg.cross[i]), state)
-                continue
-            for k, arr in enumerate(self.goal_post):
-                if math.isfinite(arr[i]):
-                    self._push(("goal", k, seq), g + float(arr[i]), state)
-            sel, d, pos = self.inner_of[int(wg.piece[i])]
-            row = d[pos[i]]
-            h = self.h_pre[sel]
-            ok = np.nonzero(g + row + h < self._limit())[0]
-            for k in ok.tolist():
-                self._push(("pre", int(sel[k]), seq), g + float(row[k]), state)
-        return (math.inf, -1, [])
-
-    def _path(self, state) -> list[int]:
-        """Window sides (pre states) crossed on the label's path, in order."""
-        out = []
-        s = state
-        while s is not None:
-            if s[0] == "pre":
-                out.append(s[1])
-            s = self.parent[s]
-        # a pre state is kept only if the path crossed from it (the next state is its post)
-        return out[::-1]
+    def _reach(self, upper: float, cost: float, crossings: int) -> float:
+        """Largest portal-route cost still refined: U plus twice the largest gain of refinement in
+        the query, ``CROSSING_ALLOWANCE`` × spacing per crossing and ``ALTERNATIVE_MARGIN``."""
+        allowance = 2.0 * self._gain + CROSSING_ALLOWANCE * self.planner.nav.spacing_mm * crossings
+        return upper + allowance + ALTERNATIVE_MARGIN * cost

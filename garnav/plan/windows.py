@@ -28,7 +28,7 @@ import numpy as np
 from garnav.plan.freespace import PieceFreeSpace
 from garnav.plan.navgraph import edge_costs
 from garnav.plan.portals import angle_ok
-from garnav.plan.visgraph import Corners, segments_free, tangent_mask
+from garnav.plan.visgraph import Corners, tangent_mask
 
 __all__ = [
     "MovingPoints",
@@ -133,7 +133,7 @@ def corner_links(fs: PieceFreeSpace, corners: Corners, pts: MovingPoints) -> tup
         amin = widened_limit_deg(pts.alpha[:, None], pts.r[:, None], dist, pts.turn[:, None])
         ok &= angle_ok(d, pts.tan[:, None, :], amin)
     q, n = np.nonzero(ok)
-    vis = segments_free(fs.region, pts.xy[q], corners.xy[n])
+    vis = fs.segments_free(pts.xy[q], corners.xy[n])  # the piece's own boundary index
     q, n = q[vis], n[vis]
     length, cost = edge_costs(fs, pts.xy[q], corners.xy[n])
     return q, n, link_lower_bound(cost, cost_factor(fs), pts.r[q], length)
@@ -161,7 +161,7 @@ def pair_links(
     ok &= angle_ok(d, a.tan[ia], widened_limit_deg(a.alpha[ia], rs, dist, a.turn[ia]))
     ok &= angle_ok(-d, b.tan[ib], widened_limit_deg(b.alpha[ib], rs, dist, b.turn[ib]))
     ia, ib = ia[ok], ib[ok]
-    vis = segments_free(fs.region, a.xy[ia], b.xy[ib])
+    vis = fs.segments_free(a.xy[ia], b.xy[ib])
     ia, ib = ia[vis], ib[vis]
     length, cost = edge_costs(fs, a.xy[ia], b.xy[ib])
     return ia, ib, link_lower_bound(cost, cost_factor(fs), a.r[ia] + b.r[ib], length)
