@@ -35,6 +35,8 @@ __all__ = ["PLUGIN_NAME", "WorkbenchPlugin", "default_workers", "local_cluster",
 PLUGIN_NAME = "garnav-study-workbench"
 #: Seconds to wait for a scheduler connection and for workers to start.
 CONNECT_TIMEOUT_S = 60
+#: glibc's malloc variable that Dask's nanny sets by default (see :func:`local_cluster`).
+MALLOC_TRIM_VARIABLE = "MALLOC_TRIM_THRESHOLD_"
 
 
 def default_workers() -> int:
@@ -80,13 +82,23 @@ def local_cluster(workers: int) -> LocalCluster:
     and 42–51 s with the variable set; in two Dask workers, 60 queries took 31–33 s of worker CPU
     without it and 37–39 s with it (system time 0.7 s against 3.3 s per worker). The BLAS and
     OpenMP thread limits of that setting are kept.
+
+    A nanny writes its variables into the environment of the process that starts it (so a cluster
+    started earlier with Dask's defaults leaves the variable behind, and spawned workers inherit
+    it): the variable is therefore also taken out of this process's environment while the workers
+    start, and put back as it was afterwards.
     """
     import dask
 
-    with dask.config.set({"distributed.worker.profile.enabled": False,
-                          "distributed.nanny.pre-spawn-environ.MALLOC_TRIM_THRESHOLD_": None}):
-        return LocalCluster(n_workers=int(workers), threads_per_worker=1, processes=True, host="127.0.0.1",
-                            dashboard_address=None, silence_logs=logging.ERROR)
+    saved = os.environ.pop(MALLOC_TRIM_VARIABLE, None)
+    try:
+        with dask.config.set({"distributed.worker.profile.enabled": False,
+                              f"distributed.nanny.pre-spawn-environ.{MALLOC_TRIM_VARIABLE}": None}):
+            return LocalCluster(n_workers=int(workers), threads_per_worker=1, processes=True, host="127.0.0.1",
+                                dashboard_address=None, silence_logs=logging.ERROR)
+    finally:
+        if saved is not None:
+            os.environ[MALLOC_TRIM_VARIABLE] = saved
 
 
 @contextmanager
