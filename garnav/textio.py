@@ -14,7 +14,7 @@ from pathlib import Path
 
 from garnav.atomic import active_set, incomplete_mark
 
-__all__ = ["read_text", "read_json_document", "file_problem", "incomplete_reason", "NOT_UTF8"]
+__all__ = ["read_text", "read_bytes", "decode_text", "read_json_document", "file_problem", "incomplete_reason", "NOT_UTF8"]
 
 NOT_UTF8 = "is not UTF-8 text"
 
@@ -63,6 +63,12 @@ def read_text(
         ``"cannot be read: <system reason>"``, the not-UTF-8 reason, or the reason of
         :func:`incomplete_reason` for a file of an incompletely written output set.
     """
+    return decode_text(read_bytes(path, error), error, binary_reason=binary_reason)
+
+
+def read_bytes(path: str | os.PathLike, error: Callable[[str], Exception]) -> bytes:
+    """The bytes of the file at ``path``, with the checks of :func:`read_text` but no decoding
+    (the file is added to the active output set's inputs as well)."""
     p = Path(path)
     try:
         raw = p.read_bytes()
@@ -75,6 +81,11 @@ def read_text(
     writing = active_set()
     if writing is not None:  # no output of this run may replace what it read
         writing.add_input(p)
+    return raw
+
+
+def decode_text(raw: bytes, error: Callable[[str], Exception], *, binary_reason: str | None = None) -> str:
+    """``raw`` as UTF-8 text; ``error(reason)`` as in :func:`read_text` when it is not."""
     try:
         return raw.decode("utf-8")
     except UnicodeDecodeError as exc:

@@ -16,8 +16,10 @@ battery, the worst margin and whether the nearest dock can still be reached; the
 
 The navigation graph is kept in a per-user cache folder (``platformdirs.user_cache_dir``, or
 ``GARNAV_CACHE_DIR`` when set, or ``--cache-dir``) under a key of the content of spec, robot and
-options, so a repeated call on the same garment skips the build; ``--no-cache`` builds afresh and
-writes nothing. Heavy modules are imported inside :func:`run` so that the parser stays quick.
+options, so a repeated call on the same garment skips the build; the linked drape of the spec (an
+OBJ mesh) is kept beside it under a key of the mesh file's bytes and the spec
+(:mod:`garnav.drape.cache`). ``--no-cache`` builds both afresh and writes nothing. Heavy modules
+are imported inside :func:`run` so that the parser stays quick.
 """
 
 from __future__ import annotations
@@ -125,9 +127,11 @@ def register(subparsers) -> None:
     cache.add_argument(
         "--cache-dir",
         metavar="DIR",
-        help=f"folder of the navigation-graph cache (default: ${CACHE_ENV}, else the per-user cache folder)",
+        help=f"folder of the cache of navigation graphs and linked drapes (default: ${CACHE_ENV}, else "
+        "the per-user cache folder)",
     )
-    cache.add_argument("--no-cache", action="store_true", help="build the navigation graph afresh; read and write no cache")
+    cache.add_argument("--no-cache", action="store_true", help="build the navigation graph and link the drape afresh; "
+                       "read and write no cache")
     parser.add_argument(
         "--exact-seams",
         action="store_true",
@@ -156,6 +160,9 @@ def run(args: argparse.Namespace) -> int:
         parse_gravity(args.gravity, args.posture)  # a bad posture fails before any work
     from garnav.cli._poses import choose_poses, wants_poses
 
+    cache_dir = None
+    if not getattr(args, "no_cache", False):
+        cache_dir = Path(args.cache_dir) if getattr(args, "cache_dir", None) else default_cache_dir()
     choice = None
     if wants_poses(args):  # --pose NAME|all, --robust: docs/poses.md
         from garnav.drape.sources import garment_and_drape, is_mesh_path
@@ -167,7 +174,7 @@ def run(args: argparse.Namespace) -> int:
         choice = choose_poses(args, as_read, getattr(args, "drape", None))
         garment, drape = choice.garment, choice.drape
     else:
-        garment, drape = _garment_and_drape(args)
+        garment, drape = _garment_and_drape(args, cache_dir)
         from garnav.zones.sources import apply_zones, ignored_zones_note
 
         garment = apply_zones(garment, drape, args.garment, getattr(args, "ignore_body_zones", False))
@@ -176,7 +183,7 @@ def run(args: argparse.Namespace) -> int:
     if drape is not None:
         locate = pattern_locator(drape, garment)
     else:
-        locate = spec_drape_locator(garment, Path(args.garment).parent)
+        locate = spec_drape_locator(garment, Path(args.garment).parent, cache_dir=cache_dir)
     robot = garment.robot or Robot()
     if getattr(args, "robot", None):
         from garnav.spec.robot import load_robot
@@ -188,9 +195,6 @@ def run(args: argparse.Namespace) -> int:
         robot = dataclasses.replace(robot, radius_mm=float(args.radius))
     if not args.clearance >= 0:
         raise QueryError(f"--clearance must be zero or more mm, got {args.clearance:g}")
-    cache_dir = None
-    if not getattr(args, "no_cache", False):
-        cache_dir = Path(args.cache_dir) if getattr(args, "cache_dir", None) else default_cache_dir()
     planner = Planner(
         garment,
         robot,
@@ -335,9 +339,10 @@ def dock_line(dock: dict | None) -> str:
     return f"dock      '{dock['dock']}' NOT reachable after this route: {dock['reason']}"
 
 
-def _garment_and_drape(args: argparse.Namespace):
+def _garment_and_drape(args: argparse.Namespace, cache_dir: Path | None = None):
     """The garment and the drape to lift onto: --drape MESH, else the spec's own drape (when it
-    names one and --no-drape is not given), else none; a mesh GARMENT is its own drape."""
+    names one and --no-drape is not given), else none; a mesh GARMENT is its own drape. A spec's
+    drape goes through the drape cache in ``cache_dir`` (None: none)."""
     from garnav.drape.sources import garment_and_drape, is_mesh_path
 
     given = getattr(args, "drape", None)  # None: not given; "": the spec's own; else a mesh file
@@ -348,9 +353,9 @@ def _garment_and_drape(args: argparse.Namespace):
     if getattr(args, "no_drape", False):
         return garment_and_drape(args.garment, None)
     if given is not None:
-        return garment_and_drape(args.garment, given)
+        return garment_and_drape(args.garment, given, cache_dir=cache_dir)
     try:
-        return garment_and_drape(args.garment, "", optional=True)
+        return garment_and_drape(args.garment, "", optional=True, cache_dir=cache_dir)
     except MeshError as exc:
         raise MeshError(f"{exc} (the spec names this drape; --no-drape plans without it)") from None
 

@@ -491,7 +491,7 @@ def _turned_text(mesh: UVMesh, topo: UVTopology, signed: np.ndarray, faces: np.n
 
 
 def load_drape(garment: Garment, mesh: str | None = None, folder: str = ".", *,
-               verify: bool = True) -> Drape:
+               verify: bool = True, cache_dir: str | os.PathLike | None = None) -> Drape:
     """Read and link a garment's drape mesh.
 
     Parameters
@@ -503,6 +503,8 @@ def load_drape(garment: Garment, mesh: str | None = None, folder: str = ".", *,
         The spec file's folder (what the garment's ``drape`` path is relative to).
     verify : bool
         See :func:`link_drape`.
+    cache_dir : path, optional
+        Folder of the on-disk cache of linked drapes (:mod:`garnav.drape.cache`); None = no cache.
 
     Raises
     ------
@@ -515,6 +517,10 @@ def load_drape(garment: Garment, mesh: str | None = None, folder: str = ".", *,
                 f"garment '{garment.name}' names no drape mesh; give one (e.g. --drape MESH)"
             )
         mesh = os.path.join(folder, garment.drape)
+    if cache_dir is not None:
+        from garnav.drape.cache import load_drape_cached
+
+        return load_drape_cached(garment, mesh, cache_dir, verify=verify)
     return link_drape(garment, load_uv_mesh(mesh), verify=verify)
 
 

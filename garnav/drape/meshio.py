@@ -33,12 +33,13 @@ from scipy.spatial import cKDTree
 from garnav.atomic import write_text_atomic
 from garnav.drape.objplain import parse_plain_obj
 from garnav.errors import MeshError
-from garnav.textio import file_problem, read_text
+from garnav.textio import decode_text, file_problem, read_bytes
 
 __all__ = [
     "UVMesh",
     "uv_mesh_from_arrays",
     "load_uv_mesh",
+    "mesh_file_bytes",
     "parse_obj",
     "parse_obj_lines",
     "dumps_obj",
@@ -413,21 +414,9 @@ def _vertex_uv(geom) -> np.ndarray | None:
 # -------------------------------------------------------------------------------------- entry
 
 
-def load_uv_mesh(path: str | os.PathLike, *, weld_tol_mm: float = 1e-4) -> UVMesh:
-    """Read a UV-mapped triangle mesh (OBJ, glTF/GLB, PLY) with per-corner UVs.
-
-    Parameters
-    ----------
-    path : path-like
-    weld_tol_mm : float
-        Positions closer than this (mm) become one vertex, which joins pieces across seams.
-
-    Raises
-    ------
-    MeshError
-        File missing or unreadable, not a mesh, no UVs, or any problem of
-        :func:`uv_mesh_from_arrays`.
-    """
+def _checked_mesh_file(path: str | os.PathLike) -> tuple[Path, str, str]:
+    """(path, source for messages, lower-case suffix) of a mesh file that exists and has a known
+    suffix; MeshError otherwise."""
     p = Path(path)
     source = str(path)
     problem = file_problem(p)
@@ -438,9 +427,41 @@ def load_uv_mesh(path: str | os.PathLike, *, weld_tol_mm: float = 1e-4) -> UVMes
         raise MeshError(
             f"{source}: unknown mesh format '{suffix}'; use one of " + ", ".join(MESH_SUFFIXES)
         )
+    return p, source, suffix
+
+
+def mesh_file_bytes(path: str | os.PathLike) -> bytes:
+    """The bytes of a mesh file, read with the checks :func:`load_uv_mesh` makes before parsing
+    (exists, known format, not an incompletely written output; :func:`garnav.textio.read_bytes`)."""
+    p, source, _ = _checked_mesh_file(path)
+    return read_bytes(p, lambda reason: MeshError(f"{source}: {reason}"))
+
+
+def load_uv_mesh(path: str | os.PathLike, *, weld_tol_mm: float = 1e-4, data: bytes | None = None) -> UVMesh:
+    """Read a UV-mapped triangle mesh (OBJ, glTF/GLB, PLY) with per-corner UVs.
+
+    Parameters
+    ----------
+    path : path-like
+    weld_tol_mm : float
+        Positions closer than this (mm) become one vertex, which joins pieces across seams.
+    data : bytes, optional
+        An OBJ file's bytes when they were already read (:func:`mesh_file_bytes`); other formats
+        are always read from ``path``.
+
+    Raises
+    ------
+    MeshError
+        File missing or unreadable, not a mesh, no UVs, or any problem of
+        :func:`uv_mesh_from_arrays`.
+    """
+    p, source, suffix = _checked_mesh_file(path)
     if suffix == ".obj":
-        text = read_text(p, lambda reason: MeshError(f"{source}: {reason}"),
-                         binary_reason="is not a mesh file (an OBJ file is text, this is binary)")
+        def error(reason: str) -> MeshError:
+            return MeshError(f"{source}: {reason}")
+
+        text = decode_text(read_bytes(p, error) if data is None else data, error,
+                           binary_reason="is not a mesh file (an OBJ file is text, this is binary)")
         positions, faces, corner = parse_obj(text, source)
     else:
         positions, faces, corner = _trimesh_arrays(p, source)

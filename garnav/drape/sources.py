@@ -24,7 +24,8 @@ def is_mesh_path(path: str | os.PathLike) -> bool:
 
 
 def garment_and_drape(
-    path: str | os.PathLike, drape: str | None = None, optional: bool = False
+    path: str | os.PathLike, drape: str | None = None, optional: bool = False,
+    cache_dir: str | os.PathLike | None = None,
 ) -> tuple[Garment, Drape | None]:
     """Read a garment and, when asked, its drape.
 
@@ -38,6 +39,9 @@ def garment_and_drape(
     optional : bool
         With ``drape=""``: a spec that names no drape gives ``(garment, None)`` instead of an error.
         (A drape the spec names but that cannot be read is still an error.)
+    cache_dir : path, optional
+        Folder of the on-disk cache of linked drapes of a spec (:mod:`garnav.drape.cache`);
+        None = no cache. A mesh given as ``path`` is linked afresh.
 
     Returns
     -------
@@ -54,13 +58,15 @@ def garment_and_drape(
     garment = load_garment(path)
     if drape is None or (optional and not drape and garment.drape is None):
         return garment, None
-    return garment, load_drape(garment, drape, str(Path(path).parent))
+    return garment, load_drape(garment, drape, str(Path(path).parent), cache_dir=cache_dir)
 
 
 def spec_drape_locator(
-    garment: Garment, folder: str | os.PathLike, max_snap_mm: float = DEFAULT_MAX_SNAP_MM
+    garment: Garment, folder: str | os.PathLike, max_snap_mm: float = DEFAULT_MAX_SNAP_MM,
+    cache_dir: str | os.PathLike | None = None,
 ) -> Callable | None:
-    """A ``locate_3d(xyz) -> (piece, x, y)`` that reads the garment's own drape on first use.
+    """A ``locate_3d(xyz) -> (piece, x, y)`` that reads the garment's own drape on first use
+    (through the drape cache in ``cache_dir``, when given).
 
     None when the garment names no drape (world points then get the planner's own message).
     """
@@ -70,7 +76,8 @@ def spec_drape_locator(
 
     def locate(xyz):
         if "locate" not in cache:
-            cache["locate"] = pattern_locator(load_drape(garment, None, str(folder)), garment, max_snap_mm)
+            drape = load_drape(garment, None, str(folder), cache_dir=cache_dir)
+            cache["locate"] = pattern_locator(drape, garment, max_snap_mm)
         return cache["locate"](xyz)
 
     return locate

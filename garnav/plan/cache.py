@@ -1,26 +1,22 @@
-"""An on-disk cache of built navigation graphs (numpy ``.npz``, no pickle).
+"""An on-disk cache of built navigation graphs (numpy ``.npz``, no pickle; :mod:`garnav.npzcache`).
 
 The key is a SHA-256 of everything the graph depends on: the garment (its full ``repr``, which
 lists every coordinate), the robot, the planner options, :data:`PLANNER_VERSION` and the shapely /
 GEOS versions (geometry results may differ between them). A file whose key does not match, or that
 cannot be read, is ignored and rebuilt. Free space is recomputed on load (it is cheap); only the
-graph (node arrays and edges) is stored. Files are written with :mod:`garnav.atomic`.
+graph (node arrays and edges) is stored. Files are written atomically (:mod:`garnav.atomic`).
 """
 
 from __future__ import annotations
 
-import hashlib
-import io
-import json
 from pathlib import Path
 from typing import Any
 
 import networkx as nx
 import numpy as np
-import shapely
 
-from garnav.atomic import write_bytes_atomic
 from garnav.model import Garment, Robot
+from garnav.npzcache import cache_file, content_key, read_npz, write_npz
 from garnav.plan.freespace import FreeSpace
 from garnav.plan.navgraph import NavGraph, seam_run_points
 from garnav.plan.visgraph import Corners
@@ -28,26 +24,24 @@ from garnav.plan.visgraph import Corners
 __all__ = ["cache_key", "save_nav_graph", "load_nav_graph", "cache_path"]
 
 _NODE_ARRAYS = ("xy", "node_piece", "portal_seam", "portal_side", "portal_t", "portal_tan", "portal_in", "approach_of")
+_EDGE_ARRAYS = ("edge_i", "edge_j", "edge_length", "edge_weight", "edge_crossing")
 
 
 def cache_key(garment: Garment, robot: Robot, options: dict, version: str) -> str:
     """Hex SHA-256 of the inputs of a graph build."""
-    text = json.dumps(
+    return content_key(
         {
             "garment": repr(garment),
             "robot": repr(robot),
             "options": {k: repr(v) for k, v in sorted(options.items())},
             "planner": version,
-            "shapely": shapely.__version__,
-            "geos": shapely.geos_version_string,
-        },
-        sort_keys=True,
+        }
     )
-    return hashlib.sha256(text.encode("utf-8")).hexdigest()
 
 
 def cache_path(folder: str | Path, key: str) -> Path:
-    return Path(folder) / f"navgraph-{key[:24]}.npz"
+    """The graph's file in ``folder``: ``navgraph-<first 24 hex digits of key>.npz``."""
+    return cache_file(folder, "navgraph", key)
 
 
 def save_nav_graph(ng: NavGraph, path: str | Path, key: str) -> Path:
@@ -59,7 +53,6 @@ def save_nav_graph(ng: NavGraph, path: str | Path, key: str) -> Path:
         corner_prev[off : off + len(c)] = c.prev
         corner_next[off : off + len(c)] = c.next
     meta = {
-        "key": key,
         "pieces": list(ng.pieces),
         "seams": [s.name for s in ng.seams],
         "intervals": {k: [list(iv) for iv in v] for k, v in ng.intervals.items()},
@@ -69,34 +62,28 @@ def save_nav_graph(ng: NavGraph, path: str | Path, key: str) -> Path:
         "corner_offsets": {p: off for p, (_, off) in ng.corners.items()},
         "stats": ng.stats,
     }
-    buf = io.BytesIO()
-    np.savez_compressed(
-        buf,
-        meta=np.array(json.dumps(meta)),
-        corner_prev=corner_prev,
-        corner_next=corner_next,
-        edge_i=np.array([e[0] for e in edges], dtype=np.int64),
-        edge_j=np.array([e[1] for e in edges], dtype=np.int64),
-        edge_length=np.array([e[2]["length"] for e in edges], dtype=float),
-        edge_weight=np.array([e[2]["weight"] for e in edges], dtype=float),
-        edge_crossing=np.array([e[2]["crossing"] for e in edges], dtype=bool),
+    arrays = {
+        "corner_prev": corner_prev,
+        "corner_next": corner_next,
+        "edge_i": np.array([e[0] for e in edges], dtype=np.int64),
+        "edge_j": np.array([e[1] for e in edges], dtype=np.int64),
+        "edge_length": np.array([e[2]["length"] for e in edges], dtype=float),
+        "edge_weight": np.array([e[2]["weight"] for e in edges], dtype=float),
+        "edge_crossing": np.array([e[2]["crossing"] for e in edges], dtype=bool),
         **{name: getattr(ng, name) for name in _NODE_ARRAYS},
-    )
-    return write_bytes_atomic(path, buf.getvalue(), outside_set=True)  # a side file, not a result
+    }
+    return write_npz(path, key, meta, arrays)
 
 
 def load_nav_graph(path: str | Path, garment: Garment, free: FreeSpace, key: str) -> NavGraph | None:
     """The cached graph at ``path`` if it exists and was stored under ``key``; else None."""
-    try:
-        with np.load(Path(path), allow_pickle=False) as data:
-            meta = json.loads(str(data["meta"]))
-            if meta.get("key") != key:
-                return None
-            arrays: dict[str, Any] = {name: np.array(data[name]) for name in _NODE_ARRAYS}
-            prev, nxt = np.array(data["corner_prev"]), np.array(data["corner_next"])
-            edges = [np.array(data[n]) for n in ("edge_i", "edge_j", "edge_length", "edge_weight", "edge_crossing")]
-    except (OSError, ValueError, KeyError, json.JSONDecodeError):
+    found = read_npz(path, key, (*_NODE_ARRAYS, "corner_prev", "corner_next", *_EDGE_ARRAYS))
+    if found is None:
         return None
+    meta, stored = found
+    arrays: dict[str, Any] = {name: stored[name] for name in _NODE_ARRAYS}
+    prev, nxt = stored["corner_prev"], stored["corner_next"]
+    edges = [stored[n] for n in _EDGE_ARRAYS]
     seams = tuple(sorted(garment.seams, key=lambda s: s.name))
     pieces = tuple(meta["pieces"])
     if [s.name for s in seams] != meta["seams"] or pieces != tuple(p.name for p in garment.pieces):
