@@ -92,8 +92,8 @@ def load_cached_drape(path: str | Path, key: str, source: str) -> Drape | None:
         return None
     meta, a = found
     try:
-        topology = UVTopology(*(a[name] for name in _TOPOLOGY_ARRAYS[:3]), int(meta["n_islands"]),
-                              *(a[name] for name in _TOPOLOGY_ARRAYS[3:]))
+        topology = UVTopology(uv_vertex=a["uv_vertex"], neighbor=a["neighbor"], island=a["island"],
+                              n_islands=int(meta["n_islands"]), boundary=a["boundary"], mate=a["mate"])
         w, h = (float(v) for v in meta["sheet_size_mm"])
         return Drape(
             **{name: readonly_array(a[name]) for name in _MESH_ARRAYS},

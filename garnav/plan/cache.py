@@ -12,11 +12,11 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Any
 
-import networkx as nx
 import numpy as np
 
 from garnav.model import Garment, Robot
 from garnav.npzcache import cache_file, content_key, read_npz, write_npz
+from garnav.plan.edgegraph import EdgeGraph
 from garnav.plan.freespace import FreeSpace
 from garnav.plan.navgraph import NavGraph, seam_run_points
 from garnav.plan.visgraph import Corners
@@ -46,7 +46,7 @@ def cache_path(folder: str | Path, key: str) -> Path:
 
 def save_nav_graph(ng: NavGraph, path: str | Path, key: str) -> Path:
     """Write the graph of ``ng`` to ``path`` (npz) under ``key``."""
-    edges = sorted(ng.graph.edges(data=True))
+    g = ng.graph
     corner_prev = np.zeros_like(ng.xy)
     corner_next = np.zeros_like(ng.xy)
     for c, off in ng.corners.values():
@@ -65,11 +65,11 @@ def save_nav_graph(ng: NavGraph, path: str | Path, key: str) -> Path:
     arrays = {
         "corner_prev": corner_prev,
         "corner_next": corner_next,
-        "edge_i": np.array([e[0] for e in edges], dtype=np.int64),
-        "edge_j": np.array([e[1] for e in edges], dtype=np.int64),
-        "edge_length": np.array([e[2]["length"] for e in edges], dtype=float),
-        "edge_weight": np.array([e[2]["weight"] for e in edges], dtype=float),
-        "edge_crossing": np.array([e[2]["crossing"] for e in edges], dtype=bool),
+        "edge_i": g.i,
+        "edge_j": g.j,
+        "edge_length": g.length,
+        "edge_weight": g.weight,
+        "edge_crossing": g.crossing,
         **{name: getattr(ng, name) for name in _NODE_ARRAYS},
     }
     return write_npz(path, key, meta, arrays)
@@ -96,15 +96,10 @@ def load_nav_graph(path: str | Path, garment: Garment, free: FreeSpace, key: str
     piece_idx = {p: i for i, p in enumerate(pieces)}
     portal_nodes = {p: np.nonzero((arrays["node_piece"] == piece_idx[p]) & (arrays["portal_seam"] >= 0))[0] for p in pieces}
     approach_nodes = {p: np.nonzero((arrays["node_piece"] == piece_idx[p]) & (arrays["approach_of"] >= 0))[0] for p in pieces}
-    g = nx.Graph()
-    g.add_nodes_from(range(len(arrays["xy"])))
-    i, j, ln, w, cr = edges
-    # .tolist() gives the same Python ints, floats and bools as int()/float()/bool() per element,
-    # without a numpy scalar per value (the graph of the demo has ~50,000 edges)
-    g.add_edges_from(
-        (a, b, {"length": c, "weight": d, "crossing": e})
-        for a, b, c, d, e in zip(i.tolist(), j.tolist(), ln.tolist(), w.tolist(), cr.tolist(), strict=True)
-    )
+    try:
+        g = EdgeGraph(len(arrays["xy"]), *edges)
+    except ValueError:  # edges out of order or out of range: not a graph this module wrote
+        return None
     return NavGraph(
         garment=garment,
         free=free,

@@ -82,7 +82,7 @@ def explain_no_route(planner, start: PiecePoint, goals) -> str:
     # join components through every valid portal pair
     for n in np.nonzero((ng.portal_seam >= 0) & (ng.portal_side == 0))[0]:
         for m in ng.graph.neighbors(int(n)):
-            if ng.graph[int(n)][m]["crossing"]:
+            if ng.graph.is_crossing(int(n), m):
                 pa, pb = ng.pieces[ng.node_piece[n]], ng.pieces[ng.node_piece[m]]
                 ka, kb = _component_of(comps[pa], ng.xy[n]), _component_of(comps[pb], ng.xy[m])
                 if ka >= 0 and kb >= 0:

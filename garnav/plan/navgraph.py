@@ -12,18 +12,19 @@ space, its portals, and the approach points of those portals (see :class:`NavGra
   seam's crossing cost.
 
 In-piece edge weights are length + soft-zone surcharge ((cost_factor − 1) × length inside). Edges
-are added in sorted order so that searches are reproducible.
+are kept in sorted order as arrays (:class:`~garnav.plan.edgegraph.EdgeGraph`) so that searches
+are reproducible.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass, field
 
-import networkx as nx
 import numpy as np
 import shapely
 
 from garnav.model import Garment
+from garnav.plan.edgegraph import EdgeGraph
 from garnav.plan.freespace import FreeSpace, PieceFreeSpace
 from garnav.plan.portals import (
     SeamSides,
@@ -102,7 +103,7 @@ class NavGraph:
     portal_t : (N,) float, seam fraction (nan unless a portal)
     portal_tan, portal_in : (N, 2) seam tangent / inward normal at portals (0 elsewhere)
     approach_of : (N,) int, the portal an approach point belongs to (−1 otherwise)
-    graph : networkx.Graph with ``weight`` (cost), ``length`` and ``crossing`` on every edge
+    graph : EdgeGraph with ``weight`` (cost), ``length`` and ``crossing`` of every edge
     corners : dict piece → (Corners, first node id)
     portal_nodes, approach_nodes : dict piece → node ids
     intervals : dict seam name → free fraction intervals
@@ -122,7 +123,7 @@ class NavGraph:
     portal_tan: np.ndarray
     portal_in: np.ndarray
     approach_of: np.ndarray
-    graph: nx.Graph
+    graph: EdgeGraph
     corners: dict[str, tuple[Corners, int]]
     portal_nodes: dict[str, np.ndarray]
     approach_nodes: dict[str, np.ndarray]
@@ -131,18 +132,14 @@ class NavGraph:
     approach_mm: float
     run_points: dict[str, tuple[np.ndarray, np.ndarray]] = field(default_factory=dict)
     stats: dict = field(default_factory=dict)
-    _adjacency: list[list[tuple[int, float]]] | None = field(default=None, repr=False, compare=False)
 
     def piece_index(self, piece: str) -> int:
         return self.pieces.index(piece)
 
     def neighbours(self, node: int) -> list[tuple[int, float]]:
-        """(neighbour, cost) pairs of a node, in insertion (sorted) order; the list is built once
-        for all nodes on first use and owned by this graph."""
-        if self._adjacency is None:
-            g = self.graph
-            self._adjacency = [[(m, d["weight"]) for m, d in g.adj[n].items()] for n in range(g.number_of_nodes())]
-        return self._adjacency[node]
+        """(neighbour, cost) pairs of a node, in ascending neighbour order; the lists are built
+        once for all nodes on first use and owned by the graph (:meth:`EdgeGraph.adjacency`)."""
+        return self.graph.adjacency()[node]
 
     def is_corner(self, node: int) -> bool:
         """Whether a node is a corner (not a portal or approach point)."""
@@ -284,7 +281,7 @@ def place_nodes(
         portal_tan=arr("tan", (-1, 2)) if cols["tan"] else np.zeros((0, 2)),
         portal_in=arr("in", (-1, 2)) if cols["in"] else np.zeros((0, 2)),
         approach_of=arr("of", None, int),
-        graph=nx.Graph(),
+        graph=EdgeGraph.from_edges(len(cols["xy"]), []),
         corners=corners,
         portal_nodes=portal_nodes,
         approach_nodes=approach_nodes,
@@ -312,17 +309,13 @@ def graph_edges(ng: NavGraph) -> list[tuple[int, int, float, float, bool]]:
 
 
 def assemble_graph(ng: NavGraph, edges: list[tuple[int, int, float, float, bool]]) -> None:
-    """Fill ``ng.graph`` (sorted, one edge per node pair: the cheaper, since a seam joining a piece
+    """Set ``ng.graph`` (sorted, one edge per node pair: the cheaper, since a seam joining a piece
     to itself may give a pair both an in-piece link and a crossing) and ``ng.stats``."""
     best: dict[tuple[int, int], tuple[float, float, bool]] = {}
     for i, j, ln, w, crossing in edges:
         if (i, j) not in best or w < best[(i, j)][1]:
             best[(i, j)] = (ln, w, crossing)
-    g = ng.graph
-    g.add_nodes_from(range(len(ng.xy)))
-    g.add_edges_from(
-        (i, j, {"length": ln, "weight": w, "crossing": c}) for (i, j), (ln, w, c) in sorted(best.items())
-    )
+    g = ng.graph = EdgeGraph.from_edges(len(ng.xy), [(i, j, ln, w, c) for (i, j), (ln, w, c) in sorted(best.items())])
     ng.stats = {
         "nodes": g.number_of_nodes(),
         "edges": g.number_of_edges(),

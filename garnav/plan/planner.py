@@ -252,7 +252,7 @@ class Planner:
             base = ng.neighbours(n) if n < n0 else []
             if banned and n < n0 and int(ng.portal_seam[n]) in banned:
                 s = ng.portal_seam[n]
-                base = [(m, w) for m, w in base if not (m < n0 and ng.portal_seam[m] == s and ng.graph[n][m]["crossing"])]
+                base = [(m, w) for m, w in base if not (m < n0 and ng.portal_seam[m] == s and ng.graph.is_crossing(n, m))]
             return base + sorted(extra.get(n, []))
 
         found = astar(neighbors, {n0: 0.0}, set(range(n0 + 1, n0 + 1 + len(goals))), h)
@@ -309,7 +309,7 @@ class Planner:
             out = []
             for m, w in (ng.neighbours(n) if n < n0 else []):
                 s = ng.portal_seam[n]
-                if s >= 0 and m < n0 and ng.portal_seam[m] == s and ng.graph[n][m]["crossing"]:
+                if s >= 0 and m < n0 and ng.portal_seam[m] == s and ng.graph.is_crossing(n, m):
                     if j < steps and sequence[j] == (int(s), int(iv[n]), int(ng.portal_side[n])):
                         out.append((m * width + j + 1, w))
                     continue
@@ -412,7 +412,7 @@ class Planner:
         legs: list[tuple[str, list[np.ndarray]]] = [(start.piece, [start.xy])]
         crossings = []
         for u, v in zip(path[:-1], path[1:], strict=False):
-            if u < n0 and v < n0 and ng.graph[u][v]["crossing"]:
+            if u < n0 and v < n0 and ng.graph.is_crossing(u, v):
                 crossings.append((int(ng.portal_seam[u]), float(ng.portal_t[u]), int(ng.portal_side[u])))
                 legs.append((ng.pieces[ng.node_piece[v]], [ng.xy[v]]))
             else:

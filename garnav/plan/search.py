@@ -59,12 +59,11 @@ class PortalGraph:
             rows.append(np.searchsorted(self.portals, nodes[a]))
             cols.append(np.searchsorted(self.portals, nodes[b]))
             vals.append(d)
-        crossing = [(n, m, d["weight"]) for n, m, d in ng.graph.edges(data=True) if d["crossing"]]
-        if crossing:
-            n, m, w = (np.array(x) for x in zip(*crossing, strict=False))
-            rows.append(np.searchsorted(self.portals, n))
-            cols.append(np.searchsorted(self.portals, m))
-            vals.append(w.astype(float))
+        g = ng.graph
+        if np.any(g.crossing):
+            rows.append(np.searchsorted(self.portals, g.i[g.crossing]))
+            cols.append(np.searchsorted(self.portals, g.j[g.crossing]))
+            vals.append(g.weight[g.crossing])
         p = len(self.portals)
         if rows:
             r = np.concatenate(rows)
