@@ -55,7 +55,8 @@ def write_npz(path: str | Path, key: str, meta: dict[str, Any], arrays: dict[str
     if "meta" in arrays:
         raise ValueError("'meta' is the name of the cache file's own entry")
     buf = io.BytesIO()
-    np.savez_compressed(buf, meta=np.array(json.dumps({**meta, "key": key})), **arrays)
+    entries: dict[str, Any] = {"meta": np.array(json.dumps({**meta, "key": key})), **arrays}
+    np.savez_compressed(buf, **entries)
     return write_bytes_atomic(path, buf.getvalue(), outside_set=True)
 
 
