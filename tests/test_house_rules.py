@@ -16,7 +16,7 @@ MAX_LINES = 600
 # Low to high (DEVELOPERS.md): a module may import from its own package and from lower layers only.
 LAYERS = [
     {"errors", "polyline", "cautions"},
-    {"atomic", "textio"},
+    {"atomic", "textio", "npzcache"},
     {"mechanics.profile", "uncertainty.model", "zones.model", "poses.model"},  # spec sub-tables (model and spec read them)
     {"model"},
     {"garnav"},  # the package's own __init__ (re-exports the model)
