@@ -73,3 +73,21 @@ def test_later_queries_reuse_rows_and_get_the_same_routes():
         assert r2.seams_crossed == r3.seams_crossed
         assert (c2.certified, c2.windows_added) == (c3.certified, c3.windows_added)
     assert store.hits > hits
+
+
+def test_min_directed_keeps_the_least_of_duplicates():
+    """Against a dense numpy matrix filled entry by entry with np.minimum (the reference)."""
+    from garnav.plan.sequence_bound import min_directed
+
+    rng = np.random.default_rng(11)
+    for dup in (False, True):
+        size = 40
+        keys = rng.choice(size * size, 300, replace=dup)
+        r, c = keys // size, keys % size
+        v = rng.uniform(0.5, 9.0, len(keys))
+        dense = np.full((size, size), np.inf)
+        np.minimum.at(dense, (r, c), v)
+        got = min_directed(r, c, v, size).toarray()
+        got[got == 0] = np.inf  # absent entries (every value here is positive)
+        assert np.array_equal(got, dense)
+        assert dup == (len(np.unique(keys)) < len(keys))

@@ -54,6 +54,9 @@ def min_directed(r: np.ndarray, c: np.ndarray, v: np.ndarray, size: int) -> sp.c
     """Directed (size, size) sparse matrix keeping the smallest value of duplicate entries."""
     if not len(r):
         return sp.csr_matrix((size, size))
+    plain = sp.csr_matrix((v, (r, c)), shape=(size, size))  # sums duplicates: right when there are none
+    if plain.nnz == len(v):
+        return plain
     order = np.lexsort((v, c, r))
     r, c, v = r[order], c[order], v[order]
     first = np.ones(len(r), dtype=bool)
