@@ -41,6 +41,7 @@ from scipy.sparse.csgraph import dijkstra
 
 from garnav.plan.points import PiecePoint
 from garnav.plan.refine import plan_legs, refine
+from garnav.plan.side_rows import SideRows
 from garnav.plan.sequence_bound import MAX_LABELS, SPLIT, LabelSearch, SequenceBound, min_directed, to_goals
 from garnav.plan.windows import MovingPoints, pair_links
 
@@ -392,6 +393,8 @@ class SequenceSearch:
         self._graph: WindowGraph | None = None
         self._pairs: _PortalPairs | None = None
         self._layers: dict[tuple, tuple] = {}
+        #: bounds between split window sides, kept for later queries (garnav.plan.side_rows)
+        self.side_rows = SideRows()
 
     @property
     def graph(self) -> WindowGraph:
@@ -436,7 +439,7 @@ class SequenceSearch:
                 no_seam = min(no_seam, cost)
                 if cost < upper:
                     upper, best = cost, (legs, [], cost, k)
-        bound = SequenceBound(wg, start, list(goals), to_pre, goal_post)
+        bound = SequenceBound(wg, start, list(goals), to_pre, goal_post, rows=self.side_rows)
         floor = -math.inf  # the best window-graph bound of the rounds (each is admissible)
         reason = ""
         rounds = 0
