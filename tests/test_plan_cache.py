@@ -41,7 +41,11 @@ def test_cache_misses_on_change_and_survives_damage(tmp_path):
     p2 = Planner(other, cache_dir=tmp_path)
     assert p2.cache_file != p1.cache_file
     assert "cached" not in Planner(g, extra_clearance_mm=1.0, cache_dir=tmp_path).nav.stats
+    whole = p1.cache_file.read_bytes()
     p1.cache_file.write_bytes(b"not an npz file")
     p3 = Planner(g, cache_dir=tmp_path)
     assert "cached" not in p3.nav.stats
+    assert Planner(g, cache_dir=tmp_path).nav.stats.get("cached")
+    p1.cache_file.write_bytes(whole[: len(whole) // 2])  # a truncated archive (zipfile.BadZipFile)
+    assert "cached" not in Planner(g, cache_dir=tmp_path).nav.stats
     assert Planner(g, cache_dir=tmp_path).nav.stats.get("cached")
