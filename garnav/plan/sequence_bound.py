@@ -208,6 +208,10 @@ class SequenceBound:
         self._refresh()
         return made
 
+    def span(self, i: int) -> tuple[float, float]:
+        """Seam fractions (t0, t1) of side ``i``'s window (both sides of a window share them)."""
+        return self._span(i if self._sides[i].side == 0 else self._partner[i])
+
     def _span(self, a: int) -> tuple[float, float]:
         got = self._spans.get(a)
         if got is None:
