@@ -89,17 +89,23 @@ def cross_query(case, planner, dense, region, ref, start, goal) -> dict[str, Any
         row["ref_b_mm"] = ref.query(S.to_unfolded(case, start[0], start[1:]), S.to_unfolded(case, goal[0], goal[1:]))[0]
         return row
     found = planner.last_sequences
-    (ref_a, dt_a) = timed(lambda: dense.route(start, goal))
+    try:
+        ref_a, dt_a = timed(lambda: dense.route(start, goal))
+    except Exception as exc:  # the 2 mm planner found nothing: (b) alone decides
+        ref_a, dt_a = None, None
+        row["ref_a_error"] = _err(exc)
     (ref_b, path_b), dt_b = timed(lambda: ref.query(S.to_unfolded(case, start[0], start[1:]), S.to_unfolded(case, goal[0], goal[1:])))
-    best = min(ref_a.cost, ref_b)
+    a_cost = ref_a.cost if ref_a is not None else float("inf")
+    best = min(a_cost, ref_b)
     row.update({
         "query_s": dt, "ref_a_s": dt_a, "ref_b_s": dt_b,
-        "cost": route.cost, "length_mm": route.length_mm, "ref_a_cost": ref_a.cost, "ref_b_mm": ref_b,
+        "cost": route.cost, "length_mm": route.length_mm, "ref_a_cost": a_cost, "ref_b_mm": ref_b,
         "excess_rel": (route.cost - best) / best,
-        "crossings": len(route.crossings), "seams": list(route.seams_crossed), "ref_a_seams": list(ref_a.seams_crossed),
+        "crossings": len(route.crossings), "seams": list(route.seams_crossed),
+        "ref_a_seams": list(ref_a.seams_crossed) if ref_a is not None else None,
         "ref_b_points": int(len(path_b)),
         "in_unfolded_region": R.path_in_region(region, S.route_unfolded(case, route), VALID_TOL_MM),
-        "ref_a_in_unfolded_region": R.path_in_region(region, S.route_unfolded(case, ref_a), VALID_TOL_MM),
+        "ref_a_in_unfolded_region": R.path_in_region(region, S.route_unfolded(case, ref_a), VALID_TOL_MM) if ref_a is not None else None,
     })
     if found is not None:
         row.update({"certified": bool(found.certified), "reason": found.reason, "lower_mm": found.lower_mm,
