@@ -34,6 +34,7 @@ import scipy.sparse as sp
 from scipy.sparse.csgraph import dijkstra
 
 from garnav.plan.points import PiecePoint
+from garnav.plan.side_rows import SideRows
 from garnav.plan.windows import MovingPoints, corner_links, pair_links
 
 __all__ = ["SequenceBound", "LabelSearch", "to_goals", "min_directed", "SPLIT", "MIN_WINDOW_MM", "MAX_LABELS"]
@@ -53,6 +54,9 @@ def min_directed(r: np.ndarray, c: np.ndarray, v: np.ndarray, size: int) -> sp.c
     """Directed (size, size) sparse matrix keeping the smallest value of duplicate entries."""
     if not len(r):
         return sp.csr_matrix((size, size))
+    plain = sp.csr_matrix((v, (r, c)), shape=(size, size))  # sums duplicates: right when there are none
+    if plain.nnz == len(v):
+        return plain
     order = np.lexsort((v, c, r))
     r, c, v = r[order], c[order], v[order]
     first = np.ones(len(r), dtype=bool)
@@ -103,8 +107,10 @@ class SequenceBound:
     ``added`` counts the windows made by splitting.
     """
 
-    def __init__(self, wg, start: PiecePoint, goals: list[PiecePoint], to_pre: np.ndarray, goal_post: list[np.ndarray]):
+    def __init__(self, wg, start: PiecePoint, goals: list[PiecePoint], to_pre: np.ndarray, goal_post: list[np.ndarray],
+                 rows: SideRows | None = None):
         self.ss = ss = wg.ss
+        self.rows = rows
         self.start, self.goals = start, list(goals)
         pts, windows = ss.base.points, ss.base.windows
         ng = ss.nav
@@ -202,6 +208,10 @@ class SequenceBound:
         self._refresh()
         return made
 
+    def span(self, i: int) -> tuple[float, float]:
+        """Seam fractions (t0, t1) of side ``i``'s window (both sides of a window share them)."""
+        return self._span(i if self._sides[i].side == 0 else self._partner[i])
+
     def _span(self, a: int) -> tuple[float, float]:
         got = self._spans.get(a)
         if got is None:
@@ -209,9 +219,78 @@ class SequenceBound:
             got = self._spans[a] = (float(w.t0), float(w.t1))
         return got
 
+    def _name(self, i: int) -> tuple:
+        """Side ``i`` named as :class:`~garnav.plan.side_rows.SideRows` names it: (seam, side, t0, t1)."""
+        a = i if self._sides[i].side == 0 else self._partner[i]
+        return (self._sides[i].seam, self._sides[i].side, *self._span(a))
+
     def _rows(self, pi: int, new: list[int]) -> None:
         """Costs M[i, j] between the new sides ``new`` of piece ``pi`` and every active side of it
-        (and the query ends on it): one Dijkstra from the new sides' out-copies."""
+        (and the query ends on it): one Dijkstra from the new sides' out-copies, for the pairs the
+        planner's :class:`~garnav.plan.side_rows.SideRows` does not hold yet."""
+        ss = self.ss
+        ng, planner = ss.nav, ss.planner
+        name = ng.pieces[pi]
+        corners, _ = ng.corners[name]
+        pts, of, _ = self._points(new)  # corner links of every new point in one batch
+        q, n, w = corner_links(planner.free[name], corners, moving_of(pts))
+        for i in new:
+            self._sides[i].links = []
+        for a in range(len(pts)):
+            self._sides[of[a]].links.append((n[q == a], w[q == a]))
+        ids, old = self._mats.get(pi, (np.zeros(0, dtype=int), np.zeros((0, 0))))
+        targets = np.nonzero(self.active & (self.piece == pi))[0].tolist()
+        q_ends = [(m, pp) for m, pp in enumerate([self.start, *self.goals]) if pp.piece == name]
+        # the pairs (new side, target side) already known to the planner; a side to itself is inf
+        if self.rows is not None:
+            id_new = self.rows.ids([self._name(i) for i in new])
+            id_tgt = self.rows.ids([self._name(j) for j in targets])
+            tgt = self.rows.get(id_new, id_tgt)
+        else:
+            tgt = np.full((len(new), len(targets)), np.nan)
+        tgt[np.array(new)[:, None] == np.array(targets, dtype=int)[None, :]] = np.inf
+        miss = np.isnan(tgt)
+        src_sides = [a for a in range(len(new)) if q_ends or miss[a].any()]
+        dst_sides = [b for b in range(len(targets)) if miss[src_sides, b].any()] if src_sides else []
+        if src_sides:
+            d, heads_cols, end_cols = self._dijkstra(pi, [new[a] for a in src_sides], [targets[b] for b in dst_sides],
+                                                     miss[np.ix_(src_sides, dst_sides)], q_ends)
+            got = d[:, heads_cols]  # (src sides, dst sides)
+            sub = tgt[np.ix_(src_sides, dst_sides)]
+            fill = np.isnan(sub)
+            sub[fill] = got[fill]
+            tgt[np.ix_(src_sides, dst_sides)] = sub
+            if self.rows is not None and fill.any():
+                ra, rb = np.nonzero(fill)
+                self.rows.put(id_new[np.array(src_sides)[ra]], id_tgt[np.array(dst_sides)[rb]], sub[ra, rb])
+            src_new = [new[a] for a in src_sides]
+            for m, (g, _) in enumerate(q_ends):
+                col = d[:, end_cols[m]]
+                if g == 0:
+                    self._to_pre[src_new] = col  # start → pre(i) = post(i) → start, reversed
+                else:
+                    self._goal_post[g - 1][src_new] = col
+        # grow the piece's matrix: old sides keep their rows, the new ones get theirs (symmetric)
+        pos = {t: x for x, t in enumerate(targets)}
+        all_ids = np.concatenate([ids, np.array(new, dtype=int)])
+        n_old = len(ids)
+        big = np.full((len(all_ids), len(all_ids)), np.inf)
+        big[:n_old, :n_old] = old
+        tcols = np.array([pos.get(int(t), -1) for t in all_ids])
+        have = tcols >= 0
+        rows = np.full((len(new), len(all_ids)), np.inf)
+        rows[:, have] = tgt[:, tcols[have]]
+        rows[:, n_old:] = np.minimum(rows[:, n_old:], rows[:, n_old:].T)
+        big[n_old:, :] = rows
+        big[:, n_old:] = rows.T
+        np.fill_diagonal(big, np.inf)  # crossing back at the same window side gains nothing
+        self._mats[pi] = (all_ids, big)
+
+    def _dijkstra(self, pi: int, src: list[int], dst: list[int], need: np.ndarray, q_ends: list):
+        """Distances from the window points of sides ``src`` over piece ``pi``'s corners to the
+        window points of sides ``dst`` and to the query ends ``q_ends`` ([(index, PiecePoint)]).
+        Direct links are tested only between sides ``src[a]``, ``dst[b]`` with ``need[a, b]``.
+        Returns (d (len(src), size), the columns of dst's window points, the columns of the ends)."""
         ss = self.ss
         ng, planner = ss.nav, ss.planner
         name = ng.pieces[pi]
@@ -219,19 +298,10 @@ class SequenceBound:
         corners, off = ng.corners[name]
         k = len(corners)
         ell = ng.approach_mm
-        pts, of, end = self._points(new)  # corner links of every new point in one batch
-        q, n, w = corner_links(fs, corners, moving_of(pts))
-        for i in new:
-            self._sides[i].links = []
-        for a in range(len(pts)):
-            self._sides[of[a]].links.append((n[q == a], w[q == a]))
-        ids, old = self._mats.get(pi, (np.zeros(0, dtype=int), np.zeros((0, 0))))
-        targets = np.nonzero(self.active & (self.piece == pi))[0].tolist()
-        # nodes: corners, out-copies of the new sides' points, in-copies of the targets' points, query ends
-        src_pts, src_of, src_end = self._points(new)
-        dst_pts, dst_of, dst_end = self._points(targets)
+        # nodes: corners, out-copies of the sources' points, in-copies of the targets' points, query ends
+        src_pts, src_of, src_end = self._points(src)
+        dst_pts, dst_of, dst_end = self._points(dst)
         ns, nt = len(src_pts), len(dst_pts)
-        q_ends = [(m, pp) for m, pp in enumerate([self.start, *self.goals]) if pp.piece == name]
         size = k + ns + nt + len(q_ends)
         cm = planner.corner_matrix(name).tocoo()
         r, c, v = [cm.row, cm.col], [cm.col, cm.row], [cm.data, cm.data]
@@ -253,14 +323,20 @@ class SequenceBound:
                 r.append(np.array([k + ns + b]))
                 c.append(np.array([k + ns + b - dst_end[b]]))
                 v.append(np.array([ell]))
+        src_slot = {side: x for x, side in enumerate(src)}
+        dst_slot = {side: x for x, side in enumerate(dst)}
+        sa = np.array([src_slot[i] for i in src_of], dtype=int)
+        db = np.array([dst_slot[j] for j in dst_of], dtype=int)
         ga = np.repeat(np.arange(ns), nt)
         gb = np.tile(np.arange(nt), ns)
-        so, do = np.array(src_of)[ga], np.array(dst_of)[gb]
+        so, do = np.array(src_of, dtype=int)[ga], np.array(dst_of, dtype=int)[gb]
         se, de = np.array(src_end)[ga], np.array(dst_end)[gb]
         run_s = self.seam[so] * 2 + self.side[so] if len(so) else so
         run_d = self.seam[do] * 2 + self.side[do] if len(do) else do
         # as garnav.plan.exact: no link between a side's own points, nor between two window points of one run
         keep = (so != do) & ~((se == 0) & (de == 0) & (run_s == run_d))
+        if len(ga):
+            keep &= need[sa[ga], db[gb]]
         ia, ib, w = pair_links(fs, moving_of(src_pts), moving_of(dst_pts), (ga[keep], gb[keep]))
         r.append(k + ia)
         c.append(k + ns + ib)
@@ -280,28 +356,8 @@ class SequenceBound:
         heads = [k + a for a in range(ns) if src_end[a] == 0]
         d = dijkstra(mat, directed=True, indices=heads)
         d = np.maximum(d - size * _EPS, 0.0)
-        tgt = d[:, [k + ns + b for b in range(nt) if dst_end[b] == 0]]  # (new, targets)
-        for m, (g, _) in enumerate(q_ends):
-            col = d[:, k + ns + nt + m]
-            if g == 0:
-                self._to_pre[new] = col  # start → pre(i) = post(i) → start, reversed
-            else:
-                self._goal_post[g - 1][new] = col
-        # grow the piece's matrix: old sides keep their rows, the new ones get theirs (symmetric)
-        pos = {t: x for x, t in enumerate(targets)}
-        all_ids = np.concatenate([ids, np.array(new, dtype=int)])
-        n_old = len(ids)
-        big = np.full((len(all_ids), len(all_ids)), np.inf)
-        big[:n_old, :n_old] = old
-        tcols = np.array([pos.get(int(t), -1) for t in all_ids])
-        have = tcols >= 0
-        rows = np.full((len(new), len(all_ids)), np.inf)
-        rows[:, have] = tgt[:, tcols[have]]
-        rows[:, n_old:] = np.minimum(rows[:, n_old:], rows[:, n_old:].T)
-        big[n_old:, :] = rows
-        big[:, n_old:] = rows.T
-        np.fill_diagonal(big, np.inf)  # crossing back at the same window side gains nothing
-        self._mats[pi] = (all_ids, big)
+        cols = [k + ns + b for b in range(nt) if dst_end[b] == 0]
+        return d, cols, [k + ns + nt + m for m in range(len(q_ends))]
 
     def _points(self, sides: list[int]) -> tuple[list, list[int], list[int]]:
         pts, of, end = [], [], []

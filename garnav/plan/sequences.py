@@ -41,6 +41,8 @@ from scipy.sparse.csgraph import dijkstra
 
 from garnav.plan.points import PiecePoint
 from garnav.plan.refine import plan_legs, refine
+from garnav.plan.restart import refine_from_windows
+from garnav.plan.side_rows import SideRows
 from garnav.plan.sequence_bound import MAX_LABELS, SPLIT, LabelSearch, SequenceBound, min_directed, to_goals
 from garnav.plan.windows import MovingPoints, pair_links
 
@@ -392,6 +394,8 @@ class SequenceSearch:
         self._graph: WindowGraph | None = None
         self._pairs: _PortalPairs | None = None
         self._layers: dict[tuple, tuple] = {}
+        #: bounds between split window sides, kept for later queries (garnav.plan.side_rows)
+        self.side_rows = SideRows()
 
     @property
     def graph(self) -> WindowGraph:
@@ -408,9 +412,14 @@ class SequenceSearch:
         upper = math.inf if best is None else float(best[2])
         ng = planner.nav
         tried: set = set()
+        # crossings of each refined sequence, and the sequences refined again from a bound path
+        solutions: dict[tuple, list] = {}
+        restarted: set = set()
         if best is not None:
             tried.add(sequence_key(ng, best[3], best[1]))
+            solutions[sequence_key(ng, best[3], best[1])] = best[1]
         self._solved = 0
+        self._restarts = 0
         self._gain = float(gain)
         self._edges: dict[int, list] = {}
         self._portal: dict[tuple, tuple | None] = {}
@@ -436,7 +445,7 @@ class SequenceSearch:
                 no_seam = min(no_seam, cost)
                 if cost < upper:
                     upper, best = cost, (legs, [], cost, k)
-        bound = SequenceBound(wg, start, list(goals), to_pre, goal_post)
+        bound = SequenceBound(wg, start, list(goals), to_pre, goal_post, rows=self.side_rows)
         floor = -math.inf  # the best window-graph bound of the rounds (each is admissible)
         reason = ""
         rounds = 0
@@ -445,18 +454,27 @@ class SequenceSearch:
             self._round = rounds
             h_pre, h_post = to_goals(bound)
             floor = max(floor, bound.floor(h_pre))
-            labels = LabelSearch(bound, bound.to_pre, bound.goal_post, h_pre, h_post, upper, tried, self.rel_tol)
+            # a refined sequence is popped once more, for its bound path (see _restart)
+            labels = LabelSearch(bound, bound.to_pre, bound.goal_post, h_pre, h_post, upper,
+                                 tried - (set(solutions) - restarted), self.rel_tol)
             pending: dict[int, None] = {}  # window sides on bound paths still below U(1 - cert_tol)
             stuck = False
             for lb, k, path in labels:  # complete seam sequences in increasing order of bound
                 if k < 0:
                     break  # every sequence not popped costs at least U (branch and bound)
                 seq = tuple((int(bound.seam[i]), int(bound.interval[i]), int(bound.side[i])) for i in path)
-                found = self._solve(start, goals, k, seq, upper, force=False)
+                key = (k, seq)
+                found = None if key in solutions else self._solve(start, goals, k, seq, upper, force=False)
                 if found is not None:
-                    tried.add((k, seq))
+                    tried.add(key)
+                    solutions[key] = found[1]
                     if found[2] < upper:
                         upper, best = found[2], (found[0], found[1], found[2], k)
+                        labels.upper = upper
+                if key in solutions:
+                    again = self._restart(start, goals[k], key, path, bound, solutions, restarted, upper)
+                    if again is not None and again[2] < upper:
+                        upper, best = again[2], (again[0], again[1], again[2], k)
                         labels.upper = upper
                     continue
                 if lb >= upper * (1.0 - self.cert_tol):
@@ -536,6 +554,22 @@ class SequenceSearch:
         legs, crossings, cost = refine(planner, legs, crossings)
         self._gain = max(self._gain, graph_cost - cost)
         return legs, crossings, cost
+
+    def _restart(self, start: PiecePoint, goal: PiecePoint, key: tuple, path: list[int], bound: SequenceBound,
+                 solutions: dict, restarted: set, upper: float):
+        """Sequence ``key`` refined once more from its bound path ``path``
+        (:func:`garnav.plan.restart.refine_from_windows`), at most ``max_sequences`` times per
+        query: (legs, crossings, cost) or None. The caller keeps the cheaper result."""
+        if key in restarted or self._restarts >= self.max_sequences:
+            return None
+        restarted.add(key)
+        got = refine_from_windows(self.planner, start, goal, solutions[key], path, bound, upper)
+        if got is None:
+            return None
+        self._restarts += 1
+        if got[1] is not None:
+            solutions[key] = got[1][1]
+        return got[1]
 
     def _reach(self, upper: float, cost: float, crossings: int) -> float:
         """Largest portal-route cost still refined: U plus twice the largest gain of refinement in
