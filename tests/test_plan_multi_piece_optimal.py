@@ -10,11 +10,12 @@ with the lower cost: then assert the optimum instead and move the case to the pa
 
 Causes (benchmarks/README.md, "Known misses"):
 
-* chain10_q*: A* on the 20 mm portals picks a route round the other side of some keep-outs; the
-  crossing refinement (coordinate descent) keeps that homotopy (no single crossing move gains),
-  and the branch and bound over seam sequences counts the sequence as solved, since the optimum
-  crosses the same (seam, free interval, side) sequence. With 10 mm or 5 mm portals A* starts in
-  the optimum's homotopy and garnav finds it.
+* chain10_q1, chain10_q2: near the goal the route passes the other side of a keep-out in strip 8
+  than the optimum, with the same (seam, free interval, side) sequence; the crossing refinement
+  (coordinate descent) gains nothing from there (no single crossing move helps), and the restart
+  from the bound path's windows (garnav/plan/restart.py) fixed the middle strips of these routes
+  but not that end. chain10_q0, q3 and q4 were misses of the same kind before that restart; they
+  are kept below as passing cases.
 * tiled10_q11: the optimum crosses the second seam in another free interval (34 mm wide, next to
   the corner where four pieces meet); the sequence search stops at its label budget before it
   pops any sequence (no crossing costs anything, so sequences going back and forth fill it).
@@ -38,12 +39,17 @@ pytestmark = pytest.mark.slow  # each builds a multi-piece planner and runs a 2â
 
 # (id, garment kind, pieces, start, goal, garnav cost mm, reference (b) mm, 2 mm-portal planner mm)
 MISSES = [
-    ("chain10_q0", "chain", 10, ('s0', 253.06529605833646, 149.78690834825562), ('s9', 70.66117940822653, 138.7378046175377), 2531.5095680593513, 2527.9536812196498, 2527.953679428201),
-    ("chain10_q1", "chain", 10, ('s0', 196.43131620367544, 138.63175848729645), ('s9', 215.09972772520968, 145.00318512010895), 2733.3263973703847, 2729.590734382194, 2729.5907325899325),
-    ("chain10_q2", "chain", 10, ('s0', 189.19158645133157, 77.69817247033134), ('s9', 121.31765197196191, 162.50418551203305), 2645.703353814451, 2642.837211745874, 2642.8372099570447),
-    ("chain10_q3", "chain", 10, ('s0', 20.276008364296324, 88.23442063436697), ('s9', 178.76835672362057, 55.87178016268117), 2870.508281194617, 2870.1475063676207, 2870.1475045729517),
-    ("chain10_q4", "chain", 10, ('s0', 38.62166521824933, 77.39678165795716), ('s9', 66.75467881231347, 69.37152898941768), 2736.891570737844, 2736.592216730436, 2736.592214935523),
+    ("chain10_q1", "chain", 10, ('s0', 196.43131620367544, 138.63175848729645), ('s9', 215.09972772520968, 145.00318512010895), 2729.770508739236, 2729.590734382194, 2729.5907325899325),
+    ("chain10_q2", "chain", 10, ('s0', 189.19158645133157, 77.69817247033134), ('s9', 121.31765197196191, 162.50418551203305), 2643.196228778513, 2642.837211745874, 2642.8372099570447),
     ("tiled10_q11", "tiled", 10, ('p0_2', 31.192444523604234, 106.08660553386323), ('p1_3', 148.73638361668094, 31.33540676792138), 344.1556279445934, 342.92589331692386, 342.9258930498772),
+]
+
+# former misses of the same benchmark (refinement kept in the wrong homotopy), now optimal:
+# (id, kind, pieces, start, goal, reference (b) mm)
+FIXED = [
+    ("chain10_q0", "chain", 10, ('s0', 253.06529605833646, 149.78690834825562), ('s9', 70.66117940822653, 138.7378046175377), 2527.9536812196498),
+    ("chain10_q3", "chain", 10, ('s0', 20.276008364296324, 88.23442063436697), ('s9', 178.76835672362057, 55.87178016268117), 2870.1475063676207),
+    ("chain10_q4", "chain", 10, ('s0', 38.62166521824933, 77.39678165795716), ('s9', 66.75467881231347, 69.37152898941768), 2736.592216730436),
 ]
 
 
@@ -74,3 +80,12 @@ def test_known_miss(setups, name, kind, k, start, goal, garnav_mm, ref_mm, dense
     # 2e-7 mm per crossing below the reference
     assert dense_mm == pytest.approx(ref_mm, abs=2e-7 * len(route.crossings) + 1e-9)
     assert route.cost > length * (1 + 1e-6)
+
+
+@pytest.mark.parametrize("name, kind, k, start, goal, ref_mm", FIXED, ids=[m[0] for m in FIXED])
+def test_former_miss_is_optimal(setups, name, kind, k, start, goal, ref_mm):
+    case, planner, ref = setups(kind, k)
+    route = planner.route(start, goal)
+    length, _ = ref.query(S.to_unfolded(case, start[0], start[1:]), S.to_unfolded(case, goal[0], goal[1:]))
+    assert length == pytest.approx(ref_mm, abs=1e-6)
+    assert route.cost <= length * (1 + 1e-6)  # observed: 7e-16 relative above, or below by 2e-7 mm per crossing
