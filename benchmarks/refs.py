@@ -5,6 +5,10 @@
 * :class:`GridAstarRef` — 8-connected grid on the rasterised free region, ``networkx.astar_path``.
 * :class:`NaiveVisibilityRef` — every pair of free-space vertices, one ``shapely.covers`` test each,
   then Dijkstra: the textbook O(n²) visibility graph.
+* :class:`TangentVisibilityRef` — the reduced (tangent) visibility graph of a free region: reflex
+  corners only, an edge where the segment is tangent at both ends and ``shapely.covers`` holds,
+  ``scipy.sparse.csgraph.dijkstra`` (Lozano-Pérez & Wesley 1979); reference (b) of the cross-seam
+  cases on the unfolded garment (:mod:`benchmarks.seam_garments`).
 * point location: ``scipy.spatial.Delaunay(uv).find_simplex`` and a ``shapely.STRtree`` query.
 * 3D length: potpourri3d's ``EdgeFlipGeodesicSolver`` (FlipOut, Sharp & Crane 2020).
 """
@@ -27,6 +31,7 @@ __all__ = [
     "PyvisgraphRef",
     "GridAstarRef",
     "NaiveVisibilityRef",
+    "TangentVisibilityRef",
     "region_vertices",
 ]
 
@@ -350,3 +355,143 @@ class NaiveVisibilityRef:
         while seq[-1] != s_id:
             seq.append(prev[seq[-1]])
         return pts[seq[::-1]]
+
+
+# --------------------------------------------------------------------------------------------
+# tangent (reduced) visibility graph
+
+
+def _cross(ax, ay, bx, by):
+    return ax * by - ay * bx
+
+
+class TangentVisibilityRef:
+    """Exact shortest paths in a polygonal free region by its reduced visibility graph.
+
+    Method (Lozano-Pérez & Wesley, "An algorithm for planning collision-free paths among polyhedral
+    obstacles", CACM 22(10), 1979; Latombe, *Robot Motion Planning*, 1991, §4.1): a shortest path
+    bends only at reflex corners of the free region (interior angle > 180°), and at such a corner
+    both region edges lie on one side of each path segment (the segment is *tangent* there). So:
+
+    * vertices: the reflex corners of every ring, each ring oriented with the region on its left
+      (``shapely.orient_polygons``: a right turn is a reflex corner);
+    * edges: the corner pairs tangent at both ends (numpy cross products, all pairs in row blocks)
+      whose segment the region covers (``shapely.covers`` on the prepared region, vectorised:
+      boundary contact allowed), weighted by length;
+    * a query links start and goal to the corners they see (tangent at the corner end), adds the
+      straight segment when the region covers it, and runs ``scipy.sparse.csgraph.dijkstra``.
+
+    Written for the benchmarks with shapely and scipy only (no garnav code): reference (b) of the
+    cross-seam optimality target, on the free region of the unfolded garment.
+
+    Attributes (after :meth:`build`)
+    --------------------------------
+    xy : (m, 2) reflex corners, mm; ``n_edges`` : int
+    """
+
+    name = "tangent_visgraph"
+
+    def __init__(self, region: shapely.Geometry, block: int = 256, chunk: int = 50_000):
+        self.region = region
+        shapely.prepare(region)
+        self.block = int(block)
+        self.chunk = int(chunk)
+        self.graph = None
+
+    def _rings(self):
+        oriented = shapely.orient_polygons(self.region)
+        for part in shapely.get_parts(oriented):
+            yield np.asarray(part.exterior.coords)[:-1]
+            for r in part.interiors:
+                yield np.asarray(r.coords)[:-1]
+
+    def _covers(self, a: np.ndarray, b: np.ndarray) -> np.ndarray:
+        out = np.zeros(len(a), dtype=bool)
+        for s in range(0, len(a), self.chunk):
+            lines = shapely.linestrings(np.stack([a[s : s + self.chunk], b[s : s + self.chunk]], axis=1))
+            out[s : s + self.chunk] = shapely.covers(self.region, lines)
+        return out
+
+    def _tangent(self, i: np.ndarray, d: np.ndarray) -> np.ndarray:
+        """Whether a segment leaving corner i (k,) in direction d (k, 2) is tangent there."""
+        v = self.xy[i]
+        s1 = _cross(d[:, 0], d[:, 1], self.prev[i, 0] - v[:, 0], self.prev[i, 1] - v[:, 1])
+        s2 = _cross(d[:, 0], d[:, 1], self.next[i, 0] - v[:, 0], self.next[i, 1] - v[:, 1])
+        return s1 * s2 >= 0.0
+
+    def build(self) -> float:
+        """Build the graph; returns its build time, s."""
+        t0 = time.perf_counter()
+        xy, prev, nxt = [], [], []
+        for ring in self._rings():
+            p, n = np.roll(ring, 1, axis=0), np.roll(ring, -1, axis=0)
+            turn = _cross(ring[:, 0] - p[:, 0], ring[:, 1] - p[:, 1], n[:, 0] - ring[:, 0], n[:, 1] - ring[:, 1])
+            keep = turn < 0.0  # right turn with the region on the left: reflex corner
+            xy.append(ring[keep])
+            prev.append(p[keep])
+            nxt.append(n[keep])
+        self.xy = np.vstack(xy) if xy else np.zeros((0, 2))
+        self.prev = np.vstack(prev) if prev else np.zeros((0, 2))
+        self.next = np.vstack(nxt) if nxt else np.zeros((0, 2))
+        m = len(self.xy)
+        ia, ib = [], []
+        for r0 in range(0, m, self.block):
+            rows = np.arange(r0, min(m, r0 + self.block))
+            i, j = np.meshgrid(rows, np.arange(m), indexing="ij")
+            up = j > i
+            i, j = i[up], j[up]
+            d = self.xy[j] - self.xy[i]
+            ok = self._tangent(i, d) & self._tangent(j, -d)
+            ia.append(i[ok])
+            ib.append(j[ok])
+        i = np.concatenate(ia) if ia else np.zeros(0, int)
+        j = np.concatenate(ib) if ib else np.zeros(0, int)
+        self.n_candidates = int(len(i))
+        vis = self._covers(self.xy[i], self.xy[j])
+        i, j = i[vis], j[vis]
+        w = np.hypot(*(self.xy[j] - self.xy[i]).T)
+        self._edges = (i, j, w)
+        self.n_edges = int(len(i))
+        self.graph = True
+        return time.perf_counter() - t0
+
+    def _links(self, p: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Corners a point sees with tangency at the corner: (indices (k,), lengths (k,))."""
+        m = len(self.xy)
+        idx = np.arange(m)
+        ok = self._tangent(idx, np.asarray(p, dtype=float)[None, :] - self.xy)
+        idx = idx[ok]
+        vis = self._covers(np.repeat(np.asarray(p, dtype=float)[None], len(idx), axis=0), self.xy[idx])
+        idx = idx[vis]
+        return idx, np.hypot(*(self.xy[idx] - p).T)
+
+    def query(self, start: np.ndarray, goal: np.ndarray) -> tuple[float, np.ndarray]:
+        """Shortest path length (mm, inf when none) and the path (n, 2) from ``start`` to ``goal``."""
+        import scipy.sparse as sp
+        from scipy.sparse.csgraph import dijkstra
+
+        if self.graph is None:
+            self.build()
+        start = np.asarray(start, dtype=float)
+        goal = np.asarray(goal, dtype=float)
+        m = len(self.xy)
+        s_id, g_id = m, m + 1
+        i, j, w = self._edges
+        si, sw = self._links(start)
+        gi, gw = self._links(goal)
+        rows = [i, np.full(len(si), s_id), np.full(len(gi), g_id)]
+        cols = [j, si, gi]
+        vals = [w, sw, gw]
+        if self._covers(start[None], goal[None])[0]:
+            rows.append(np.array([s_id]))
+            cols.append(np.array([g_id]))
+            vals.append(np.array([math.hypot(*(goal - start))]))
+        mat = sp.csr_matrix((np.concatenate(vals), (np.concatenate(rows), np.concatenate(cols))), shape=(m + 2, m + 2))
+        dist, pred = dijkstra(mat, directed=False, indices=s_id, return_predecessors=True)
+        if not np.isfinite(dist[g_id]):
+            return math.inf, np.zeros((0, 2))
+        pts = np.vstack([self.xy, start, goal])
+        seq = [g_id]
+        while seq[-1] != s_id:
+            seq.append(int(pred[seq[-1]]))
+        return float(dist[g_id]), pts[seq[::-1]]

@@ -6,6 +6,7 @@ from typing import Any
 
 from benchmarks.seams import SEAM_TARGETS, seam_targets
 from benchmarks.startup import STARTUP_TARGETS, startup_targets
+from benchmarks.tiled import TILED_TARGETS, tiled_targets
 
 __all__ = ["TARGETS", "evaluate_targets", "format_report", "markdown_report"]
 
@@ -31,7 +32,7 @@ TARGETS = (
     ("physics_lift_mechanics", "lift + mechanics of ~5,000 points on ~100k triangles under 30 ms (median)"),
     ("study_speedup", "2,000 demo route queries: local Dask cluster of 2 workers at least 1.6x faster than serial (start-up included)"),
     ("reader_fuzz", "1,000 fuzzed files per reader (spec, route, commands): 0 failures (benchmarks/fuzz_case.py)"),
-) + SEAM_TARGETS + STARTUP_TARGETS
+) + SEAM_TARGETS + TILED_TARGETS + STARTUP_TARGETS
 
 
 def _get(d: dict, *keys, default=None):
@@ -226,6 +227,7 @@ def evaluate_targets(res: dict[str, Any]) -> list[dict[str, Any]]:
     else:
         out.append(_t("reader_fuzz", "N/A", None, fz.get("error", "not run")))
     out.extend(seam_targets(res))
+    out.extend(tiled_targets(res))
     out.extend(startup_targets(res))
     return out
 

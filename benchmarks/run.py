@@ -37,7 +37,8 @@ from benchmarks.measure import growth_exponent, machine_info, peak_memory, summa
 from benchmarks.report import evaluate_targets, format_report, markdown_report
 from benchmarks.single import run_single
 
-ALL_CASES = ("single", "demo", "lift", "cli", "sweep", "drift", "physics", "seams", "study", "zones", "fuzz", "startup", "poses")
+ALL_CASES = ("single", "demo", "lift", "cli", "sweep", "drift", "physics", "seams", "chain9", "tiled", "study", "zones", "fuzz",
+             "startup", "poses")
 FULL_N = (10, 50, 200, 500)
 QUICK_N = (2, 4)
 
@@ -419,6 +420,16 @@ def run(opts: Options, which: tuple[str, ...], log=print, checkpoint=None) -> di
             log(f"case {key} ...")
             try:
                 results["cases"][key] = fn(opts, log)
+            except Exception as exc:
+                results["cases"][key] = {"kind": key, "error": _err(exc)}
+            save(results)
+    for key in ("chain9", "tiled"):  # multi-piece garments: benchmarks/tiled.py
+        if key in which:
+            from benchmarks.tiled import run_chain9, run_tiled
+
+            log(f"case {key} ...")
+            try:
+                results["cases"][key] = (run_chain9 if key == "chain9" else run_tiled)(opts, log)
             except Exception as exc:
                 results["cases"][key] = {"kind": key, "error": _err(exc)}
             save(results)

@@ -9,6 +9,7 @@ import numpy as np
 
 __all__ = [
     "cumulative_length",
+    "distance_to_polyline",
     "polyline_length",
     "point_at_length",
     "sub_polyline",
@@ -90,6 +91,22 @@ def tangent_at(points: np.ndarray, s: np.ndarray | float) -> np.ndarray:
         use = good[np.minimum(np.searchsorted(good, seg), len(good) - 1)]
         out = d[use] / norm[use, None]
     return out[0] if np.ndim(s) == 0 else out
+
+
+def distance_to_polyline(point: np.ndarray, points: np.ndarray) -> float:
+    """Euclidean distance from ``point`` (d,) to the polyline ``points`` (n, d), in its units.
+
+    >>> distance_to_polyline(np.array([1.0, 2.0]), np.array([[0.0, 0.0], [3.0, 0.0], [3.0, 4.0]]))
+    2.0
+    """
+    p = np.asarray(point, dtype=float)
+    a = np.asarray(points, dtype=float)
+    if len(a) == 1:
+        return float(np.linalg.norm(p - a[0]))
+    d = np.diff(a, axis=0)
+    den = np.einsum("ij,ij->i", d, d)
+    t = np.clip(np.einsum("ij,ij->i", p - a[:-1], d) / np.where(den > 0, den, 1.0), 0.0, 1.0)
+    return float(np.min(np.linalg.norm(a[:-1] + t[:, None] * d - p, axis=1)))
 
 
 def sub_polyline(points: np.ndarray, s0: float, s1: float) -> np.ndarray:

@@ -85,3 +85,31 @@ def test_growth_exponent_recovers_power_law():
     n = [10, 50, 200, 500]
     assert growth_exponent(n, [3 * v**2 for v in n]) == pytest.approx(2.0)
     assert growth_exponent([10], [1.0]) is None
+
+
+@pytest.fixture(scope="module")
+def quick_multi_piece(tmp_path_factory):
+    js = tmp_path_factory.mktemp("bench_multi") / "bench.json"
+    assert bench_run.main(["--quick", "--cases", "chain9,tiled", "--json", str(js)]) == 0
+    return json.loads(js.read_text())
+
+
+def test_multi_piece_cases(quick_multi_piece):
+    # structure of benchmarks/tiled.py's cases; quick sizes (3 strips, k = 2 and 4)
+    res = quick_multi_piece
+    chain, tiled = res["cases"]["chain9"], res["cases"]["tiled"]
+    assert "error" not in chain and "error" not in tiled
+    assert chain["crossings"] == 2 and chain["checked"] >= 1 and chain["single"]["query"]["n"] == 3
+    assert set(tiled["per_k"]) == {"2", "4"}
+    for rec in tiled["per_k"].values():
+        assert {"build_s", "build_2mm_s", "same_piece_query", "reference", "queries"} <= set(rec)
+    rows = chain["queries"] + [q for r in tiled["per_k"].values() for q in r["queries"]]
+    for q in rows:
+        # reference (b) is the exact optimum over all seam sequences: the 2 mm-portal route and
+        # garnav's route are never shorter than it by more than the 1e-7 mm garnav leaves
+        # between a crossing's two sides (observed 2e-9 relative)
+        assert q["ref_b_mm"] <= q["ref_a_cost"] * (1 + 1e-8) and q["ref_b_mm"] <= q["cost"] * (1 + 1e-8)
+        assert q["in_unfolded_region"]
+    status = {t["key"]: t["status"] for t in res["targets"]}
+    assert status["chain9_query"] == "N/A" and status["tiled_build"] == "N/A"  # quick: not judged
+    assert status["multi_piece_optimal"] in ("PASS", "MISS")

@@ -91,3 +91,43 @@ def test_min_directed_keeps_the_least_of_duplicates():
         got[got == 0] = np.inf  # absent entries (every value here is positive)
         assert np.array_equal(got, dense)
         assert dup == (len(np.unique(keys)) < len(keys))
+
+
+def test_distance_to_polyline_against_shapely():
+    """Reference: shapely's LineString.distance (GEOS)."""
+    import shapely
+
+    from garnav.polyline import distance_to_polyline
+
+    rng = np.random.default_rng(3)
+    for _ in range(50):
+        pts = rng.uniform(-50.0, 50.0, (int(rng.integers(2, 7)), 2))
+        p = rng.uniform(-80.0, 80.0, 2)
+        want = shapely.LineString(pts).distance(shapely.Point(p))
+        assert abs(distance_to_polyline(p, pts) - want) < 1e-9  # observed ~1e-14
+
+
+@pytest.mark.parametrize("query", [("front:240.7,172.3", "front:370.2,71.2"), ("back:386.8,279.3", "back:250.3,415.3")])
+def test_same_piece_route_skips_the_sequence_search_only_when_no_exit_can_win(query):
+    """A same-piece route no dearer than the straight way out to a seam and back is the optimum:
+    the sequence search is skipped (nothing solved, no window split) and the cost equals the
+    full search's (the same planner with the skip disabled)."""
+    g = demo_garment()
+    skip, full = Planner(g), Planner(g)
+    full._exit_bound = lambda start, goals: -np.inf  # the search always runs
+    r1, r2 = skip.route(*query), full.route(*query)
+    assert r1.crossings == () or len(r1.crossings) == 0
+    assert r1.cost == r2.cost
+    found = skip.last_sequences
+    assert found.certified and found.solved == 0 and found.windows_added == 0
+    assert full.last_sequences is not None and full.last_sequences.cost_mm == r2.cost
+
+
+def test_exit_bound_is_below_routes_that_cross_seams():
+    """The bound the skip relies on never exceeds the cost of a route that does leave the piece
+    (a cost is at least a length; a straight line is the shortest)."""
+    p = Planner(demo_garment())
+    for s, g in [("front:374.1,570.3", "yoke:87.4,201.1"), ("back:403.5,143.0", "sleeve_left:70.7,53.4")]:
+        r = p.route(s, g)
+        assert len(r.crossings) > 0
+        assert p._exit_bound(p.point(s), [p.point(g)]) <= r.cost

@@ -15,6 +15,7 @@ from the certified branch-and-bound search of :mod:`garnav.plan.exact` instead.
 
 from __future__ import annotations
 
+import math
 from pathlib import Path
 from typing import Callable, Sequence
 
@@ -39,6 +40,7 @@ from garnav.plan.exact import ExactResult, SeamSearch
 from garnav.plan.refine import refine
 from garnav.plan.sequences import SequenceResult, SequenceSearch, interval_index
 from garnav.plan.route import Leg, Route, join_routes, make_route
+from garnav.polyline import distance_to_polyline
 from garnav.plan.search import NodePortalTable, PortalGraph, astar, lazy_heuristic
 
 __all__ = ["Planner", "plan_route", "PLANNER_VERSION"]
@@ -357,7 +359,10 @@ class Planner:
             legs, crossings, cost, k = found.legs, found.crossings, found.cost_mm, found.goal
         else:
             legs, crossings, cost, k = self._portal_route(start, goals)
-            if self.seam_sequences > 0 and any(s.crossable for s in self.nav.seams):
+            if self.seam_sequences > 0 and not crossings and cost <= self._exit_bound(start, goals):
+                # no route that leaves the piece can be cheaper: the in-piece route is the optimum
+                self.last_sequences = SequenceResult(legs, crossings, cost, cost, True, 0, k, reason="")
+            elif self.seam_sequences > 0 and any(s.crossable for s in self.nav.seams):
                 if self._sequence_search is None:
                     self._sequence_search = SequenceSearch(self, max_sequences=self.seam_sequences)
                 found_seq = self._sequence_search.search(start, goals, (legs, crossings, cost, k), self._first_gain)
@@ -372,6 +377,27 @@ class Planner:
             cost,
         )
         return k, route
+
+    def _exit_bound(self, start: PiecePoint, goals: list[PiecePoint]) -> float:
+        """A lower bound (mm) of every route from ``start`` to a goal that crosses a seam: the
+        straight distance to the nearest crossable seam run of the start's piece, plus its
+        crossing cost, plus — for a goal on the same piece — the way back (the goal's distance to
+        such a run and a second crossing). A cost is at least a length (cost factors ≥ 1). inf
+        when the piece has no crossable seam."""
+        ng = self.nav
+        runs, cc = [], math.inf
+        for seam in ng.seams:
+            if not seam.crossable or not ng.intervals.get(seam.name):
+                continue
+            cc = min(cc, max(float(seam.crossing_cost_mm), 0.0))
+            for run, pts in zip((seam.a, seam.b), ng.run_points[seam.name], strict=True):
+                if run.piece == start.piece:
+                    runs.append(pts)
+        if not runs:
+            return math.inf
+        out = min(distance_to_polyline(start.xy, r) for r in runs) + cc
+        back = [min(distance_to_polyline(g.xy, r) for r in runs) + cc for g in goals if g.piece == start.piece]
+        return out + min(back) if len(back) == len(goals) else out
 
     def _portal_route(self, start: PiecePoint, goals: list[PiecePoint]):
         """A* on the portals, refinement, then the same for the seam sequences found with each
