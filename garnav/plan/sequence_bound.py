@@ -37,7 +37,7 @@ from garnav.plan.points import PiecePoint
 from garnav.plan.side_rows import SideRows
 from garnav.plan.windows import MovingPoints, corner_links, pair_links
 
-__all__ = ["SequenceBound", "LabelSearch", "to_goals", "min_directed", "SPLIT", "MIN_WINDOW_MM", "MAX_LABELS"]
+__all__ = ["SequenceBound", "Side", "LabelSearch", "to_goals", "min_directed", "SPLIT", "MIN_WINDOW_MM", "MAX_LABELS"]
 
 #: A split window is replaced by this many equal children (as in :mod:`garnav.plan.exact`).
 SPLIT = 4
@@ -76,7 +76,7 @@ def moving_of(pts) -> MovingPoints:
 
 
 @dataclass
-class _Side:
+class Side:
     """One window side: its point and approach ends (seam-search points), where it lies, and the
     corner links of each of those points (local corner index (n,), lower-bound cost (n,))."""
 
@@ -109,24 +109,16 @@ class SequenceBound:
 
     def __init__(self, wg, start: PiecePoint, goals: list[PiecePoint], to_pre: np.ndarray, goal_post: list[np.ndarray],
                  rows: SideRows | None = None):
-        self.ss = ss = wg.ss
+        self.ss = wg.ss
         self.rows = rows
         self.start, self.goals = start, list(goals)
-        pts, windows = ss.base.points, ss.base.windows
-        ng = ss.nav
-        self._sides: list[_Side] = []
-        for k, pid in enumerate(wg.win.tolist()):
-            p = pts[pid]
-            ends = [p] + [pts[e] for e in windows[p.window].approach[p.side]]
-            off = ng.corners[ng.pieces[p.piece]][1]
-            links = []
-            for e in [pid, *windows[p.window].approach[p.side]]:
-                d = ss.base.pc.get(e, {})
-                links.append((np.array(list(d), dtype=int) - off, np.array(list(d.values()), dtype=float)))
-            self._sides.append(_Side(p.piece, ends, int(wg.seam[k]), int(wg.side[k]), int(wg.interval[k]), float(wg.cross[k]), links))
+        # the planner's window sides, shared (a split appends new sides, it never changes these)
+        self._sides = list(wg.base_sides())
         self._partner = wg.partner.tolist()
+        self._cols = {"seam": wg.seam, "side": wg.side, "interval": wg.interval, "cross": wg.cross, "piece": wg.piece}
         self.active = np.ones(len(self._sides), dtype=bool)
-        self._mats = {pi: (sel.copy(), d.copy()) for pi, (sel, d) in wg.inner.items()}
+        # the planner's matrices, shared: a split replaces a piece's entry, never writes into one
+        self._mats = dict(wg.inner)
         self._to_pre = to_pre.copy()
         self._goal_post = [a.copy() for a in goal_post]
         self._holder = _Windows()
@@ -139,11 +131,13 @@ class SequenceBound:
     def _refresh(self) -> None:
         s = self._sides
         self.partner = np.array(self._partner, dtype=int)
-        self.seam = np.array([x.seam for x in s], dtype=int)
-        self.side = np.array([x.side for x in s], dtype=int)
-        self.interval = np.array([x.interval for x in s], dtype=int)
-        self.cross = np.array([x.cross for x in s], dtype=float)
-        self.piece = np.array([x.piece for x in s], dtype=int)
+        have = len(self._cols["seam"])
+        if have < len(s):  # columns of the sides added since
+            more = s[have:]
+            self._cols = {name: np.concatenate([col, np.array([getattr(x, name) for x in more], dtype=col.dtype)])
+                          for name, col in self._cols.items()}
+        self.seam, self.side, self.interval = self._cols["seam"], self._cols["side"], self._cols["interval"]
+        self.cross, self.piece = self._cols["cross"], self._cols["piece"]
         self.win = np.arange(len(s))
         off = ~self.active
         self.to_pre = np.where(off, np.inf, self._to_pre)
@@ -151,7 +145,9 @@ class SequenceBound:
         self.inner = {}
         for pi, (ids, d) in self._mats.items():
             on = np.nonzero(self.active[ids])[0]
-            if len(on):
+            if len(on) == len(ids):
+                self.inner[pi] = (ids, d)
+            elif len(on):
                 self.inner[pi] = (ids[on], d[np.ix_(on, on)])
 
     def width_mm(self, i: int) -> float:
@@ -190,7 +186,7 @@ class SequenceBound:
                     ends = [p] + [self._holder.points[e] for e in win.approach[side]]
                     parent = self._sides[a if side == 0 else self._partner[a]]
                     ids.append(len(self._sides))
-                    self._sides.append(_Side(p.piece, ends, parent.seam, side, parent.interval, parent.cross))
+                    self._sides.append(Side(p.piece, ends, parent.seam, side, parent.interval, parent.cross))
                     self._partner.append(-1)
                     fresh.setdefault(p.piece, []).append(ids[-1])
                 self._partner[ids[0]], self._partner[ids[1]] = ids[1], ids[0]

@@ -43,7 +43,7 @@ from garnav.plan.points import PiecePoint
 from garnav.plan.refine import plan_legs, refine
 from garnav.plan.restart import refine_from_windows
 from garnav.plan.side_rows import SideRows
-from garnav.plan.sequence_bound import MAX_LABELS, SPLIT, LabelSearch, SequenceBound, min_directed, to_goals
+from garnav.plan.sequence_bound import MAX_LABELS, SPLIT, LabelSearch, SequenceBound, Side, min_directed, to_goals
 from garnav.plan.windows import MovingPoints, pair_links
 
 __all__ = [
@@ -234,6 +234,7 @@ class WindowGraph:
         self.partner = np.array([index[windows[pts[i].window].points[1 - pts[i].side]] for i in self.win], dtype=int)
         self.cross = np.array([float(ng.seams[s].crossing_cost_mm) for s in self.seam], dtype=float)
         self.graphs: dict[int, _PieceGraph] = {}
+        self._sides: list | None = None
         self.inner: dict[int, tuple[np.ndarray, np.ndarray]] = {}
         for pi in range(len(ng.pieces)):
             g = self.graphs[pi] = _PieceGraph(ss, pi)
@@ -246,6 +247,27 @@ class WindowGraph:
             d = np.maximum(d - g.size * g.eps, 0.0)
             np.fill_diagonal(d, np.inf)  # crossing back at the same window side gains nothing
             self.inner[pi] = (sel, d)
+
+    def base_sides(self) -> list:
+        """The window sides as :class:`~garnav.plan.sequence_bound.SequenceBound` holds them (its
+        ``_Side``: points, seam, side, interval, crossing cost and the corner links of its point
+        and approach ends); built on first use, kept, shared read-only by every query."""
+        if self._sides is None:
+            ss, ng = self.ss, self.ss.nav
+            pts, windows = ss.base.points, ss.base.windows
+            out = []
+            for k, pid in enumerate(self.win.tolist()):
+                p = pts[pid]
+                off = ng.corners[ng.pieces[p.piece]][1]
+                ends = [pid, *windows[p.window].approach[p.side]]
+                links = []
+                for e in ends:
+                    d = ss.base.pc.get(e, {})
+                    links.append((np.array(list(d), dtype=int) - off, np.array(list(d.values()), dtype=float)))
+                out.append(Side(p.piece, [pts[e] for e in ends], int(self.seam[k]), int(self.side[k]), int(self.interval[k]),
+                                float(self.cross[k]), links))
+            self._sides = out
+        return self._sides
 
     def ends(self, pp: PiecePoint, reverse: bool) -> tuple[np.ndarray, np.ndarray]:
         """Bound costs from a start point to pre(i) (``reverse``: from post(i) to a goal point),
