@@ -12,7 +12,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import shapely
 
-from garnav.model import Circle, Edge, Garment, KeepOut, Piece, PolygonShape, Rectangle, Robot
+from garnav.model import Circle, Edge, Garment, KeepOut, Piece, Placement, PolygonShape, Rectangle, Robot
 
 __all__ = [
     "SinglePieceCase",
@@ -46,7 +46,9 @@ class SinglePieceCase:
     pairs: np.ndarray = field(default_factory=lambda: np.zeros((0, 2, 2)))
 
 
-def _rect_piece(name: str, w: float, h: float) -> Piece:
+def rect_piece(name: str, w: float, h: float, placement: Placement | None = None) -> Piece:
+    """A w × h mm rectangle with edges bottom, right, top, left (counter-clockwise)."""
+    extra = {} if placement is None else {"placement": placement}
     return Piece(
         name,
         (
@@ -55,6 +57,7 @@ def _rect_piece(name: str, w: float, h: float) -> Piece:
             Edge("top", ((w, h), (0.0, h))),
             Edge("left", ((0.0, h), (0.0, 0.0))),
         ),
+        **extra,
     )
 
 
@@ -134,7 +137,7 @@ def single_piece_case(n: int, seed: int = 0) -> SinglePieceCase:
     keepouts = random_keepouts(n, rng, (0.0, 0.0, PIECE_W_MM, PIECE_H_MM), "panel")
     garment = Garment(
         f"clutter_{n}",
-        (_rect_piece("panel", PIECE_W_MM, PIECE_H_MM),),
+        (rect_piece("panel", PIECE_W_MM, PIECE_H_MM),),
         keepouts=tuple(keepouts),
         robot=ROBOT,
         sheet_size_mm=(PIECE_W_MM + 20.0, PIECE_H_MM + 20.0),

@@ -33,6 +33,7 @@ import numpy as np
 import shapely
 from shapely import affinity
 
+from benchmarks import cases as C
 from benchmarks.cases import ROBOT, random_keepouts
 from garnav.model import Circle, Edge, Garment, KeepOut, Piece, Placement, PolygonShape, Rectangle, Robot, Seam, SeamRun
 
@@ -99,19 +100,6 @@ class SeamGarmentCase:
         return abs(ra - rb) + abs(ca - cb)
 
 
-def _rect(name: str, w: float, h: float, placement: Placement) -> Piece:
-    return Piece(
-        name,
-        (
-            Edge("bottom", ((0.0, 0.0), (w, 0.0))),
-            Edge("right", ((w, 0.0), (w, h))),
-            Edge("top", ((w, h), (0.0, h))),
-            Edge("left", ((0.0, h), (0.0, 0.0))),
-        ),
-        placement=placement,
-    )
-
-
 def _keepouts(piece: str, w: float, h: float, n: int, rng: np.random.Generator) -> list[KeepOut]:
     corners = [(0.0, 0.0, CORNER_CLEAR_MM), (w, 0.0, CORNER_CLEAR_MM), (w, h, CORNER_CLEAR_MM), (0.0, h, CORNER_CLEAR_MM)]
     return random_keepouts(n, rng, (0.0, 0.0, w, h), piece, avoid=corners, name_prefix=f"{piece}_k")
@@ -139,7 +127,7 @@ def chain_garment(strips: int = 10, seed: int = 0, keepouts_per_strip: int = STR
     pieces, keepouts, layout, cells = [], [], {}, {}
     for i in range(strips):
         name = f"s{i}"
-        pieces.append(_rect(name, w, h, Placement(SHEET_GAP_MM + i * (w + SHEET_GAP_MM), SHEET_GAP_MM)))
+        pieces.append(C.rect_piece(name, w, h, Placement(SHEET_GAP_MM + i * (w + SHEET_GAP_MM), SHEET_GAP_MM)))
         keepouts += _keepouts(name, w, h, keepouts_per_strip, np.random.default_rng([seed, 31, i]))
         layout[name] = (i * w, 0.0)
         cells[name] = (0, i)
@@ -155,7 +143,7 @@ def strip_garment(seed: int = 0, keepouts: int = STRIP_KEEPOUTS, width_mm: float
     single-piece reference of the chain case (its own seed)."""
     w, h = float(width_mm), float(height_mm)
     kos = _keepouts("strip", w, h, keepouts, np.random.default_rng([seed, 41]))
-    g = Garment("strip", (_rect("strip", w, h, Placement(SHEET_GAP_MM, SHEET_GAP_MM)),), keepouts=tuple(kos), robot=ROBOT,
+    g = Garment("strip", (C.rect_piece("strip", w, h, Placement(SHEET_GAP_MM, SHEET_GAP_MM)),), keepouts=tuple(kos), robot=ROBOT,
                 sheet_size_mm=(w + 2 * SHEET_GAP_MM, h + 2 * SHEET_GAP_MM))
     return SeamGarmentCase("strip", g, ROBOT, {"strip": (0.0, 0.0)}, {"strip": (0, 0)}, (1, 1))
 
@@ -179,7 +167,7 @@ def tiled_garment(k: int, seed: int = 0, keepouts_per_piece: int = TILE_KEEPOUTS
     for r in range(rows):
         for c in range(cols):
             name = f"p{r}_{c}"
-            pieces.append(_rect(name, s, s, Placement(SHEET_GAP_MM + c * (s + SHEET_GAP_MM), SHEET_GAP_MM + r * (s + SHEET_GAP_MM))))
+            pieces.append(C.rect_piece(name, s, s, Placement(SHEET_GAP_MM + c * (s + SHEET_GAP_MM), SHEET_GAP_MM + r * (s + SHEET_GAP_MM))))
             keepouts += _keepouts(name, s, s, keepouts_per_piece, np.random.default_rng([seed, 37, r, c]))
             layout[name] = (c * s, r * s)
             cells[name] = (r, c)

@@ -414,7 +414,7 @@ def _vertex_uv(geom) -> np.ndarray | None:
 # -------------------------------------------------------------------------------------- entry
 
 
-def _checked_mesh_file(path: str | os.PathLike) -> tuple[Path, str, str]:
+def checked_mesh_file(path: str | os.PathLike) -> tuple[Path, str, str]:
     """(path, source for messages, lower-case suffix) of a mesh file that exists and has a known
     suffix; MeshError otherwise."""
     p = Path(path)
@@ -433,7 +433,7 @@ def _checked_mesh_file(path: str | os.PathLike) -> tuple[Path, str, str]:
 def mesh_file_bytes(path: str | os.PathLike) -> bytes:
     """The bytes of a mesh file, read with the checks :func:`load_uv_mesh` makes before parsing
     (exists, known format, not an incompletely written output; :func:`garnav.textio.read_bytes`)."""
-    p, source, _ = _checked_mesh_file(path)
+    p, source, _ = checked_mesh_file(path)
     return read_bytes(p, lambda reason: MeshError(f"{source}: {reason}"))
 
 
@@ -455,7 +455,7 @@ def load_uv_mesh(path: str | os.PathLike, *, weld_tol_mm: float = 1e-4, data: by
         File missing or unreadable, not a mesh, no UVs, or any problem of
         :func:`uv_mesh_from_arrays`.
     """
-    p, source, suffix = _checked_mesh_file(path)
+    p, source, suffix = checked_mesh_file(path)
     if suffix == ".obj":
         def error(reason: str) -> MeshError:
             return MeshError(f"{source}: {reason}")

@@ -14,16 +14,15 @@ from __future__ import annotations
 import os
 from dataclasses import dataclass, field
 from functools import cached_property
-from pathlib import Path
 
 import numpy as np
 import scipy.sparse
 import scipy.sparse.csgraph
 
-from garnav.drape.meshio import MESH_SUFFIXES, parse_obj, weld_positions
+from garnav.drape.meshio import checked_mesh_file, parse_obj, weld_positions
 from garnav.errors import MeshError
 from garnav.drape.meshio import readonly_array as _ro
-from garnav.textio import file_problem, read_text
+from garnav.textio import read_text
 
 __all__ = ["Surface", "surface_from_arrays", "load_surface", "corner_classes", "NEXT"]
 
@@ -264,15 +263,7 @@ def load_surface(path: str | os.PathLike, *, weld_tol_mm: float = 1e-4, flip: bo
     MeshError
         Missing or unreadable file, unknown format, or any problem of :func:`surface_from_arrays`.
     """
-    p = Path(path)
-    source = str(path)
-    problem = file_problem(p)
-    if problem is not None:
-        raise MeshError(f"{source}: {problem}")
-    suffix = p.suffix.lower()
-    if suffix not in MESH_SUFFIXES:
-        raise MeshError(f"{source}: unknown mesh format '{suffix}'; use one of "
-                        + ", ".join(MESH_SUFFIXES))
+    p, source, suffix = checked_mesh_file(path)
     corner: np.ndarray | None = None
     if suffix == ".obj":
         text = read_text(p, lambda reason: MeshError(f"{source}: {reason}"),
