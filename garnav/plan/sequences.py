@@ -250,7 +250,7 @@ class WindowGraph:
 
     def base_sides(self) -> list:
         """The window sides as :class:`~garnav.plan.sequence_bound.SequenceBound` holds them (its
-        ``_Side``: points, seam, side, interval, crossing cost and the corner links of its point
+        :class:`~garnav.plan.sequence_bound.Side`: points, seam, side, interval, crossing cost and the corner links of its point
         and approach ends); built on first use, kept, shared read-only by every query."""
         if self._sides is None:
             ss, ng = self.ss, self.ss.nav
