@@ -67,6 +67,11 @@ def summary(seconds: list[float]) -> dict[str, float]:
     }
 
 
+def target_row(targets, key: str, status: str, value, detail: str) -> dict[str, Any]:
+    """One row of the report's target table: ``targets`` is a sequence of (key, description)."""
+    return {"key": key, "target": dict(targets)[key], "status": status, "value": value, "detail": detail}
+
+
 def growth_exponent(sizes: list[float], seconds: list[float]) -> float | None:
     """Least-squares slope of log(seconds) against log(size): t ≈ c · size^k, returns k.
 

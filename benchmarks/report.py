@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from typing import Any
 
+from benchmarks.measure import target_row
 from benchmarks.seams import SEAM_TARGETS, seam_targets
 from benchmarks.startup import STARTUP_TARGETS, startup_targets
 from benchmarks.tiled import TILED_TARGETS, tiled_targets
@@ -44,8 +45,7 @@ def _get(d: dict, *keys, default=None):
 
 
 def _t(key, status, value, detail):
-    desc = dict(TARGETS)[key]
-    return {"key": key, "target": desc, "status": status, "value": value, "detail": detail}
+    return target_row(TARGETS, key, status, value, detail)
 
 
 def evaluate_targets(res: dict[str, Any]) -> list[dict[str, Any]]:

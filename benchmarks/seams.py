@@ -24,7 +24,7 @@ import shapely
 
 from benchmarks import cases as C
 from benchmarks import garnav_side as G
-from benchmarks.measure import summary, timed
+from benchmarks.measure import summary, target_row, timed
 from benchmarks.startup import child_env, compile_package
 
 __all__ = ["run_seam_optimality", "run_cli_cache", "seam_targets", "SEAM_TARGETS"]
@@ -126,7 +126,7 @@ def run_cli_cache(opts, log) -> dict[str, Any]:
 
 
 def _t(key, status, value, detail):
-    return {"key": key, "target": dict(SEAM_TARGETS)[key], "status": status, "value": value, "detail": detail}
+    return target_row(SEAM_TARGETS, key, status, value, detail)
 
 
 def seam_targets(res: dict[str, Any]) -> list[dict[str, Any]]:

@@ -30,7 +30,7 @@ from benchmarks import cases as C
 from benchmarks import refs as R
 from benchmarks import seam_garments as S
 from benchmarks.measure import error_text as _err
-from benchmarks.measure import growth_exponent, summary, timed
+from benchmarks.measure import growth_exponent, summary, target_row, timed
 
 __all__ = ["run_chain9", "run_tiled", "tiled_targets", "TILED_TARGETS", "settings", "cross_query"]
 
@@ -239,7 +239,7 @@ def run_tiled(opts, log) -> dict[str, Any]:
 
 
 def _t(key, status, value, detail):
-    return {"key": key, "target": dict(TILED_TARGETS)[key], "status": status, "value": value, "detail": detail}
+    return target_row(TILED_TARGETS, key, status, value, detail)
 
 
 def tiled_targets(res: dict[str, Any]) -> list[dict[str, Any]]:

@@ -38,18 +38,23 @@ def test_tangent_graph_hand_worked_detour():
     assert ref.query(np.array([10.0, 10.0]), np.array([90.0, 20.0]))[0] == pytest.approx(math.hypot(80.0, 10.0), rel=1e-14)
 
 
+def _two_strips(seed: int, pairs: int):
+    """Two small seeded strips laid flat: (largest part of the free region, seeded query pairs
+    150 mm apart or more, the built tangent visibility reference)."""
+    case = S.chain_garment(2, seed=seed, keepouts_per_strip=3, width_mm=150.0, height_mm=100.0)
+    main = max(shapely.get_parts(S.unfolded_region(case)), key=lambda p: p.area)
+    ours = R.TangentVisibilityRef(main)
+    ours.build()
+    return main, C.sample_pairs(main, pairs, np.random.default_rng(5), min_dist_mm=150.0), ours
+
+
 def test_tangent_graph_agrees_with_pyvisgraph_on_an_unfolded_chain():
     # two 150 x 100 mm strips with three keep-outs each, unfolded into one plane; pyvisgraph on
     # the same component (its obstacles: the holes and the outside frame, benchmarks/refs.py).
     # Seed 5: a case where every pyvisgraph path stays in the region (on other seeds some of its
     # paths cut through keep-outs merged with the hem band, a pyvisgraph failure; where its paths
     # are valid the lengths agree as here)
-    case = S.chain_garment(2, seed=5, keepouts_per_strip=3, width_mm=150.0, height_mm=100.0)
-    region = S.unfolded_region(case)
-    main = max(shapely.get_parts(region), key=lambda p: p.area)
-    pairs = C.sample_pairs(main, 4, np.random.default_rng(5), min_dist_mm=150.0)
-    ours = R.TangentVisibilityRef(main)
-    ours.build()
+    main, pairs, ours = _two_strips(seed=5, pairs=4)
     pv = R.PyvisgraphRef(main)
     pv.build()
     for a, b in pairs:
@@ -64,11 +69,7 @@ def test_tangent_graph_agrees_with_pyvisgraph_on_an_unfolded_chain():
 def test_tangent_graph_equals_all_pairs_graph_where_pyvisgraph_fails():
     # seed 3: pyvisgraph's paths leave the region on every pair; the naive all-pairs visibility
     # graph (every vertex pair, shapely covers, Dijkstra) finds the same lengths as the tangent graph
-    case = S.chain_garment(2, seed=3, keepouts_per_strip=3, width_mm=150.0, height_mm=100.0)
-    main = max(shapely.get_parts(S.unfolded_region(case)), key=lambda p: p.area)
-    pairs = C.sample_pairs(main, 3, np.random.default_rng(5), min_dist_mm=150.0)
-    ours = R.TangentVisibilityRef(main)
-    ours.build()
+    main, pairs, ours = _two_strips(seed=3, pairs=3)
     naive = R.NaiveVisibilityRef(main)
     naive.build()
     for a, b in pairs:
