@@ -37,7 +37,7 @@ from garnav.plan.navgraph import (
 )
 from garnav.plan.points import PiecePoint, PointLike, resolve_point
 from garnav.plan.exact import ExactResult, SeamSearch
-from garnav.plan.refine import refine
+from garnav.plan.unfold import place_crossings
 from garnav.plan.sequences import SequenceResult, SequenceSearch, interval_index
 from garnav.plan.route import Leg, Route, join_routes, make_route
 from garnav.polyline import distance_to_polyline
@@ -407,7 +407,7 @@ class Planner:
         meet). Returns the cheapest (legs, crossings, cost, goal index)."""
         path, first_cost, k = self.search(start, goals)
         legs, crossings = self.split_path(path, start, goals[k])
-        best = (*refine(self, legs, crossings), k)
+        best = (*place_crossings(self, legs, crossings), k)
         self._first_gain = max(first_cost - best[2], 0.0)
         tried = {tuple((s, side) for s, _, side in best[1])}
         for seam in sorted({s for s, _, _ in best[1]}):
@@ -422,7 +422,7 @@ class Planner:
             if key in tried:
                 continue
             tried.add(key)
-            cand = refine(self, a_legs, a_cross)
+            cand = place_crossings(self, a_legs, a_cross)
             if cand[2] < best[2] - 1e-12:
                 best = (*cand, ak)
         return best

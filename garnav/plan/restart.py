@@ -16,6 +16,7 @@ import numpy as np
 
 from garnav.plan.points import PiecePoint
 from garnav.plan.refine import plan_legs, refine
+from garnav.plan.unfold import unfoldable
 
 __all__ = ["refine_from_windows", "RESTART_ALLOWANCE"]
 
@@ -41,6 +42,8 @@ def refine_from_windows(planner, start: PiecePoint, goal: PiecePoint, known: lis
     """
     if len(known) != len(path):
         return None
+    if all(unfoldable(planner, c[0]) for c in known):
+        return None  # placed exactly already (garnav.plan.unfold)
     spans = [bound.span(i) for i in path]
     if all(t0 <= t <= t1 for (_, t, _), (t0, t1) in zip(known, spans, strict=True)):
         return None  # every crossing already inside the bound path's window

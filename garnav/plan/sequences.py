@@ -40,8 +40,9 @@ import scipy.sparse as sp
 from scipy.sparse.csgraph import dijkstra
 
 from garnav.plan.points import PiecePoint
-from garnav.plan.refine import plan_legs, refine
+from garnav.plan.refine import plan_legs
 from garnav.plan.restart import refine_from_windows
+from garnav.plan.unfold import place_crossings
 from garnav.plan.side_rows import SideRows
 from garnav.plan.sequence_bound import MAX_LABELS, SPLIT, LabelSearch, SequenceBound, Side, min_directed, to_goals
 from garnav.plan.windows import MovingPoints, pair_links
@@ -573,7 +574,7 @@ class SequenceSearch:
             return None
         legs, crossings = planner.split_path(nodes, start, goals[k])
         self._solved += 1
-        legs, crossings, cost = refine(planner, legs, crossings)
+        legs, crossings, cost = place_crossings(planner, legs, crossings)
         self._gain = max(self._gain, graph_cost - cost)
         return legs, crossings, cost
 
