@@ -281,7 +281,7 @@ class Planner:
         done); the heuristic of :meth:`search` stays admissible (fewer routes). Returns (node path,
         graph cost) or (None, inf). ``edges``: ``query_edges(start, [goal])`` when already known;
         ``h_layer(node, crossings done, piece index, xy)``: an admissible, consistent heuristic of
-        the constrained search to use instead (e.g. :class:`garnav.plan.sequences.LayerBound`)."""
+        the constrained search to use instead (e.g. :class:`garnav.plan.layer_bound.LayerBound`)."""
         ng = self.nav
         n0 = ng.graph.number_of_nodes()
         iv = self.portal_intervals()

@@ -92,10 +92,12 @@ class _Layer:
 class _Window:
     """A crossed free interval [lo, hi] of a seam, laid out: ends ``p0``, ``p1`` (unfolded, mm)."""
 
-    def __init__(self, planner, seam_index: int, lo: float, hi: float, side: int):
+    def __init__(self, planner, seam_index: int, lo: float, hi: float, side: int, leaving: _Layer):
         self.planner, self.seam, self.lo, self.hi, self.side = planner, seam_index, lo, hi, side
         s = planner.nav.seam_sides(seam_index, np.array([lo, hi]))
         self._leave, self._arrive = s.side(side)[0], s.side(1 - side)[0]
+        # the window's ends on the seam line itself (the inset taken off), in the unfolded plane
+        self.p0, self.p1 = leaving.out(self._leave - INSET_MM * s.side(side)[2])
 
     def sides(self, t: np.ndarray):
         """Inset crossing points (m, 2) on the leaving and the arriving run, each in its piece
@@ -149,11 +151,8 @@ def solve_unfolded(planner, start_xy, goal_xy, crossings: list[tuple[int, float,
     for s, t, side in crossings:
         seam = ng.seams[s]
         lo, hi = next(((a, b) for a, b in ng.intervals[seam.name] if a - 1e-12 <= t <= b + 1e-12), (t, t))
-        w = _Window(planner, s, lo, hi, side)
         prev = layers[-1]
-        leave = w.sides(np.array([lo, hi]))[0]
-        nf = ng.seam_sides(s, np.array([lo, hi])).side(side)[2]
-        w.p0, w.p1 = prev.out(leave - INSET_MM * nf)
+        w = _Window(planner, s, lo, hi, side, prev)
         A, b = _glue(planner, s, side)
         layers.append(_Layer(planner, (seam.b if side == 0 else seam.a).piece, prev.A @ A, prev.A @ b + prev.b))
         windows.append(w)
@@ -399,11 +398,19 @@ class _Corridor:
 def place_crossings(planner, legs: list[tuple[str, np.ndarray]], crossings: list[tuple[int, float, int]]):
     """Place the crossings of a route given as legs [(piece, (n, 2))] and crossings [(seam index,
     t, from side)]: exactly when its seam sequence unfolds (:func:`solve_unfolded`), otherwise by
-    refinement (:func:`garnav.plan.refine.refine`). Returns (legs, crossings, cost)."""
+    refinement (:func:`garnav.plan.refine.refine`). Returns (legs, crossings, cost).
+
+    Where a visited piece has a soft zone, the exact placement is refined once more: a route that
+    runs along a zone's edge (where driving costs nothing extra) crosses the seam where that edge
+    does, and a crossing point a rounding error off the edge would put a whole part of the route
+    inside the zone (the cost jumps by the zone's factor); refinement's search along the seam
+    lands on the edge. It only moves a crossing when that lowers the cost."""
     from garnav.plan.refine import refine
 
     if crossings:
         got = solve_unfolded(planner, legs[0][1][0], legs[-1][1][-1], crossings)
         if got is not None and math.isfinite(got[2]):
+            if any(planner.free[p].soft for p, _ in got[0]):
+                return refine(planner, got[0], got[1])
             return got
     return refine(planner, legs, crossings)
