@@ -393,11 +393,19 @@ class LabelSearch:
     ``g`` is a window graph (:class:`SequenceBound` or the planner's ``WindowGraph`` with the
     query's ``to_pre`` and ``goal_post``). After ``max_labels`` expansions it stops (``exhausted``):
     with crossings of cost 0 the number of sequences below U (going back and forth over a seam)
-    has no limit.
+    has no limit. A crossing in ``no_return`` (seam, interval, side) is not taken straight after
+    the same seam and interval was crossed the other way (such sequences are dominated:
+    :func:`garnav.plan.unfold.dominated_returns`). With ``once``, no sequence crosses one
+    (seam, interval, side) twice (``dropped`` says whether that left a label out: the search is
+    then not exhaustive).
     """
 
-    def __init__(self, g, to_pre, goal_post, h_pre, h_post, upper, tried, rel_tol, max_labels: int = MAX_LABELS):
+    def __init__(self, g, to_pre, goal_post, h_pre, h_post, upper, tried, rel_tol, max_labels: int = MAX_LABELS,
+                 no_return: frozenset = frozenset(), once: bool = False):
         self.wg = g
+        self.no_return = no_return
+        self.once = bool(once)
+        self.dropped = False  # a label was not extended because of ``once``
         self.pops = 0
         self.max_labels = int(max_labels)
         self.exhausted = False
@@ -465,6 +473,11 @@ class LabelSearch:
             if kind == "pre":
                 j = int(wg.partner[i])
                 step = (int(wg.seam[i]), int(wg.interval[i]), int(wg.side[i]))
+                if seq and step in self.no_return and seq[-1] == (step[0], step[1], 1 - step[2]):
+                    continue  # straight back over the same interval: dominated (unfold.dominated_returns)
+                if self.once and step in seq:
+                    self.dropped = True
+                    continue
                 self._push(("post", j, seq + (step,)), g + float(wg.cross[i]), state)
                 continue
             for k, arr in enumerate(self.goal_post):

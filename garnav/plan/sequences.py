@@ -43,7 +43,7 @@ from garnav.plan.layer_bound import LayerBound, PortalPairs
 from garnav.plan.points import PiecePoint
 from garnav.plan.refine import plan_legs
 from garnav.plan.restart import refine_from_windows
-from garnav.plan.unfold import place_crossings
+from garnav.plan.unfold import dominated_returns, place_crossings
 from garnav.plan.side_rows import SideRows
 from garnav.plan.sequence_bound import MAX_LABELS, SPLIT, LabelSearch, SequenceBound, Side, min_directed, to_goals
 from garnav.plan.windows import MovingPoints, pair_links
@@ -314,6 +314,7 @@ class SequenceSearch:
         self._layers: dict[tuple, tuple] = {}
         #: bounds between split window sides, kept for later queries (garnav.plan.side_rows)
         self.side_rows = SideRows()
+        self._returns: frozenset | None = None
 
     @property
     def graph(self) -> WindowGraph:
@@ -367,14 +368,18 @@ class SequenceSearch:
         floor = -math.inf  # the best window-graph bound of the rounds (each is admissible)
         reason = ""
         rounds = 0
+        once = False  # a round after the label budget: each (seam, interval, side) at most once
         while True:
             rounds += 1
             self._round = rounds
             h_pre, h_post = to_goals(bound)
             floor = max(floor, bound.floor(h_pre))
             # a refined sequence is popped once more, for its bound path (see _restart)
+            if self._returns is None:
+                self._returns = dominated_returns(planner)
             labels = LabelSearch(bound, bound.to_pre, bound.goal_post, h_pre, h_post, upper,
-                                 tried - (set(solutions) - restarted), self.rel_tol)
+                                 tried - (set(solutions) - restarted), self.rel_tol, no_return=self._returns,
+                                 once=once)
             pending: dict[int, None] = {}  # window sides on bound paths still below U(1 - cert_tol)
             stuck = False
             for lb, k, path in labels:  # complete seam sequences in increasing order of bound
@@ -411,9 +416,17 @@ class SequenceSearch:
                 pending.update(dict.fromkeys(cut))
                 if len(pending) >= SPLITS_PER_ROUND and rounds > 1:
                     break  # the first round pops on: its sequences are judged as without splitting
+            if not pending and labels.exhausted and not once:
+                # sequences that circle a point where pieces meet (crossings free) can fill the
+                # budget before any sequence below U comes up: search once more without repeats
+                once = True
+                continue
             if not pending:
                 if labels.exhausted:
                     reason = f"label budget: {MAX_LABELS} labels expanded in one round"
+                elif once and labels.dropped:
+                    reason = (f"label budget: {MAX_LABELS} labels expanded in one round; searched again with "
+                              "each free interval crossed at most once each way")
                 elif stuck:
                     reason = "a sequence below the route's cost at the smallest windows, not refined (sequence budget)"
                 break

@@ -37,12 +37,13 @@ import heapq
 import math
 
 import numpy as np
+import shapely
 
 from garnav.plan.navgraph import edge_costs
 from garnav.plan.portals import INSET_MM
 from garnav.plan.visgraph import tangent_mask
 
-__all__ = ["solve_unfolded", "place_crossings", "unfoldable", "STRAIGHT_TOL_MM", "LENGTH_TOL"]
+__all__ = ["solve_unfolded", "place_crossings", "dominated_returns", "unfoldable", "STRAIGHT_TOL_MM", "LENGTH_TOL"]
 
 #: largest distance (mm) of a run's points from its chord for the run to count as straight
 STRAIGHT_TOL_MM = 1e-6
@@ -414,3 +415,34 @@ def place_crossings(planner, legs: list[tuple[str, np.ndarray]], crossings: list
                 return refine(planner, got[0], got[1])
             return got
     return refine(planner, legs, crossings)
+
+
+def dominated_returns(planner) -> frozenset[tuple[int, int, int]]:
+    """Crossings (seam index, free interval index, from side) that never need to follow the same
+    seam's crossing over the same interval the other way: crossing from piece P to Q at x and
+    straight back at y. When the seam unfolds (straight runs of equal length), the part in Q is at
+    least |x' − y'| = |x − y| long (its ends lie on Q's straight run at the same fractions), so
+    driving from x to y along P's side of the run is no dearer — provided that stretch of the run
+    is free in P (checked exactly over the whole interval, 1e-7 mm inside, as crossing points are)
+    and meets no soft zone of P — and it saves both crossing costs. Every route therefore has a
+    route no dearer without such a pair, and a search over seam sequences may leave them out."""
+    ng = planner.nav
+    out = set()
+    for s, seam in enumerate(ng.seams):
+        if not seam.crossable or not unfoldable(planner, s):
+            continue
+        for k, (lo, hi) in enumerate(ng.intervals.get(seam.name, [])):
+            if hi <= lo:
+                continue
+            sides = ng.seam_sides(s, np.array([lo, hi]))
+            for p_side in (0, 1):  # P: the piece the route leaves and comes back to
+                fs = planner.free[(seam.a if p_side == 0 else seam.b).piece]
+                a, b = sides.side(p_side)[0]
+                if not fs.segments_free(a[None], b[None])[0]:
+                    continue
+                if fs.soft:
+                    line = shapely.linestrings([a, b])
+                    if any(shapely.intersects(z.grown, line) for z in fs.soft):
+                        continue
+                out.add((s, k, 1 - p_side))  # the way back crosses from Q's side
+    return frozenset(out)
