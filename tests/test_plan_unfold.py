@@ -154,3 +154,38 @@ def test_angle_limit_kept_or_left_to_refinement():
     # without the limit the same query is straight in the layout
     s, g, legs, crossings = _portal_route(free, ("A", 135.0, 15.0), ("B", 15.0, 85.0))
     assert solve_unfolded(free, s.xy, g.xy, crossings)[2] == pytest.approx(math.hypot(30.0, 70.0), abs=1e-6)
+
+
+def test_dominated_returns_leave_the_routes_unchanged(monkeypatch):
+    # leaving out "straight back over the interval just crossed" changes no route: the same
+    # seeded queries on a 1 x 2 tiled garment (crossings free) with and without the rule
+    import garnav.plan.sequences as seqs
+    from garnav.plan.unfold import dominated_returns
+
+    case = S.tiled_garment(2, 4)
+    planner = Planner(case.garment, case.robot)
+    got = dominated_returns(planner)
+    assert got and all(planner.nav.seams[s].name == "p0_0|p0_1" for s, _, _ in got)
+    region = S.unfolded_region(case)
+    rng = np.random.default_rng(9)
+    pairs = [(_free_point(planner, region, case, a, rng), _free_point(planner, region, case, b, rng))
+             for a, b in (("p0_0", "p0_0"), ("p0_0", "p0_1"), ("p0_1", "p0_0"), ("p0_1", "p0_1"))]
+    with_rule = [planner.route(a, b).cost for a, b in pairs]
+    monkeypatch.setattr(seqs, "dominated_returns", lambda planner: frozenset())
+    plain = Planner(case.garment, case.robot)
+    without = [plain.route(a, b).cost for a, b in pairs]
+    assert with_rule == pytest.approx(without, rel=1e-12)
+
+
+def test_a_soft_zone_on_the_seam_keeps_the_way_back():
+    # a soft zone over the seam: driving along the run is no longer free of surcharge, so the way
+    # back over the interval is not left out (the zone is carried into B too: neither side)
+    from garnav.plan.unfold import dominated_returns
+
+    g = _eased_pair()
+    assert len(dominated_returns(Planner(g, C.ROBOT))) == 2  # both ways back, without the zone
+    zone = KeepOut("z", "A", "print", Circle(145.0, 50.0, 10.0), hard=False, cost_factor=3.0)
+    planner = Planner(Garment(g.name, g.pieces, seams=g.seams, keepouts=g.keepouts + (zone,), robot=g.robot,
+                              sheet_size_mm=g.sheet_size_mm), C.ROBOT)
+    assert any(z.carried for z in planner.free["B"].soft)
+    assert dominated_returns(planner) == frozenset()
