@@ -422,7 +422,7 @@ class Planner:
             if key in tried:
                 continue
             tried.add(key)
-            cand = place_crossings(self, a_legs, a_cross)
+            cand = place_crossings(self, a_legs, a_cross, best[2])
             if cand[2] < best[2] - 1e-12:
                 best = (*cand, ak)
         return best

@@ -482,7 +482,7 @@ class SequenceSearch:
             return None
         legs, crossings = planner.split_path(nodes, start, goals[k])
         self._solved += 1
-        legs, crossings, cost = place_crossings(planner, legs, crossings)
+        legs, crossings, cost = place_crossings(planner, legs, crossings, upper)
         self._gain = max(self._gain, graph_cost - cost)
         return legs, crossings, cost
 

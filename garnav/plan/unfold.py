@@ -135,12 +135,14 @@ def _angle_ok(d_in: np.ndarray, d_out: np.ndarray, tangent: np.ndarray, min_angl
     return True
 
 
-def solve_unfolded(planner, start_xy, goal_xy, crossings: list[tuple[int, float, int]]):
+def solve_unfolded(planner, start_xy, goal_xy, crossings: list[tuple[int, float, int]], upper: float = math.inf):
     """The least-cost route from ``start_xy`` (start piece frame) to ``goal_xy`` (last piece's
     frame) through ``crossings`` [(seam index, t, from side)] — each crossing at any point of the
     free interval that holds its t. Returns (legs [(piece, (n, 2))], crossings, cost) in the form of
     :func:`garnav.plan.refine.refine`, (legs, crossings, inf) when the sequence has no route, or
-    None when the method does not apply (module docstring)."""
+    None when the method does not apply (module docstring). With ``upper`` (mm) the search stops
+    once no route of the sequence can cost less (every open key is at least ``upper``): then
+    (None, None, that least key)."""
     ng = planner.nav
     if not crossings or not all(unfoldable(planner, s) for s, _, _ in crossings):
         return None
@@ -182,9 +184,11 @@ def solve_unfolded(planner, start_xy, goal_xy, crossings: list[tuple[int, float,
     src, dst = N - 2, N - 1
     h = np.linalg.norm(P - P[dst], axis=1)
     solver = _Corridor(planner, layers, windows, P, code_a, corner_a, frac_a)
-    found = solver.search(src, dst, h)
+    found = solver.search(src, dst, h, upper)
     if found is None:
         return [], list(crossings), math.inf
+    if isinstance(found, float):
+        return None, None, found
     nodes, ts = found
     return solver.route(nodes, ts, crossings)
 
@@ -219,8 +223,9 @@ class _Corridor:
         the test (a reflection flips both sides alike)."""
         return tangent_mask(self.P[at], self.prev[at], self.next[at], self.P[toward])
 
-    def candidates(self, u: int, g: float, h: np.ndarray, closed: np.ndarray):
-        """Candidate links of node u: (targets, keys) sorted by key."""
+    def candidates(self, u: int, g: float, h: np.ndarray, closed: np.ndarray, upper: float = math.inf):
+        """Candidate links of node u with an optimistic key below ``upper``: (targets, keys) sorted
+        by key."""
         cu = self.code[u]
         ok = ~closed & (self.code >= cu)
         if cu % 2:
@@ -233,6 +238,8 @@ class _Corridor:
         keep = self._tangent(uu, v) & self._tangent(v, uu)
         v = v[keep]
         key = g + np.linalg.norm(self.P[v] - self.P[u], axis=1) + h[v]
+        below = key < upper
+        v, key = v[below], key[below]
         order = np.argsort(key, kind="stable")
         return v[order], key[order]
 
@@ -308,9 +315,10 @@ class _Corridor:
         np.add.at(cost, link, part_cost)
         return cost, frac
 
-    def search(self, src: int, dst: int, h: np.ndarray):
-        """A* with lazy links: (node path, the crossing fractions of each node's incoming link)
-        or None when the goal cannot be reached."""
+    def search(self, src: int, dst: int, h: np.ndarray, upper: float = math.inf):
+        """A* with lazy links: (node path, the crossing fractions of each node's incoming link),
+        None when the goal cannot be reached, or the least open key (a float) once it is at least
+        ``upper``."""
         N = len(self.P)
         closed = np.zeros(N, dtype=bool)
         g = np.full(N, np.inf)
@@ -324,7 +332,9 @@ class _Corridor:
         tie = 0
         heap: list = [(float(h[src]), 0, tie, src, -1, 0.0, None)]
         while heap:
-            _, kind, _, u, par, gu, fr = heapq.heappop(heap)
+            key, kind, _, u, par, gu, fr = heapq.heappop(heap)
+            if key >= upper:
+                return float(key)  # every route of the sequence costs at least this
             if kind == 0:
                 if closed[u]:
                     continue
@@ -338,7 +348,7 @@ class _Corridor:
                         path.append(int(parent[path[-1]]))
                     path.reverse()
                     return path, [into[x] for x in path if x in into]
-                vs, keys = self.candidates(u, gu, h, closed)
+                vs, keys = self.candidates(u, gu, h, closed, upper)
                 if len(vs):
                     cand[u] = (vs, keys, 0, _BATCH)
                     tie += 1
@@ -360,7 +370,8 @@ class _Corridor:
                 cand[u] = (vs, keys, at, size * 4)
                 tie += 1
                 heapq.heappush(heap, (float(keys[at]), 1, tie, u, -1, 0.0, None))
-        return None
+        # links with a key of at least ``upper`` were never queued: no route below it
+        return float(upper) if math.isfinite(upper) else None
 
     def route(self, nodes: list[int], fracs: list[np.ndarray], crossings):
         """Legs and crossings of the node path (refine's form) and its cost; None when a crossing
@@ -396,20 +407,30 @@ class _Corridor:
         return legs, new_cross, _total(self.planner, legs, new_cross)
 
 
-def place_crossings(planner, legs: list[tuple[str, np.ndarray]], crossings: list[tuple[int, float, int]]):
+def place_crossings(planner, legs: list[tuple[str, np.ndarray]], crossings: list[tuple[int, float, int]],
+                    upper: float = math.inf):
     """Place the crossings of a route given as legs [(piece, (n, 2))] and crossings [(seam index,
     t, from side)]: exactly when its seam sequence unfolds (:func:`solve_unfolded`), otherwise by
-    refinement (:func:`garnav.plan.refine.refine`). Returns (legs, crossings, cost).
+    refinement (:func:`garnav.plan.refine.refine`). Returns (legs, crossings, cost). With
+    ``upper`` (mm, the best route known) an unfolding sequence that cannot beat it is not placed:
+    the route is returned as given, costed (it costs at least the sequence's optimum, so at least
+    ``upper``); the given route's own cost bounds the search the same way (when nothing beats it,
+    it is returned).
 
     Where a visited piece has a soft zone, the exact placement is refined once more: a route that
     runs along a zone's edge (where driving costs nothing extra) crosses the seam where that edge
     does, and a crossing point a rounding error off the edge would put a whole part of the route
     inside the zone (the cost jumps by the zone's factor); refinement's search along the seam
     lands on the edge. It only moves a crossing when that lowers the cost."""
-    from garnav.plan.refine import refine
+    from garnav.plan.refine import _total, refine
 
     if crossings:
-        got = solve_unfolded(planner, legs[0][1][0], legs[-1][1][-1], crossings)
+        # the given route bounds its sequence's optimum: links that cannot beat it are not tested
+        given = _total(planner, legs, crossings)
+        got = solve_unfolded(planner, legs[0][1][0], legs[-1][1][-1], crossings,
+                             min(upper, given + 1e-9 * max(given, 1.0)) if math.isfinite(given) else upper)
+        if got is not None and got[0] is None:
+            return legs, list(crossings), given
         if got is not None and math.isfinite(got[2]):
             if any(planner.free[p].soft for p, _ in got[0]):
                 return refine(planner, got[0], got[1])
