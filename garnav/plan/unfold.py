@@ -276,7 +276,7 @@ class _Corridor:
         alive = np.all(good | ~between, axis=0)
         if n > 1:  # windows met in order along the link
             both = between[1:] & between[:-1]
-            alive &= ~np.any(both & ~(np.diff(np.where(between, s, 0.0), axis=0) >= -1e-12), axis=0)
+            alive &= ~np.any(both & ~(np.diff(np.where(between & good, s, 0.0), axis=0) >= -1e-12), axis=0)
         frac = np.where(between, self.lo[:, None] + np.clip(w, 0.0, 1.0) * (self.hi - self.lo)[:, None], np.nan)
         if cu % 2:
             frac[cu // 2, :] = self.frac[u]
