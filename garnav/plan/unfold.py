@@ -445,12 +445,13 @@ def dominated_returns(planner) -> frozenset[tuple[int, int, int]]:
     least |x' − y'| = |x − y| long (its ends lie on Q's straight run at the same fractions), so
     driving from x to y along P's side of the run is no dearer — provided that stretch of the run
     is free in P (checked exactly over the whole interval, 1e-7 mm inside, as crossing points are)
-    and meets no soft zone of P — and it saves both crossing costs. Every route therefore has a
-    route no dearer without such a pair, and a search over seam sequences may leave them out."""
+    and meets no soft zone of P — and it saves both crossing costs (seams with a negative crossing
+    cost are left alone). Every route therefore has a route no dearer without such a pair, and a
+    search over seam sequences may leave them out."""
     ng = planner.nav
     out = set()
     for s, seam in enumerate(ng.seams):
-        if not seam.crossable or not unfoldable(planner, s):
+        if not seam.crossable or float(seam.crossing_cost_mm) < 0 or not unfoldable(planner, s):
             continue
         for k, (lo, hi) in enumerate(ng.intervals.get(seam.name, [])):
             if hi <= lo:
