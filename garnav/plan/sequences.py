@@ -41,9 +41,9 @@ from scipy.sparse.csgraph import dijkstra
 
 from garnav.plan.layer_bound import LayerBound, PortalPairs
 from garnav.plan.points import PiecePoint
-from garnav.plan.refine import plan_legs
+from garnav.plan.refine import plan_legs, refine
 from garnav.plan.restart import refine_from_windows
-from garnav.plan.unfold import dominated_returns, place_crossings
+from garnav.plan.unfold import dominated_returns, place_crossings, solve_unfolded, unfoldable
 from garnav.plan.side_rows import SideRows
 from garnav.plan.sequence_bound import MAX_LABELS, SPLIT, LabelSearch, SequenceBound, Side, min_directed, to_goals
 from garnav.plan.windows import MovingPoints, pair_links
@@ -75,6 +75,12 @@ CERT_TOL = 1e-4
 MAX_CERTIFY_WINDOWS = 400
 #: Most windows split in one round of the certification (the bound paths popped first).
 SPLITS_PER_ROUND = 24
+#: Most popped sequences below U per query solved exactly in their unfolded corridor
+#: (garnav/plan/unfold.py), which settles them whatever their windows' bound. Measured on the
+#: ten-strip chain (6 queries): 0 → 6 certified and 2.9 → 2.3 s a query with 4; smaller budgets
+#: were a little faster there, larger ones slower (each solve 0.1–0.4 s on that garment). A
+#: trade-off, no source.
+EXACT_BOUNDS = 4
 
 _WIN, _APP = 0, 1  # point kinds of garnav.plan.exact (WIN, APP)
 
@@ -339,6 +345,7 @@ class SequenceSearch:
             solutions[sequence_key(ng, best[3], best[1])] = best[1]
         self._solved = 0
         self._restarts = 0
+        self._exact = 0
         self._gain = float(gain)
         self._edges: dict[int, list] = {}
         self._portal: dict[tuple, tuple | None] = {}
@@ -402,6 +409,16 @@ class SequenceSearch:
                     continue
                 if lb >= upper * (1.0 - self.cert_tol):
                     continue  # within the certificate's tolerance
+                exact = self._exactly(start, goals[k], seq, upper)
+                if exact is not None:  # solved in its unfolded corridor: its optimum, or at least U
+                    tried.add(key)
+                    if exact[2] < upper:
+                        upper, best = exact[2], (exact[0], exact[1], exact[2], k)
+                        labels.upper = upper
+                    # its windows are split all the same: other sequences through them (going round a
+                    # point where pieces meet, say) get their bounds raised too
+                    pending.update(dict.fromkeys(bound.splittable(path)))
+                    continue
                 cut = bound.splittable(path)
                 if not cut:  # the windows cannot shrink further: refine the sequence after all
                     found = self._solve(start, goals, k, seq, upper, force=True)
@@ -501,6 +518,27 @@ class SequenceSearch:
         if got[1] is not None:
             solutions[key] = got[1][1]
         return got[1]
+
+    def _exactly(self, start: PiecePoint, goal: PiecePoint, seq: tuple, upper: float):
+        """A popped sequence below U that unfolds (:func:`garnav.plan.unfold.solve_unfolded`),
+        solved exactly instead of splitting its windows, at most :data:`EXACT_BOUNDS` per query:
+        (legs, crossings, cost) of its optimum when it beats ``upper``, else ([], [], c) with c at
+        least ``upper`` (its optimum costs at least c); None when it does not unfold or the budget
+        is spent."""
+        planner = self.planner
+        ng = planner.nav
+        if self._exact >= EXACT_BOUNDS or not all(unfoldable(planner, s) for s, _, _ in seq):
+            return None
+        crossings = [(s, 0.5 * sum(ng.intervals[ng.seams[s].name][i]), side) for s, i, side in seq]
+        got = solve_unfolded(planner, start.xy, goal.xy, crossings, upper)
+        if got is None:
+            return None  # an angle limit the unconstrained optimum breaks: split as before
+        self._exact += 1
+        if got[0] is None or not math.isfinite(got[2]):
+            return [], [], got[2]
+        if any(planner.free[p].soft for p, _ in got[0]):
+            return refine(planner, got[0], got[1])  # soft-zone edges (unfold.place_crossings)
+        return got
 
     def _reach(self, upper: float, cost: float, crossings: int) -> float:
         """Largest portal-route cost still refined: U plus twice the largest gain of refinement in
