@@ -223,3 +223,44 @@ def test_a_turned_piece_unfolds_by_rotation():
         r1 = turned.route(("A", ax, ay), ("B", *turn(bx, by)))
         assert r1.cost == pytest.approx(r0.cost, rel=1e-9)
         assert len(r1.crossings) == len(r0.crossings) == 1
+
+
+def _corner_case():
+    case = S.tiled_garment(4, 1)
+    region = S.unfolded_region(case)
+    planner = Planner(case.garment, case.robot)
+    rng = np.random.default_rng(21)
+    pairs = [(_free_point(planner, region, case, a, rng), _free_point(planner, region, case, b, rng))
+             for a, b in (("p0_0", "p1_1"), ("p0_1", "p1_0"), ("p0_0", "p0_1"), ("p1_1", "p1_1"))]
+    return case, planner, pairs
+
+
+def test_loops_round_a_flat_corner_are_left_out():
+    # a 2 x 2 tiled garment (crossings free): labels that circle the point where the four pieces
+    # meet are left out (unfold.LoopRule), and the searches end certified
+    from garnav.plan.unfold import LoopRule
+
+    _, planner, pairs = _corner_case()
+    for a, b in pairs:
+        planner.route(a, b)
+        ls = planner.last_sequences
+        assert ls is None or ls.certified, ls.reason
+    rule = planner._sequence_search._loops
+    assert isinstance(rule, LoopRule) and any(rule._memo.values())  # some loop was left out
+
+
+@pytest.mark.slow  # without the rule the searches run into the label budget (about a minute)
+def test_loops_left_out_leave_the_routes_unchanged(monkeypatch):
+    import garnav.plan.sequences as seqs
+    from garnav.plan.unfold import LoopRule
+
+    case, planner, pairs = _corner_case()
+    got = [planner.route(a, b).cost for a, b in pairs]
+
+    class Never(LoopRule):
+        def __call__(self, g, path):
+            return False
+
+    monkeypatch.setattr(seqs, "LoopRule", Never)
+    plain = Planner(case.garment, case.robot)
+    assert [plain.route(a, b).cost for a, b in pairs] == pytest.approx(got, rel=1e-12)

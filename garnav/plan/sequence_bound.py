@@ -397,13 +397,15 @@ class LabelSearch:
     the same seam and interval was crossed the other way (such sequences are dominated:
     :func:`garnav.plan.unfold.dominated_returns`). With ``once``, no sequence crosses one
     (seam, interval, side) twice (``dropped`` says whether that left a label out: the search is
-    then not exhaustive).
+    then not exhaustive). ``loops`` (a :class:`garnav.plan.unfold.LoopRule`) leaves out labels
+    that come back into a piece round a dominated loop.
     """
 
     def __init__(self, g, to_pre, goal_post, h_pre, h_post, upper, tried, rel_tol, max_labels: int = MAX_LABELS,
-                 no_return: frozenset = frozenset(), once: bool = False):
+                 no_return: frozenset = frozenset(), once: bool = False, loops=None):
         self.wg = g
         self.no_return = no_return
+        self.loops = loops
         self.once = bool(once)
         self.dropped = False  # a label was not extended because of ``once``
         self.pops = 0
@@ -478,6 +480,8 @@ class LabelSearch:
                 if self.once and step in seq:
                     self.dropped = True
                     continue
+                if self.loops is not None and seq and self.loops(wg, self._path(state)):
+                    continue  # back into a piece round a loop that closes up flat (unfold.LoopRule)
                 self._push(("post", j, seq + (step,)), g + float(wg.cross[i]), state)
                 continue
             for k, arr in enumerate(self.goal_post):

@@ -43,7 +43,7 @@ from garnav.plan.layer_bound import LayerBound, PortalPairs
 from garnav.plan.points import PiecePoint
 from garnav.plan.refine import plan_legs, refine
 from garnav.plan.restart import refine_from_windows
-from garnav.plan.unfold import dominated_returns, place_crossings, solve_unfolded, unfoldable
+from garnav.plan.unfold import LoopRule, dominated_returns, place_crossings, solve_unfolded, unfoldable
 from garnav.plan.side_rows import SideRows
 from garnav.plan.sequence_bound import MAX_LABELS, SPLIT, LabelSearch, SequenceBound, Side, min_directed, to_goals
 from garnav.plan.windows import MovingPoints, pair_links
@@ -321,6 +321,7 @@ class SequenceSearch:
         #: bounds between split window sides, kept for later queries (garnav.plan.side_rows)
         self.side_rows = SideRows()
         self._returns: frozenset | None = None
+        self._loops: LoopRule | None = None
 
     @property
     def graph(self) -> WindowGraph:
@@ -384,9 +385,10 @@ class SequenceSearch:
             # a refined sequence is popped once more, for its bound path (see _restart)
             if self._returns is None:
                 self._returns = dominated_returns(planner)
+                self._loops = LoopRule(planner)
             labels = LabelSearch(bound, bound.to_pre, bound.goal_post, h_pre, h_post, upper,
                                  tried - (set(solutions) - restarted), self.rel_tol, no_return=self._returns,
-                                 once=once)
+                                 once=once, loops=self._loops)
             pending: dict[int, None] = {}  # window sides on bound paths still below U(1 - cert_tol)
             stuck = False
             for lb, k, path in labels:  # complete seam sequences in increasing order of bound

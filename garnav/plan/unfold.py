@@ -43,7 +43,7 @@ from garnav.plan.navgraph import edge_costs
 from garnav.plan.portals import INSET_MM
 from garnav.plan.visgraph import tangent_mask
 
-__all__ = ["solve_unfolded", "place_crossings", "dominated_returns", "unfoldable", "STRAIGHT_TOL_MM", "LENGTH_TOL"]
+__all__ = ["solve_unfolded", "place_crossings", "dominated_returns", "LoopRule", "unfoldable", "STRAIGHT_TOL_MM", "LENGTH_TOL"]
 
 #: largest distance (mm) of a run's points from its chord for the run to count as straight
 STRAIGHT_TOL_MM = 1e-6
@@ -468,3 +468,67 @@ def dominated_returns(planner) -> frozenset[tuple[int, int, int]]:
                         continue
                 out.add((s, k, 1 - p_side))  # the way back crosses from Q's side
     return frozenset(out)
+
+
+class LoopRule:
+    """Whether a label of the sequence search that comes back into a piece it left closes a
+    *dominated loop* — the generalisation of :func:`dominated_returns` to loops through several
+    pieces (round a point where pieces meet, say).
+
+    A route leaves piece P over window W_out at x, crosses only seams that unfold, and comes back
+    into P over window W_in at y. When the gluings along the loop compose to the identity (laid out
+    one after the other, the last copy of P falls on P itself: the pieces close up flat round the
+    loop), the part of the route between x and y is a path of the plane from x to y, so at least
+    |x − y| long; when the convex hull of W_out's and W_in's stretches on P's side lies in P's
+    free region and meets no soft zone of P, driving straight from x to y inside P is no dearer, and
+    saves the loop's crossing costs (none negative). Every route with such a loop has one no dearer
+    without it, so the search may leave the label out. Results are kept per window pair and loop
+    (windows do not depend on the query)."""
+
+    def __init__(self, planner):
+        self.planner = planner
+        self._memo: dict[tuple, bool] = {}
+        self._glue: dict[tuple[int, int], tuple[np.ndarray, np.ndarray]] = {}
+
+    def __call__(self, g, path: list[int]) -> bool:
+        """``g`` the window graph (seam, side, partner, piece arrays and ``span``), ``path`` the
+        label's window sides crossed so far, the last one the crossing back into a piece."""
+        entry = path[-1]
+        home = int(g.piece[int(g.partner[entry])])
+        start = None
+        for k in range(len(path) - 2, -1, -1):
+            if int(g.piece[path[k]]) == home:
+                start = k
+                break
+        if start is None:
+            return False
+        loop = path[start:]
+        key = tuple((int(g.seam[i]), int(g.side[i]), *g.span(i)) for i in loop)
+        got = self._memo.get(key)
+        if got is None:
+            got = self._memo[key] = self._dominated(key, home)
+        return got
+
+    def _dominated(self, key: tuple, home: int) -> bool:
+        planner = self.planner
+        ng = planner.nav
+        for s, _, _, _ in key:
+            seam = ng.seams[s]
+            if float(seam.crossing_cost_mm) < 0 or not unfoldable(planner, s):
+                return False
+        A, b = np.eye(2), np.zeros(2)
+        for s, side, _, _ in key:
+            got = self._glue.get((s, side))
+            if got is None:
+                got = self._glue[(s, side)] = _glue(planner, s, side)
+            A, b = A @ got[0], A @ got[1] + b
+        if np.abs(A - np.eye(2)).max() > 1e-9 or np.abs(b).max() > 1e-6:
+            return False  # the loop does not close up flat
+        (s0, side0, a0, a1), (s1, side1, b0, b1) = key[0], key[-1]
+        out = ng.seam_sides(s0, np.array([a0, a1])).side(side0)[0]
+        back = ng.seam_sides(s1, np.array([b0, b1])).side(1 - side1)[0]
+        hull = shapely.MultiPoint(np.vstack([out, back])).convex_hull
+        fs = planner.free[ng.pieces[home]]
+        if not shapely.covers(fs.region, hull):
+            return False
+        return not any(shapely.intersects(z.grown, hull) for z in fs.soft)
