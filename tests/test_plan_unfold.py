@@ -258,7 +258,7 @@ def test_loops_left_out_leave_the_routes_unchanged(monkeypatch):
     got = [planner.route(a, b).cost for a, b in pairs]
 
     class Never(LoopRule):
-        def __call__(self, g, path):
+        def __call__(self, g, entry, path):
             return False
 
     monkeypatch.setattr(seqs, "LoopRule", Never)

@@ -480,7 +480,7 @@ class LabelSearch:
                 if self.once and step in seq:
                     self.dropped = True
                     continue
-                if self.loops is not None and seq and self.loops(wg, self._path(state)):
+                if self.loops is not None and seq and self.loops(wg, i, lambda: self._path(state)):  # noqa: B023
                     continue  # back into a piece round a loop that closes up flat (unfold.LoopRule)
                 self._push(("post", j, seq + (step,)), g + float(wg.cross[i]), state)
                 continue

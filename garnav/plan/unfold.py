@@ -489,11 +489,23 @@ class LoopRule:
         self.planner = planner
         self._memo: dict[tuple, bool] = {}
         self._glue: dict[tuple[int, int], tuple[np.ndarray, np.ndarray]] = {}
+        self._unfolds: dict[int, bool] = {}
 
-    def __call__(self, g, path: list[int]) -> bool:
-        """``g`` the window graph (seam, side, partner, piece arrays and ``span``), ``path`` the
-        label's window sides crossed so far, the last one the crossing back into a piece."""
-        entry = path[-1]
+    def unfolds(self, seam: int) -> bool:
+        """:func:`unfoldable` for seam index ``seam``, kept (with a non-negative crossing cost)."""
+        got = self._unfolds.get(seam)
+        if got is None:
+            ok = float(self.planner.nav.seams[seam].crossing_cost_mm) >= 0
+            got = self._unfolds[seam] = ok and unfoldable(self.planner, seam)
+        return got
+
+    def __call__(self, g, entry: int, path) -> bool:
+        """``g`` the window graph (seam, side, partner, piece arrays and ``span``), ``entry`` the
+        window side crossed back into a piece, ``path()`` the label's window sides crossed so far
+        (the last one ``entry``), asked for only when the entry's seam unfolds."""
+        if not self.unfolds(int(g.seam[entry])):
+            return False
+        path = path()
         home = int(g.piece[int(g.partner[entry])])
         start = None
         for k in range(len(path) - 2, -1, -1):
@@ -512,10 +524,8 @@ class LoopRule:
     def _dominated(self, key: tuple, home: int) -> bool:
         planner = self.planner
         ng = planner.nav
-        for s, _, _, _ in key:
-            seam = ng.seams[s]
-            if float(seam.crossing_cost_mm) < 0 or not unfoldable(planner, s):
-                return False
+        if not all(self.unfolds(s) for s, _, _, _ in key):
+            return False
         A, b = np.eye(2), np.zeros(2)
         for s, side, _, _ in key:
             got = self._glue.get((s, side))
