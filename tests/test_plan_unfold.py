@@ -264,3 +264,27 @@ def test_loops_left_out_leave_the_routes_unchanged(monkeypatch):
     monkeypatch.setattr(seqs, "LoopRule", Never)
     plain = Planner(case.garment, case.robot)
     assert [plain.route(a, b).cost for a, b in pairs] == pytest.approx(got, rel=1e-12)
+
+
+def test_a_round_without_repeats_after_the_label_budget(monkeypatch):
+    # without the loop rule, labels circling the corner fill the label budget; one more round in
+    # which no (seam, interval, side) is crossed twice still finds the optimum (against the
+    # laid-out visibility graph, within the 2e-7 mm per crossing of the inset), and the search
+    # says it is not certified
+    import garnav.plan.sequences as seqs
+    from garnav.plan.unfold import LoopRule
+
+    class Never(LoopRule):
+        def __call__(self, g, entry, path):
+            return False
+
+    monkeypatch.setattr(seqs, "LoopRule", Never)
+    case, planner, pairs = _corner_case()
+    (start, goal) = pairs[0]
+    route = planner.route(start, goal)
+    ls = planner.last_sequences
+    assert not ls.certified and "at most once each way" in ls.reason
+    ref = R.TangentVisibilityRef(S.unfolded_region(case))
+    ref.build()
+    best, _ = ref.query(S.to_unfolded(case, start[0], start[1:]), S.to_unfolded(case, goal[0], goal[1:]))
+    assert route.cost == pytest.approx(best, rel=1e-8)
