@@ -249,7 +249,7 @@ def test_loops_round_a_flat_corner_are_left_out():
     assert isinstance(rule, LoopRule) and any(rule._memo.values())  # some loop was left out
 
 
-@pytest.mark.slow  # without the rule the searches run into the label budget (about a minute)
+@pytest.mark.slow  # builds two planners; without the rule the searches run into the label budget
 def test_loops_left_out_leave_the_routes_unchanged(monkeypatch):
     import garnav.plan.sequences as seqs
     from garnav.plan.unfold import LoopRule
