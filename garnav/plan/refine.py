@@ -39,7 +39,7 @@ from garnav.plan.portals import angle_ok, approach_points
 from garnav.plan.search import astar
 from garnav.plan.visgraph import tangent_mask
 
-__all__ = ["refine", "plan_legs", "piece_path", "DistanceField", "Anchor"]
+__all__ = ["refine", "plan_legs", "piece_path", "legs_cost", "DistanceField", "Anchor"]
 
 _MAX_ROUNDS = 30
 
@@ -252,7 +252,9 @@ def _move_crossing(
     return (best_t, f0 - best_v) if best_v < f0 - 1e-12 else (t0, 0.0)
 
 
-def _total(planner, legs, crossings) -> float:
+def legs_cost(planner, legs, crossings) -> float:
+    """Cost (mm) of a route given as legs [(piece, (n, 2))] and crossings [(seam index, t, from
+    side)]: each leg's segments as the planner charges them, plus each crossing's cost."""
     cost = 0.0
     for piece, pts in legs:
         cost += float(edge_costs(planner.free[piece], pts[:-1], pts[1:])[1].sum())
@@ -314,7 +316,7 @@ def refine(planner, legs: list[tuple[str, np.ndarray]], crossings: list[tuple[in
                 # searched leg passed a portal point on its way: keep it as it was
                 new_pts = np.vstack([a0.xy, pts[1:-1], a1.xy])
             legs[i] = (piece, new_pts)
-    return legs, crossings, _total(planner, legs, crossings)
+    return legs, crossings, legs_cost(planner, legs, crossings)
 
 
 def plan_legs(planner, start: PiecePoint, goal: PiecePoint, crossings: list[tuple[int, float, int]]):
@@ -338,4 +340,4 @@ def plan_legs(planner, start: PiecePoint, goal: PiecePoint, crossings: list[tupl
         if pts is None:
             return [], math.inf
         legs.append((piece, pts))
-    return legs, _total(planner, legs, crossings)
+    return legs, legs_cost(planner, legs, crossings)

@@ -28,7 +28,13 @@ Where it does not apply, :func:`solve_unfolded` returns None and the caller refi
 (:mod:`garnav.plan.refine`): a curved run or ease (runs of unequal length: no isometry glues
 them). A seam's smallest crossing angle is not part of the unfolded problem; the unconstrained
 optimum is returned only when it keeps every crossed seam's angle limit (the constrained routes are
-a subset, so it is then their optimum too), otherwise None.
+a subset, so it is then their optimum too), otherwise None. :func:`place_crossings` chooses
+between the two for a route's crossings.
+
+The same unfolding proves two dominance rules the sequence search uses (docs/planning.md §4c):
+crossing straight back over the interval just crossed (:func:`dominated_returns`) and coming
+back into a piece round a loop whose gluings compose to the identity (:class:`LoopRule`) are
+never cheaper than staying in the piece, where the stretch between is free.
 """
 
 from __future__ import annotations
@@ -41,6 +47,7 @@ import shapely
 
 from garnav.plan.navgraph import edge_costs
 from garnav.plan.portals import INSET_MM
+from garnav.plan.refine import legs_cost, refine
 from garnav.plan.visgraph import tangent_mask
 
 __all__ = ["solve_unfolded", "place_crossings", "dominated_returns", "LoopRule", "unfoldable", "STRAIGHT_TOL_MM", "LENGTH_TOL"]
@@ -376,8 +383,6 @@ class _Corridor:
     def route(self, nodes: list[int], fracs: list[np.ndarray], crossings):
         """Legs and crossings of the node path (refine's form) and its cost; None when a crossing
         breaks its seam's smallest angle."""
-        from garnav.plan.refine import _total
-
         t_of: dict[int, float] = {}
         for f in fracs:
             t_of.update({m: float(x) for m, x in enumerate(f) if np.isfinite(x)})
@@ -404,7 +409,7 @@ class _Corridor:
                 d_out = ((legs[i + 1][1][1] - legs[i + 1][1][0]) @ self.layers[i + 1].A.T) @ self.layers[i].A
                 if not _angle_ok(d_in, d_out, tan, min_angle):
                     return None
-        return legs, new_cross, _total(self.planner, legs, new_cross)
+        return legs, new_cross, legs_cost(self.planner, legs, new_cross)
 
 
 def place_crossings(planner, legs: list[tuple[str, np.ndarray]], crossings: list[tuple[int, float, int]],
@@ -422,11 +427,9 @@ def place_crossings(planner, legs: list[tuple[str, np.ndarray]], crossings: list
     does, and a crossing point a rounding error off the edge would put a whole part of the route
     inside the zone (the cost jumps by the zone's factor); refinement's search along the seam
     lands on the edge. It only moves a crossing when that lowers the cost."""
-    from garnav.plan.refine import _total, refine
-
     if crossings:
         # the given route bounds its sequence's optimum: links that cannot beat it are not tested
-        given = _total(planner, legs, crossings)
+        given = legs_cost(planner, legs, crossings)
         got = solve_unfolded(planner, legs[0][1][0], legs[-1][1][-1], crossings,
                              min(upper, given + 1e-9 * max(given, 1.0)) if math.isfinite(given) else upper)
         if got is not None and got[0] is None:
