@@ -187,9 +187,15 @@ def solve_unfolded(planner, start_xy, goal_xy, crossings: list[tuple[int, float,
     frac += [np.nan, np.nan]
     P = np.vstack(pos)
     code_a, corner_a, frac_a = np.array(code), np.array(corner), np.array(frac)
+    h = np.linalg.norm(P - P[-1], axis=1)
+    if math.isfinite(upper):
+        # a route through a node costs at least the straight way from the start to it and on to
+        # the goal: nodes outside that ellipse cannot be on a route below ``upper``
+        keep = np.linalg.norm(P - P[-2], axis=1) + h < upper
+        keep[-2:] = True
+        P, code_a, corner_a, frac_a, h = P[keep], code_a[keep], corner_a[keep], frac_a[keep], h[keep]
     N = len(P)
     src, dst = N - 2, N - 1
-    h = np.linalg.norm(P - P[dst], axis=1)
     solver = _Corridor(planner, layers, windows, P, code_a, corner_a, frac_a)
     found = solver.search(src, dst, h, upper)
     if found is None:
