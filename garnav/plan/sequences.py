@@ -43,7 +43,7 @@ from garnav.plan.layer_bound import LayerBound, PortalPairs
 from garnav.plan.points import PiecePoint
 from garnav.plan.refine import plan_legs, refine
 from garnav.plan.restart import refine_from_windows
-from garnav.plan.unfold import LoopRule, dominated_returns, place_crossings, solve_unfolded, unfoldable
+from garnav.plan.unfold import LoopRule, dominated_returns, place_crossings, solve_unfolded
 from garnav.plan.side_rows import SideRows
 from garnav.plan.sequence_bound import MAX_LABELS, SPLIT, LabelSearch, SequenceBound, Side, min_directed, to_goals
 from garnav.plan.windows import MovingPoints, pair_links
@@ -529,12 +529,12 @@ class SequenceSearch:
         is spent."""
         planner = self.planner
         ng = planner.nav
-        if self._exact >= EXACT_BOUNDS or not all(unfoldable(planner, s) for s, _, _ in seq):
+        if self._exact >= EXACT_BOUNDS:
             return None
         crossings = [(s, 0.5 * sum(ng.intervals[ng.seams[s].name][i]), side) for s, i, side in seq]
         got = solve_unfolded(planner, start.xy, goal.xy, crossings, upper)
         if got is None:
-            return None  # an angle limit the unconstrained optimum breaks: split as before
+            return None  # a seam that does not unfold, or an angle limit the optimum breaks: split as before
         self._exact += 1
         if got[0] is None or not math.isfinite(got[2]):
             return [], [], got[2]

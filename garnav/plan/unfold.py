@@ -50,7 +50,8 @@ from garnav.plan.portals import INSET_MM
 from garnav.plan.refine import legs_cost, refine
 from garnav.plan.visgraph import tangent_mask
 
-__all__ = ["solve_unfolded", "place_crossings", "dominated_returns", "LoopRule", "unfoldable", "STRAIGHT_TOL_MM", "LENGTH_TOL"]
+__all__ = ["solve_unfolded", "place_crossings", "dominated_returns", "LoopRule", "unfoldable", "shortcuts_across",
+           "STRAIGHT_TOL_MM", "LENGTH_TOL"]
 
 #: largest distance (mm) of a run's points from its chord for the run to count as straight
 STRAIGHT_TOL_MM = 1e-6
@@ -103,17 +104,18 @@ class _Window:
     def __init__(self, planner, seam_index: int, lo: float, hi: float, side: int, leaving: _Layer):
         self.planner, self.seam, self.lo, self.hi, self.side = planner, seam_index, lo, hi, side
         s = planner.nav.seam_sides(seam_index, np.array([lo, hi]))
-        self._leave, self._arrive = s.side(side)[0], s.side(1 - side)[0]
+        #: inset crossing points (2, 2) at lo and hi on the leaving and the arriving run
+        self.leave_ends, self.arrive_ends = s.side(side)[0], s.side(1 - side)[0]
         # the window's ends on the seam line itself (the inset taken off), in the unfolded plane
-        self.p0, self.p1 = leaving.out(self._leave - INSET_MM * s.side(side)[2])
+        self.p0, self.p1 = leaving.out(self.leave_ends - INSET_MM * s.side(side)[2])
 
     def sides(self, t: np.ndarray):
         """Inset crossing points (m, 2) on the leaving and the arriving run, each in its piece
         frame: on a straight run the point moves linearly with the fraction."""
         t = np.asarray(t, dtype=float).reshape(-1, 1)
         u = (t - self.lo) / (self.hi - self.lo) if self.hi > self.lo else np.zeros_like(t)
-        return (self._leave[0] + u * (self._leave[1] - self._leave[0]),
-                self._arrive[0] + u * (self._arrive[1] - self._arrive[0]))
+        return (self.leave_ends[0] + u * (self.leave_ends[1] - self.leave_ends[0]),
+                self.arrive_ends[0] + u * (self.arrive_ends[1] - self.arrive_ends[0]))
 
 
 def _glue(planner, seam_index: int, side: int) -> tuple[np.ndarray, np.ndarray]:
@@ -216,10 +218,10 @@ class _Corridor:
         self.W1 = np.array([w.p1 for w in windows])
         self.lo = np.array([w.lo for w in windows])
         self.hi = np.array([w.hi for w in windows])
-        self.L0 = np.array([w._leave[0] for w in windows])
-        self.L1 = np.array([w._leave[1] for w in windows])
-        self.A0 = np.array([w._arrive[0] for w in windows])
-        self.A1 = np.array([w._arrive[1] for w in windows])
+        self.L0 = np.array([w.leave_ends[0] for w in windows])
+        self.L1 = np.array([w.leave_ends[1] for w in windows])
+        self.A0 = np.array([w.arrive_ends[0] for w in windows])
+        self.A1 = np.array([w.arrive_ends[1] for w in windows])
         self.prev, self.next = P.copy(), P.copy()
         self.Q = np.full_like(P, np.nan)  # corner, start and goal nodes in their piece frame
         for L, lay in enumerate(layers):
@@ -433,7 +435,7 @@ def place_crossings(planner, legs: list[tuple[str, np.ndarray]], crossings: list
     does, and a crossing point a rounding error off the edge would put a whole part of the route
     inside the zone (the cost jumps by the zone's factor); refinement's search along the seam
     lands on the edge. It only moves a crossing when that lowers the cost."""
-    if crossings:
+    if crossings and all(unfoldable(planner, s) for s, _, _ in crossings):
         # the given route bounds its sequence's optimum: links that cannot beat it are not tested
         given = legs_cost(planner, legs, crossings)
         got = solve_unfolded(planner, legs[0][1][0], legs[-1][1][-1], crossings,
@@ -445,6 +447,12 @@ def place_crossings(planner, legs: list[tuple[str, np.ndarray]], crossings: list
                 return refine(planner, got[0], got[1])
             return got
     return refine(planner, legs, crossings)
+
+
+def shortcuts_across(planner, seam_index: int) -> bool:
+    """Whether the dominance rules may use seam ``seam_index``: it unfolds and its crossing cost is
+    not negative (so leaving crossings out never makes a route dearer)."""
+    return float(planner.nav.seams[seam_index].crossing_cost_mm) >= 0 and unfoldable(planner, seam_index)
 
 
 def dominated_returns(planner) -> frozenset[tuple[int, int, int]]:
@@ -460,7 +468,7 @@ def dominated_returns(planner) -> frozenset[tuple[int, int, int]]:
     ng = planner.nav
     out = set()
     for s, seam in enumerate(ng.seams):
-        if not seam.crossable or float(seam.crossing_cost_mm) < 0 or not unfoldable(planner, s):
+        if not seam.crossable or not shortcuts_across(planner, s):
             continue
         for k, (lo, hi) in enumerate(ng.intervals.get(seam.name, [])):
             if hi <= lo:
@@ -501,11 +509,10 @@ class LoopRule:
         self._unfolds: dict[int, bool] = {}
 
     def unfolds(self, seam: int) -> bool:
-        """:func:`unfoldable` for seam index ``seam``, kept (with a non-negative crossing cost)."""
+        """:func:`shortcuts_across` for seam index ``seam``, kept."""
         got = self._unfolds.get(seam)
         if got is None:
-            ok = float(self.planner.nav.seams[seam].crossing_cost_mm) >= 0
-            got = self._unfolds[seam] = ok and unfoldable(self.planner, seam)
+            got = self._unfolds[seam] = shortcuts_across(self.planner, seam)
         return got
 
     def __call__(self, g, entry: int, path) -> bool:
